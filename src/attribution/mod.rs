@@ -1,0 +1,1 @@
+//! Pipeline stage `attribution` (see docs/architecture.md).

@@ -1,0 +1,3 @@
+//! One file per subcommand: its arguments and an `exec` that calls the library.
+
+pub mod montage;

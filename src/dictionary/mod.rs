@@ -1,0 +1,1 @@
+//! Pipeline stage `dictionary` (see docs/architecture.md).

@@ -1,0 +1,1 @@
+//! Pipeline stage `forward` (see docs/architecture.md).

@@ -1,0 +1,7 @@
+//! Triangle meshes, icospheres, the template cortex and geodesic distances.
+//!
+//! Coordinates are metres inside the library. Files give millimetres.
+
+mod mesh;
+
+pub use mesh::{Mesh, Vec3};

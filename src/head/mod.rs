@@ -1,0 +1,1 @@
+//! Pipeline stage `head` (see docs/architecture.md).

@@ -1,0 +1,9 @@
+//! File formats: the HDF5 store of design.md, GIFTI, PLY/OFF, NumPy, CSV/TSV.
+//!
+//! All other modules are free of file I/O; this module converts between files
+//! (millimetres where a field says `_mm`) and the library's SI types.
+
+pub mod atomic;
+pub mod store;
+
+pub use store::{Array, Attr, Store};

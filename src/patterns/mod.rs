@@ -1,0 +1,1 @@
+//! Pipeline stage `patterns` (see docs/architecture.md).

@@ -1,0 +1,1 @@
+//! Pipeline stage `solver` (see docs/architecture.md).
