@@ -1,1 +1,15 @@
-//! Pipeline stage `attribution` (see docs/architecture.md).
+//! Attribution: additive patch and region shares of a fitted pattern, fit
+//! quality, the source map and its peak, and resampling summaries.
+//!
+//! For one component with fitted pattern y, dictionary D and coefficients x,
+//! the reconstruction is ŷ = D x = Σ_g D_g x_g and the share of patch g is
+//! share_g = ⟨D_g x_g, ŷ⟩ / ‖ŷ‖², so the shares add up to exactly 1 (a
+//! variance decomposition of the reconstruction; shares may be negative when
+//! patches cancel). A patch's share is spread over regions in proportion to
+//! the profile mass the patch has in each region.
+
+mod shares;
+mod uncertainty;
+
+pub use shares::{attribute, Attribution, AttributionError, AttributionInput, ComponentAttribution};
+pub use uncertainty::{percentile, RegionInterval};

@@ -1,0 +1,228 @@
+//! Patch shares, region shares, explained variance, source map and peak.
+
+use crate::geometry::Vec3;
+use sprs::CsMat;
+
+/// Errors of the attribution stage.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum AttributionError {
+    /// Two inputs disagree in size.
+    #[error("{what} has length {found}, expected {expected}")]
+    Shape {
+        /// Which input.
+        what: &'static str,
+        /// Its length.
+        found: usize,
+        /// The length the other inputs imply.
+        expected: usize,
+    },
+    /// A region index is outside the region names.
+    #[error("source {source_index} has region {region}, but only {n_regions} regions are named")]
+    Region {
+        /// The source.
+        source_index: usize,
+        /// Its region index.
+        region: i32,
+        /// The number of region names.
+        n_regions: usize,
+    },
+}
+
+/// What the attribution needs: the fitted problem plus the source space.
+/// Matrices are row-major (the HDF5 layout of design.md).
+pub struct AttributionInput<'a> {
+    /// Unit-norm atoms, n_ch × n_atoms, in the space the fit used.
+    pub atoms: &'a [f64],
+    /// Number of channels.
+    pub n_channels: usize,
+    /// Group of each atom (0..n_groups).
+    pub group: &'a [usize],
+    /// The scale removed from each atom (its norm before normalisation).
+    pub atom_norms: &'a [f64],
+    /// Source amplitudes of each unnormalised atom: CSC, n_src × n_atoms.
+    pub profile: &'a CsMat<f64>,
+    /// Fitted patterns, n_ch × k.
+    pub patterns: &'a [f64],
+    /// Coefficients, n_atoms × k.
+    pub coefficients: &'a [f64],
+    /// Number of components k.
+    pub n_components: usize,
+    /// Region of each source (index into the region names; -1 = none).
+    pub source_region: &'a [i32],
+    /// Number of named regions.
+    pub n_regions: usize,
+    /// Source positions (m).
+    pub source_positions: &'a [Vec3],
+}
+
+/// The attribution of one component.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ComponentAttribution {
+    /// Share of each group (patch); sums to 1 when the reconstruction is non-zero.
+    pub group_share: Vec<f64>,
+    /// Share of each region; with `unassigned_share` sums to 1.
+    pub region_share: Vec<f64>,
+    /// Share that falls on sources without a region.
+    pub unassigned_share: f64,
+    /// 1 − ‖y − ŷ‖² / ‖y‖².
+    pub explained_variance: f64,
+    /// y − ŷ (n_ch).
+    pub residual: Vec<f64>,
+    /// Source amplitudes Σ_j p_j x_j / norm_j (n_src), in the profile's unit.
+    pub source_map: Vec<f64>,
+    /// Index of the source with the largest |amplitude|, if any is non-zero.
+    pub peak_source: Option<usize>,
+    /// Position of that source (m).
+    pub peak_position: Option<Vec3>,
+    /// Region of that source (-1 = none).
+    pub peak_region: i32,
+}
+
+/// The attribution of all components.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Attribution {
+    /// One entry per component.
+    pub components: Vec<ComponentAttribution>,
+}
+
+fn check(what: &'static str, found: usize, expected: usize) -> Result<(), AttributionError> {
+    if found == expected {
+        Ok(())
+    } else {
+        Err(AttributionError::Shape {
+            what,
+            found,
+            expected,
+        })
+    }
+}
+
+/// Compute shares, explained variance, residual, source map and peak for
+/// every component.
+pub fn attribute(input: &AttributionInput<'_>) -> Result<Attribution, AttributionError> {
+    let n_ch = input.n_channels;
+    let n_atoms = input.group.len();
+    let k = input.n_components;
+    let n_src = input.source_region.len();
+    check("atoms", input.atoms.len(), n_ch * n_atoms)?;
+    check("atom norms", input.atom_norms.len(), n_atoms)?;
+    check("patterns", input.patterns.len(), n_ch * k)?;
+    check("coefficients", input.coefficients.len(), n_atoms * k)?;
+    check("profile rows", input.profile.rows(), n_src)?;
+    check("profile columns", input.profile.cols(), n_atoms)?;
+    check("source positions", input.source_positions.len(), n_src)?;
+    for (s, &r) in input.source_region.iter().enumerate() {
+        if r < -1 || r >= input.n_regions as i32 {
+            return Err(AttributionError::Region {
+                source_index: s,
+                region: r,
+                n_regions: input.n_regions,
+            });
+        }
+    }
+    let n_groups = input.group.iter().copied().max().map_or(0, |g| g + 1);
+    let profile = input.profile.to_csc();
+
+    // Region mass of each group: Σ over its atoms and sources of |p|, so a
+    // patch's share is spread by where its profile lies.
+    let mut group_region_mass = vec![vec![0.0; input.n_regions + 1]; n_groups];
+    for (j, column) in profile.outer_iterator().enumerate() {
+        let g = input.group[j];
+        for (s, &p) in column.iter() {
+            let r = input.source_region[s];
+            let slot = if r < 0 {
+                input.n_regions
+            } else {
+                r as usize
+            };
+            group_region_mass[g][slot] += p.abs();
+        }
+    }
+
+    let mut components = Vec::with_capacity(k);
+    for c in 0..k {
+        let x: Vec<f64> = (0..n_atoms)
+            .map(|j| input.coefficients[j * k + c])
+            .collect();
+        let y: Vec<f64> = (0..n_ch).map(|i| input.patterns[i * k + c]).collect();
+        // Per-group reconstructions D_g x_g, summed into ŷ.
+        let mut group_recon = vec![vec![0.0; n_ch]; n_groups];
+        for (j, &xj) in x.iter().enumerate() {
+            if xj != 0.0 {
+                let g = input.group[j];
+                for i in 0..n_ch {
+                    group_recon[g][i] += input.atoms[i * n_atoms + j] * xj;
+                }
+            }
+        }
+        let mut y_hat = vec![0.0; n_ch];
+        for recon in &group_recon {
+            for i in 0..n_ch {
+                y_hat[i] += recon[i];
+            }
+        }
+        let y_hat_sq: f64 = y_hat.iter().map(|v| v * v).sum();
+        let group_share: Vec<f64> = group_recon
+            .iter()
+            .map(|recon| {
+                if y_hat_sq > 0.0 {
+                    recon.iter().zip(&y_hat).map(|(a, b)| a * b).sum::<f64>() / y_hat_sq
+                } else {
+                    0.0
+                }
+            })
+            .collect();
+        let mut region_share = vec![0.0; input.n_regions];
+        let mut unassigned_share = 0.0;
+        for (g, &share) in group_share.iter().enumerate() {
+            let mass = &group_region_mass[g];
+            let total: f64 = mass.iter().sum();
+            if share == 0.0 || total <= 0.0 {
+                continue;
+            }
+            for (r, &m) in mass.iter().enumerate() {
+                let part = share * m / total;
+                if r == input.n_regions {
+                    unassigned_share += part;
+                } else {
+                    region_share[r] += part;
+                }
+            }
+        }
+        let residual: Vec<f64> = y.iter().zip(&y_hat).map(|(a, b)| a - b).collect();
+        let y_sq: f64 = y.iter().map(|v| v * v).sum();
+        let r_sq: f64 = residual.iter().map(|v| v * v).sum();
+        let explained_variance = if y_sq > 0.0 { 1.0 - r_sq / y_sq } else { 0.0 };
+
+        let mut source_map = vec![0.0; n_src];
+        for (j, column) in profile.outer_iterator().enumerate() {
+            if x[j] != 0.0 && input.atom_norms[j] > 0.0 {
+                let w = x[j] / input.atom_norms[j];
+                for (s, &p) in column.iter() {
+                    source_map[s] += p * w;
+                }
+            }
+        }
+        let mut peak_source = None;
+        let mut best = 0.0;
+        for (s, &v) in source_map.iter().enumerate() {
+            if v.abs() > best {
+                best = v.abs();
+                peak_source = Some(s);
+            }
+        }
+        components.push(ComponentAttribution {
+            group_share,
+            region_share,
+            unassigned_share,
+            explained_variance,
+            residual,
+            peak_position: peak_source.map(|s| input.source_positions[s]),
+            peak_region: peak_source.map_or(-1, |s| input.source_region[s]),
+            peak_source,
+            source_map,
+        });
+    }
+    Ok(Attribution { components })
+}
