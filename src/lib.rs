@@ -21,3 +21,4 @@ pub mod io;
 pub mod montage;
 pub mod patterns;
 pub mod solver;
+pub mod demo;

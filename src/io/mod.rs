@@ -4,6 +4,7 @@
 //! (millimetres where a field says `_mm`) and the library's SI types.
 
 pub mod atomic;
+pub mod cache;
 pub mod store;
 
 pub use store::{Array, Attr, Store};
