@@ -22,3 +22,4 @@ pub mod montage;
 pub mod patterns;
 pub mod solver;
 pub mod demo;
+pub mod baseline;
