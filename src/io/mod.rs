@@ -4,6 +4,10 @@
 //! (millimetres where a field says `_mm`) and the library's SI types.
 
 pub mod atomic;
+pub mod error;
+pub mod hdf5_backend;
 pub mod store;
+pub mod store_access;
 
-pub use store::{Array, Attr, Store};
+pub use error::IoError;
+pub use store::{Array, Attr, Dataset, Store};
