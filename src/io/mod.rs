@@ -5,6 +5,7 @@
 
 pub mod atomic;
 pub mod error;
+pub mod gifti;
 pub mod hdf5_backend;
 pub mod store;
 pub mod store_access;
