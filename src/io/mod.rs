@@ -7,6 +7,9 @@ pub mod atomic;
 pub mod error;
 pub mod gifti;
 pub mod hdf5_backend;
+pub mod npy;
+pub mod off;
+pub mod ply;
 pub mod store;
 pub mod store_access;
 

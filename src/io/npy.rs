@@ -1,0 +1,1 @@
+//! NumPy .npy and .npz files.
