@@ -21,6 +21,16 @@ fn sample_store() -> Store {
     );
     s.insert("/fit/lambda", Dataset::f64(vec![], vec![0.125]));
     s.insert("/fit/empty", Dataset::f64(vec![0, 3], vec![]));
+    s.insert("/fit/empty_int", Dataset::i64(vec![0], vec![]));
+    s.insert("/fit/no_labels", Dataset::strings(vec![]));
+    s.insert(
+        "/grid/names",
+        Dataset {
+            shape: vec![2, 2],
+            data: Array::Str(vec!["a".into(), "b".into(), "c".into(), "d".into()]),
+            attrs: Default::default(),
+        },
+    );
     s.insert(
         "/leadfield/gain_xyz",
         Dataset::f64(vec![1, 2, 3], (0..6).map(f64::from).collect()),
@@ -183,6 +193,9 @@ assert labels == ["Fp1", "Cz", "Ωmega"], labels
 assert h5py.check_string_dtype(f["/montage/labels"].dtype).length is None
 assert f["/fit/lambda"].shape == () and f["/fit/lambda"][()] == 0.125
 assert f["/fit/empty"].shape == (0, 3)
+assert f["/fit/empty_int"].shape == (0,) and f["/fit/empty_int"].dtype == np.int64
+assert f["/fit/no_labels"].shape == (0,)
+assert f["/grid/names"].asstr()[()].tolist() == [["a", "b"], ["c", "d"]]
 assert f["/leadfield/gain_xyz"].shape == (1, 2, 3)
 d = f["/a/b/c/deep"]
 assert d.attrs["unit"] == "V/(A·m)" and type(d.attrs["unit"]) is str, repr(d.attrs["unit"])
@@ -222,9 +235,26 @@ with h5py.File(sys.argv[1], "w") as f:
     f.attrs["ratio"] = 0.75
     f.attrs["fixed_attr"] = np.bytes_(b"fix")
     f["grp"].attrs["arr"] = np.array([1.0, 2.0])
+    f.create_dataset("packed", data=np.arange(1000, dtype=np.float64).reshape(100, 10),
+                     chunks=(10, 10), compression="gzip", shuffle=True)
+    f["scalar"] = 3.5
+    f["scalar_str"] = "one string"
 "#;
     common::python::run(&py, script, &[&path]);
     let s = Store::read(&path).unwrap();
+    // The C library's layout (version-0 superblock, symbol-table groups, B-trees)
+    // cut short anywhere also gives a clean error.
+    let bytes = std::fs::read(&path).unwrap();
+    for k in 1..60 {
+        let cut = bytes.len() * k / 60;
+        let bad = dir.join(format!("theirs_cut{cut}.h5"));
+        std::fs::write(&bad, &bytes[..cut]).unwrap();
+        let e = Store::read(&bad).unwrap_err();
+        assert!(
+            e.to_string().contains(&format!("theirs_cut{cut}.h5")),
+            "{e}"
+        );
+    }
     let (v, r, c) = s.f64_matrix(&path, "/f32", Some(2), Some(2)).unwrap();
     assert_eq!((v, r, c), (vec![1.5, 2.5, 3.5, -4.0], 2, 2));
     assert_eq!(s.i64s(&path, "/grp/i32", Some(3)).unwrap(), vec![-3, 0, 9]);
@@ -242,6 +272,14 @@ with h5py.File(sys.argv[1], "w") as f:
     assert_eq!(s.attr_f64(&path, "/", "count").unwrap(), 5.0);
     assert_eq!(s.attr_f64(&path, "/", "ratio").unwrap(), 0.75);
     assert_eq!(s.attr_str(&path, "/", "fixed_attr").unwrap(), "fix");
+    let (v, r, c) = s.f64_matrix(&path, "/packed", Some(100), Some(10)).unwrap();
+    assert_eq!((r, c), (100, 10));
+    assert_eq!(v, (0..1000).map(f64::from).collect::<Vec<_>>());
+    assert_eq!(s.f64_scalar(&path, "/scalar").unwrap(), 3.5);
+    assert_eq!(
+        s.datasets["/scalar_str"].data,
+        Array::Str(vec!["one string".into()])
+    );
     assert_eq!(
         s.attr(&path, "/grp", "arr").unwrap(),
         &Attr::F64Array(vec![1.0, 2.0])

@@ -31,9 +31,9 @@ impl Store {
         let outcome = catch_unwind(AssertUnwindSafe(|| read_bytes(bytes)));
         match outcome {
             Ok(Ok(store)) => Ok(store),
-            Ok(Err(e)) => Err(IoError::Hdf5 {
+            Ok(Err(message)) => Err(IoError::Hdf5 {
                 path: path.to_path_buf(),
-                message: e.to_string(),
+                message,
             }),
             Err(_) => Err(IoError::Hdf5 {
                 path: path.to_path_buf(),
@@ -94,10 +94,15 @@ impl Store {
     }
 }
 
-fn read_bytes(bytes: Vec<u8>) -> Result<Store, hdf5::Error> {
-    let file = hdf5::File::from_bytes(bytes)?;
+/// Name the object an HDF5 error happened at.
+fn at_object(at: &str) -> impl Fn(hdf5::Error) -> String + '_ {
+    move |e| format!("{at}: {e}")
+}
+
+fn read_bytes(bytes: Vec<u8>) -> Result<Store, String> {
+    let file = hdf5::File::from_bytes(bytes).map_err(|e| e.to_string())?;
     let mut store = Store::default();
-    visit_group(&file.root(), "/", &mut store)?;
+    visit_group(&file.root(), "/", &mut store, 0)?;
     Ok(store)
 }
 
@@ -109,23 +114,37 @@ fn join(parent: &str, name: &str) -> String {
     }
 }
 
-fn visit_group(group: &hdf5::Group, at: &str, store: &mut Store) -> Result<(), hdf5::Error> {
-    let attrs = convert_attrs(group.attrs()?);
+/// Deeper nesting than this is taken for a cycle of hard links.
+const MAX_DEPTH: usize = 64;
+
+fn visit_group(
+    group: &hdf5::Group,
+    at: &str,
+    store: &mut Store,
+    depth: usize,
+) -> Result<(), String> {
+    if depth > MAX_DEPTH {
+        return Err(format!(
+            "groups nested deeper than {MAX_DEPTH} at {at} (a cycle of links?)"
+        ));
+    }
+    let attrs = convert_attrs(group.attrs().map_err(at_object(at))?);
     if !attrs.is_empty() {
         store.group_attrs.insert(at.to_string(), attrs);
     }
-    let mut names = group.datasets()?;
+    let mut names = group.datasets().map_err(at_object(at))?;
     names.sort();
     for name in names {
-        let ds = group.dataset(&name)?;
-        let dataset = read_dataset(&ds)?;
-        store.datasets.insert(join(at, &name), dataset);
+        let full = join(at, &name);
+        let ds = group.dataset(&name).map_err(at_object(&full))?;
+        let dataset = read_dataset(&ds).map_err(at_object(&full))?;
+        store.datasets.insert(full, dataset);
     }
-    let mut groups = group.groups()?;
+    let mut groups = group.groups().map_err(at_object(at))?;
     groups.sort();
     for name in groups {
-        let child = group.group(&name)?;
-        visit_group(&child, &join(at, &name), store)?;
+        let child = group.group(&name).map_err(at_object(&join(at, &name)))?;
+        visit_group(&child, &join(at, &name), store, depth + 1)?;
     }
     Ok(())
 }

@@ -57,7 +57,8 @@ pub fn read_off(path: &Path) -> Result<Mesh, IoError> {
             "expected `n_vertices n_faces n_edges`",
         ));
     };
-    let mut vertices = Vec::with_capacity(*nv);
+    // Counts come from the file; a damaged one must not reserve memory.
+    let mut vertices = Vec::new();
     for v in 0..*nv {
         let (no, line) = lines.next().ok_or_else(|| {
             IoError::format(
@@ -85,7 +86,7 @@ pub fn read_off(path: &Path) -> Result<Mesh, IoError> {
         }
         vertices.push([p[0] * M_PER_MM, p[1] * M_PER_MM, p[2] * M_PER_MM]);
     }
-    let mut faces = Vec::with_capacity(*nf);
+    let mut faces = Vec::new();
     for f in 0..*nf {
         let (no, line) = lines.next().ok_or_else(|| {
             IoError::format(path, format!("face {f}"), "the file ends early (truncated)")

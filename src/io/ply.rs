@@ -152,7 +152,8 @@ pub fn read_ply(path: &Path) -> Result<Mesh, IoError> {
                                 format!("list length {n} is not a count"),
                             ));
                         }
-                        let mut list = Vec::with_capacity(n as usize);
+                        // No capacity from the file: a damaged count must not allocate.
+                        let mut list = Vec::new();
                         for _ in 0..n as usize {
                             list.push(reader.next(*item_t, &where_)?);
                         }

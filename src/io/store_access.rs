@@ -93,6 +93,14 @@ impl Store {
                 ))
             }
         };
+        if values.len() != rows * cols {
+            return Err(shape_error(
+                file,
+                name,
+                &ds.shape,
+                &[Some(values.len()), None],
+            ));
+        }
         if !matches(&[rows, cols], &[expected_rows, expected_cols]) {
             return Err(shape_error(
                 file,
@@ -179,6 +187,14 @@ impl Store {
                 ))
             }
         };
+        if values.len() != rows * cols {
+            return Err(shape_error(
+                file,
+                name,
+                &ds.shape,
+                &[Some(values.len()), None],
+            ));
+        }
         if !matches(&[rows, cols], &[expected_rows, expected_cols]) {
             return Err(shape_error(
                 file,
