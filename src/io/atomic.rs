@@ -3,14 +3,20 @@
 use std::fs;
 use std::io::Write;
 use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicU64, Ordering};
 
-/// The temporary path used while `path` is being written.
+/// Distinguishes temporaries of concurrent writes within one process.
+static NEXT_TEMPORARY: AtomicU64 = AtomicU64::new(0);
+
+/// A fresh temporary path beside `path` (hidden, ending in `.tmp`, unique
+/// per process and call) used while `path` is being written.
 pub fn temporary_path(path: &Path) -> PathBuf {
     let name = path
         .file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_else(|| "output".to_string());
-    path.with_file_name(format!(".{name}.{}.tmp", std::process::id()))
+    let n = NEXT_TEMPORARY.fetch_add(1, Ordering::Relaxed);
+    path.with_file_name(format!(".{name}.{}.{n}.tmp", std::process::id()))
 }
 
 /// Write `bytes` to `path` atomically: a reader sees either the old file or

@@ -4,7 +4,18 @@
 //! (millimetres where a field says `_mm`) and the library's SI types.
 
 pub mod atomic;
+<<<<<<< HEAD
 pub mod cache;
+=======
+pub mod error;
+pub mod gifti;
+pub mod hdf5_backend;
+pub mod npy;
+pub mod off;
+pub mod ply;
+>>>>>>> io
 pub mod store;
+pub mod store_access;
 
-pub use store::{Array, Attr, Store};
+pub use error::IoError;
+pub use store::{Array, Attr, Dataset, Store};

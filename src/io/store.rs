@@ -1,17 +1,51 @@
 //! An in-memory picture of an HDF5 file: named datasets with shapes and
-//! attributes. The HDF5 backend (see `hdf5_backend`) reads and writes it.
+//! attributes. The HDF5 backend (see `hdf5_backend`) reads and writes it;
+//! `store_access` adds typed accessors that check shapes and values.
 
 use std::collections::BTreeMap;
 
 /// The values of one dataset, flattened in row-major (C) order.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Array {
-    /// 64-bit floats.
+    /// 64-bit floats (also what 32-bit float datasets are read as).
     F64(Vec<f64>),
-    /// 64-bit signed integers.
+    /// 64-bit signed integers (also what every other integer width is read as;
+    /// an unsigned 64-bit value above `i64::MAX` is refused).
     I64(Vec<i64>),
-    /// Variable-length UTF-8 strings.
+    /// Strings (written as variable-length UTF-8; fixed-length strings are
+    /// read into this too).
     Str(Vec<String>),
+    /// A dataset whose element type the store cannot represent (compound,
+    /// reference, ...). Kept so that its path and shape are known; the typed
+    /// accessors refuse it, and writing a store holding one fails.
+    Unsupported(String),
+}
+
+impl Array {
+    /// The number of elements.
+    pub fn len(&self) -> usize {
+        match self {
+            Array::F64(v) => v.len(),
+            Array::I64(v) => v.len(),
+            Array::Str(v) => v.len(),
+            Array::Unsupported(_) => 0,
+        }
+    }
+
+    /// True when there are no elements.
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// A short name of the element type, for error messages.
+    pub fn kind(&self) -> String {
+        match self {
+            Array::F64(_) => "floats".to_string(),
+            Array::I64(_) => "integers".to_string(),
+            Array::Str(_) => "strings".to_string(),
+            Array::Unsupported(t) => format!("unsupported type {t}"),
+        }
+    }
 }
 
 /// An attribute value.
@@ -23,6 +57,12 @@ pub enum Attr {
     F64(f64),
     /// An integer.
     I64(i64),
+    /// A one-dimensional array of strings.
+    StrArray(Vec<String>),
+    /// A one-dimensional array of floats.
+    F64Array(Vec<f64>),
+    /// A one-dimensional array of integers.
+    I64Array(Vec<i64>),
 }
 
 /// A dataset: shape (row-major) and values.
@@ -36,6 +76,35 @@ pub struct Dataset {
     pub attrs: BTreeMap<String, Attr>,
 }
 
+impl Dataset {
+    /// A dataset of floats with the given shape and no attributes.
+    pub fn f64(shape: Vec<usize>, values: Vec<f64>) -> Dataset {
+        Dataset {
+            shape,
+            data: Array::F64(values),
+            attrs: BTreeMap::new(),
+        }
+    }
+
+    /// A dataset of integers with the given shape and no attributes.
+    pub fn i64(shape: Vec<usize>, values: Vec<i64>) -> Dataset {
+        Dataset {
+            shape,
+            data: Array::I64(values),
+            attrs: BTreeMap::new(),
+        }
+    }
+
+    /// A one-dimensional dataset of strings with no attributes.
+    pub fn strings(values: Vec<String>) -> Dataset {
+        Dataset {
+            shape: vec![values.len()],
+            data: Array::Str(values),
+            attrs: BTreeMap::new(),
+        }
+    }
+}
+
 /// An HDF5 file in memory: datasets by absolute path (`/leadfield/gain`),
 /// and attributes on groups by group path (`/` for the root).
 #[derive(Debug, Clone, Default, PartialEq)]
@@ -44,4 +113,30 @@ pub struct Store {
     pub datasets: BTreeMap<String, Dataset>,
     /// Group attributes by group path.
     pub group_attrs: BTreeMap<String, BTreeMap<String, Attr>>,
+}
+
+impl Store {
+    /// An empty store.
+    pub fn new() -> Store {
+        Store::default()
+    }
+
+    /// Insert (or replace) a dataset at an absolute path such as `/fit/lambda`.
+    pub fn insert(&mut self, path: &str, dataset: Dataset) {
+        self.datasets.insert(normalise_path(path), dataset);
+    }
+
+    /// Set an attribute on a group (`/` for the root).
+    pub fn set_group_attr(&mut self, group: &str, name: &str, value: Attr) {
+        self.group_attrs
+            .entry(normalise_path(group))
+            .or_default()
+            .insert(name.to_string(), value);
+    }
+}
+
+/// `a/b` and `/a/b/` both become `/a/b`; the root is `/`.
+pub(crate) fn normalise_path(path: &str) -> String {
+    let parts: Vec<&str> = path.split('/').filter(|p| !p.is_empty()).collect();
+    format!("/{}", parts.join("/"))
 }

@@ -1,0 +1,367 @@
+//! Reading and writing a [`Store`] as an HDF5 file through the pure-Rust
+//! `hdf5` crate (hdf5-pure): strings as variable-length UTF-8 (h5py returns
+//! `str`), numbers as 64-bit floats and integers, any rank, with group and
+//! dataset attributes. Files with a user block (MATLAB v7.3) are read too.
+
+use std::collections::BTreeMap;
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::path::Path;
+
+use hdf5::{AttrValue, DType, FileBuilder};
+
+use super::atomic;
+use super::error::IoError;
+use super::store::{Array, Attr, Dataset, Store};
+
+/// A MATLAB v7.3 file starts with a text header in its 512-byte user block.
+const MATLAB_MAGIC: &[u8] = b"MATLAB 7.3 MAT-file";
+
+impl Store {
+    /// Read a whole HDF5 file into memory.
+    ///
+    /// Every dataset is read: floats (32- or 64-bit) as [`Array::F64`],
+    /// integers of every width as [`Array::I64`], fixed- and variable-length
+    /// strings as [`Array::Str`]; other element types become
+    /// [`Array::Unsupported`]. A missing, truncated or non-HDF5 file gives an
+    /// error naming the file, never a panic.
+    pub fn read(path: &Path) -> Result<Store, IoError> {
+        let bytes = std::fs::read(path).map_err(|e| IoError::file(path, e))?;
+        // The backend is a large parser of untrusted bytes; a panic inside it
+        // on a damaged file must become an error, not abort the caller.
+        let outcome = catch_unwind(AssertUnwindSafe(|| read_bytes(bytes)));
+        match outcome {
+            Ok(Ok(store)) => Ok(store),
+            Ok(Err(message)) => Err(IoError::Hdf5 {
+                path: path.to_path_buf(),
+                message,
+            }),
+            Err(_) => Err(IoError::Hdf5 {
+                path: path.to_path_buf(),
+                message: "the HDF5 reader failed on damaged data".to_string(),
+            }),
+        }
+    }
+
+    /// True when `path` starts with the MATLAB v7.3 MAT-file header, so that
+    /// its matrices are stored transposed (MATLAB is column-major).
+    pub fn is_matlab_file(path: &Path) -> Result<bool, IoError> {
+        use std::io::Read;
+        let mut head = [0u8; 19];
+        let mut file = std::fs::File::open(path).map_err(|e| IoError::file(path, e))?;
+        match file.read_exact(&mut head) {
+            Ok(()) => Ok(head == MATLAB_MAGIC),
+            Err(e) if e.kind() == std::io::ErrorKind::UnexpectedEof => Ok(false),
+            Err(e) => Err(IoError::file(path, e)),
+        }
+    }
+
+    /// Write the store as an HDF5 file, atomically: the bytes go to a
+    /// temporary file beside `path` that is renamed over it when complete, so
+    /// a failed write leaves neither a partial file nor the temporary behind.
+    pub fn write_atomic(&self, path: &Path) -> Result<(), IoError> {
+        let bytes = self.to_hdf5_bytes(path)?;
+        atomic::write_atomic(path, &bytes).map_err(|e| IoError::file(path, e))
+    }
+
+    /// Encode the store as the bytes of an HDF5 file (`path` only names the
+    /// file in errors).
+    pub fn to_hdf5_bytes(&self, path: &Path) -> Result<Vec<u8>, IoError> {
+        let tree = build_tree(self, path)?;
+        let mut builder = FileBuilder::new();
+        for (name, value) in &tree.attrs {
+            builder.set_attr(name, attr_to_hdf5(value));
+        }
+        for (name, ds) in &tree.datasets {
+            configure(builder.create_dataset(name), ds, path, &tree.path_of(name))?;
+        }
+        for (name, child) in &tree.groups {
+            let mut g = builder.create_group(name);
+            fill_group(&mut g, child, path)?;
+            builder.add_group(g.finish());
+        }
+        let outcome = catch_unwind(AssertUnwindSafe(|| builder.finish()));
+        match outcome {
+            Ok(Ok(bytes)) => Ok(bytes),
+            Ok(Err(e)) => Err(IoError::Hdf5 {
+                path: path.to_path_buf(),
+                message: format!("cannot encode: {e}"),
+            }),
+            Err(_) => Err(IoError::Hdf5 {
+                path: path.to_path_buf(),
+                message: "the HDF5 writer failed".to_string(),
+            }),
+        }
+    }
+}
+
+/// Name the object an HDF5 error happened at.
+fn at_object(at: &str) -> impl Fn(hdf5::Error) -> String + '_ {
+    move |e| format!("{at}: {e}")
+}
+
+fn read_bytes(bytes: Vec<u8>) -> Result<Store, String> {
+    let file = hdf5::File::from_bytes(bytes).map_err(|e| e.to_string())?;
+    let mut store = Store::default();
+    visit_group(&file.root(), "/", &mut store, 0)?;
+    Ok(store)
+}
+
+fn join(parent: &str, name: &str) -> String {
+    if parent == "/" {
+        format!("/{name}")
+    } else {
+        format!("{parent}/{name}")
+    }
+}
+
+/// Deeper nesting than this is taken for a cycle of hard links.
+const MAX_DEPTH: usize = 64;
+
+fn visit_group(
+    group: &hdf5::Group,
+    at: &str,
+    store: &mut Store,
+    depth: usize,
+) -> Result<(), String> {
+    if depth > MAX_DEPTH {
+        return Err(format!(
+            "groups nested deeper than {MAX_DEPTH} at {at} (a cycle of links?)"
+        ));
+    }
+    let attrs = convert_attrs(group.attrs().map_err(at_object(at))?);
+    if !attrs.is_empty() {
+        store.group_attrs.insert(at.to_string(), attrs);
+    }
+    let mut names = group.datasets().map_err(at_object(at))?;
+    names.sort();
+    for name in names {
+        let full = join(at, &name);
+        let ds = group.dataset(&name).map_err(at_object(&full))?;
+        let dataset = read_dataset(&ds).map_err(at_object(&full))?;
+        store.datasets.insert(full, dataset);
+    }
+    let mut groups = group.groups().map_err(at_object(at))?;
+    groups.sort();
+    for name in groups {
+        let child = group.group(&name).map_err(at_object(&join(at, &name)))?;
+        visit_group(&child, &join(at, &name), store, depth + 1)?;
+    }
+    Ok(())
+}
+
+fn read_dataset(ds: &hdf5::Dataset) -> Result<Dataset, hdf5::Error> {
+    let shape: Vec<usize> = ds.shape()?.iter().map(|&d| d as usize).collect();
+    let data = match ds.dtype()? {
+        DType::F32 | DType::F64 => Array::F64(ds.read_f64()?),
+        DType::I8 | DType::I16 | DType::I32 | DType::I64 | DType::U8 | DType::U16 | DType::U32 => {
+            Array::I64(ds.read_i64()?)
+        }
+        DType::U64 => {
+            let values = ds.read_u64()?;
+            let converted: Option<Vec<i64>> =
+                values.iter().map(|&v| i64::try_from(v).ok()).collect();
+            match converted {
+                Some(v) => Array::I64(v),
+                None => Array::Unsupported("u64 values above i64::MAX".to_string()),
+            }
+        }
+        DType::String | DType::VariableLengthString => Array::Str(ds.read_string()?),
+        other => Array::Unsupported(other.to_string()),
+    };
+    Ok(Dataset {
+        shape,
+        data,
+        attrs: convert_attrs(ds.attrs()?),
+    })
+}
+
+fn convert_attrs(attrs: std::collections::HashMap<String, AttrValue>) -> BTreeMap<String, Attr> {
+    attrs
+        .into_iter()
+        .filter_map(|(k, v)| attr_from_hdf5(&v).map(|a| (k, a)))
+        .collect()
+}
+
+/// Map an attribute to the store's value type; `None` for kinds it has no
+/// variant for (those attributes are left out).
+fn attr_from_hdf5(value: &AttrValue) -> Option<Attr> {
+    match value {
+        AttrValue::F32(x) => Some(Attr::F64(f64::from(*x))),
+        AttrValue::F64(x) => Some(Attr::F64(*x)),
+        AttrValue::I8(_)
+        | AttrValue::I16(_)
+        | AttrValue::I32(_)
+        | AttrValue::I64(_)
+        | AttrValue::U8(_)
+        | AttrValue::U16(_)
+        | AttrValue::U32(_)
+        | AttrValue::U64(_) => value.as_i64().map(Attr::I64),
+        AttrValue::F32Array(_) | AttrValue::F64Array(_) => value.to_f64s().map(Attr::F64Array),
+        AttrValue::String(_)
+        | AttrValue::StringSized { .. }
+        | AttrValue::AsciiString(_)
+        | AttrValue::AsciiStringSized { .. }
+        | AttrValue::VarLenString(_)
+        | AttrValue::VarLenAsciiString(_) => value.as_str().map(|s| Attr::Str(s.to_string())),
+        _ => {
+            if let Some(strings) = value.as_strings() {
+                Some(Attr::StrArray(strings.to_vec()))
+            } else {
+                value.to_i64s().map(Attr::I64Array)
+            }
+        }
+    }
+}
+
+fn attr_to_hdf5(value: &Attr) -> AttrValue {
+    match value {
+        Attr::Str(s) => AttrValue::VarLenString(s.clone()),
+        Attr::F64(x) => AttrValue::F64(*x),
+        Attr::I64(x) => AttrValue::I64(*x),
+        Attr::StrArray(v) => AttrValue::VarLenStringArray(v.clone()),
+        Attr::F64Array(v) => AttrValue::F64Array(v.clone()),
+        Attr::I64Array(v) => AttrValue::I64Array(v.clone()),
+    }
+}
+
+/// The group hierarchy of a store, built from its absolute dataset paths.
+#[derive(Default)]
+struct Node<'a> {
+    path: String,
+    datasets: BTreeMap<String, &'a Dataset>,
+    groups: BTreeMap<String, Node<'a>>,
+    attrs: BTreeMap<String, Attr>,
+}
+
+impl Node<'_> {
+    fn path_of(&self, name: &str) -> String {
+        join(&self.path, name)
+    }
+}
+
+fn build_tree<'a>(store: &'a Store, file: &Path) -> Result<Node<'a>, IoError> {
+    let mut root = Node {
+        path: "/".to_string(),
+        ..Node::default()
+    };
+    for (full, ds) in &store.datasets {
+        let parts: Vec<&str> = full.split('/').filter(|p| !p.is_empty()).collect();
+        let Some((name, parents)) = parts.split_last() else {
+            return Err(IoError::format(
+                file,
+                full.clone(),
+                "a dataset needs a name",
+            ));
+        };
+        let node = descend(&mut root, parents, file, full)?;
+        if node.groups.contains_key(*name) {
+            return Err(IoError::format(
+                file,
+                full.clone(),
+                "this path is both a dataset and a group",
+            ));
+        }
+        node.datasets.insert((*name).to_string(), ds);
+    }
+    for (group, attrs) in &store.group_attrs {
+        let parts: Vec<&str> = group.split('/').filter(|p| !p.is_empty()).collect();
+        let node = descend(&mut root, &parts, file, group)?;
+        node.attrs
+            .extend(attrs.iter().map(|(k, v)| (k.clone(), v.clone())));
+    }
+    Ok(root)
+}
+
+fn descend<'n, 'a>(
+    root: &'n mut Node<'a>,
+    parents: &[&str],
+    file: &Path,
+    full: &str,
+) -> Result<&'n mut Node<'a>, IoError> {
+    let mut node = root;
+    for part in parents {
+        if node.datasets.contains_key(*part) {
+            return Err(IoError::format(
+                file,
+                full.to_string(),
+                format!("{part} is a dataset, expected a group"),
+            ));
+        }
+        let path = node.path_of(part);
+        node = node
+            .groups
+            .entry((*part).to_string())
+            .or_insert_with(|| Node {
+                path,
+                ..Node::default()
+            });
+    }
+    Ok(node)
+}
+
+fn fill_group(g: &mut hdf5::GroupBuilder, node: &Node<'_>, file: &Path) -> Result<(), IoError> {
+    for (name, value) in &node.attrs {
+        g.set_attr(name, attr_to_hdf5(value));
+    }
+    for (name, ds) in &node.datasets {
+        configure(g.create_dataset(name), ds, file, &node.path_of(name))?;
+    }
+    for (name, child) in &node.groups {
+        let mut cg = g.create_group(name);
+        fill_group(&mut cg, child, file)?;
+        g.add_group(cg.finish());
+    }
+    Ok(())
+}
+
+fn configure(
+    builder: &mut hdf5::DatasetBuilder,
+    ds: &Dataset,
+    file: &Path,
+    dataset: &str,
+) -> Result<(), IoError> {
+    let n: usize = ds.shape.iter().product();
+    if n != ds.data.len() {
+        return Err(IoError::Shape {
+            path: file.to_path_buf(),
+            dataset: dataset.to_string(),
+            found: ds.shape.clone(),
+            expected: format!(
+                "a shape with {} elements, as many as the values",
+                ds.data.len()
+            ),
+        });
+    }
+    let shape: Vec<u64> = ds.shape.iter().map(|&d| d as u64).collect();
+    match &ds.data {
+        Array::F64(v) => {
+            if v.is_empty() {
+                builder.with_dtype(hdf5::make_f64_type());
+            } else {
+                builder.with_f64_data(v);
+            }
+        }
+        Array::I64(v) => {
+            if v.is_empty() {
+                builder.with_dtype(hdf5::make_i64_type());
+            } else {
+                builder.with_i64_data(v);
+            }
+        }
+        Array::Str(v) => {
+            let refs: Vec<&str> = v.iter().map(String::as_str).collect();
+            builder.with_vlen_strings(&refs);
+        }
+        Array::Unsupported(t) => {
+            return Err(IoError::Unsupported {
+                path: file.to_path_buf(),
+                what: format!("writing dataset {dataset} of type {t}"),
+            })
+        }
+    }
+    builder.with_shape(&shape);
+    for (name, value) in &ds.attrs {
+        builder.set_attr(name, attr_to_hdf5(value));
+    }
+    Ok(())
+}
