@@ -4,16 +4,13 @@
 //! (millimetres where a field says `_mm`) and the library's SI types.
 
 pub mod atomic;
-<<<<<<< HEAD
 pub mod cache;
-=======
 pub mod error;
 pub mod gifti;
 pub mod hdf5_backend;
 pub mod npy;
 pub mod off;
 pub mod ply;
->>>>>>> io
 pub mod store;
 pub mod store_access;
 
