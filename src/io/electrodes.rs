@@ -19,12 +19,13 @@ pub enum LengthUnit {
 }
 
 impl LengthUnit {
-    /// How many metres one unit is.
-    pub fn metres(self) -> f64 {
+    /// How many of this unit make a metre (exact integers, so that dividing by them is
+    /// one correctly rounded operation).
+    pub fn per_metre(self) -> f64 {
         match self {
             LengthUnit::Metre => 1.0,
-            LengthUnit::Centimetre => 1e-2,
-            LengthUnit::Millimetre => 1e-3,
+            LengthUnit::Centimetre => 100.0,
+            LengthUnit::Millimetre => 1000.0,
         }
     }
 }
@@ -77,7 +78,7 @@ pub fn electrodes_from_table(table: &Table, unit: LengthUnit) -> Result<Montage,
         seen.insert(canonical_label(&label), (row.line, label.clone()));
         let mut p: Vec3 = [0.0; 3];
         for (d, &col) in axes.iter().enumerate() {
-            p[d] = number(table, row.line, col, &row.fields[col])? * unit.metres();
+            p[d] = number(table, row.line, col, &row.fields[col])? / unit.per_metre();
         }
         labels.push(label);
         positions.push(p);
@@ -125,7 +126,10 @@ pub fn write_electrodes_tsv(path: &Path, montage: &Montage) -> Result<(), TableE
         .zip(&montage.positions)
         .map(|(label, p)| {
             let mut row = vec![label.clone()];
-            row.extend(p.iter().map(|c| format!("{}", c * 1e3)));
+            row.extend(
+                p.iter()
+                    .map(|c| format!("{}", c * LengthUnit::Millimetre.per_metre())),
+            );
             row
         })
         .collect();

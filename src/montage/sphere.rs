@@ -93,7 +93,7 @@ pub fn fit_sphere(points: &[Vec3]) -> Result<(Vec3, f64), MontageError> {
         .sum::<f64>()
         / n as f64)
         .sqrt();
-    if !(spread > 0.0) {
+    if spread.is_nan() || spread <= 0.0 {
         return Err(MontageError::Degenerate { found: n });
     }
     let q: Vec<Vec3> = points
@@ -112,7 +112,7 @@ pub fn fit_sphere(points: &[Vec3]) -> Result<(Vec3, f64), MontageError> {
     let z = solve4(&normal, &rhs).ok_or(MontageError::Degenerate { found: n })?;
     let mut c = [z[0], z[1], z[2]];
     let r2 = z[3] + dot(c, c);
-    if !(r2 > 0.0) {
+    if r2.is_nan() || r2 <= 0.0 {
         return Err(MontageError::Degenerate { found: n });
     }
     let mut r = r2.sqrt();
@@ -165,7 +165,7 @@ fn accumulate(normal: &mut [f64; 16], rhs: &mut [f64; 4], row: &[f64; 4], target
 fn solve4(normal: &[f64; 16], rhs: &[f64; 4]) -> Option<[f64; 4]> {
     let (values, vectors) = symmetric_eigen(normal, 4)?;
     let max = values[3];
-    if !(values[0] > RANK_TOLERANCE * max) {
+    if values[0].is_nan() || values[0] <= RANK_TOLERANCE * max {
         return None;
     }
     let mut x = [0.0; 4];

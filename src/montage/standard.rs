@@ -46,9 +46,9 @@ pub fn standard_names() -> &'static [&'static str] {
 /// P7, P8 in every layout; [`Montage::find`] also accepts T3, T4, T5, T6.
 pub fn standard(name: &str, radius_m: f64) -> Result<Montage, MontageError> {
     let tier = match name.trim().to_lowercase().as_str() {
-        "10-20" => Tier::TenTwenty,
-        "10-10" => Tier::TenTen,
-        "10-05" | "10-5" => Tier::TenFive,
+        "10-20" => Tier::Twenty,
+        "10-10" => Tier::Ten,
+        "10-05" | "10-5" => Tier::Five,
         _ => {
             return Err(MontageError::UnknownStandard {
                 name: name.to_string(),
@@ -70,9 +70,12 @@ pub fn standard(name: &str, radius_m: f64) -> Result<Montage, MontageError> {
 /// The three layouts, each containing the coarser ones.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
 enum Tier {
-    TenTwenty,
-    TenTen,
-    TenFive,
+    /// 10-20.
+    Twenty,
+    /// 10-10.
+    Ten,
+    /// 10-05.
+    Five,
 }
 
 /// One position of the 10-05 grid on the unit sphere.
@@ -158,24 +161,20 @@ fn ten_five_grid() -> Vec<Entry> {
     };
     // Rows below the frontal equator (latitude −22.5° and −11.25°): Nz, NFpz and their
     // neighbours at the azimuths of Fp1h (9°) and Fp1 (18°).
-    for (prefix, steps, tier_z) in [("N", -2, Tier::TenTen), ("NFp", -1, Tier::TenFive)] {
+    for (prefix, steps, tier_z) in [("N", -2, Tier::Ten), ("NFp", -1, Tier::Five)] {
         let lat = steps as f64 * ARC_STEP_DEG;
-        lateral_pair(&mut push, prefix, lat, 18.0, "1", "2", Tier::TenFive);
-        lateral_pair(&mut push, prefix, lat, 9.0, "1h", "2h", Tier::TenFive);
+        lateral_pair(&mut push, prefix, lat, 18.0, "1", "2", Tier::Five);
+        lateral_pair(&mut push, prefix, lat, 9.0, "1h", "2h", Tier::Five);
         push(format!("{prefix}z"), midline(steps), tier_z);
     }
     // Fp row: it lies on the equator from Fpz to Fp1 (18°), with Fp1h halfway.
-    lateral_pair(&mut push, "Fp", 0.0, 18.0, "1", "2", Tier::TenTwenty);
-    lateral_pair(&mut push, "Fp", 0.0, 9.0, "1h", "2h", Tier::TenFive);
-    push("Fpz".to_string(), midline(0), Tier::TenTwenty);
+    lateral_pair(&mut push, "Fp", 0.0, 18.0, "1", "2", Tier::Twenty);
+    lateral_pair(&mut push, "Fp", 0.0, 9.0, "1h", "2h", Tier::Five);
+    push("Fpz".to_string(), midline(0), Tier::Twenty);
     // Rows AFp..POO.
-    for r in 1..=15usize {
+    for (r, &row_name) in ROWS.iter().enumerate().take(16).skip(1) {
         let left = row_positions(r);
-        let row_tier = if r % 2 == 0 {
-            Tier::TenTen
-        } else {
-            Tier::TenFive
-        };
+        let row_tier = if r % 2 == 0 { Tier::Ten } else { Tier::Five };
         let mut row = Vec::with_capacity(21);
         for (i, &p) in left.iter().enumerate() {
             let half_steps = i + 1;
@@ -183,14 +182,14 @@ fn ten_five_grid() -> Vec<Entry> {
                 .iter()
                 .find(|&&(tr, _)| tr == r && half_steps >= 7)
                 .map(|&(_, name)| name)
-                .unwrap_or(ROWS[r]);
+                .unwrap_or(row_name);
             let (l, rt) = column_names(half_steps);
-            let tier = if row_tier == Tier::TenFive || half_steps % 2 == 1 {
-                Tier::TenFive
+            let tier = if row_tier == Tier::Five || half_steps % 2 == 1 {
+                Tier::Five
             } else if matches!(r, 4 | 8 | 12) && half_steps % 4 == 0 && half_steps <= 8 {
-                Tier::TenTwenty
+                Tier::Twenty
             } else {
-                Tier::TenTen
+                Tier::Ten
             };
             row.push((format!("{prefix}{l}"), p, format!("{prefix}{rt}"), tier));
         }
@@ -198,22 +197,22 @@ fn ten_five_grid() -> Vec<Entry> {
             push(l.clone(), *p, *tier);
         }
         let z_tier = match r {
-            4 | 8 | 12 => Tier::TenTwenty,
+            4 | 8 | 12 => Tier::Twenty,
             _ => row_tier,
         };
-        push(format!("{}z", ROWS[r]), midline(r as i32), z_tier);
+        push(format!("{row_name}z"), midline(r as i32), z_tier);
         for (_, p, rt, tier) in &row {
             push(rt.clone(), mirror(*p), *tier);
         }
     }
     // O row on the equator, then the rows below the occipital equator (OIz, Iz).
-    lateral_pair(&mut push, "O", 0.0, 162.0, "1", "2", Tier::TenTwenty);
-    lateral_pair(&mut push, "O", 0.0, 171.0, "1h", "2h", Tier::TenFive);
-    push("Oz".to_string(), midline(16), Tier::TenTwenty);
-    for (prefix, steps, tier_z) in [("OI", 17, Tier::TenFive), ("I", 18, Tier::TenTen)] {
+    lateral_pair(&mut push, "O", 0.0, 162.0, "1", "2", Tier::Twenty);
+    lateral_pair(&mut push, "O", 0.0, 171.0, "1h", "2h", Tier::Five);
+    push("Oz".to_string(), midline(16), Tier::Twenty);
+    for (prefix, steps, tier_z) in [("OI", 17, Tier::Five), ("I", 18, Tier::Ten)] {
         let lat = (16 - steps) as f64 * ARC_STEP_DEG;
-        lateral_pair(&mut push, prefix, lat, 162.0, "1", "2", Tier::TenFive);
-        lateral_pair(&mut push, prefix, lat, 171.0, "1h", "2h", Tier::TenFive);
+        lateral_pair(&mut push, prefix, lat, 162.0, "1", "2", Tier::Five);
+        lateral_pair(&mut push, prefix, lat, 171.0, "1h", "2h", Tier::Five);
         push(format!("{prefix}z"), midline(steps), tier_z);
     }
     out

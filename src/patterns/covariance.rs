@@ -34,7 +34,7 @@ pub(crate) fn check_shape(
             what: "columns",
         });
     }
-    let expected = rows.checked_mul(cols).unwrap_or(usize::MAX);
+    let expected = rows.saturating_mul(cols);
     if data.len() != expected {
         return Err(PatternsError::Shape {
             matrix,

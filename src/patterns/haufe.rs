@@ -78,7 +78,7 @@ pub fn activation_patterns(
     let min = values.first().copied().unwrap_or(0.0);
     let max = values.last().copied().unwrap_or(0.0);
     let condition = if min > 0.0 { max / min } else { f64::INFINITY };
-    if !(condition <= CONDITION_LIMIT) {
+    if condition.is_nan() || condition > CONDITION_LIMIT {
         return Err(PatternsError::Singular {
             matrix: "Wᵀ Σ W",
             condition_number: condition,
