@@ -1,0 +1,142 @@
+//! The error type of the `montage` area and the warning of the scalp projection.
+
+use crate::geometry::Vec3;
+
+/// What went wrong while building, selecting from, projecting or fitting a montage.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[non_exhaustive]
+pub enum MontageError {
+    /// No electrodes.
+    #[error("montage has no electrodes, expected at least 1")]
+    Empty,
+    /// Labels and positions differ in number.
+    #[error(
+        "montage has {labels} labels but {positions} positions, expected one position per label"
+    )]
+    LengthMismatch {
+        /// Number of labels.
+        labels: usize,
+        /// Number of positions.
+        positions: usize,
+    },
+    /// A label is empty or only white space.
+    #[error("electrode {index}: empty label, expected a name such as Cz")]
+    EmptyLabel {
+        /// 0-based electrode index.
+        index: usize,
+    },
+    /// A coordinate is NaN or infinite.
+    #[error("electrode {label} (index {index}): position {position:?} is not finite")]
+    NotFinite {
+        /// The label.
+        label: String,
+        /// 0-based electrode index.
+        index: usize,
+        /// The position given (m).
+        position: Vec3,
+    },
+    /// Two labels name the same electrode (ignoring case and the temporal aliases).
+    #[error(
+        "duplicate electrode: {second} (index {second_index}) is the same as {first} (index \
+         {first_index}), ignoring case and the aliases T3=T7, T4=T8, T5=P7, T6=P8"
+    )]
+    DuplicateLabel {
+        /// The earlier label.
+        first: String,
+        /// Its index.
+        first_index: usize,
+        /// The later label.
+        second: String,
+        /// Its index.
+        second_index: usize,
+    },
+    /// The requested standard layout does not exist.
+    #[error("unknown standard montage {name:?}; known: {}", known.join(", "))]
+    UnknownStandard {
+        /// The name asked for.
+        name: String,
+        /// The names that exist.
+        known: Vec<&'static str>,
+    },
+    /// A radius is not a positive finite number.
+    #[error("radius {radius} m: expected a positive finite number")]
+    InvalidRadius {
+        /// The radius given (m).
+        radius: f64,
+    },
+    /// A sphere centre has a NaN or infinite coordinate.
+    #[error("sphere centre {center:?}: expected finite coordinates")]
+    InvalidCenter {
+        /// The centre given (m).
+        center: Vec3,
+    },
+    /// Some requested labels are not in the montage, or are requested twice.
+    #[error(
+        "channel selection: {} unknown [{}], {} duplicated [{}]",
+        unknown.len(), unknown.join(", "), duplicates.len(), duplicates.join(", ")
+    )]
+    Selection {
+        /// Labels not found, as given.
+        unknown: Vec<String>,
+        /// Labels asked for more than once (the later occurrences, as given).
+        duplicates: Vec<String>,
+    },
+    /// An electrode sits at the sphere centre, so it has no radial direction.
+    #[error("electrode {label} (index {index}) is at the sphere centre; it cannot be projected radially")]
+    AtCenter {
+        /// The label.
+        label: String,
+        /// 0-based index.
+        index: usize,
+    },
+    /// Too few points to fit a sphere.
+    #[error("sphere fit: {found} points, expected at least 4 not all on one plane")]
+    TooFewPoints {
+        /// Number of points given.
+        found: usize,
+    },
+    /// A point to fit has a NaN or infinite coordinate.
+    #[error("sphere fit: point {index} is {point:?}, expected finite coordinates")]
+    NotFinitePoint {
+        /// 0-based point index.
+        index: usize,
+        /// The point.
+        point: Vec3,
+    },
+    /// The points lie (numerically) on a plane or a line, so no sphere is determined.
+    #[error("sphere fit: the {found} points are (nearly) coplanar, expected points spread over a cap of a sphere")]
+    Degenerate {
+        /// Number of points given.
+        found: usize,
+    },
+}
+
+/// Distance beyond which [`project_to_sphere`](super::Montage::project_to_sphere) warns
+/// that an electrode moved: 10 mm (common practice, no source: about half the spacing of
+/// a 10-10 cap).
+pub const PROJECTION_WARNING_M: f64 = 0.010;
+
+/// An electrode that moved more than [`PROJECTION_WARNING_M`] when projected onto the
+/// scalp sphere.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ProjectionWarning {
+    /// 0-based electrode index.
+    pub index: usize,
+    /// The electrode label.
+    pub label: String,
+    /// How far it moved (m).
+    pub distance_m: f64,
+}
+
+impl std::fmt::Display for ProjectionWarning {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "electrode {} (index {}) moved {:.1} mm onto the scalp sphere (more than {:.0} mm)",
+            self.label,
+            self.index,
+            self.distance_m * 1e3,
+            PROJECTION_WARNING_M * 1e3
+        )
+    }
+}
