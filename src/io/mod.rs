@@ -5,6 +5,7 @@
 
 pub mod atomic;
 pub mod cache;
+pub mod electrodes;
 pub mod error;
 pub mod gifti;
 pub mod hdf5_backend;
@@ -13,6 +14,7 @@ pub mod off;
 pub mod ply;
 pub mod store;
 pub mod store_access;
+pub mod table;
 
 pub use error::IoError;
 pub use store::{Array, Attr, Dataset, Store};
