@@ -9,6 +9,7 @@ pub mod electrodes;
 pub mod error;
 pub mod gifti;
 pub mod hdf5_backend;
+pub mod leadfield_file;
 pub mod npy;
 pub mod off;
 pub mod ply;
