@@ -1,9 +1,20 @@
-//! Triangle meshes, icospheres, the template cortex and geodesic distances.
+//! Triangle meshes, icospheres, validity checks, connectivity, geodesic distances and seed sampling.
 //!
 //! Coordinates are metres inside the library. Files give millimetres.
 
+mod adjacency;
+mod geodesic;
 mod mesh;
+mod sampling;
 mod source_space;
+mod validate;
 
+pub use adjacency::Adjacency;
+pub use geodesic::{FrontShape, GeodesicScratch, GeodesicSolver, MAX_UNFOLD_STEPS};
 pub use mesh::{add, cross, dot, norm, normalize, scale, sub, Mesh, Vec3};
+pub use sampling::farthest_point_seeds;
 pub use source_space::SourceSpace;
+pub use validate::{
+    check_indices_and_coordinates, isolated_vertices, validate, ComponentReport, MeshError,
+    MeshReport, DEGENERATE_RATIO,
+};
