@@ -13,6 +13,8 @@
 #![deny(clippy::unwrap_used)]
 
 pub mod attribution;
+pub mod baseline;
+pub mod demo;
 pub mod dictionary;
 pub mod forward;
 pub mod geometry;
@@ -21,5 +23,3 @@ pub mod io;
 pub mod montage;
 pub mod patterns;
 pub mod solver;
-pub mod demo;
-pub mod baseline;

@@ -11,5 +11,7 @@
 mod shares;
 mod uncertainty;
 
-pub use shares::{attribute, Attribution, AttributionError, AttributionInput, ComponentAttribution};
+pub use shares::{
+    attribute, Attribution, AttributionError, AttributionInput, ComponentAttribution,
+};
 pub use uncertainty::{percentile, RegionInterval};

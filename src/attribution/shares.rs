@@ -131,11 +131,7 @@ pub fn attribute(input: &AttributionInput<'_>) -> Result<Attribution, Attributio
         let g = input.group[j];
         for (s, &p) in column.iter() {
             let r = input.source_region[s];
-            let slot = if r < 0 {
-                input.n_regions
-            } else {
-                r as usize
-            };
+            let slot = if r < 0 { input.n_regions } else { r as usize };
             group_region_mass[g][slot] += p.abs();
         }
     }

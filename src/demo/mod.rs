@@ -97,7 +97,12 @@ const GENERATORS: [(usize, &str, &str); 4] = [
     (2, "eye-artefact-like source", "right-frontal-pole"),
 ];
 
-fn region_seed(mesh: &Mesh, region: &[i32], names: &[String], name: &str) -> Result<usize, DemoError> {
+fn region_seed(
+    mesh: &Mesh,
+    region: &[i32],
+    names: &[String],
+    name: &str,
+) -> Result<usize, DemoError> {
     let r = names
         .iter()
         .position(|n| n == name)
@@ -206,7 +211,9 @@ pub fn build(
     for i in 0..n_channels {
         cov_reg[(i, i)] += eps;
     }
-    let llt = cov_reg.llt(Side::Lower).map_err(|_| DemoError::Covariance)?;
+    let llt = cov_reg
+        .llt(Side::Lower)
+        .map_err(|_| DemoError::Covariance)?;
     let a = Mat::<f64>::from_fn(n_channels, k, |i, c| patterns[i * k + c]);
     let sinv_a = llt.solve(&a);
     let gram = a.transpose() * &sinv_a;

@@ -43,7 +43,10 @@ impl LeadFieldFile {
 const MM: f64 = 1e3;
 
 fn points_mm(points: &[Vec3]) -> Vec<f64> {
-    points.iter().flat_map(|p| p.iter().map(|v| v * MM)).collect()
+    points
+        .iter()
+        .flat_map(|p| p.iter().map(|v| v * MM))
+        .collect()
 }
 
 fn points_from(values: &[f64], scale: f64) -> Vec<Vec3> {
@@ -69,7 +72,10 @@ pub fn insert_leadfield(store: &mut Store, lf: &LeadFieldFile) {
     );
     store.insert(
         "/sources/normals",
-        Dataset::f64(vec![n_src, 3], s.normals.iter().flatten().copied().collect()),
+        Dataset::f64(
+            vec![n_src, 3],
+            s.normals.iter().flatten().copied().collect(),
+        ),
     );
     store.insert(
         "/sources/areas_mm2",

@@ -22,12 +22,15 @@ struct Cli {
 enum Command {
     /// Standard electrode layouts: list, show, export.
     Montage(commands::montage::Args),
+    /// Validate a file and say what it holds.
+    Check(commands::check::Args),
 }
 
 fn main() {
     let cli = Cli::parse();
     let outcome = match cli.command {
         Command::Montage(args) => commands::montage::exec(args),
+        Command::Check(args) => commands::check::exec(args),
     };
     if let Err(err) = outcome {
         eprintln!("error: {err}");

@@ -1,3 +1,4 @@
 //! One file per subcommand: its arguments and an `exec` that calls the library.
 
+pub mod check;
 pub mod montage;
