@@ -4,4 +4,4 @@
 
 mod mesh;
 
-pub use mesh::{Mesh, Vec3};
+pub use mesh::{add, cross, dot, norm, normalize, scale, sub, Mesh, Vec3};
