@@ -208,10 +208,18 @@ fn chunk_columns(
     sources: &[Vec3],
     normals: &[Vec3],
     reference: Reference,
+    want_xyz: bool,
 ) -> Result<ChunkColumns, (usize, HeadError)> {
     let n_ch = directions.len();
     let mut normal = vec![0.0; sources.len() * n_ch];
-    let mut xyz = vec![0.0; sources.len() * n_ch * 3];
+    let mut xyz = vec![
+        0.0;
+        if want_xyz {
+            sources.len() * n_ch * 3
+        } else {
+            0
+        }
+    ];
     let mut column = vec![[0.0; 3]; n_ch];
     for (s, (source, unit)) in sources.iter().zip(normals).enumerate() {
         let expansion = head
@@ -234,7 +242,9 @@ fn chunk_columns(
         }
         for (ch, g) in column.iter().enumerate() {
             normal[s * n_ch + ch] = dot(*g, *unit);
-            xyz[(s * n_ch + ch) * 3..(s * n_ch + ch) * 3 + 3].copy_from_slice(g);
+            if want_xyz {
+                xyz[(s * n_ch + ch) * 3..(s * n_ch + ch) * 3 + 3].copy_from_slice(g);
+            }
         }
     }
     Ok(ChunkColumns { normal, xyz })
