@@ -90,6 +90,7 @@ pub fn lead_field(
                 &sources[start..end],
                 &normals[start..end],
                 reference,
+                want_xyz,
             )
             .map_err(|(offset, inner)| ForwardError::Head {
                 index: start + offset,
