@@ -1,0 +1,252 @@
+//! The lead field of a concentric-sphere head at a set of sources.
+
+use rayon::prelude::*;
+
+use crate::geometry::{dot, norm, Vec3};
+use crate::head::{HeadError, SeriesForm, SphereHead};
+
+use super::ForwardError;
+
+/// Sources per parallel work item. Each item is independent, so the result
+/// does not depend on how rayon schedules them.
+const CHUNK: usize = 64;
+
+/// How the sources are oriented.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Orientation {
+    /// Along the given normals only (`gain`).
+    Normal,
+    /// Also x, y, z (`gain_xyz`), as well as along the normals.
+    Free,
+}
+
+/// The reference of the lead-field rows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Reference {
+    /// Common average: every column has zero sum over the channels.
+    Average,
+    /// Potential against infinity (the model's own zero).
+    None,
+}
+
+/// Scalp potentials of unit dipoles: the lead field.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LeadField {
+    /// Number of channels (rows).
+    pub n_channels: usize,
+    /// Number of sources (columns).
+    pub n_sources: usize,
+    /// Row-major `n_channels × n_sources`, V/(A·m), dipoles along the normals.
+    pub gain: Vec<f64>,
+    /// Row-major `n_channels × n_sources × 3`, V/(A·m), dipoles along x, y, z;
+    /// present for [`Orientation::Free`].
+    pub gain_xyz: Option<Vec<f64>>,
+    /// The reference applied to every column.
+    pub reference: Reference,
+}
+
+/// One chunk's columns, source-major: `normal[s * n_ch + ch]`,
+/// `xyz[(s * n_ch + ch) * 3 + axis]`.
+struct ChunkColumns {
+    normal: Vec<f64>,
+    xyz: Vec<f64>,
+}
+
+/// Computes the lead field of `head` for dipoles at `sources` (m) with unit
+/// `normals`, measured at `electrodes` (m; projected radially onto the
+/// scalp sphere about its centre).
+///
+/// `progress` is called with the number of sources just finished, once per
+/// chunk of sources, from worker threads. Sources are processed in parallel
+/// (rayon), each independently, so the result is the same whatever the
+/// thread count.
+///
+/// Errors: fewer than 3 electrodes, no sources, a count mismatch between
+/// sources and normals, a non-finite coordinate, a normal whose length is
+/// not 1 within 1e-6, an electrode at the centre, a source not strictly
+/// inside the innermost sphere; each names the index.
+pub fn lead_field(
+    head: &SphereHead,
+    electrodes: &[Vec3],
+    sources: &[Vec3],
+    normals: &[Vec3],
+    orientation: Orientation,
+    reference: Reference,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<LeadField, ForwardError> {
+    let directions = validate(head, electrodes, sources, normals)?;
+    let n_ch = electrodes.len();
+    let n_src = sources.len();
+    let want_xyz = orientation == Orientation::Free;
+
+    let chunks: Vec<Result<ChunkColumns, ForwardError>> = (0..n_src.div_ceil(CHUNK))
+        .into_par_iter()
+        .map(|chunk| {
+            let start = chunk * CHUNK;
+            let end = (start + CHUNK).min(n_src);
+            let columns = chunk_columns(
+                head,
+                &directions,
+                &sources[start..end],
+                &normals[start..end],
+                reference,
+                want_xyz,
+            )
+            .map_err(|(offset, inner)| ForwardError::Head {
+                index: start + offset,
+                inner,
+            })?;
+            progress(end - start);
+            Ok(columns)
+        })
+        .collect();
+
+    let mut gain = vec![0.0; n_ch * n_src];
+    let mut gain_xyz = if want_xyz {
+        Some(vec![0.0; n_ch * n_src * 3])
+    } else {
+        None
+    };
+    for (chunk, columns) in chunks.into_iter().enumerate() {
+        let columns = columns?;
+        let start = chunk * CHUNK;
+        let count = columns.normal.len() / n_ch;
+        for s in 0..count {
+            for ch in 0..n_ch {
+                gain[ch * n_src + start + s] = columns.normal[s * n_ch + ch];
+            }
+            if let Some(xyz) = gain_xyz.as_mut() {
+                for ch in 0..n_ch {
+                    let to = (ch * n_src + start + s) * 3;
+                    let from = (s * n_ch + ch) * 3;
+                    xyz[to..to + 3].copy_from_slice(&columns.xyz[from..from + 3]);
+                }
+            }
+        }
+    }
+    Ok(LeadField {
+        n_channels: n_ch,
+        n_sources: n_src,
+        gain,
+        gain_xyz,
+        reference,
+    })
+}
+
+/// Checks every input and returns the electrodes' unit directions.
+fn validate(
+    head: &SphereHead,
+    electrodes: &[Vec3],
+    sources: &[Vec3],
+    normals: &[Vec3],
+) -> Result<Vec<Vec3>, ForwardError> {
+    if electrodes.len() < 3 {
+        return Err(ForwardError::TooFewElectrodes {
+            count: electrodes.len(),
+        });
+    }
+    if sources.is_empty() {
+        return Err(ForwardError::NoSources);
+    }
+    if normals.len() != sources.len() {
+        return Err(ForwardError::NormalCount {
+            sources: sources.len(),
+            normals: normals.len(),
+        });
+    }
+    let finite = |p: &Vec3| p.iter().all(|v| v.is_finite());
+    let mut directions = Vec::with_capacity(electrodes.len());
+    for (index, e) in electrodes.iter().enumerate() {
+        if !finite(e) {
+            return Err(ForwardError::NotFinite {
+                what: "electrode",
+                index,
+            });
+        }
+        directions.push(
+            head.electrode_direction(*e)
+                .map_err(|_| ForwardError::ElectrodeAtCenter { index })?,
+        );
+    }
+    let center = head.center();
+    let inner = head.inner_radius();
+    for (index, s) in sources.iter().enumerate() {
+        if !finite(s) {
+            return Err(ForwardError::NotFinite {
+                what: "source",
+                index,
+            });
+        }
+        let distance = norm([s[0] - center[0], s[1] - center[1], s[2] - center[2]]);
+        if distance >= inner {
+            return Err(ForwardError::SourceOutside {
+                index,
+                distance_mm: distance * 1e3,
+                inner_radius_mm: inner * 1e3,
+            });
+        }
+    }
+    for (index, n) in normals.iter().enumerate() {
+        if !finite(n) {
+            return Err(ForwardError::NotFinite {
+                what: "normal",
+                index,
+            });
+        }
+        let length = norm(*n);
+        if (length - 1.0).abs() > 1e-6 {
+            return Err(ForwardError::NormalNotUnit { index, length });
+        }
+    }
+    Ok(directions)
+}
+
+/// The columns of one chunk of sources; an error carries the offset of the
+/// source within the chunk.
+fn chunk_columns(
+    head: &SphereHead,
+    directions: &[Vec3],
+    sources: &[Vec3],
+    normals: &[Vec3],
+    reference: Reference,
+    want_xyz: bool,
+) -> Result<ChunkColumns, (usize, HeadError)> {
+    let n_ch = directions.len();
+    let mut normal = vec![0.0; sources.len() * n_ch];
+    let mut xyz = vec![
+        0.0;
+        if want_xyz {
+            sources.len() * n_ch * 3
+        } else {
+            0
+        }
+    ];
+    let mut column = vec![[0.0; 3]; n_ch];
+    for (s, (source, unit)) in sources.iter().zip(normals).enumerate() {
+        let expansion = head
+            .expansion(*source, SeriesForm::Accelerated)
+            .map_err(|e| (s, e))?;
+        expansion.gain_xyz(head, directions, &mut column);
+        if reference == Reference::Average {
+            // The mean is summed in channel order, the same on every thread.
+            let mut mean = [0.0; 3];
+            for g in &column {
+                for axis in 0..3 {
+                    mean[axis] += g[axis];
+                }
+            }
+            for g in column.iter_mut() {
+                for axis in 0..3 {
+                    g[axis] -= mean[axis] / n_ch as f64;
+                }
+            }
+        }
+        for (ch, g) in column.iter().enumerate() {
+            normal[s * n_ch + ch] = dot(*g, *unit);
+            if want_xyz {
+                xyz[(s * n_ch + ch) * 3..(s * n_ch + ch) * 3 + 3].copy_from_slice(g);
+            }
+        }
+    }
+    Ok(ChunkColumns { normal, xyz })
+}

@@ -1,0 +1,106 @@
+//! The error type of the head models.
+
+use thiserror::Error;
+
+/// What can go wrong when building a head model or evaluating its potential.
+#[derive(Debug, Error, Clone, PartialEq)]
+#[non_exhaustive]
+pub enum HeadError {
+    /// The number of shells is outside 1..=4.
+    #[error("a sphere head needs 1 to 4 shells, got {count}")]
+    ShellCount {
+        /// Shells given.
+        count: usize,
+    },
+    /// Radii and conductivities differ in length.
+    #[error("{radii} radii but {conductivities} conductivities: give one conductivity per shell")]
+    LengthMismatch {
+        /// Number of radii.
+        radii: usize,
+        /// Number of conductivities.
+        conductivities: usize,
+    },
+    /// A radius is not a positive finite number.
+    #[error("radius {index} is {value} m: expected a positive finite number")]
+    RadiusNotPositive {
+        /// Shell index (0 = innermost).
+        index: usize,
+        /// The value given (m).
+        value: f64,
+    },
+    /// A radius is not larger than the one inside it.
+    #[error("radius {index} ({value} m) must be larger than radius {previous_index} ({previous} m): radii go innermost first, strictly increasing")]
+    RadiusNotIncreasing {
+        /// Shell index (0 = innermost).
+        index: usize,
+        /// The value given (m).
+        value: f64,
+        /// Index of the shell inside it.
+        previous_index: usize,
+        /// Radius of the shell inside it (m).
+        previous: f64,
+    },
+    /// A conductivity is not a positive finite number.
+    #[error("conductivity {index} is {value} S/m: expected a positive finite number")]
+    ConductivityNotPositive {
+        /// Shell index (0 = innermost).
+        index: usize,
+        /// The value given (S/m).
+        value: f64,
+    },
+    /// A centre coordinate is not finite.
+    #[error("centre coordinate {axis} is {value}: expected a finite number")]
+    CenterNotFinite {
+        /// 0 = x, 1 = y, 2 = z.
+        axis: usize,
+        /// The value given.
+        value: f64,
+    },
+    /// A head file could not be parsed.
+    #[error("{source_name}: {message}")]
+    Parse {
+        /// The file or string the text came from.
+        source_name: String,
+        /// What the parser said (with line and column where it knows them).
+        message: String,
+    },
+    /// A head file parsed but its values are invalid.
+    #[error("{source_name}: {inner}")]
+    InvalidSpec {
+        /// The file or string the text came from.
+        source_name: String,
+        /// What is wrong with the values.
+        inner: Box<HeadError>,
+    },
+    /// The dipole is not strictly inside the innermost sphere.
+    #[error("source at {distance} m from the centre is not inside the inner sphere (radius {inner_radius} m)")]
+    SourceOutside {
+        /// Distance of the source from the centre (m).
+        distance: f64,
+        /// Radius of the innermost sphere (m).
+        inner_radius: f64,
+    },
+    /// A point given to the model is not finite.
+    #[error("{what} has a non-finite coordinate")]
+    NotFinite {
+        /// Which point ("source", "electrode" or "moment").
+        what: &'static str,
+    },
+    /// An electrode sits at the centre and cannot be projected onto the scalp.
+    #[error("electrode at the sphere centre cannot be projected radially onto the scalp")]
+    ElectrodeAtCenter,
+    /// The series would need more terms than the precomputed table holds.
+    #[error("the series needs more than {limit} terms for a source at eccentricity {eccentricity} of the outer radius")]
+    SeriesTooLong {
+        /// The table length.
+        limit: usize,
+        /// |source - centre| / outer radius.
+        eccentricity: f64,
+    },
+    /// A series order was asked for that is not >= 1.
+    #[error("series order {order} is not valid: orders start at 1")]
+    OrderOutOfRange {
+        /// The order asked for.
+        order: usize,
+    },
+}

@@ -1,0 +1,104 @@
+//! The file form of a head model: TOML head files and the JSON `head_model`
+//! attribute, in millimetres.
+
+use serde::{Deserialize, Serialize};
+
+use super::{HeadError, SphereHead};
+
+/// Which conductor model a head file describes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+#[non_exhaustive]
+pub enum HeadModelKind {
+    /// Concentric spheres ([`SphereHead`]).
+    Spheres,
+}
+
+/// A head as written in files: `model = "spheres"`, `radii_mm`, `conductivities`
+/// (S/m), optional `center_mm` (default the origin). Unknown keys are an error.
+///
+/// TOML example:
+/// ```toml
+/// model = "spheres"
+/// center_mm = [0.0, 0.0, 0.0]
+/// radii_mm = [81.0, 83.0, 88.0, 94.0]
+/// conductivities = [0.47, 1.79, 0.02, 0.41]
+/// ```
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct HeadSpec {
+    /// The model kind.
+    pub model: HeadModelKind,
+    /// Shell radii (mm), innermost first.
+    pub radii_mm: Vec<f64>,
+    /// Shell conductivities (S/m), innermost first.
+    pub conductivities: Vec<f64>,
+    /// Centre (mm); the origin when absent.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub center_mm: Option<[f64; 3]>,
+}
+
+impl HeadSpec {
+    /// Parses and validates a TOML head file; `source_name` (a path or a
+    /// label) is put in front of every error message.
+    pub fn from_toml_str(text: &str, source_name: &str) -> Result<Self, HeadError> {
+        let spec: HeadSpec = toml::from_str(text).map_err(|e| HeadError::Parse {
+            source_name: source_name.to_string(),
+            message: e.to_string(),
+        })?;
+        spec.validated(source_name)
+    }
+
+    /// Parses and validates the JSON form (the `head_model` attribute).
+    pub fn from_json_str(text: &str, source_name: &str) -> Result<Self, HeadError> {
+        let spec: HeadSpec = serde_json::from_str(text).map_err(|e| HeadError::Parse {
+            source_name: source_name.to_string(),
+            message: e.to_string(),
+        })?;
+        spec.validated(source_name)
+    }
+
+    fn validated(self, source_name: &str) -> Result<Self, HeadError> {
+        self.to_head().map_err(|inner| HeadError::InvalidSpec {
+            source_name: source_name.to_string(),
+            inner: Box::new(inner),
+        })?;
+        Ok(self)
+    }
+
+    /// Builds the model (metres inside), checking every value.
+    pub fn to_head(&self) -> Result<SphereHead, HeadError> {
+        match self.model {
+            HeadModelKind::Spheres => {
+                let center = self.center_mm.unwrap_or([0.0; 3]).map(|v| v * 1e-3);
+                let radii = self.radii_mm.iter().map(|v| v * 1e-3).collect();
+                SphereHead::new(center, radii, self.conductivities.clone())
+            }
+        }
+    }
+
+    /// The JSON string for the `head_model` attribute:
+    /// `{"model":"spheres","radii_mm":[...],"conductivities":[...],"center_mm":[...]}`.
+    pub fn to_json(&self) -> String {
+        // Serialising plain numbers and strings cannot fail; fall back to an
+        // empty object rather than panic all the same.
+        serde_json::to_string(self).unwrap_or_else(|_| String::from("{}"))
+    }
+}
+
+impl SphereHead {
+    /// The file form of this head (millimetres; the centre always written).
+    pub fn to_spec(&self) -> HeadSpec {
+        HeadSpec {
+            model: HeadModelKind::Spheres,
+            radii_mm: self.radii().iter().map(|v| v * 1e3).collect(),
+            conductivities: self.conductivities().to_vec(),
+            center_mm: Some(self.center().map(|v| v * 1e3)),
+        }
+    }
+
+    /// The JSON `head_model` attribute of this head; see [`HeadSpec::to_json`].
+    pub fn head_model_json(&self) -> String {
+        self.to_spec().to_json()
+    }
+}
