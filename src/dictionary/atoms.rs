@@ -115,9 +115,13 @@ pub(crate) fn max_finite(norms: &[f64]) -> f64 {
         .fold(0.0, f64::max)
 }
 
+/// Rows per block of the transposition: one 64-byte cache line of a
+/// column-major atom is read once and spread over this many output rows.
+const ROW_BLOCK: usize = 8;
+
 /// Row-major `n_ch × keep.len()` matrix whose column `jn` is column
 /// `keep[jn]` of the column-major `columns`, divided by its norm (or left at
-/// zero where `norms[keep[jn]]` is 0). Parallel over rows.
+/// zero where `norms[keep[jn]]` is 0). Parallel over blocks of rows.
 pub(crate) fn normalised_row_major(
     columns: &[f64],
     norms: &[f64],
@@ -129,13 +133,20 @@ pub(crate) fn normalised_row_major(
     if n_out == 0 {
         return out;
     }
-    out.par_chunks_mut(n_out).enumerate().for_each(|(i, row)| {
-        for (value, &j) in row.iter_mut().zip(keep) {
-            if norms[j] > 0.0 {
-                *value = columns[j * n_ch + i] / norms[j];
+    out.par_chunks_mut(ROW_BLOCK * n_out)
+        .enumerate()
+        .for_each(|(block, rows)| {
+            let first_row = block * ROW_BLOCK;
+            let n_rows = rows.len() / n_out;
+            for (jn, &j) in keep.iter().enumerate() {
+                if norms[j] > 0.0 {
+                    let source = &columns[j * n_ch + first_row..j * n_ch + first_row + n_rows];
+                    for (r, &value) in source.iter().enumerate() {
+                        rows[r * n_out + jn] = value / norms[j];
+                    }
+                }
             }
-        }
-    });
+        });
     out
 }
 

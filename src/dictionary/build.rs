@@ -139,11 +139,18 @@ pub fn build_dictionary(
 
     // All candidate atoms, in dictionary order.
     let n_radii = params.radii_m.len();
-    let mut indptr = vec![0usize];
-    let mut indices = Vec::new();
-    let mut data = Vec::new();
-    let mut component = Vec::new();
-    let mut patch_of_atom = Vec::new();
+    let n_candidates = seeds.len() * n_radii * components.len();
+    let nnz: usize = patches
+        .iter()
+        .flatten()
+        .map(|column| column.indices.len() * components.len())
+        .sum();
+    let mut indptr = Vec::with_capacity(n_candidates + 1);
+    indptr.push(0usize);
+    let mut indices = Vec::with_capacity(nnz);
+    let mut data = Vec::with_capacity(nnz);
+    let mut component = Vec::with_capacity(n_candidates);
+    let mut patch_of_atom = Vec::with_capacity(n_candidates);
     let mut area_sum = vec![0.0; n_radii];
     let mut sources_sum = vec![0.0; n_radii];
     for (s, columns) in patches.iter().enumerate() {
@@ -205,15 +212,20 @@ pub fn build_dictionary(
     let atoms = normalised_row_major(&columns, &norms, &keep, n_channels);
     drop(columns);
 
-    let mut kept_indptr = Vec::with_capacity(keep.len() + 1);
-    kept_indptr.push(0);
-    let mut kept_indices = Vec::new();
-    let mut kept_data = Vec::new();
-    for &j in &keep {
-        kept_indices.extend_from_slice(&indices[indptr[j]..indptr[j + 1]]);
-        kept_data.extend_from_slice(&data[indptr[j]..indptr[j + 1]]);
-        kept_indptr.push(kept_indices.len());
-    }
+    let (kept_indptr, kept_indices, kept_data) = if dropped.is_empty() {
+        (indptr, indices, data)
+    } else {
+        let mut kept_indptr = Vec::with_capacity(keep.len() + 1);
+        kept_indptr.push(0);
+        let mut kept_indices = Vec::new();
+        let mut kept_data = Vec::new();
+        for &j in &keep {
+            kept_indices.extend_from_slice(&indices[indptr[j]..indptr[j + 1]]);
+            kept_data.extend_from_slice(&data[indptr[j]..indptr[j + 1]]);
+            kept_indptr.push(kept_indices.len());
+        }
+        (kept_indptr, kept_indices, kept_data)
+    };
     let profile_nnz = kept_data.len();
     let profile = CsMat::try_new_csc((n_src, keep.len()), kept_indptr, kept_indices, kept_data)
         .map_err(|(_, _, _, e)| {

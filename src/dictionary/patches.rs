@@ -116,9 +116,10 @@ fn patch_column(
     radius: f64,
     profile: Profile,
 ) -> PatchColumn {
+    let within = neighbours.iter().filter(|&&(_, d)| d <= radius).count();
     let mut column = PatchColumn {
-        indices: Vec::new(),
-        weights: Vec::new(),
+        indices: Vec::with_capacity(within),
+        weights: Vec::with_capacity(within),
         area_m2: 0.0,
     };
     for &(vertex, distance) in neighbours {
