@@ -5,6 +5,7 @@
 
 pub mod atomic;
 pub mod cache;
+pub mod dictionary_file;
 pub mod electrodes;
 pub mod error;
 pub mod gifti;
