@@ -47,7 +47,9 @@ pub(crate) fn lipschitz(dict: &DenseDictionary) -> f64 {
     let m = dict.n_atoms();
     let n = dict.n_channels();
     let frobenius_sq = norm_sq(dict.as_column_major());
-    let mut v: Vec<f64> = (0..m).map(|j| 1.0 + 0.5 * ((j as f64) * 0.7).sin()).collect();
+    let mut v: Vec<f64> = (0..m)
+        .map(|j| 1.0 + 0.5 * ((j as f64) * 0.7).sin())
+        .collect();
     let mut u = vec![0.0; n];
     let mut estimate = 0.0;
     for _ in 0..300 {
@@ -65,7 +67,9 @@ pub(crate) fn lipschitz(dict: &DenseDictionary) -> f64 {
             break;
         }
     }
-    (LIPSCHITZ_MARGIN * estimate).min(frobenius_sq).max(f64::MIN_POSITIVE)
+    (LIPSCHITZ_MARGIN * estimate)
+        .min(frobenius_sq)
+        .max(f64::MIN_POSITIVE)
 }
 
 /// Block soft-thresholding of every group of `v` in place:

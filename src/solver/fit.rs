@@ -30,7 +30,11 @@ pub struct Fit {
 
 impl Fit {
     /// Builds the residual and explained variance of `coefficients`.
-    pub(crate) fn from_coefficients(dict: &DenseDictionary, y: &Targets, coefficients: Vec<f64>) -> Self {
+    pub(crate) fn from_coefficients(
+        dict: &DenseDictionary,
+        y: &Targets,
+        coefficients: Vec<f64>,
+    ) -> Self {
         let n = dict.n_channels();
         let mut resid = vec![0.0; n * y.k];
         dict.apply_into(&coefficients, y.k, &mut resid);
@@ -118,7 +122,10 @@ pub fn fit_separately(
     let prep = Prepared::new(dict, groups)?;
     let all = Targets::from_row_major(dict.n_channels(), k, y)?;
     let n = dict.n_channels();
-    observer.observe_init("fit_separately", &[("k", k as f64), ("n_atoms", dict.n_atoms() as f64)]);
+    observer.observe_init(
+        "fit_separately",
+        &[("k", k as f64), ("n_atoms", dict.n_atoms() as f64)],
+    );
     let results: Vec<Result<(Fit, Info), SolverError>> = (0..k)
         .into_par_iter()
         .map(|c| {

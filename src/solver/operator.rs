@@ -53,7 +53,12 @@ impl DenseDictionary {
         n_atoms: usize,
         values: &[f64],
     ) -> Result<Self, SolverError> {
-        Self::check_dims(n_channels, n_atoms, values.len(), "n_ch x n_atoms, row-major")?;
+        Self::check_dims(
+            n_channels,
+            n_atoms,
+            values.len(),
+            "n_ch x n_atoms, row-major",
+        )?;
         check_finite_row_major("dictionary atoms", values, n_atoms)?;
         let mut atoms = vec![0.0; n_channels * n_atoms];
         // One transpose here lets every later pass read each atom contiguously.
@@ -76,7 +81,12 @@ impl DenseDictionary {
         n_atoms: usize,
         atoms: Vec<f64>,
     ) -> Result<Self, SolverError> {
-        Self::check_dims(n_channels, n_atoms, atoms.len(), "n_ch x n_atoms, column-major")?;
+        Self::check_dims(
+            n_channels,
+            n_atoms,
+            atoms.len(),
+            "n_ch x n_atoms, column-major",
+        )?;
         if let Some(i) = atoms.iter().position(|v| !v.is_finite()) {
             return Err(SolverError::NonFinite {
                 what: "dictionary atoms",
@@ -168,7 +178,9 @@ impl DenseDictionary {
             }
         };
         if atoms.len() * k >= PARALLEL_MIN_WORK {
-            out.par_chunks_mut(ATOM_CHUNK * k).enumerate().for_each(work);
+            out.par_chunks_mut(ATOM_CHUNK * k)
+                .enumerate()
+                .for_each(work);
         } else {
             out.chunks_mut(ATOM_CHUNK * k).enumerate().for_each(work);
         }
@@ -216,7 +228,12 @@ impl LinearOperator for DenseDictionary {
 
     fn apply(&self, x: &[f64], k: usize, out: &mut [f64]) -> Result<(), SolverError> {
         self.check_block(k, self.n_atoms, "x (n_atoms x k, row-major)", x.len())?;
-        self.check_block(k, self.n_channels, "out (n_ch x k, column-major)", out.len())?;
+        self.check_block(
+            k,
+            self.n_channels,
+            "out (n_ch x k, column-major)",
+            out.len(),
+        )?;
         self.apply_into(x, k, out);
         Ok(())
     }

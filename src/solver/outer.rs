@@ -71,7 +71,16 @@ pub(crate) fn solve(
     let mut outer = 0;
     let mut last_ws = 0;
     loop {
-        cert.compute(dict, n_groups, |g| groups.atoms(g), &y.cols, y.half_sq, k, lambda, x);
+        cert.compute(
+            dict,
+            n_groups,
+            |g| groups.atoms(g),
+            &y.cols,
+            y.half_sq,
+            k,
+            lambda,
+            x,
+        );
         outer += 1;
         let n_screened = screened.iter().filter(|&&s| s).count();
         observer.observe_iter(&[

@@ -29,7 +29,9 @@ impl PathSpec {
         match self {
             PathSpec::Ratios(r) => {
                 if r.is_empty() {
-                    return Err(SolverError::EmptyDimension { what: "path ratios" });
+                    return Err(SolverError::EmptyDimension {
+                        what: "path ratios",
+                    });
                 }
                 for &v in r {
                     if !(v.is_finite() && v > 0.0 && v <= 1.0) {
@@ -151,7 +153,15 @@ pub fn path(
     let mut points = Vec::with_capacity(ratios.len());
     for (index, &ratio) in ratios.iter().enumerate() {
         let lambda = ratio * lmax;
-        let info = solve(&prep, &targets, lambda, lmax, params, &mut x, &mut NoObserver)?;
+        let info = solve(
+            &prep,
+            &targets,
+            lambda,
+            lmax,
+            params,
+            &mut x,
+            &mut NoObserver,
+        )?;
         let fit = Fit::from_coefficients(dict, &targets, x.clone());
         let total = if targets.half_sq > 0.0 {
             let r2: f64 = fit.residual.iter().map(|v| v * v).sum();

@@ -57,7 +57,9 @@ pub fn refit(
     let mut x = vec![0.0; dict.n_atoms() * k];
     let mut ridge = 0.0;
     if s > 0 {
-        let gram = Mat::<f64>::from_fn(s, s, |a, b| dot(dict.atom(support[a]), dict.atom(support[b])));
+        let gram = Mat::<f64>::from_fn(s, s, |a, b| {
+            dot(dict.atom(support[a]), dict.atom(support[b]))
+        });
         let rhs = Mat::<f64>::from_fn(s, k, |a, c| {
             dot(dict.atom(support[a]), &targets.cols[c * n..(c + 1) * n])
         });

@@ -57,7 +57,13 @@ pub fn random_dictionary(rng: &mut Rng, n_ch: usize, n_atoms: usize, rho: f64) -
 }
 
 /// Row-major n_ch x k patterns from a few atoms plus noise.
-pub fn random_targets(rng: &mut Rng, dict: &DenseDictionary, k: usize, n_true: usize, noise: f64) -> Vec<f64> {
+pub fn random_targets(
+    rng: &mut Rng,
+    dict: &DenseDictionary,
+    k: usize,
+    n_true: usize,
+    noise: f64,
+) -> Vec<f64> {
     let n_ch = dict.n_channels();
     let mut y = vec![0.0; n_ch * k];
     for _ in 0..n_true {
