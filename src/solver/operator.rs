@@ -1,0 +1,247 @@
+//! The linear-operator trait and the dense dictionary that stores atoms contiguously.
+
+use rayon::prelude::*;
+
+use super::error::{check_finite_row_major, check_len, SolverError};
+use super::kernels::{axpy, dot, norm_sq};
+
+/// A linear map `A` (n_rows x n_cols) applied into caller-provided buffers.
+///
+/// Blocks of `k` vectors use the layouts of the fit: on the channel side
+/// (`n_rows x k`) the `k` columns are each contiguous (column-major), on the
+/// coefficient side (`n_cols x k`) the rows are contiguous (row-major, the
+/// layout of `/fit/coefficients`). For `k = 1` both are plain vectors. The
+/// dense implementation needs no workspace, so there is no scratch size.
+pub trait LinearOperator: Sync {
+    /// Number of rows (channels).
+    fn n_rows(&self) -> usize;
+    /// Number of columns (atoms).
+    fn n_cols(&self) -> usize;
+    /// `out = A x`: `x` is `n_cols x k` row-major, `out` is `n_rows x k`
+    /// column-major and is overwritten.
+    fn apply(&self, x: &[f64], k: usize, out: &mut [f64]) -> Result<(), SolverError>;
+    /// `out = Aᵀ r`: `r` is `n_rows x k` column-major, `out` is `n_cols x k`
+    /// row-major and is overwritten.
+    fn adjoint_apply(&self, r: &[f64], k: usize, out: &mut [f64]) -> Result<(), SolverError>;
+}
+
+/// Atoms per parallel task in [`DenseDictionary::adjoint_apply`]. The chunking
+/// is fixed, and each output is one atom's own dot product, so the result does
+/// not depend on the number of threads.
+const ATOM_CHUNK: usize = 256;
+
+/// Below this many matrix entries times `k`, the adjoint runs on one thread.
+const PARALLEL_MIN_WORK: usize = 1 << 17;
+
+/// A dense dictionary: `n_ch x n_atoms`, stored column-major so that atom `j`
+/// is the contiguous slice `atoms[j * n_ch..(j + 1) * n_ch]`.
+///
+/// Columns are accepted as given (the dictionary stage scales them to unit
+/// norm; the solver does not assume it).
+#[derive(Debug, Clone, PartialEq)]
+pub struct DenseDictionary {
+    n_channels: usize,
+    n_atoms: usize,
+    atoms: Vec<f64>,
+}
+
+impl DenseDictionary {
+    /// Builds the dictionary from the row-major `n_ch x n_atoms` layout of
+    /// `/dictionary/atoms` (entry `(c, j)` at `c * n_atoms + j`).
+    pub fn from_row_major(
+        n_channels: usize,
+        n_atoms: usize,
+        values: &[f64],
+    ) -> Result<Self, SolverError> {
+        Self::check_dims(
+            n_channels,
+            n_atoms,
+            values.len(),
+            "n_ch x n_atoms, row-major",
+        )?;
+        check_finite_row_major("dictionary atoms", values, n_atoms)?;
+        let mut atoms = vec![0.0; n_channels * n_atoms];
+        // One transpose here lets every later pass read each atom contiguously.
+        for (c, row) in values.chunks_exact(n_atoms).enumerate() {
+            for (j, &v) in row.iter().enumerate() {
+                atoms[j * n_channels + c] = v;
+            }
+        }
+        Ok(Self {
+            n_channels,
+            n_atoms,
+            atoms,
+        })
+    }
+
+    /// Builds the dictionary from atoms already stored one after another
+    /// (column-major `n_ch x n_atoms`).
+    pub fn from_column_major(
+        n_channels: usize,
+        n_atoms: usize,
+        atoms: Vec<f64>,
+    ) -> Result<Self, SolverError> {
+        Self::check_dims(
+            n_channels,
+            n_atoms,
+            atoms.len(),
+            "n_ch x n_atoms, column-major",
+        )?;
+        if let Some(i) = atoms.iter().position(|v| !v.is_finite()) {
+            return Err(SolverError::NonFinite {
+                what: "dictionary atoms",
+                row: i % n_channels,
+                column: i / n_channels,
+                value: atoms[i],
+            });
+        }
+        Ok(Self {
+            n_channels,
+            n_atoms,
+            atoms,
+        })
+    }
+
+    fn check_dims(
+        n_channels: usize,
+        n_atoms: usize,
+        got: usize,
+        layout: &'static str,
+    ) -> Result<(), SolverError> {
+        if n_channels == 0 {
+            return Err(SolverError::EmptyDimension { what: "n_ch" });
+        }
+        if n_atoms == 0 {
+            return Err(SolverError::EmptyDimension { what: "n_atoms" });
+        }
+        check_len(
+            "dictionary atoms",
+            || format!("{n_channels} x {n_atoms}, {layout}"),
+            n_channels * n_atoms,
+            got,
+        )
+    }
+
+    /// Number of channels (rows).
+    pub fn n_channels(&self) -> usize {
+        self.n_channels
+    }
+
+    /// Number of atoms (columns).
+    pub fn n_atoms(&self) -> usize {
+        self.n_atoms
+    }
+
+    /// Atom `j` as a contiguous slice of `n_ch` values (panics if `j` is out of range).
+    pub fn atom(&self, j: usize) -> &[f64] {
+        &self.atoms[j * self.n_channels..(j + 1) * self.n_channels]
+    }
+
+    /// All atoms, column-major.
+    pub fn as_column_major(&self) -> &[f64] {
+        &self.atoms
+    }
+
+    /// The 2-norm of every atom.
+    pub fn atom_norms(&self) -> Vec<f64> {
+        self.atoms
+            .chunks_exact(self.n_channels)
+            .map(|a| norm_sq(a).sqrt())
+            .collect()
+    }
+
+    /// Copies the atoms `indices` (in that order) into a new dictionary.
+    pub(crate) fn select(&self, indices: &[usize]) -> DenseDictionary {
+        let mut atoms = Vec::with_capacity(indices.len() * self.n_channels);
+        for &j in indices {
+            atoms.extend_from_slice(self.atom(j));
+        }
+        DenseDictionary {
+            n_channels: self.n_channels,
+            n_atoms: indices.len(),
+            atoms,
+        }
+    }
+
+    /// `out = Dᵀ r` without shape checks (the hot loop of the solver).
+    pub(crate) fn adjoint_into(&self, r: &[f64], k: usize, out: &mut [f64]) {
+        let n = self.n_channels;
+        let atoms = &self.atoms;
+        let work = |(chunk, out_chunk): (usize, &mut [f64])| {
+            let j0 = chunk * ATOM_CHUNK;
+            for (jj, out_row) in out_chunk.chunks_exact_mut(k).enumerate() {
+                let j = j0 + jj;
+                let atom = &atoms[j * n..(j + 1) * n];
+                for (c, o) in out_row.iter_mut().enumerate() {
+                    *o = dot(atom, &r[c * n..(c + 1) * n]);
+                }
+            }
+        };
+        if atoms.len() * k >= PARALLEL_MIN_WORK {
+            out.par_chunks_mut(ATOM_CHUNK * k)
+                .enumerate()
+                .for_each(work);
+        } else {
+            out.chunks_mut(ATOM_CHUNK * k).enumerate().for_each(work);
+        }
+    }
+
+    /// `out = D x` without shape checks; skips zero rows of `x`.
+    pub(crate) fn apply_into(&self, x: &[f64], k: usize, out: &mut [f64]) {
+        let n = self.n_channels;
+        out.fill(0.0);
+        for (j, row) in x.chunks_exact(k).enumerate() {
+            if row.iter().all(|&v| v == 0.0) {
+                continue;
+            }
+            let atom = self.atom(j);
+            for (c, &v) in row.iter().enumerate() {
+                if v != 0.0 {
+                    axpy(v, atom, &mut out[c * n..(c + 1) * n]);
+                }
+            }
+        }
+    }
+
+    fn check_block(
+        &self,
+        k: usize,
+        side_len: usize,
+        what: &'static str,
+        got: usize,
+    ) -> Result<(), SolverError> {
+        if k == 0 {
+            return Err(SolverError::EmptyDimension { what: "k" });
+        }
+        check_len(what, || format!("{side_len} x {k}"), side_len * k, got)
+    }
+}
+
+impl LinearOperator for DenseDictionary {
+    fn n_rows(&self) -> usize {
+        self.n_channels
+    }
+
+    fn n_cols(&self) -> usize {
+        self.n_atoms
+    }
+
+    fn apply(&self, x: &[f64], k: usize, out: &mut [f64]) -> Result<(), SolverError> {
+        self.check_block(k, self.n_atoms, "x (n_atoms x k, row-major)", x.len())?;
+        self.check_block(
+            k,
+            self.n_channels,
+            "out (n_ch x k, column-major)",
+            out.len(),
+        )?;
+        self.apply_into(x, k, out);
+        Ok(())
+    }
+
+    fn adjoint_apply(&self, r: &[f64], k: usize, out: &mut [f64]) -> Result<(), SolverError> {
+        self.check_block(k, self.n_channels, "r (n_ch x k, column-major)", r.len())?;
+        self.check_block(k, self.n_atoms, "out (n_atoms x k, row-major)", out.len())?;
+        self.adjoint_into(r, k, out);
+        Ok(())
+    }
+}
