@@ -7,7 +7,10 @@ use patchwise::geometry::Mesh;
 use patchwise::head::SphereHead;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
-fn setup() -> (SphereHead, Vec<[f64; 3]>, Vec<[f64; 3]>, Vec<[f64; 3]>) {
+/// Head, electrodes, sources and normals of the checks.
+type Setup = (SphereHead, Vec<[f64; 3]>, Vec<[f64; 3]>, Vec<[f64; 3]>);
+
+fn setup() -> Setup {
     let head = SphereHead::default_adult();
     // Electrodes: the upper half of a level-2 icosphere, a little off the
     // scalp so the radial projection is exercised.

@@ -1,6 +1,8 @@
 //! Checks of the concentric-sphere series against closed forms and an
 //! independent per-order solve of the boundary conditions.
 #![allow(clippy::unwrap_used)]
+// Series orders and matrix indices are the mathematics here; index loops read best.
+#![allow(clippy::needless_range_loop)]
 
 use patchwise::geometry::Mesh;
 use patchwise::head::SphereHead;

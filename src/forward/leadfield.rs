@@ -45,13 +45,6 @@ pub struct LeadField {
     pub reference: Reference,
 }
 
-/// One chunk's columns, source-major: `normal[s * n_ch + ch]`,
-/// `xyz[(s * n_ch + ch) * 3 + axis]`.
-struct ChunkColumns {
-    normal: Vec<f64>,
-    xyz: Vec<f64>,
-}
-
 /// Computes the lead field of `head` for dipoles at `sources` (m) with unit
 /// `normals`, measured at `electrodes` (m; projected radially onto the
 /// scalp sphere about its centre).
@@ -79,50 +72,61 @@ pub fn lead_field(
     let n_src = sources.len();
     let want_xyz = orientation == Orientation::Free;
 
-    let chunks: Vec<Result<ChunkColumns, ForwardError>> = (0..n_src.div_ceil(CHUNK))
-        .into_par_iter()
-        .map(|chunk| {
-            let start = chunk * CHUNK;
-            let end = (start + CHUNK).min(n_src);
-            let columns = chunk_columns(
-                head,
-                &directions,
-                &sources[start..end],
-                &normals[start..end],
-                reference,
-                want_xyz,
-            )
-            .map_err(|(offset, inner)| ForwardError::Head {
-                index: start + offset,
-                inner,
-            })?;
-            progress(end - start);
-            Ok(columns)
-        })
-        .collect();
-
+    let n_chunks = n_src.div_ceil(CHUNK);
     let mut gain = vec![0.0; n_ch * n_src];
     let mut gain_xyz = if want_xyz {
         Some(vec![0.0; n_ch * n_src * 3])
     } else {
         None
     };
-    for (chunk, columns) in chunks.into_iter().enumerate() {
-        let columns = columns?;
-        let start = chunk * CHUNK;
-        let count = columns.normal.len() / n_ch;
-        for s in 0..count {
-            for ch in 0..n_ch {
-                gain[ch * n_src + start + s] = columns.normal[s * n_ch + ch];
-            }
-            if let Some(xyz) = gain_xyz.as_mut() {
-                for ch in 0..n_ch {
-                    let to = (ch * n_src + start + s) * 3;
-                    let from = (s * n_ch + ch) * 3;
-                    xyz[to..to + 3].copy_from_slice(&columns.xyz[from..from + 3]);
-                }
+    // Split the row-major outputs into, per chunk of sources, one contiguous
+    // piece of every channel row, so each parallel task writes its own
+    // columns in place.
+    let mut gain_parts: Vec<Vec<&mut [f64]>> =
+        (0..n_chunks).map(|_| Vec::with_capacity(n_ch)).collect();
+    for row in gain.chunks_mut(n_src) {
+        for (chunk, piece) in row.chunks_mut(CHUNK).enumerate() {
+            gain_parts[chunk].push(piece);
+        }
+    }
+    let mut xyz_parts: Vec<Vec<&mut [f64]>> = (0..n_chunks).map(|_| Vec::new()).collect();
+    if let Some(xyz) = gain_xyz.as_mut() {
+        for row in xyz.chunks_mut(n_src * 3) {
+            for (chunk, piece) in row.chunks_mut(CHUNK * 3).enumerate() {
+                xyz_parts[chunk].push(piece);
             }
         }
+    }
+    let outcomes: Vec<Result<(), ForwardError>> = gain_parts
+        .into_par_iter()
+        .zip(xyz_parts)
+        .enumerate()
+        .map(|(chunk, (mut gain_rows, mut xyz_rows))| {
+            let start = chunk * CHUNK;
+            let end = (start + CHUNK).min(n_src);
+            let block = Block {
+                sources: &sources[start..end],
+                normals: &normals[start..end],
+            };
+            fill_chunk(
+                head,
+                &directions,
+                block,
+                reference,
+                &mut gain_rows,
+                &mut xyz_rows,
+            )
+            .map_err(|(offset, inner)| ForwardError::Head {
+                index: start + offset,
+                inner,
+            })?;
+            progress(end - start);
+            Ok(())
+        })
+        .collect();
+    // Report the first failing chunk, whatever order the threads ran in.
+    for outcome in outcomes {
+        outcome?;
     }
     Ok(LeadField {
         n_channels: n_ch,
@@ -201,28 +205,27 @@ fn validate(
     Ok(directions)
 }
 
-/// The columns of one chunk of sources; an error carries the offset of the
-/// source within the chunk.
-fn chunk_columns(
+/// The sources of one parallel task and their normals.
+struct Block<'a> {
+    sources: &'a [Vec3],
+    normals: &'a [Vec3],
+}
+
+/// Computes the columns of one chunk of sources into its pieces of the
+/// output rows (`gain_rows[ch][s]`, `xyz_rows[ch][3 s + axis]`; `xyz_rows` is
+/// empty for normal orientation). An error carries the offset of the source
+/// within the chunk.
+fn fill_chunk(
     head: &SphereHead,
     directions: &[Vec3],
-    sources: &[Vec3],
-    normals: &[Vec3],
+    block: Block<'_>,
     reference: Reference,
-    want_xyz: bool,
-) -> Result<ChunkColumns, (usize, HeadError)> {
+    gain_rows: &mut [&mut [f64]],
+    xyz_rows: &mut [&mut [f64]],
+) -> Result<(), (usize, HeadError)> {
     let n_ch = directions.len();
-    let mut normal = vec![0.0; sources.len() * n_ch];
-    let mut xyz = vec![
-        0.0;
-        if want_xyz {
-            sources.len() * n_ch * 3
-        } else {
-            0
-        }
-    ];
     let mut column = vec![[0.0; 3]; n_ch];
-    for (s, (source, unit)) in sources.iter().zip(normals).enumerate() {
+    for (s, (source, unit)) in block.sources.iter().zip(block.normals).enumerate() {
         let expansion = head
             .expansion(*source, SeriesForm::Accelerated)
             .map_err(|e| (s, e))?;
@@ -241,12 +244,12 @@ fn chunk_columns(
                 }
             }
         }
-        for (ch, g) in column.iter().enumerate() {
-            normal[s * n_ch + ch] = dot(*g, *unit);
-            if want_xyz {
-                xyz[(s * n_ch + ch) * 3..(s * n_ch + ch) * 3 + 3].copy_from_slice(g);
-            }
+        for (g, row) in column.iter().zip(gain_rows.iter_mut()) {
+            row[s] = dot(*g, *unit);
+        }
+        for (g, row) in column.iter().zip(xyz_rows.iter_mut()) {
+            row[3 * s..3 * s + 3].copy_from_slice(g);
         }
     }
-    Ok(ChunkColumns { normal, xyz })
+    Ok(())
 }

@@ -41,7 +41,7 @@ pub(crate) const TAIL_TOLERANCE: f64 = 1e-12;
 
 /// Electrodes per block in the vectorised kernel: small enough that the
 /// recurrence state stays in registers, large enough to fill the vector lanes.
-const BLOCK: usize = 4;
+const BLOCK: usize = 8;
 
 /// Everything about one source that does not depend on the electrode.
 #[derive(Debug, Clone)]
@@ -53,7 +53,8 @@ pub(crate) struct SourceExpansion {
     /// Series coefficients of n P_n (q·r̂0), orders 1..=len, with the
     /// 1/(4πσ_N R²) factor included.
     radial: Vec<f64>,
-    /// Series coefficients of P′_n q·(r̂ − cos γ r̂0), same convention.
+    /// The tangential part Σ_n t_n P′_n rewritten as Σ_m e_m P_m (m = 0..=len,
+    /// e_len = 0), same convention; see [`derivative_to_legendre`].
     tangential: Vec<f64>,
     /// Weight of the closed form: f_∞/(4πσ_N), or 0 for the plain series.
     closed_weight: f64,
@@ -127,15 +128,16 @@ impl SphereHead {
         })?;
         let k_series = 1.0 / (4.0 * std::f64::consts::PI * sigma_n * outer * outer);
         let mut radial = Vec::with_capacity(n_terms);
-        let mut tangential = Vec::with_capacity(n_terms);
+        let mut derivative = Vec::with_capacity(n_terms);
         let mut rho_power = 1.0;
         for n in 1..=n_terms {
             let nf = n as f64;
             let common = (2.0 * nf + 1.0) * rho_power * (table.f[n] - shift) * k_series;
             radial.push(common);
-            tangential.push(common / nf);
+            derivative.push(common / nf);
             rho_power *= rho;
         }
+        let tangential = derivative_to_legendre(&derivative);
         Ok(SourceExpansion {
             r0,
             r0_hat,
@@ -213,6 +215,24 @@ fn terms_needed(rho: f64, sup: &[f64], tolerance: f64) -> Option<usize> {
     None
 }
 
+/// Rewrites Σ_{k=1..N} t_k P′_k(x) as Σ_{m=0..N} e_m P_m(x) using
+/// P′_k = Σ_{m = k−1, k−3, … ≥ 0} (2m+1) P_m (from P′_{m+1} − P′_{m−1} =
+/// (2m+1) P_m), i.e. e_m = (2m+1) Σ_{k > m, k − m odd} t_k. `t[k-1]` holds t_k.
+/// Then one Legendre recurrence serves both sums, saving the P′ recurrence.
+fn derivative_to_legendre(t: &[f64]) -> Vec<f64> {
+    let n = t.len();
+    // tail[m] = t_{m+1} + t_{m+3} + … (k <= n), filled from the top down.
+    let mut e = vec![0.0; n + 1];
+    let mut tail = vec![0.0; n + 2];
+    for m in (0..n).rev() {
+        tail[m] = t[m] + tail[m + 2];
+    }
+    for (m, slot) in e.iter_mut().enumerate().take(n) {
+        *slot = (2 * m + 1) as f64 * tail[m];
+    }
+    e
+}
+
 impl SourceExpansion {
     /// Potentials of unit dipoles along x, y, z at electrodes given by their
     /// unit directions from the centre; `out[e]` receives electrode e.
@@ -241,36 +261,71 @@ impl SourceExpansion {
         }
     }
 
-    /// Σ_n radial_n P_n(x) and Σ_n tangential_n P′_n(x) for a block of
-    /// electrodes, by the three-term recurrences
-    /// P_{n+1} = ((2n+1) x P_n − n P_{n−1})/(n+1) and P′_{n+1} = (n+1) P_n + x P′_n.
+    /// Σ_n radial_n P_n(x) and Σ_m tangential_m P_m(x) for a block of
+    /// electrodes, choosing the widest vector unit the processor has. The
+    /// arithmetic is the same operation by operation (no fused multiply-add),
+    /// so the result does not depend on which path runs.
     fn legendre_sums(
         &self,
         x: &[f64; BLOCK],
         rec_a: &[f64],
         rec_b: &[f64],
     ) -> ([f64; BLOCK], [f64; BLOCK]) {
-        let mut p_prev = [1.0; BLOCK];
-        let mut p = *x;
-        let mut dp = [1.0; BLOCK];
-        let mut sum_r = [0.0; BLOCK];
-        let mut sum_t = [0.0; BLOCK];
-        for (index, (&cr, &ct)) in self.radial.iter().zip(&self.tangential).enumerate() {
-            let n = index + 1;
-            let a = rec_a[n];
-            let b = rec_b[n];
-            let n1 = (n + 1) as f64;
-            for i in 0..BLOCK {
-                sum_r[i] += cr * p[i];
-                sum_t[i] += ct * dp[i];
-                let p_next = a * x[i] * p[i] - b * p_prev[i];
-                dp[i] = n1 * p[i] + x[i] * dp[i];
-                p_prev[i] = p[i];
-                p[i] = p_next;
+        #[cfg(target_arch = "x86_64")]
+        {
+            if std::arch::is_x86_feature_detected!("avx2") {
+                // SAFETY: the processor supports AVX2 (checked just above),
+                // which is all the target_feature function requires.
+                return unsafe {
+                    legendre_sums_avx2(x, &self.radial, &self.tangential, rec_a, rec_b)
+                };
             }
         }
-        (sum_r, sum_t)
+        legendre_sums_generic(x, &self.radial, &self.tangential, rec_a, rec_b)
     }
+}
+
+/// [`legendre_sums_generic`] compiled for AVX2.
+#[cfg(target_arch = "x86_64")]
+#[target_feature(enable = "avx2")]
+unsafe fn legendre_sums_avx2(
+    x: &[f64; BLOCK],
+    radial: &[f64],
+    tangential: &[f64],
+    rec_a: &[f64],
+    rec_b: &[f64],
+) -> ([f64; BLOCK], [f64; BLOCK]) {
+    legendre_sums_generic(x, radial, tangential, rec_a, rec_b)
+}
+
+/// Σ_{n=1..N} radial[n−1] P_n(x) and Σ_{m=0..N} tangential[m] P_m(x) by
+/// Bonnet's recurrence P_{n+1} = ((2n+1) x P_n − n P_{n−1})/(n+1).
+#[inline(always)]
+fn legendre_sums_generic(
+    x: &[f64; BLOCK],
+    radial: &[f64],
+    tangential: &[f64],
+    rec_a: &[f64],
+    rec_b: &[f64],
+) -> ([f64; BLOCK], [f64; BLOCK]) {
+    let mut p_prev = [1.0; BLOCK];
+    let mut p = *x;
+    let mut sum_r = [0.0; BLOCK];
+    let mut sum_t = [tangential.first().copied().unwrap_or(0.0); BLOCK];
+    let terms = radial.len();
+    let rec_a = &rec_a[1..=terms];
+    let rec_b = &rec_b[1..=terms];
+    let tangential = &tangential[1..=terms];
+    for (((&cr, &ct), &a), &b) in radial.iter().zip(tangential).zip(rec_a).zip(rec_b) {
+        for i in 0..BLOCK {
+            sum_r[i] += cr * p[i];
+            sum_t[i] += ct * p[i];
+            let p_next = a * x[i] * p[i] - b * p_prev[i];
+            p_prev[i] = p[i];
+            p[i] = p_next;
+        }
+    }
+    (sum_r, sum_t)
 }
 
 /// The bracket of the homogeneous-sphere closed form,

@@ -166,8 +166,8 @@ impl SphereHead {
     /// The series factor f_n of order `n >= 1` (f_n = 1 for a homogeneous head).
     ///
     /// With it the scalp potential is
-    /// V = 1/(4πσ_N R²) Σ_n (2n+1)/n (b/R)^{n-1} f_n [n (q·r̂0) P_n(cos γ)
-    /// + q·(r̂ − cos γ r̂0) P′_n(cos γ)] (Zhang 1995, Phys Med Biol 40:335).
+    /// V = 1/(4πσ_N R²) Σ_n (2n+1)/n (b/R)^{n-1} f_n [n (q·r̂0) P_n(cos γ) +
+    /// q·(r̂ − cos γ r̂0) P′_n(cos γ)] (Zhang 1995, Phys Med Biol 40:335).
     /// Here f_n = (σ_N/σ_1) C_N, with C_N the coefficient of the decaying
     /// solution in the scalp when the primary field in the brain has
     /// coefficient 1 (see [`SphereHead::order_solution`]).
