@@ -23,3 +23,4 @@ pub mod io;
 pub mod montage;
 pub mod patterns;
 pub mod solver;
+pub mod pipeline;

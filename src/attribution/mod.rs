@@ -8,6 +8,7 @@
 //! patches cancel). A patch's share is spread over regions in proportion to
 //! the profile mass the patch has in each region.
 
+pub mod rng;
 mod shares;
 mod uncertainty;
 

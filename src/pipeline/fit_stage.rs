@@ -1,0 +1,456 @@
+//! Fit decoder patterns with the group LASSO, choose λ, attribute, resample.
+
+use rayon::prelude::*;
+use sprs::CsMat;
+
+use crate::attribution::rng::SplitMix64;
+use crate::attribution::{attribute, percentile, Attribution, AttributionInput, RegionInterval};
+use crate::geometry::Vec3;
+use crate::solver::{
+    fit, path, refit, DenseDictionary, Fit, Groups, Lambda, NoObserver, Params, PathSpec,
+    ValidParams,
+};
+
+use super::lambda_rule::{bic, LambdaRule, BIC_MIN_RATIO, BIC_PATH_POINTS};
+use super::resample::{ResampleOptions, ResampleSummary};
+use super::PipelineError;
+
+/// The fitted problem and the source space the attribution needs.
+/// Matrices row-major, as in the HDF5 files.
+pub struct Problem<'a> {
+    /// Unit-norm atoms, n_ch × n_atoms.
+    pub atoms: &'a [f64],
+    /// Number of channels.
+    pub n_channels: usize,
+    /// Group of each atom.
+    pub group: &'a [usize],
+    /// Norm removed from each atom.
+    pub atom_norms: &'a [f64],
+    /// Source amplitudes of each unnormalised atom, CSC n_src × n_atoms.
+    pub profile: &'a CsMat<f64>,
+    /// Region of each source (-1 none).
+    pub source_region: &'a [i32],
+    /// Number of named regions.
+    pub n_regions: usize,
+    /// Source positions (m).
+    pub source_positions: &'a [Vec3],
+}
+
+/// Options of the fit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FitOptions {
+    /// How λ is chosen.
+    pub lambda: LambdaRule,
+    /// Fit the components jointly (shared support) instead of one by one.
+    pub joint: bool,
+    /// Relative duality-gap tolerance.
+    pub tol: f64,
+    /// Also compute the debiased least-squares refit on the support.
+    pub refit: bool,
+    /// Resampling for uncertainty.
+    pub resample: ResampleOptions,
+    /// The patterns and atoms were whitened (changes the resampling noise).
+    pub whitened: bool,
+}
+
+impl Default for FitOptions {
+    fn default() -> Self {
+        FitOptions {
+            lambda: LambdaRule::Bic,
+            joint: false,
+            tol: 1e-8,
+            refit: true,
+            resample: ResampleOptions::default(),
+            whitened: false,
+        }
+    }
+}
+
+/// What the solver did for one fitted block (a component, or all jointly).
+#[derive(Debug, Clone, PartialEq)]
+pub struct FittedComponent {
+    /// The components of the block.
+    pub components: Vec<usize>,
+    /// λ used.
+    pub lambda: f64,
+    /// λ_max of the block.
+    pub lambda_max: f64,
+    /// Relative duality gap at the end.
+    pub duality_gap: f64,
+    /// FISTA iterations.
+    pub iterations: usize,
+    /// Active groups (patches).
+    pub n_active_groups: usize,
+    /// The path searched: (ratio, explained variance, active groups, BIC).
+    pub path: Vec<(f64, f64, usize, f64)>,
+}
+
+/// Everything the fit produced.
+#[derive(Debug, Clone)]
+pub struct FitOutcome {
+    /// The penalised solution (n_atoms × k), residual, explained variance.
+    pub fit: Fit,
+    /// The debiased refit on the support, when asked for.
+    pub refit: Option<Fit>,
+    /// One entry per fitted block.
+    pub blocks: Vec<FittedComponent>,
+    /// Shares, source maps and peaks.
+    pub attribution: Attribution,
+    /// Resampling intervals, when resampling ran.
+    pub resample: Option<ResampleSummary>,
+}
+
+fn column_block(y: &[f64], k: usize, cols: &[usize]) -> Vec<f64> {
+    let n = y.len() / k.max(1);
+    let mut out = Vec::with_capacity(n * cols.len());
+    for i in 0..n {
+        for &c in cols {
+            out.push(y[i * k + c]);
+        }
+    }
+    out
+}
+
+struct BlockFit {
+    coefficients: Vec<f64>,
+    info: FittedComponent,
+}
+
+fn fit_block(
+    dict: &DenseDictionary,
+    groups: &Groups,
+    y: &[f64],
+    cols: &[usize],
+    rule: LambdaRule,
+    params: &ValidParams,
+) -> Result<BlockFit, PipelineError> {
+    let kb = cols.len();
+    let n_ch = dict.n_channels();
+    match rule {
+        LambdaRule::Ratio(_) | LambdaRule::Absolute(_) => {
+            let lambda = match rule {
+                LambdaRule::Ratio(r) => Lambda::Ratio(r),
+                LambdaRule::Absolute(l) => Lambda::Absolute(l),
+                LambdaRule::Bic => Lambda::Ratio(1.0),
+            };
+            let p = params.with_lambda(lambda)?;
+            let (f, info) = fit(dict, groups, y, kb, &p, &mut NoObserver)?;
+            Ok(BlockFit {
+                coefficients: f.coefficients,
+                info: FittedComponent {
+                    components: cols.to_vec(),
+                    lambda: info.lambda,
+                    lambda_max: info.lambda_max,
+                    duality_gap: info.duality_gap,
+                    iterations: info.iterations,
+                    n_active_groups: info.n_active_groups,
+                    path: Vec::new(),
+                },
+            })
+        }
+        LambdaRule::Bic => {
+            let spec = PathSpec::LogSpaced {
+                n_lambdas: BIC_PATH_POINTS,
+                min_ratio: BIC_MIN_RATIO,
+            };
+            let points = path(dict, groups, y, kb, &spec, params, &mut NoObserver)?;
+            let y_sq: f64 = y.iter().map(|v| v * v).sum();
+            let n = n_ch * kb;
+            let mut best = 0;
+            let mut best_bic = f64::INFINITY;
+            let mut summary = Vec::with_capacity(points.len());
+            for (i, p) in points.iter().enumerate() {
+                let rss = (1.0 - p.explained_variance_total) * y_sq;
+                let df = p.coefficients.atoms.len() * kb;
+                let b = if p.coefficients.atoms.is_empty() {
+                    f64::INFINITY
+                } else {
+                    bic(rss, n, df)
+                };
+                summary.push((p.ratio, p.explained_variance_total, p.info.n_active_groups, b));
+                if b < best_bic {
+                    best_bic = b;
+                    best = i;
+                }
+            }
+            let chosen = &points[best];
+            Ok(BlockFit {
+                coefficients: chosen.coefficients.to_dense(),
+                info: FittedComponent {
+                    components: cols.to_vec(),
+                    lambda: chosen.info.lambda,
+                    lambda_max: chosen.info.lambda_max,
+                    duality_gap: chosen.info.duality_gap,
+                    iterations: chosen.info.iterations,
+                    n_active_groups: chosen.info.n_active_groups,
+                    path: summary,
+                },
+            })
+        }
+    }
+}
+
+fn fit_all(
+    dict: &DenseDictionary,
+    groups: &Groups,
+    y: &[f64],
+    k: usize,
+    blocks: &[Vec<usize>],
+    rules: &[LambdaRule],
+    params: &ValidParams,
+) -> Result<(Vec<f64>, Vec<FittedComponent>), PipelineError> {
+    let n_atoms = dict.n_atoms();
+    let fitted: Vec<Result<BlockFit, PipelineError>> = blocks
+        .par_iter()
+        .zip(rules.par_iter())
+        .map(|(cols, &rule)| {
+            let yb = column_block(y, k, cols);
+            fit_block(dict, groups, &yb, cols, rule, params)
+        })
+        .collect();
+    let mut coefficients = vec![0.0; n_atoms * k];
+    let mut infos = Vec::with_capacity(blocks.len());
+    for result in fitted {
+        let b = result?;
+        let kb = b.info.components.len();
+        for j in 0..n_atoms {
+            for (bi, &c) in b.info.components.iter().enumerate() {
+                coefficients[j * k + c] = b.coefficients[j * kb + bi];
+            }
+        }
+        infos.push(b.info);
+    }
+    Ok((coefficients, infos))
+}
+
+/// Fit `patterns` (n_ch × k row-major) on the problem's dictionary, choose
+/// λ by the options' rule, attribute, and resample for uncertainty.
+/// `progress` hears the number of resamples finished.
+pub fn fit_patterns(
+    problem: &Problem<'_>,
+    patterns: &[f64],
+    k: usize,
+    options: &FitOptions,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<FitOutcome, PipelineError> {
+    let n_ch = problem.n_channels;
+    let n_atoms = problem.group.len();
+    if patterns.len() != n_ch * k || k == 0 {
+        return Err(PipelineError::Inconsistent(format!(
+            "patterns have {} values, expected {n_ch} channels x {k} components",
+            patterns.len()
+        )));
+    }
+    let dict = DenseDictionary::from_row_major(n_ch, n_atoms, problem.atoms)?;
+    let assignment: Vec<i64> = problem.group.iter().map(|&g| g as i64).collect();
+    let groups = Groups::from_assignment(&assignment)?;
+    let params = Params {
+        tol: options.tol,
+        ..Params::default()
+    }
+    .validate()?;
+    let blocks: Vec<Vec<usize>> = if options.joint {
+        vec![(0..k).collect()]
+    } else {
+        (0..k).map(|c| vec![c]).collect()
+    };
+    let rules = vec![options.lambda; blocks.len()];
+    let (coefficients, infos) = fit_all(&dict, &groups, patterns, k, &blocks, &rules, &params)?;
+    let full_fit = fit_result(&dict, patterns, k, coefficients.clone())?;
+    let refit_fit = if options.refit {
+        Some(refit(&dict, patterns, k, &coefficients)?.fit)
+    } else {
+        None
+    };
+    let input = AttributionInput {
+        atoms: problem.atoms,
+        n_channels: n_ch,
+        group: problem.group,
+        atom_norms: problem.atom_norms,
+        profile: problem.profile,
+        patterns,
+        coefficients: &coefficients,
+        n_components: k,
+        source_region: problem.source_region,
+        n_regions: problem.n_regions,
+        source_positions: problem.source_positions,
+    };
+    let attribution = attribute(&input)?;
+    let resample = if options.resample.n_resamples > 0 && problem.n_regions > 0 {
+        Some(resample(
+            problem,
+            &dict,
+            &groups,
+            &params,
+            patterns,
+            &full_fit,
+            &coefficients,
+            &blocks,
+            &infos,
+            k,
+            options,
+            progress,
+        )?)
+    } else {
+        None
+    };
+    Ok(FitOutcome {
+        fit: full_fit,
+        refit: refit_fit,
+        blocks: infos,
+        attribution,
+        resample,
+    })
+}
+
+fn fit_result(
+    dict: &DenseDictionary,
+    y: &[f64],
+    k: usize,
+    coefficients: Vec<f64>,
+) -> Result<Fit, PipelineError> {
+    let n_ch = dict.n_channels();
+    let n_atoms = dict.n_atoms();
+    let mut residual = y.to_vec();
+    for j in 0..n_atoms {
+        let row = &coefficients[j * k..(j + 1) * k];
+        if row.iter().all(|&v| v == 0.0) {
+            continue;
+        }
+        let atom = dict.atom(j);
+        for i in 0..n_ch {
+            for c in 0..k {
+                residual[i * k + c] -= atom[i] * row[c];
+            }
+        }
+    }
+    let explained_variance = (0..k)
+        .map(|c| {
+            let ys: f64 = (0..n_ch).map(|i| y[i * k + c].powi(2)).sum();
+            let rs: f64 = (0..n_ch).map(|i| residual[i * k + c].powi(2)).sum();
+            if ys > 0.0 {
+                1.0 - rs / ys
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    Ok(Fit {
+        n_atoms,
+        n_channels: n_ch,
+        k,
+        coefficients,
+        residual,
+        explained_variance,
+    })
+}
+
+#[allow(clippy::too_many_arguments)]
+fn resample(
+    problem: &Problem<'_>,
+    dict: &DenseDictionary,
+    groups: &Groups,
+    params: &ValidParams,
+    patterns: &[f64],
+    full: &Fit,
+    coefficients: &[f64],
+    blocks: &[Vec<usize>],
+    infos: &[FittedComponent],
+    k: usize,
+    options: &FitOptions,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<ResampleSummary, PipelineError> {
+    let n_ch = problem.n_channels;
+    let n_atoms = problem.group.len();
+    let opts = options.resample;
+    // Noise level per component from the residual and the active set.
+    let noise_sd: Vec<f64> = (0..k)
+        .map(|c| {
+            let rss: f64 = (0..n_ch).map(|i| full.residual[i * k + c].powi(2)).sum();
+            let df = (0..n_atoms)
+                .filter(|&j| coefficients[j * k + c] != 0.0)
+                .count();
+            let dof = (n_ch as f64 - 1.0 - df as f64).max(1.0);
+            (rss / dof).sqrt()
+        })
+        .collect();
+    // The reconstruction ŷ = y − r around which the noise is drawn.
+    let y_hat: Vec<f64> = patterns
+        .iter()
+        .zip(&full.residual)
+        .map(|(y, r)| y - r)
+        .collect();
+    let rules: Vec<LambdaRule> = infos
+        .iter()
+        .map(|b| LambdaRule::Absolute(b.lambda))
+        .collect();
+    let done = std::sync::atomic::AtomicUsize::new(0);
+    let runs: Vec<Result<Vec<Vec<f64>>, PipelineError>> = (0..opts.n_resamples)
+        .into_par_iter()
+        .map(|b| {
+            let mut rng = SplitMix64::new(opts.seed, b as u64);
+            let mut y_star = vec![0.0; n_ch * k];
+            for c in 0..k {
+                let mut e: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
+                if !options.whitened {
+                    let mean = e.iter().sum::<f64>() / n_ch as f64;
+                    e.iter_mut().for_each(|v| *v -= mean);
+                }
+                for i in 0..n_ch {
+                    y_star[i * k + c] = y_hat[i * k + c] + noise_sd[c] * e[i];
+                }
+            }
+            let (coef, _) = fit_all(dict, groups, &y_star, k, blocks, &rules, params)?;
+            let input = AttributionInput {
+                atoms: problem.atoms,
+                n_channels: n_ch,
+                group: problem.group,
+                atom_norms: problem.atom_norms,
+                profile: problem.profile,
+                patterns: &y_star,
+                coefficients: &coef,
+                n_components: k,
+                source_region: problem.source_region,
+                n_regions: problem.n_regions,
+                source_positions: problem.source_positions,
+            };
+            let a = attribute(&input)?;
+            let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+            if n % 4 == 3 {
+                progress(4);
+            }
+            Ok(a.components.into_iter().map(|c| c.region_share).collect())
+        })
+        .collect();
+    let mut shares: Vec<Vec<Vec<f64>>> = vec![vec![Vec::new(); problem.n_regions]; k];
+    for run in runs {
+        let run = run?;
+        for (c, regions) in run.into_iter().enumerate() {
+            for (r, s) in regions.into_iter().enumerate() {
+                shares[c][r].push(s);
+            }
+        }
+    }
+    let intervals = shares
+        .iter()
+        .map(|per_region| {
+            per_region
+                .iter()
+                .map(|v| RegionInterval {
+                    low: percentile(v, 0.025),
+                    high: percentile(v, 0.975),
+                    selection_frequency: v
+                        .iter()
+                        .filter(|&&s| s >= opts.selection_threshold)
+                        .count() as f64
+                        / v.len().max(1) as f64,
+                })
+                .collect()
+        })
+        .collect();
+    Ok(ResampleSummary {
+        intervals,
+        noise_sd,
+        n_resamples: opts.n_resamples,
+    })
+}

@@ -1,0 +1,109 @@
+//! Lead field and dictionary for a montage, a source space and a head.
+
+use rayon::prelude::*;
+
+use crate::dictionary::{build_dictionary, Dictionary, DictionaryInfo, DictionaryParams, Seeds};
+use crate::forward::{lead_field, Orientation, Reference};
+use crate::geometry::{farthest_point_seeds, norm, sub, GeodesicSolver, SourceSpace};
+use crate::head::SphereHead;
+use crate::io::leadfield_file::LeadFieldFile;
+use crate::montage::{Montage, ProjectionWarning};
+
+use super::PipelineError;
+
+/// The lead field of `montage` (projected radially onto the scalp sphere)
+/// for `sources` in `head`, average-referenced, packed in the file layout.
+pub fn leadfield_for(
+    montage: &Montage,
+    sources: &SourceSpace,
+    head: &SphereHead,
+    orientation: Orientation,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<(LeadFieldFile, Vec<ProjectionWarning>), PipelineError> {
+    let (projected, warnings) = montage.project_to_sphere(head.center(), head.outer_radius())?;
+    let lf = lead_field(
+        head,
+        &projected.positions,
+        &sources.positions,
+        &sources.normals,
+        orientation,
+        Reference::Average,
+        progress,
+    )?;
+    Ok((
+        LeadFieldFile {
+            labels: projected.labels.clone(),
+            electrode_positions: projected.positions.clone(),
+            sources: sources.clone(),
+            gain: lf.gain,
+            gain_xyz: lf.gain_xyz,
+            reference: "average".to_string(),
+            head_model: head.head_model_json(),
+        },
+        warnings,
+    ))
+}
+
+/// How patch distances were measured.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum DistanceKind {
+    /// Geodesic, by fast marching on the source mesh.
+    Geodesic,
+    /// Euclidean, for sources without triangles.
+    Euclidean,
+}
+
+/// The patch dictionary of a lead field. Seeds: every source, or
+/// farthest-point seeds at `spacing_m`. Distances are geodesic on the
+/// source mesh when it has triangles, Euclidean otherwise.
+pub fn dictionary_for(
+    lf: &LeadFieldFile,
+    params: &DictionaryParams,
+    spacing_m: Option<f64>,
+    progress: &(dyn Fn(usize) + Sync),
+) -> Result<(Dictionary, DictionaryInfo, DistanceKind), PipelineError> {
+    let mesh = lf.sources.mesh();
+    let seeds = match spacing_m {
+        Some(s) if !mesh.triangles.is_empty() => Seeds::Given(farthest_point_seeds(&mesh, s)?),
+        _ => Seeds::All,
+    };
+    let gain_xyz = lf.gain_xyz.as_deref();
+    if mesh.triangles.is_empty() {
+        let positions = &lf.sources.positions;
+        let oracle = |seed: usize, radius: f64| -> Vec<(u32, f64)> {
+            let p = positions[seed];
+            positions
+                .par_iter()
+                .enumerate()
+                .filter_map(|(v, q)| {
+                    let d = norm(sub(*q, p));
+                    (d <= radius).then_some((v as u32, d))
+                })
+                .collect()
+        };
+        let (d, info) = build_dictionary(
+            &mesh,
+            &lf.gain,
+            gain_xyz,
+            lf.n_channels(),
+            &seeds,
+            &oracle,
+            params,
+            progress,
+        )?;
+        return Ok((d, info, DistanceKind::Euclidean));
+    }
+    let solver = GeodesicSolver::new(&mesh)?;
+    let oracle = |seed: usize, radius: f64| solver.distances_within(seed, radius);
+    let (d, info) = build_dictionary(
+        &mesh,
+        &lf.gain,
+        gain_xyz,
+        lf.n_channels(),
+        &seeds,
+        &oracle,
+        params,
+        progress,
+    )?;
+    Ok((d, info, DistanceKind::Geodesic))
+}

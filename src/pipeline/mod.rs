@@ -1,0 +1,15 @@
+//! The main job chained: lead field, dictionary, fit and attribution for a
+//! decoder's patterns. Pure functions over in-memory data; the CLI reads
+//! and writes the files and keeps the cache.
+
+mod error;
+mod fit_stage;
+mod forward_stage;
+mod lambda_rule;
+mod resample;
+
+pub use error::PipelineError;
+pub use fit_stage::{fit_patterns, FitOptions, FitOutcome, FittedComponent, Problem};
+pub use forward_stage::{dictionary_for, leadfield_for, DistanceKind};
+pub use lambda_rule::LambdaRule;
+pub use resample::{ResampleOptions, ResampleSummary};
