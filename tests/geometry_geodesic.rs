@@ -292,3 +292,29 @@ fn fast_marching_matches_unrolled_distance_on_cylinder() {
     assert!(fmed <= 0.01, "median relative error {fmed}");
     assert!(fmax <= 0.05, "maximum relative error {fmax}");
 }
+
+#[test]
+fn results_do_not_depend_on_the_thread_count() {
+    // House rule (docs/style.md, brief): identical results whatever the rayon
+    // thread count. The solver is built in pools of 1 and 2 threads and
+    // queried from many threads at once; all distances must agree exactly.
+    let mesh = Mesh::icosphere(4, 0.08);
+    let build = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| GeodesicSolver::new(&mesh).unwrap())
+    };
+    let (one, two) = (build(1), build(2));
+    use rayon::prelude::*;
+    let serial: Vec<_> = (0..40)
+        .map(|s| one.distances_within(s * 60, 0.02))
+        .collect();
+    let parallel: Vec<_> = (0..40usize)
+        .into_par_iter()
+        .map(|s| two.distances_within(s * 60, 0.02))
+        .collect();
+    assert_eq!(serial, parallel);
+    assert_eq!(one.obtuse_corners(), two.obtuse_corners());
+}
