@@ -227,3 +227,94 @@ fn bad_queries_give_empty_lists() {
     assert!(solver.distances_within(0, -1.0).is_empty());
     assert_eq!(solver.distances_within(0, 0.0), vec![(0, 0.0)]);
 }
+
+/// An open cylinder of radius `r` around the z axis: `n_around` columns,
+/// `n_up` rows `dz` apart, each grid square split along one diagonal.
+fn cylinder(r: f64, n_around: usize, n_up: usize, dz: f64) -> Mesh {
+    let mut vertices = Vec::new();
+    for j in 0..n_up {
+        for i in 0..n_around {
+            let phi = 2.0 * std::f64::consts::PI * i as f64 / n_around as f64;
+            vertices.push([r * phi.cos(), r * phi.sin(), j as f64 * dz]);
+        }
+    }
+    let id = |i: usize, j: usize| (j * n_around + i % n_around) as u32;
+    let mut triangles = Vec::new();
+    for j in 0..n_up - 1 {
+        for i in 0..n_around {
+            triangles.push([id(i, j), id(i + 1, j), id(i + 1, j + 1)]);
+            triangles.push([id(i, j), id(i + 1, j + 1), id(i, j + 1)]);
+        }
+    }
+    Mesh {
+        vertices,
+        triangles,
+    }
+}
+
+#[test]
+fn fast_marching_matches_unrolled_distance_on_cylinder() {
+    // A cylinder is developable: unrolled, the geodesic distance is the
+    // planar one, d = sqrt((r·Δφ)² + Δz²) for |Δφ| ≤ π (common practice, no
+    // source). Right-angled triangles with one diagonal direction make the
+    // edge graph anisotropic. Tolerance as on the sphere (median ≤ 1 %,
+    // maximum ≤ 5 %), ignoring points within one longest edge.
+    let r = 0.03;
+    let (n_around, n_up, dz) = (120, 61, 1.0e-3);
+    let mesh = cylinder(r, n_around, n_up, dz);
+    let solver = GeodesicSolver::new(&mesh).unwrap();
+    let source = 30 * n_around + 7;
+    let exact = |v: usize| {
+        let (p, q) = (mesh.vertices[source], mesh.vertices[v]);
+        let dphi = (p[0] * q[1] - p[1] * q[0]).atan2(p[0] * q[0] + p[1] * q[1]);
+        ((r * dphi).powi(2) + (q[2] - p[2]).powi(2)).sqrt()
+    };
+    let radius = 0.025;
+    let fmm = solver.distances_within(source, radius);
+    let (fe, fmiss) = relative_errors(&fmm, exact, longest_edge(&mesh), mesh.n_vertices(), 0.024);
+    let (de, _) = relative_errors(
+        &solver.edge_dijkstra_within(source, radius),
+        exact,
+        longest_edge(&mesh),
+        mesh.n_vertices(),
+        0.0,
+    );
+    let ((fmed, fmax), (dmed, dmax)) = (summary(&fe), summary(&de));
+    eprintln!(
+        "cylinder: {} points; median / max relative error: circular front {:.3} % / {:.3} %, edge Dijkstra {:.3} % / {:.3} %",
+        fe.len(),
+        100.0 * fmed,
+        100.0 * fmax,
+        100.0 * dmed,
+        100.0 * dmax
+    );
+    assert_eq!(fmiss, 0);
+    assert!(fmed <= 0.01, "median relative error {fmed}");
+    assert!(fmax <= 0.05, "maximum relative error {fmax}");
+}
+
+#[test]
+fn results_do_not_depend_on_the_thread_count() {
+    // House rule (docs/style.md, brief): identical results whatever the rayon
+    // thread count. The solver is built in pools of 1 and 2 threads and
+    // queried from many threads at once; all distances must agree exactly.
+    let mesh = Mesh::icosphere(4, 0.08);
+    let build = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| GeodesicSolver::new(&mesh).unwrap())
+    };
+    let (one, two) = (build(1), build(2));
+    use rayon::prelude::*;
+    let serial: Vec<_> = (0..40)
+        .map(|s| one.distances_within(s * 60, 0.02))
+        .collect();
+    let parallel: Vec<_> = (0..40usize)
+        .into_par_iter()
+        .map(|s| two.distances_within(s * 60, 0.02))
+        .collect();
+    assert_eq!(serial, parallel);
+    assert_eq!(one.obtuse_corners(), two.obtuse_corners());
+}

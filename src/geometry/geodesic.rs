@@ -223,9 +223,9 @@ impl GeodesicScratch {
 /// A heap entry ordered so that `BinaryHeap` pops the smallest time first,
 /// ties broken by the smaller vertex index (deterministic order).
 #[derive(Debug, Clone, Copy)]
-struct Entry {
-    time: f64,
-    vertex: u32,
+pub(crate) struct Entry {
+    pub(crate) time: f64,
+    pub(crate) vertex: u32,
 }
 
 impl PartialEq for Entry {

@@ -1,9 +1,8 @@
 //! Farthest-point seed sampling on a mesh with fast-marching geodesic distances.
 
-use std::cmp::Ordering;
 use std::collections::BinaryHeap;
 
-use super::geodesic::{GeodesicScratch, GeodesicSolver, Method};
+use super::geodesic::{Entry, GeodesicScratch, GeodesicSolver, Method};
 use super::mesh::Mesh;
 use super::validate::MeshError;
 
@@ -15,32 +14,6 @@ use super::validate::MeshError;
 /// The errors of [`GeodesicSolver::new`], or [`MeshError::InvalidSpacing`].
 pub fn farthest_point_seeds(mesh: &Mesh, spacing_m: f64) -> Result<Vec<usize>, MeshError> {
     GeodesicSolver::new(mesh)?.farthest_point_seeds(spacing_m)
-}
-
-/// A max-heap entry: the largest distance first, ties to the lower vertex.
-#[derive(Debug, Clone, Copy)]
-struct Farthest {
-    distance: f64,
-    vertex: u32,
-}
-
-impl PartialEq for Farthest {
-    fn eq(&self, other: &Self) -> bool {
-        self.cmp(other) == Ordering::Equal
-    }
-}
-impl Eq for Farthest {}
-impl PartialOrd for Farthest {
-    fn partial_cmp(&self, other: &Self) -> Option<Ordering> {
-        Some(self.cmp(other))
-    }
-}
-impl Ord for Farthest {
-    fn cmp(&self, other: &Self) -> Ordering {
-        self.distance
-            .total_cmp(&other.distance)
-            .then_with(|| other.vertex.cmp(&self.vertex))
-    }
 }
 
 impl GeodesicSolver {
@@ -63,20 +36,23 @@ impl GeodesicSolver {
         }
         let n = self.n_vertices();
         let mut best = vec![f64::INFINITY; n];
+        // The marching's min-heap on negated distances pops the farthest
+        // vertex first, ties to the lower index.
         let mut heap = BinaryHeap::with_capacity(n);
         for (v, d) in best.iter_mut().enumerate() {
             if self.is_isolated(v) {
                 *d = 0.0;
             } else {
-                heap.push(Farthest {
-                    distance: f64::INFINITY,
+                heap.push(Entry {
+                    time: f64::NEG_INFINITY,
                     vertex: v as u32,
                 });
             }
         }
         let mut scratch = GeodesicScratch::new();
         let mut seeds = Vec::new();
-        while let Some(Farthest { distance, vertex }) = heap.pop() {
+        while let Some(Entry { time, vertex }) = heap.pop() {
+            let distance = -time;
             if distance != best[vertex as usize] {
                 continue;
             }
@@ -92,8 +68,8 @@ impl GeodesicSolver {
                 |w, t| {
                     if t < best[w as usize] {
                         best[w as usize] = t;
-                        heap.push(Farthest {
-                            distance: t,
+                        heap.push(Entry {
+                            time: -t,
                             vertex: w,
                         });
                         true
