@@ -5,6 +5,7 @@
 
 pub mod atomic;
 pub mod cache;
+pub mod decoder_file;
 pub mod dictionary_file;
 pub mod electrodes;
 pub mod error;
@@ -14,6 +15,7 @@ pub mod leadfield_file;
 pub mod npy;
 pub mod off;
 pub mod ply;
+pub mod sources_file;
 pub mod store;
 pub mod store_access;
 pub mod table;

@@ -1,0 +1,310 @@
+//! Decoders from files: `.npz`, `.h5` or `.mat` (MATLAB v7.3) holding
+//! `channels` and either `patterns` (n_ch × k) or `weights` (n_ch × k) with
+//! `covariance` (n_ch × n_ch); or a bare `.npy`/`.csv` matrix of patterns
+//! with the channel labels from a separate file.
+//!
+//! Values are taken as they are (volts for patterns, arbitrary units for
+//! weights, V² for the covariance); only their shapes and finiteness are
+//! checked here. Symmetry and positive semi-definiteness are checked by the
+//! patterns stage.
+
+use std::collections::BTreeMap;
+use std::path::Path;
+
+use super::electrodes::read_channel_list;
+use super::npy::{read_npy, read_npz, NpyArray, NpyData};
+use super::sources_file::InputError;
+use super::store::Store;
+
+/// What a decoder file holds besides its channels.
+#[derive(Debug, Clone, PartialEq)]
+pub enum DecoderContent {
+    /// Activation patterns, n_ch × k row-major.
+    Patterns(Vec<f64>),
+    /// Filters or classifier weights with the data covariance.
+    Weights {
+        /// n_ch × k row-major.
+        weights: Vec<f64>,
+        /// n_ch × n_ch row-major.
+        covariance: Vec<f64>,
+    },
+}
+
+/// A decoder read from a file.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DecoderFile {
+    /// Channel labels (n_ch).
+    pub channels: Vec<String>,
+    /// Number of components.
+    pub k: usize,
+    /// Patterns, or weights and covariance.
+    pub content: DecoderContent,
+}
+
+impl DecoderFile {
+    /// `"patterns"` or `"weights+covariance"`, for `/patterns/source`.
+    pub fn source_kind(&self) -> &'static str {
+        match self.content {
+            DecoderContent::Patterns(_) => "patterns",
+            DecoderContent::Weights { .. } => "weights+covariance",
+        }
+    }
+}
+
+fn content_error(path: &Path, message: String) -> InputError {
+    InputError::Content {
+        path: path.display().to_string(),
+        message,
+    }
+}
+
+fn ext(path: &Path) -> String {
+    path.extension()
+        .map(|e| e.to_string_lossy().to_ascii_lowercase())
+        .unwrap_or_default()
+}
+
+/// Read a decoder. `channels_file` supplies the labels for `.npy`/`.csv`
+/// (one label a line, or a BIDS channels.tsv) and overrides none otherwise.
+pub fn read_decoder(path: &Path, channels_file: Option<&Path>) -> Result<DecoderFile, InputError> {
+    let decoder = match ext(path).as_str() {
+        "npz" => read_npz_decoder(path)?,
+        "h5" | "hdf5" | "mat" => read_store_decoder(path)?,
+        "npy" | "csv" | "tsv" | "txt" => {
+            let Some(ch) = channels_file else {
+                return Err(content_error(
+                    path,
+                    "a bare matrix of patterns needs --channels FILE with one label per row"
+                        .to_string(),
+                ));
+            };
+            let channels = read_channel_list(ch)?;
+            let (values, rows, cols) = if ext(path) == "npy" {
+                let a = read_npy(path)?;
+                matrix_of(path, "the array", &a)?
+            } else {
+                read_text_matrix(path)?
+            };
+            if rows != channels.len() {
+                return Err(content_error(
+                    path,
+                    format!(
+                        "has {rows} rows but {} names {} channels; expected one row per channel",
+                        ch.display(),
+                        channels.len()
+                    ),
+                ));
+            }
+            DecoderFile {
+                channels,
+                k: cols,
+                content: DecoderContent::Patterns(values),
+            }
+        }
+        other => {
+            return Err(content_error(
+                path,
+                format!("unknown decoder file kind {other:?}; expected .npz, .h5, .mat, .npy or .csv"),
+            ))
+        }
+    };
+    if decoder.channels.is_empty() || decoder.k == 0 {
+        return Err(content_error(
+            path,
+            "holds no channels or no components".to_string(),
+        ));
+    }
+    Ok(decoder)
+}
+
+fn matrix_of(path: &Path, what: &str, a: &NpyArray) -> Result<(Vec<f64>, usize, usize), InputError> {
+    let values = a.to_f64().ok_or_else(|| {
+        content_error(path, format!("{what} holds strings; expected numbers"))
+    })?;
+    if let Some(i) = values.iter().position(|v| !v.is_finite()) {
+        return Err(content_error(
+            path,
+            format!("{what} has a non-finite value at flat index {i}"),
+        ));
+    }
+    match a.shape.as_slice() {
+        [n] => Ok((values, *n, 1)),
+        [r, c] => Ok((values, *r, *c)),
+        s => Err(content_error(
+            path,
+            format!("{what} has shape {s:?}; expected a vector or a matrix"),
+        )),
+    }
+}
+
+fn read_npz_decoder(path: &Path) -> Result<DecoderFile, InputError> {
+    let arrays: BTreeMap<String, NpyArray> = read_npz(path)?;
+    let get = |name: &str| arrays.get(name).or_else(|| arrays.get(&format!("{name}.npy")));
+    let channels = match get("channels").map(|a| &a.data) {
+        Some(NpyData::Str(s)) => s.clone(),
+        Some(_) => {
+            return Err(content_error(
+                path,
+                "entry channels holds numbers; expected channel labels (strings)".to_string(),
+            ))
+        }
+        None => {
+            return Err(content_error(
+                path,
+                "has no entry channels; expected channel labels".to_string(),
+            ))
+        }
+    };
+    let n = channels.len();
+    if let Some(p) = get("patterns") {
+        let (values, rows, k) = matrix_of(path, "entry patterns", p)?;
+        check_rows(path, "patterns", rows, n)?;
+        return Ok(DecoderFile {
+            channels,
+            k,
+            content: DecoderContent::Patterns(values),
+        });
+    }
+    let (Some(w), Some(c)) = (get("weights"), get("covariance")) else {
+        return Err(content_error(
+            path,
+            "has neither patterns nor weights with covariance".to_string(),
+        ));
+    };
+    let (weights, rows, k) = matrix_of(path, "entry weights", w)?;
+    check_rows(path, "weights", rows, n)?;
+    let (covariance, cr, cc) = matrix_of(path, "entry covariance", c)?;
+    check_square(path, cr, cc, n)?;
+    Ok(DecoderFile {
+        channels,
+        k,
+        content: DecoderContent::Weights {
+            weights,
+            covariance,
+        },
+    })
+}
+
+fn check_rows(path: &Path, what: &str, rows: usize, n: usize) -> Result<(), InputError> {
+    if rows != n {
+        return Err(content_error(
+            path,
+            format!("{what} has {rows} rows; expected one per channel ({n})"),
+        ));
+    }
+    Ok(())
+}
+
+fn check_square(path: &Path, rows: usize, cols: usize, n: usize) -> Result<(), InputError> {
+    if rows != n || cols != n {
+        return Err(content_error(
+            path,
+            format!("covariance is {rows} x {cols}; expected {n} x {n} (channels x channels)"),
+        ));
+    }
+    Ok(())
+}
+
+fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
+    let store = Store::read(path)?;
+    let name = |n: &str| {
+        if store.contains(n) {
+            n.to_string()
+        } else {
+            format!("/{n}")
+        }
+    };
+    let channels = store.strings(path, &name("channels"), None)?;
+    let n = channels.len();
+    if store.contains(&name("patterns")) {
+        let (values, _, k) = store.f64_matrix_or_vector(path, &name("patterns"), n)?;
+        return Ok(DecoderFile {
+            channels,
+            k,
+            content: DecoderContent::Patterns(values),
+        });
+    }
+    if !(store.contains(&name("weights")) && store.contains(&name("covariance"))) {
+        return Err(content_error(
+            path,
+            "has neither /patterns nor /weights with /covariance".to_string(),
+        ));
+    }
+    let (weights, _, k) = store.f64_matrix_or_vector(path, &name("weights"), n)?;
+    let (covariance, _, _) = store.f64_matrix(path, &name("covariance"), Some(n), Some(n))?;
+    Ok(DecoderFile {
+        channels,
+        k,
+        content: DecoderContent::Weights {
+            weights,
+            covariance,
+        },
+    })
+}
+
+impl Store {
+    /// A matrix with `rows` rows, or a vector of length `rows` taken as one
+    /// column.
+    pub fn f64_matrix_or_vector(
+        &self,
+        file: &Path,
+        name: &str,
+        rows: usize,
+    ) -> Result<(Vec<f64>, usize, usize), super::IoError> {
+        let (values, shape) = self.f64_array(file, name)?;
+        if shape.len() == 1 && shape[0] == rows {
+            return Ok((values, rows, 1));
+        }
+        self.f64_matrix(file, name, Some(rows), None)
+    }
+}
+
+fn read_text_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), InputError> {
+    let text = std::fs::read_to_string(path).map_err(|source| super::IoError::File {
+        path: path.to_path_buf(),
+        source,
+    })?;
+    let mut values = Vec::new();
+    let mut rows = 0;
+    let mut cols = None;
+    for (i, line) in text.lines().enumerate() {
+        let line = line.trim();
+        if line.is_empty() || line.starts_with('#') {
+            continue;
+        }
+        let fields: Vec<&str> = line
+            .split(|c: char| c == ',' || c == '\t' || c == ';')
+            .map(str::trim)
+            .collect();
+        let parsed: Result<Vec<f64>, _> = fields.iter().map(|f| f.parse::<f64>()).collect();
+        let Ok(parsed) = parsed else {
+            if rows == 0 && values.is_empty() {
+                continue; // a header row
+            }
+            return Err(content_error(
+                path,
+                format!("line {}: expected numbers separated by commas", i + 1),
+            ));
+        };
+        if let Some(j) = parsed.iter().position(|v| !v.is_finite()) {
+            return Err(content_error(
+                path,
+                format!("line {}, field {}: value is not finite", i + 1, j + 1),
+            ));
+        }
+        match cols {
+            None => cols = Some(parsed.len()),
+            Some(c) if c != parsed.len() => {
+                return Err(content_error(
+                    path,
+                    format!("line {}: {} fields, expected {c}", i + 1, parsed.len()),
+                ))
+            }
+            _ => {}
+        }
+        values.extend(parsed);
+        rows += 1;
+    }
+    let cols = cols.ok_or_else(|| content_error(path, "holds no numbers".to_string()))?;
+    Ok((values, rows, cols))
+}
