@@ -5,3 +5,8 @@
 mod mesh;
 
 pub use mesh::{Mesh, Vec3};
+pub mod template;
+mod template_regions;
+mod template_sulci;
+
+pub use template::{template, unfolded_template, Template, TemplateResolution};
