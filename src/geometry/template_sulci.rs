@@ -35,14 +35,14 @@ impl SulcalLine {
     }
 }
 
-/// A sulcus with the usual furrow: a 0.75 mm half-width fundus and 3.5 mm walls.
+/// A sulcus with the usual furrow: a 0.75 mm half-width fundus and 4.5 mm walls.
 const fn sulcus(name: &'static str, path: &'static [Vec3], depth_mm: f64) -> SulcalLine {
     SulcalLine {
         name,
         path,
         depth_mm,
         fundus_half_width_mm: 0.75,
-        wall_width_mm: 3.5,
+        wall_width_mm: 4.5,
     }
 }
 
@@ -277,6 +277,64 @@ pub(crate) const TRANSVERSE_ORBITAL: SulcalLine = sulcus(
     7.0,
 );
 
+/// Frontomarginal sulcus, across the lateral frontal pole.
+pub(crate) const FRONTOMARGINAL: SulcalLine = sulcus(
+    "frontomarginal",
+    &[[0.62, 0.74, 0.10], [0.30, 0.90, -0.20]],
+    8.0,
+);
+
+/// Superior parietal sulcus, splitting the superior parietal lobule.
+pub(crate) const SUPERIOR_PARIETAL: SulcalLine = sulcus(
+    "superior parietal",
+    &[[0.35, -0.48, 0.82], [0.22, -0.70, 0.66]],
+    8.0,
+);
+
+/// Superior occipital sulcus, on the dorsal lateral occipital lobe.
+pub(crate) const SUPERIOR_OCCIPITAL: SulcalLine = sulcus(
+    "superior occipital",
+    &[[0.55, -0.80, 0.30], [0.15, -0.92, 0.30]],
+    8.0,
+);
+
+/// Middle temporal sulcus, splitting the middle temporal gyrus.
+pub(crate) const MIDDLE_TEMPORAL: SulcalLine = sulcus(
+    "middle temporal",
+    &[[0.80, 0.36, -0.72], [0.85, -0.50, -0.32]],
+    8.0,
+);
+
+/// Superior rostral sulcus, on the medial frontal surface below the
+/// paracingulate sulcus.
+pub(crate) const SUPERIOR_ROSTRAL: SulcalLine = sulcus(
+    "superior rostral",
+    &[[-0.72, 0.64, -0.12], [-0.55, 0.80, -0.15]],
+    8.0,
+);
+
+/// Hippocampal sulcus, on the medial temporal surface.
+pub(crate) const HIPPOCAMPAL: SulcalLine = sulcus(
+    "hippocampal",
+    &[[-0.78, 0.25, -0.58], [-0.80, -0.30, -0.52]],
+    8.0,
+);
+
+/// Rhinal sulcus, in front of the hippocampal sulcus on the ventromedial surface.
+pub(crate) const RHINAL: SulcalLine = sulcus(
+    "rhinal",
+    &[[-0.45, 0.38, -0.82], [-0.45, -0.05, -0.90]],
+    8.0,
+);
+
+/// Superior frontal paramedian sulcus, between the superior frontal sulcus
+/// and the dorsal margin.
+pub(crate) const PARAMEDIAN_FRONTAL: SulcalLine = sulcus(
+    "paramedian frontal",
+    &[[0.05, 0.36, 0.93], [0.00, 0.78, 0.60]],
+    8.0,
+);
+
 /// Centre of the circles the cingulate, callosal and paracingulate sulci
 /// follow (unnormalised).
 pub(crate) const CINGULATE_CENTRE: Vec3 = [-1.0, 0.12, 0.05];
@@ -284,7 +342,7 @@ pub(crate) const CINGULATE_CENTRE: Vec3 = [-1.0, 0.12, 0.05];
 pub(crate) const CINGULATE_RADIUS: f64 = 38.0 * std::f64::consts::PI / 180.0;
 
 /// Every sulcus that is dug into the surface.
-pub(crate) const SULCI: [&SulcalLine; 27] = [
+pub(crate) const SULCI: [&SulcalLine; 35] = [
     &CENTRAL,
     &LATERAL,
     &PRECENTRAL,
@@ -312,4 +370,12 @@ pub(crate) const SULCI: [&SulcalLine; 27] = [
     &OLFACTORY,
     &LATERAL_ORBITAL,
     &TRANSVERSE_ORBITAL,
+    &FRONTOMARGINAL,
+    &SUPERIOR_PARIETAL,
+    &SUPERIOR_OCCIPITAL,
+    &MIDDLE_TEMPORAL,
+    &SUPERIOR_ROSTRAL,
+    &HIPPOCAMPAL,
+    &RHINAL,
+    &PARAMEDIAN_FRONTAL,
 ];
