@@ -18,3 +18,8 @@ pub use validate::{
     check_indices_and_coordinates, isolated_vertices, validate, ComponentReport, MeshError,
     MeshReport, DEGENERATE_RATIO,
 };
+pub mod template;
+mod template_regions;
+mod template_sulci;
+
+pub use template::{template, unfolded_template, Template, TemplateResolution};
