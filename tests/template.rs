@@ -277,12 +277,15 @@ fn tangential_fraction(t: &Template, side: u8) -> f64 {
     let members: Vec<usize> = (0..t.mesh.n_vertices())
         .filter(|&i| t.hemisphere[i] == side)
         .collect();
-    let mut centre = [0.0; 3];
-    for &i in &members {
-        for k in 0..3 {
-            centre[k] += t.mesh.vertices[i][k] / members.len() as f64;
-        }
-    }
+    let weight = 1.0 / members.len() as f64;
+    let centre = members.iter().fold([0.0; 3], |c, &i| {
+        let v = t.mesh.vertices[i];
+        [
+            c[0] + v[0] * weight,
+            c[1] + v[1] * weight,
+            c[2] + v[2] * weight,
+        ]
+    });
     let tangential = members
         .iter()
         .filter(|&&i| {

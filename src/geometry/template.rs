@@ -5,7 +5,7 @@
 //! different semi-axes per octant, with a flattened medial wall and a temporal
 //! lobe that hangs lower than the frontal base), and is then folded: every
 //! vertex moves inward along the unfolded surface's normal by the depth of the
-//! deepest sulcus near it (see [`template_sulci`](super::template_sulci)).
+//! deepest sulcus near it (the sulcal lines are in `template_sulci.rs`).
 //! Because the unfolded surface is a smooth embedded surface and the fold is
 //! an inward height field shallower than its curvature radius, the folded
 //! surface stays closed, edge-manifold and free of self-intersections.

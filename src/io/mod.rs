@@ -15,6 +15,7 @@ pub mod leadfield_file;
 pub mod npy;
 pub mod off;
 pub mod ply;
+pub mod result_file;
 pub mod sources_file;
 pub mod store;
 pub mod store_access;

@@ -3,6 +3,10 @@
 
 mod cli_error;
 mod commands;
+mod inputs;
+mod outputs;
+mod progress;
+mod staging;
 
 use clap::{Parser, Subcommand};
 
@@ -24,6 +28,12 @@ enum Command {
     Montage(commands::montage::Args),
     /// Validate a file and say what it holds.
     Check(commands::check::Args),
+    /// Compute a lead field (or import one made elsewhere).
+    Leadfield(commands::leadfield::Args),
+    /// Build the multi-scale patch dictionary of a lead field.
+    Dictionary(commands::dictionary::Args),
+    /// Which cortical regions does a decoder rely on? Fit its patterns and attribute them.
+    Attribute(Box<commands::attribute::Args>),
 }
 
 fn main() {
@@ -31,6 +41,9 @@ fn main() {
     let outcome = match cli.command {
         Command::Montage(args) => commands::montage::exec(args),
         Command::Check(args) => commands::check::exec(args),
+        Command::Leadfield(args) => commands::leadfield::exec(args),
+        Command::Dictionary(args) => commands::dictionary::exec(args),
+        Command::Attribute(args) => commands::attribute::exec(*args),
     };
     if let Err(err) = outcome {
         eprintln!("error: {err}");

@@ -1,4 +1,7 @@
 //! One file per subcommand: its arguments and an `exec` that calls the library.
 
+pub mod attribute;
 pub mod check;
+pub mod dictionary;
+pub mod leadfield;
 pub mod montage;

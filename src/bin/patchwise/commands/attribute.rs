@@ -1,0 +1,475 @@
+//! `patchwise attribute`: which cortical regions does a decoder rely on?
+
+use std::path::{Path, PathBuf};
+
+use patchwise::dictionary::{atoms_for_channels, select_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM};
+use patchwise::forward::Orientation;
+use patchwise::io::cache::{default_cache_dir, entry_path, file_sha256, ContentHash};
+use patchwise::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
+use patchwise::io::dictionary_file::{read_dictionary, write_dictionary, DictionaryFile};
+use patchwise::io::leadfield_file::{read_leadfield, write_leadfield, LeadFieldFile};
+use patchwise::io::npy::read_npy;
+use patchwise::montage::Montage;
+use patchwise::patterns::{activation_patterns, average_reference, Whitener};
+use patchwise::pipeline::{fit_patterns, FitOptions, FitOutcome, LambdaRule, Problem, ResampleOptions};
+
+use super::dictionary::{AtomOrientationArg, DictionaryOptions};
+use crate::cli_error::OrExit;
+use crate::inputs::{load_head, load_montage, load_sources};
+use crate::outputs::write_outputs;
+use crate::progress::{bar, note};
+use crate::CliError;
+
+/// Arguments of `patchwise attribute`.
+#[derive(clap::Args, Debug, Clone)]
+pub struct Args {
+    /// Decoder file: .npz, .h5 or .mat with `channels` and `patterns`, or `weights` + `covariance`;
+    /// or a bare .npy/.csv matrix of patterns (n_ch x k) with --channels.
+    #[arg(long, conflicts_with = "patterns")]
+    pub decoder: Option<PathBuf>,
+    /// Patterns (.npy or .csv, n_ch x k) to fit on --dictionary, rows in the dictionary's channel order unless --channels is given.
+    #[arg(long, requires = "dictionary")]
+    pub patterns: Option<PathBuf>,
+    /// Channel labels of a bare matrix (one a line, or a BIDS channels.tsv).
+    #[arg(long)]
+    pub channels: Option<PathBuf>,
+    /// A dictionary file (ours, or any HDF5 with /dictionary/atoms and /dictionary/group); skips the forward model.
+    #[arg(long)]
+    pub dictionary: Option<PathBuf>,
+    /// Montage: 10-20, 10-10, 10-05, or an electrodes file (.tsv/.csv, mm).
+    #[arg(long, default_value = "10-05")]
+    pub montage: String,
+    /// Sources: template, template-5k, or a surface/table file (mm).
+    #[arg(long, default_value = "template")]
+    pub sources: String,
+    /// Head: default (four shells) or a TOML file.
+    #[arg(long, default_value = "default")]
+    pub head: String,
+    /// Region label per source (GIFTI label array or one label a line).
+    #[arg(long)]
+    pub regions: Option<PathBuf>,
+    #[command(flatten)]
+    pub dictionary_options: DictionaryOptions,
+    /// Noise covariance (n_ch x n_ch .npy or .csv, decoder channel order) to whiten patterns and dictionary.
+    #[arg(long)]
+    pub noise_covariance: Option<PathBuf>,
+    /// Fit all components with one shared support instead of one by one.
+    #[arg(long)]
+    pub joint: bool,
+    /// lambda = R * lambda_max (0 < R <= 1) instead of the default rule (minimum BIC along the path).
+    #[arg(long, conflicts_with = "lambda")]
+    pub lambda_ratio: Option<f64>,
+    /// An absolute lambda (units of the whitened patterns).
+    #[arg(long)]
+    pub lambda: Option<f64>,
+    /// Relative duality-gap tolerance.
+    #[arg(long, default_value_t = 1e-8)]
+    pub tol: f64,
+    /// Number of bootstrap resamples for the intervals (0 = none).
+    #[arg(long, default_value_t = 100)]
+    pub resamples: usize,
+    /// Seed of the resampling.
+    #[arg(long, default_value_t = 20141)]
+    pub seed: u64,
+    /// Skip the debiased least-squares refit.
+    #[arg(long)]
+    pub no_refit: bool,
+    /// Cache folder for lead fields and dictionaries (default: $PATCHWISE_CACHE, else the user cache folder).
+    #[arg(long)]
+    pub cache: Option<PathBuf>,
+    /// Output folder.
+    #[arg(long)]
+    pub out: PathBuf,
+}
+
+/// Everything the outputs need.
+pub struct Attribution {
+    /// Channel labels in decoder order.
+    pub labels: Vec<String>,
+    /// Patterns after referencing, before whitening (n_ch x k).
+    pub patterns: Vec<f64>,
+    /// Component names.
+    pub component_names: Vec<String>,
+    /// Number of components.
+    pub k: usize,
+    /// Where the patterns came from.
+    pub patterns_source: String,
+    /// The dictionary used (restricted to the decoder's channels).
+    pub dictionary: DictionaryFile,
+    /// The fit.
+    pub outcome: FitOutcome,
+    /// Input hashes.
+    pub hashes: Vec<(String, String)>,
+    /// Notes for the summary.
+    pub notes: Vec<String>,
+    /// Whether the fit was whitened.
+    pub whitened: bool,
+}
+
+fn bad(message: String) -> CliError {
+    CliError::bad_input(anyhow::anyhow!(message))
+}
+
+impl Args {
+    fn fit_options(&self) -> Result<FitOptions, CliError> {
+        let lambda = match (self.lambda_ratio, self.lambda) {
+            (Some(r), _) if !(r.is_finite() && r > 0.0 && r <= 1.0) => {
+                return Err(bad(format!("--lambda-ratio {r}: expected 0 < R <= 1")))
+            }
+            (Some(r), _) => LambdaRule::Ratio(r),
+            (None, Some(l)) if !(l.is_finite() && l > 0.0) => {
+                return Err(bad(format!("--lambda {l}: expected a positive number")))
+            }
+            (None, Some(l)) => LambdaRule::Absolute(l),
+            (None, None) => LambdaRule::Bic,
+        };
+        if !(self.tol.is_finite() && self.tol > 0.0 && self.tol < 1.0) {
+            return Err(bad(format!("--tol {}: expected 0 < tol < 1", self.tol)));
+        }
+        Ok(FitOptions {
+            lambda,
+            joint: self.joint,
+            tol: self.tol,
+            refit: !self.no_refit,
+            resample: ResampleOptions {
+                n_resamples: self.resamples,
+                seed: self.seed,
+                ..ResampleOptions::default()
+            },
+            whitened: self.noise_covariance.is_some(),
+        })
+    }
+}
+
+fn read_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
+    let is_npy = path.extension().is_some_and(|e| e == "npy");
+    if is_npy {
+        let a = read_npy(path).bad_input("reading a matrix")?;
+        let v = a.to_f64().ok_or_else(|| bad(format!("{}: holds strings, expected numbers", path.display())))?;
+        if v.iter().any(|x| !x.is_finite()) {
+            return Err(bad(format!("{}: holds a non-finite value", path.display())));
+        }
+        return match a.shape.as_slice() {
+            [n] => Ok((v, *n, 1)),
+            [r, c] => Ok((v, *r, *c)),
+            s => Err(bad(format!("{}: shape {s:?}, expected a matrix", path.display()))),
+        };
+    }
+    // A text matrix: reuse the decoder reader's parser through a bare read.
+    let d = read_decoder_matrix(path)?;
+    Ok(d)
+}
+
+fn read_decoder_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
+    let text = std::fs::read_to_string(path).map_err(|e| bad(format!("{}: {e}", path.display())))?;
+    let mut values = Vec::new();
+    let (mut rows, mut cols) = (0usize, None);
+    for (i, line) in text.lines().enumerate() {
+        let line = line.trim();
+        if line.is_empty() || line.starts_with('#') {
+            continue;
+        }
+        let parsed: Result<Vec<f64>, _> = line
+            .split([',', '\t', ';'])
+            .map(|f| f.trim().parse::<f64>())
+            .collect();
+        let parsed = parsed.map_err(|_| bad(format!("{}: line {}: expected numbers", path.display(), i + 1)))?;
+        if parsed.iter().any(|v| !v.is_finite()) {
+            return Err(bad(format!("{}: line {}: non-finite value", path.display(), i + 1)));
+        }
+        if cols.is_some_and(|c| c != parsed.len()) {
+            return Err(bad(format!("{}: line {}: wrong number of fields", path.display(), i + 1)));
+        }
+        cols = Some(parsed.len());
+        values.extend(parsed);
+        rows += 1;
+    }
+    let cols = cols.ok_or_else(|| bad(format!("{}: holds no numbers", path.display())))?;
+    Ok((values, rows, cols))
+}
+
+/// The decoder's patterns (n_ch x k), average-referenced over its channels.
+fn decoder_patterns(decoder: &DecoderFile, path: &Path) -> Result<Vec<f64>, CliError> {
+    let n = decoder.channels.len();
+    let raw = match &decoder.content {
+        DecoderContent::Patterns(p) => p.clone(),
+        DecoderContent::Weights { weights, covariance } => {
+            activation_patterns(weights, covariance, n, decoder.k)
+                .bad_input(format!("{}: turning weights into patterns", path.display()))?
+                .0
+        }
+    };
+    let referenced = average_reference(&raw, n, decoder.k).bad_input("average reference")?;
+    for c in 0..decoder.k {
+        let norm: f64 = (0..n).map(|i| referenced[i * decoder.k + c].powi(2)).sum::<f64>().sqrt();
+        let scale: f64 = (0..n).map(|i| raw[i * decoder.k + c].abs()).fold(0.0, f64::max);
+        if !(norm > 1e-12 * scale.max(f64::MIN_POSITIVE)) || norm == 0.0 {
+            return Err(bad(format!(
+                "{}: component {c} is zero or constant over the channels after average referencing; nothing to attribute",
+                path.display()
+            )));
+        }
+    }
+    Ok(referenced)
+}
+
+fn leadfield_hash(montage: &Montage, lf_sources: &patchwise::geometry::SourceSpace, head_json: &str, orientation: Orientation) -> String {
+    let mut h = ContentHash::new("leadfield-v1");
+    for l in &montage.labels {
+        h.str(l);
+    }
+    h.f64s(&montage.positions.iter().flatten().copied().collect::<Vec<_>>());
+    h.f64s(&lf_sources.positions.iter().flatten().copied().collect::<Vec<_>>());
+    h.f64s(&lf_sources.normals.iter().flatten().copied().collect::<Vec<_>>());
+    h.f64s(&lf_sources.areas);
+    h.u64s(&lf_sources.triangles.iter().flatten().map(|&v| v as u64).collect::<Vec<_>>());
+    h.u64s(&lf_sources.region.iter().map(|&r| r as i64 as u64).collect::<Vec<_>>());
+    for n in &lf_sources.region_names {
+        h.str(n);
+    }
+    h.str(head_json);
+    h.str(if orientation == Orientation::Free { "free" } else { "normal" });
+    h.hex()
+}
+
+/// Build (or fetch from the cache) the dictionary for the decoder's channels.
+fn dictionary_for_decoder(args: &Args, labels: &[String], hashes: &mut Vec<(String, String)>) -> Result<DictionaryFile, CliError> {
+    let (montage, from_file) = load_montage(&args.montage)?;
+    let idx = montage.select(labels).bad_input(format!(
+        "matching the decoder's channels to montage {}",
+        args.montage
+    ))?;
+    let montage = montage.subset(&idx);
+    let sources = load_sources(&args.sources, args.regions.as_deref())?;
+    let head = load_head(&args.head, &montage, from_file)?;
+    let orientation = match args.dictionary_options.atom_orientation {
+        AtomOrientationArg::Normal => Orientation::Normal,
+        AtomOrientationArg::Free => Orientation::Free,
+    };
+    let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
+    std::fs::create_dir_all(&cache).map_err(|e| CliError::compute(anyhow::anyhow!("creating cache {}: {e}", cache.display())))?;
+    let lf_hash = leadfield_hash(&montage, &sources, &head.head_model_json(), orientation);
+    let mut dh = ContentHash::new("dictionary-v1");
+    dh.str(&lf_hash).str(&args.dictionary_options.to_json());
+    let d_hash = dh.hex();
+    hashes.push(("leadfield".to_string(), lf_hash.clone()));
+    hashes.push(("dictionary".to_string(), d_hash.clone()));
+    let d_path = entry_path(&cache, "dictionary", &d_hash);
+    if d_path.is_file() {
+        if let Ok(d) = read_dictionary(&d_path) {
+            note(format!("using cached dictionary {}", d_path.display()));
+            return Ok(d);
+        }
+    }
+    let lf_path = entry_path(&cache, "leadfield", &lf_hash);
+    let lf: LeadFieldFile = match read_leadfield(&lf_path) {
+        Ok(lf) if lf_path.is_file() => {
+            note(format!("using cached lead field {}", lf_path.display()));
+            lf
+        }
+        _ => {
+            let pb = bar(sources.len(), "lead field");
+            let (lf, warnings) = patchwise::pipeline::leadfield_for(&montage, &sources, &head, orientation, &|n| pb.inc(n as u64))
+                .bad_input("computing the lead field")?;
+            pb.finish_and_clear();
+            for w in warnings {
+                note(format!("warning: {w}"));
+            }
+            write_leadfield(&lf_path, &lf).compute(format!("caching {}", lf_path.display()))?;
+            lf
+        }
+    };
+    let (d, _info) = super::dictionary::build(&lf, &args.dictionary_options)?;
+    write_dictionary(&d_path, &lf, &d, &args.dictionary_options.to_json())
+        .compute(format!("caching {}", d_path.display()))?;
+    read_dictionary(&d_path).compute(format!("reading back {}", d_path.display()))
+}
+
+/// Restrict a dictionary to `labels` (decoder order), recomputing atoms
+/// from the profiles when channels must be dropped or reordered.
+fn restrict(dict: DictionaryFile, labels: &[String], path: &Path) -> Result<DictionaryFile, CliError> {
+    let Some(lf) = &dict.leadfield else {
+        if labels.len() != dict.n_channels {
+            return Err(bad(format!(
+                "{}: the dictionary has {} rows and no channel labels, but the patterns have {} channels",
+                path.display(),
+                dict.n_channels,
+                labels.len()
+            )));
+        }
+        return Ok(dict);
+    };
+    let montage = Montage::new(lf.labels.clone(), lf.electrode_positions.clone())
+        .bad_input(format!("{}: channel labels", path.display()))?;
+    let idx = montage
+        .select(labels)
+        .bad_input(format!("matching the decoder's channels to {}", path.display()))?;
+    if idx.iter().copied().eq(0..dict.n_channels) {
+        return Ok(dict);
+    }
+    let (Some(profile), Some(_)) = (&dict.profile, &dict.atom_norms) else {
+        return Err(bad(format!(
+            "{}: channels differ from the decoder's and the file has no /dictionary/profile to recompute the atoms",
+            path.display()
+        )));
+    };
+    let gain = select_channels(&lf.gain, lf.n_channels(), &idx).bad_input("selecting channels")?;
+    let gain_xyz = match &lf.gain_xyz {
+        Some(g) => Some(select_channels(g, lf.n_channels(), &idx).bad_input("selecting channels")?),
+        None => None,
+    };
+    let component = dict.component.clone().unwrap_or_else(|| vec![AtomComponent::Normal; dict.n_atoms]);
+    let (atoms, norms) = atoms_for_channels(profile, &component, &gain, gain_xyz.as_deref(), idx.len(), true, DEFAULT_DROP_RELATIVE_NORM)
+        .bad_input("recomputing atoms for the decoder's channels")?;
+    let mut sub_lf = lf.clone();
+    sub_lf.labels = idx.iter().map(|&i| lf.labels[i].clone()).collect();
+    sub_lf.electrode_positions = idx.iter().map(|&i| lf.electrode_positions[i]).collect();
+    sub_lf.gain = gain;
+    sub_lf.gain_xyz = gain_xyz;
+    Ok(DictionaryFile {
+        leadfield: Some(sub_lf),
+        n_channels: idx.len(),
+        atoms,
+        atom_norms: Some(norms),
+        ..dict
+    })
+}
+
+fn whiten(dict: &mut DictionaryFile, patterns: &[f64], k: usize, path: &Path) -> Result<Vec<f64>, CliError> {
+    let n = dict.n_channels;
+    let (cov, r, c) = read_matrix(path)?;
+    if r != n || c != n {
+        return Err(bad(format!("{}: noise covariance is {r} x {c}, expected {n} x {n}", path.display())));
+    }
+    // Reference the noise covariance like the data: H C H with H the centring matrix.
+    let mut centred = cov.clone();
+    let row_mean: Vec<f64> = (0..n).map(|i| (0..n).map(|j| cov[i * n + j]).sum::<f64>() / n as f64).collect();
+    let all_mean = row_mean.iter().sum::<f64>() / n as f64;
+    for i in 0..n {
+        for j in 0..n {
+            centred[i * n + j] = cov[i * n + j] - row_mean[i] - row_mean[j] + all_mean;
+        }
+    }
+    let w = Whitener::new(&centred, n).bad_input(format!("{}: noise covariance", path.display()))?;
+    let yw = w.apply(patterns, k).bad_input("whitening the patterns")?;
+    let m = dict.n_atoms;
+    let aw = w.apply(&dict.atoms, m).bad_input("whitening the dictionary")?;
+    let mut norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);
+    let mut atoms = aw;
+    for j in 0..m {
+        let s: f64 = (0..n).map(|i| atoms[i * m + j].powi(2)).sum::<f64>().sqrt();
+        if s > 0.0 {
+            for i in 0..n {
+                atoms[i * m + j] /= s;
+            }
+        }
+        norms[j] *= s;
+    }
+    dict.atoms = atoms;
+    dict.atom_norms = Some(norms);
+    Ok(yw)
+}
+
+/// Run the whole job for validated arguments; used by `attribute` and `demo`.
+pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribution, CliError> {
+    let options = args.fit_options()?;
+    let mut hashes = Vec::new();
+    let mut notes = Vec::new();
+    // Inputs first: every bad input is found before anything is computed or written.
+    let (decoder, input_path) = match (&args.decoder, &args.patterns) {
+        (Some(d), _) => (read_decoder(d, args.channels.as_deref()).bad_input("reading the decoder")?, d.clone()),
+        (None, Some(p)) => {
+            let (values, rows, k) = read_matrix(p)?;
+            let labels = match &args.channels {
+                Some(c) => patchwise::io::electrodes::read_channel_list(c).bad_input("reading channels")?,
+                None => (0..rows).map(|i| format!("row{i}")).collect(),
+            };
+            if labels.len() != rows {
+                return Err(bad(format!("{}: {rows} rows but {} channel labels", p.display(), labels.len())));
+            }
+            (DecoderFile { channels: labels, k, content: DecoderContent::Patterns(values) }, p.clone())
+        }
+        (None, None) => return Err(bad("give --decoder FILE (or --dictionary with --patterns)".to_string())),
+    };
+    hashes.push((
+        "decoder".to_string(),
+        file_sha256(&input_path).map_err(|e| bad(format!("{}: {e}", input_path.display())))?,
+    ));
+    // Labels must be unique ignoring case and aliases.
+    Montage::new(decoder.channels.clone(), vec![[0.0, 0.0, 1.0]; decoder.channels.len()])
+        .bad_input(format!("{}: channel labels", input_path.display()))?;
+    let patterns = decoder_patterns(&decoder, &input_path)?;
+    let k = decoder.k;
+    let mut dict = match &args.dictionary {
+        Some(p) => {
+            let d = read_dictionary(p).bad_input("reading the dictionary")?;
+            hashes.push(("dictionary".to_string(), file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?));
+            if args.patterns.is_some() && args.channels.is_none() {
+                if decoder.channels.len() != d.n_channels {
+                    return Err(bad(format!(
+                        "{}: patterns have {} rows, the dictionary {} channels",
+                        input_path.display(),
+                        decoder.channels.len(),
+                        d.n_channels
+                    )));
+                }
+                d
+            } else {
+                restrict(d, &decoder.channels, p)?
+            }
+        }
+        None => dictionary_for_decoder(args, &decoder.channels, &mut hashes)?,
+    };
+    let fit_y = match &args.noise_covariance {
+        Some(p) => {
+            hashes.push(("noise_covariance".to_string(), file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?));
+            whiten(&mut dict, &patterns, k, p)?
+        }
+        None => {
+            notes.push("no noise covariance given: the fit assumes white sensor noise (identity whitening)".to_string());
+            patterns.clone()
+        }
+    };
+    let empty_profile = sprs::CsMat::zero((0, dict.n_atoms)).to_csc();
+    let (profile, regions, names, positions) = match (&dict.leadfield, &dict.profile) {
+        (Some(lf), Some(p)) => (p, lf.sources.region.clone(), lf.sources.region_names.clone(), lf.sources.positions.clone()),
+        _ => {
+            notes.push("the dictionary has no source space or profiles: no region table".to_string());
+            (&empty_profile, Vec::new(), Vec::new(), Vec::new())
+        }
+    };
+    let norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; dict.n_atoms]);
+    let problem = Problem {
+        atoms: &dict.atoms,
+        n_channels: dict.n_channels,
+        group: &dict.group,
+        atom_norms: &norms,
+        profile,
+        source_region: &regions,
+        n_regions: names.len(),
+        source_positions: &positions,
+    };
+    let pb = bar(options.resample.n_resamples, "resampling");
+    let outcome = fit_patterns(&problem, &fit_y, k, &options, &|n| pb.inc(n as u64)).compute("fitting")?;
+    pb.finish_and_clear();
+    let component_names = component_names.unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
+    Ok(Attribution {
+        labels: decoder.channels.clone(),
+        patterns,
+        component_names,
+        k,
+        patterns_source: decoder.source_kind().to_string(),
+        dictionary: dict,
+        outcome,
+        hashes,
+        notes,
+        whitened: args.noise_covariance.is_some(),
+    })
+}
+
+/// Run `patchwise attribute`.
+pub fn exec(args: Args) -> Result<(), CliError> {
+    let result = run(&args, None)?;
+    write_outputs(&args.out, &result)?;
+    Ok(())
+}

@@ -1,0 +1,90 @@
+//! Resolving the montage, source and head options shared by several
+//! subcommands into library values.
+
+use std::path::Path;
+
+use patchwise::geometry::{template, SourceSpace, TemplateResolution};
+use patchwise::head::{HeadSpec, SphereHead};
+use patchwise::io::electrodes::read_electrodes;
+use patchwise::io::sources_file::{read_regions, read_sources};
+use patchwise::montage::{fit_sphere, standard, standard_names, Montage};
+
+use crate::cli_error::OrExit;
+use crate::CliError;
+
+/// A montage by standard name (on the default head's scalp sphere) or from
+/// an electrodes file (BIDS TSV or CSV, mm). Returns whether it came from a
+/// file.
+pub fn load_montage(spec: &str) -> Result<(Montage, bool), CliError> {
+    let known = standard_names()
+        .iter()
+        .any(|n| n.eq_ignore_ascii_case(spec))
+        || spec.eq_ignore_ascii_case("10-5");
+    if known {
+        let radius = SphereHead::default_adult().outer_radius();
+        return Ok((standard(spec, radius).bad_input("choosing a montage")?, false));
+    }
+    let path = Path::new(spec);
+    if path.is_file() {
+        let m = read_electrodes(path).bad_input("reading electrodes")?;
+        return Ok((m, true));
+    }
+    Err(CliError::bad_input(anyhow::anyhow!(
+        "montage {spec:?} is neither a standard layout ({}) nor an existing electrodes file",
+        standard_names().join(", ")
+    )))
+}
+
+/// Sources: `template`, `template-5k`, or a surface/table file; regions from
+/// the template's parcellation or from `regions`.
+pub fn load_sources(spec: &str, regions: Option<&Path>) -> Result<SourceSpace, CliError> {
+    let mut sources = if let Some(res) = TemplateResolution::from_name(spec) {
+        let t = template(res);
+        let mut s = SourceSpace::from_mesh(&t.mesh);
+        s.region = t.region;
+        s.region_names = t.region_names;
+        s
+    } else {
+        let path = Path::new(spec);
+        if !path.is_file() {
+            return Err(CliError::bad_input(anyhow::anyhow!(
+                "sources {spec:?} are neither template, template-5k nor an existing file"
+            )));
+        }
+        read_sources(path).bad_input("reading sources")?
+    };
+    if let Some(r) = regions {
+        let (region, names) = read_regions(r, sources.len()).bad_input("reading regions")?;
+        sources.region = region;
+        sources.region_names = names;
+    }
+    Ok(sources)
+}
+
+/// The head: `default` or a TOML file. When the montage came from a file
+/// and the head gives no centre, the centre is the least-squares sphere fit
+/// of the electrodes.
+pub fn load_head(spec: &str, montage: &Montage, montage_from_file: bool) -> Result<SphereHead, CliError> {
+    let (spec_value, name) = if spec == "default" {
+        (SphereHead::default_adult().to_spec(), "default".to_string())
+    } else {
+        let path = Path::new(spec);
+        let text = std::fs::read_to_string(path)
+            .map_err(|e| CliError::bad_input(anyhow::anyhow!("{}: {e}", path.display())))?;
+        let name = path.display().to_string();
+        let mut s = HeadSpec::from_toml_str(&text, &name).bad_input("reading the head model")?;
+        if s.center_mm.is_none() && !montage_from_file {
+            s.center_mm = Some([0.0; 3]);
+        }
+        (s, name)
+    };
+    let mut spec_value = spec_value;
+    let file_without_centre = spec != "default" && spec_value.center_mm.is_none();
+    if montage_from_file && (spec == "default" || file_without_centre) {
+        let (center, _radius) = fit_sphere(&montage.positions).bad_input(format!(
+            "fitting a sphere to the electrodes for the head centre ({name})"
+        ))?;
+        spec_value.center_mm = Some(center.map(|v| v * 1e3));
+    }
+    spec_value.to_head().bad_input(format!("head model {name}"))
+}
