@@ -17,7 +17,7 @@ use super::params::{Info, StopReason, ValidParams};
 use super::problem::{Prepared, Targets};
 
 /// The inner solve aims at this fraction of the current full gap.
-const INNER_FRACTION: f64 = 0.3;
+const INNER_FRACTION: f64 = 0.01;
 
 /// Solves the group-LASSO for one λ from the warm start `x` (row-major
 /// `n_atoms x k`, overwritten with the solution). `lambda_max` must be the
@@ -133,7 +133,15 @@ pub(crate) fn solve(
         }
         let ws = choose_working_set(prep, &cert, &screened, x, k, params.working_set, ws_size);
         last_ws = ws.len();
-        ws_size = (2 * ws.len()).max(ws_size).min(n_groups);
+        // Next size: twice the active groups, so the set stays small while
+        // the support is small; after a few passes at one λ it doubles each
+        // pass, which guarantees that it reaches the whole problem if needed.
+        let (n_active, _) = count_active(prep, x, k);
+        ws_size = if outer > 3 {
+            (2 * ws_size).min(n_groups)
+        } else {
+            params.initial_working_set.max(2 * n_active).min(n_groups)
+        };
         let (sub, atoms) = restrict(prep, &ws);
         let mut x_ws: Vec<f64> = atoms
             .iter()
