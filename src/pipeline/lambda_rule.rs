@@ -2,7 +2,7 @@
 //! along the regularisation path.
 //!
 //! The default is the Bayesian information criterion along a warm-started
-//! path of 20 log-spaced ratios from 1 down to 0.01 of λ_max:
+//! path of 15 log-spaced ratios from 1 down to 0.02 of λ_max:
 //! BIC(λ) = n ln(RSS/n) + df ln n, with n the number of fitted values
 //! (channels × components fitted together) and df the number of nonzero
 //! coefficients (Schwarz 1978, Ann Stat 6:461; using the active-set size as
@@ -29,9 +29,9 @@ impl Default for LambdaRule {
 }
 
 /// Number of path points searched by [`LambdaRule::Bic`].
-pub const BIC_PATH_POINTS: usize = 20;
+pub const BIC_PATH_POINTS: usize = 15;
 /// Smallest ratio searched by [`LambdaRule::Bic`].
-pub const BIC_MIN_RATIO: f64 = 0.01;
+pub const BIC_MIN_RATIO: f64 = 0.02;
 
 /// The BIC of a fit with residual sum of squares `rss` over `n` values and
 /// `df` degrees of freedom.
