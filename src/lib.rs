@@ -22,5 +22,5 @@ pub mod head;
 pub mod io;
 pub mod montage;
 pub mod patterns;
-pub mod solver;
 pub mod pipeline;
+pub mod solver;

@@ -67,47 +67,48 @@ fn ext(path: &Path) -> String {
 /// Read a decoder. `channels_file` supplies the labels for `.npy`/`.csv`
 /// (one label a line, or a BIDS channels.tsv) and overrides none otherwise.
 pub fn read_decoder(path: &Path, channels_file: Option<&Path>) -> Result<DecoderFile, InputError> {
-    let decoder = match ext(path).as_str() {
-        "npz" => read_npz_decoder(path)?,
-        "h5" | "hdf5" | "mat" => read_store_decoder(path)?,
-        "npy" | "csv" | "tsv" | "txt" => {
-            let Some(ch) = channels_file else {
-                return Err(content_error(
-                    path,
-                    "a bare matrix of patterns needs --channels FILE with one label per row"
-                        .to_string(),
-                ));
-            };
-            let channels = read_channel_list(ch)?;
-            let (values, rows, cols) = if ext(path) == "npy" {
-                let a = read_npy(path)?;
-                matrix_of(path, "the array", &a)?
-            } else {
-                read_text_matrix(path)?
-            };
-            if rows != channels.len() {
-                return Err(content_error(
-                    path,
-                    format!(
+    let decoder =
+        match ext(path).as_str() {
+            "npz" => read_npz_decoder(path)?,
+            "h5" | "hdf5" | "mat" => read_store_decoder(path)?,
+            "npy" | "csv" | "tsv" | "txt" => {
+                let Some(ch) = channels_file else {
+                    return Err(content_error(
+                        path,
+                        "a bare matrix of patterns needs --channels FILE with one label per row"
+                            .to_string(),
+                    ));
+                };
+                let channels = read_channel_list(ch)?;
+                let (values, rows, cols) = if ext(path) == "npy" {
+                    let a = read_npy(path)?;
+                    matrix_of(path, "the array", &a)?
+                } else {
+                    read_text_matrix(path)?
+                };
+                if rows != channels.len() {
+                    return Err(content_error(
+                        path,
+                        format!(
                         "has {rows} rows but {} names {} channels; expected one row per channel",
                         ch.display(),
                         channels.len()
                     ),
-                ));
+                    ));
+                }
+                DecoderFile {
+                    channels,
+                    k: cols,
+                    content: DecoderContent::Patterns(values),
+                }
             }
-            DecoderFile {
-                channels,
-                k: cols,
-                content: DecoderContent::Patterns(values),
-            }
-        }
-        other => {
-            return Err(content_error(
+            other => return Err(content_error(
                 path,
-                format!("unknown decoder file kind {other:?}; expected .npz, .h5, .mat, .npy or .csv"),
-            ))
-        }
-    };
+                format!(
+                    "unknown decoder file kind {other:?}; expected .npz, .h5, .mat, .npy or .csv"
+                ),
+            )),
+        };
     if decoder.channels.is_empty() || decoder.k == 0 {
         return Err(content_error(
             path,
@@ -117,10 +118,14 @@ pub fn read_decoder(path: &Path, channels_file: Option<&Path>) -> Result<Decoder
     Ok(decoder)
 }
 
-fn matrix_of(path: &Path, what: &str, a: &NpyArray) -> Result<(Vec<f64>, usize, usize), InputError> {
-    let values = a.to_f64().ok_or_else(|| {
-        content_error(path, format!("{what} holds strings; expected numbers"))
-    })?;
+fn matrix_of(
+    path: &Path,
+    what: &str,
+    a: &NpyArray,
+) -> Result<(Vec<f64>, usize, usize), InputError> {
+    let values = a
+        .to_f64()
+        .ok_or_else(|| content_error(path, format!("{what} holds strings; expected numbers")))?;
     if let Some(i) = values.iter().position(|v| !v.is_finite()) {
         return Err(content_error(
             path,
@@ -139,7 +144,11 @@ fn matrix_of(path: &Path, what: &str, a: &NpyArray) -> Result<(Vec<f64>, usize, 
 
 fn read_npz_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     let arrays: BTreeMap<String, NpyArray> = read_npz(path)?;
-    let get = |name: &str| arrays.get(name).or_else(|| arrays.get(&format!("{name}.npy")));
+    let get = |name: &str| {
+        arrays
+            .get(name)
+            .or_else(|| arrays.get(&format!("{name}.npy")))
+    };
     let channels = match get("channels").map(|a| &a.data) {
         Some(NpyData::Str(s)) => s.clone(),
         Some(_) => {

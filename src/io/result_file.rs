@@ -32,7 +32,11 @@ pub struct ResultRecord<'a> {
 pub const CAUTION: &str = "Research interpretation of a decoding model; not a medical device and not for clinical decisions (e.g. presurgical planning). Defer to licensed clinical practice and local regulations.";
 
 /// Per-component value of the block that fitted it.
-fn per_component(outcome: &FitOutcome, k: usize, f: impl Fn(&crate::pipeline::FittedComponent) -> f64) -> Vec<f64> {
+fn per_component(
+    outcome: &FitOutcome,
+    k: usize,
+    f: impl Fn(&crate::pipeline::FittedComponent) -> f64,
+) -> Vec<f64> {
     let mut out = vec![f64::NAN; k];
     for b in &outcome.blocks {
         for &c in &b.components {
@@ -54,24 +58,64 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
     }
     s.set_group_attr("/", "caution", Attr::Str(CAUTION.to_string()));
     s.set_group_attr("/", "notes", Attr::Str(r.notes_json.to_string()));
-    s.set_group_attr("/", "software", Attr::Str(format!("patchwise {}", env!("CARGO_PKG_VERSION"))));
+    s.set_group_attr(
+        "/",
+        "software",
+        Attr::Str(format!("patchwise {}", env!("CARGO_PKG_VERSION"))),
+    );
     s.insert("/patterns/labels", Dataset::strings(r.labels.to_vec()));
-    s.insert("/patterns/values", Dataset::f64(vec![n_ch, k], r.patterns.to_vec()));
-    s.insert("/patterns/source", Dataset::strings(vec![r.patterns_source.to_string()]));
-    s.insert("/patterns/component_names", Dataset::strings(r.component_names.to_vec()));
-    s.insert("/fit/coefficients", Dataset::f64(vec![n_atoms, k], o.fit.coefficients.clone()));
+    s.insert(
+        "/patterns/values",
+        Dataset::f64(vec![n_ch, k], r.patterns.to_vec()),
+    );
+    s.insert(
+        "/patterns/source",
+        Dataset::strings(vec![r.patterns_source.to_string()]),
+    );
+    s.insert(
+        "/patterns/component_names",
+        Dataset::strings(r.component_names.to_vec()),
+    );
+    s.insert(
+        "/fit/coefficients",
+        Dataset::f64(vec![n_atoms, k], o.fit.coefficients.clone()),
+    );
     if let Some(refit) = &o.refit {
-        s.insert("/fit/coefficients_refit", Dataset::f64(vec![n_atoms, k], refit.coefficients.clone()));
+        s.insert(
+            "/fit/coefficients_refit",
+            Dataset::f64(vec![n_atoms, k], refit.coefficients.clone()),
+        );
     }
-    s.insert("/fit/lambda", Dataset::f64(vec![k], per_component(o, k, |b| b.lambda)));
-    s.insert("/fit/lambda_max", Dataset::f64(vec![k], per_component(o, k, |b| b.lambda_max)));
-    s.insert("/fit/duality_gap", Dataset::f64(vec![k], per_component(o, k, |b| b.duality_gap)));
+    s.insert(
+        "/fit/lambda",
+        Dataset::f64(vec![k], per_component(o, k, |b| b.lambda)),
+    );
+    s.insert(
+        "/fit/lambda_max",
+        Dataset::f64(vec![k], per_component(o, k, |b| b.lambda_max)),
+    );
+    s.insert(
+        "/fit/duality_gap",
+        Dataset::f64(vec![k], per_component(o, k, |b| b.duality_gap)),
+    );
     s.insert(
         "/fit/iterations",
-        Dataset::i64(vec![k], per_component(o, k, |b| b.iterations as f64).iter().map(|&v| v as i64).collect()),
+        Dataset::i64(
+            vec![k],
+            per_component(o, k, |b| b.iterations as f64)
+                .iter()
+                .map(|&v| v as i64)
+                .collect(),
+        ),
     );
-    s.insert("/fit/explained_variance", Dataset::f64(vec![k], o.fit.explained_variance.clone()));
-    s.insert("/fit/residual", Dataset::f64(vec![n_ch, k], o.fit.residual.clone()));
+    s.insert(
+        "/fit/explained_variance",
+        Dataset::f64(vec![k], o.fit.explained_variance.clone()),
+    );
+    s.insert(
+        "/fit/residual",
+        Dataset::f64(vec![n_ch, k], o.fit.residual.clone()),
+    );
     let n_regions = r.region_names.len();
     let comps = &o.attribution.components;
     let n_src = comps.first().map_or(0, |c| c.source_map.len());
@@ -93,11 +137,23 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
         }
         peak_region[c] = a.peak_region as i64;
     }
-    s.insert("/attribution/region_names", Dataset::strings(r.region_names.to_vec()));
-    s.insert("/attribution/share", Dataset::f64(vec![n_regions, k], share));
-    s.insert("/attribution/source_map", Dataset::f64(vec![n_src, k], source_map));
+    s.insert(
+        "/attribution/region_names",
+        Dataset::strings(r.region_names.to_vec()),
+    );
+    s.insert(
+        "/attribution/share",
+        Dataset::f64(vec![n_regions, k], share),
+    );
+    s.insert(
+        "/attribution/source_map",
+        Dataset::f64(vec![n_src, k], source_map),
+    );
     s.insert("/attribution/peak_mm", Dataset::f64(vec![k, 3], peak));
-    s.insert("/attribution/peak_region", Dataset::i64(vec![k], peak_region));
+    s.insert(
+        "/attribution/peak_region",
+        Dataset::i64(vec![k], peak_region),
+    );
     s.insert(
         "/attribution/unassigned_share",
         Dataset::f64(vec![k], comps.iter().map(|c| c.unassigned_share).collect()),
@@ -114,10 +170,22 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
                 freq[reg * k + c] = iv.selection_frequency;
             }
         }
-        s.insert("/attribution/share_low", Dataset::f64(vec![n_regions, k], low));
-        s.insert("/attribution/share_high", Dataset::f64(vec![n_regions, k], high));
-        s.insert("/attribution/selection_frequency", Dataset::f64(vec![n_regions, k], freq));
-        s.insert("/attribution/noise_sd", Dataset::f64(vec![k], rs.noise_sd.clone()));
+        s.insert(
+            "/attribution/share_low",
+            Dataset::f64(vec![n_regions, k], low),
+        );
+        s.insert(
+            "/attribution/share_high",
+            Dataset::f64(vec![n_regions, k], high),
+        );
+        s.insert(
+            "/attribution/selection_frequency",
+            Dataset::f64(vec![n_regions, k], freq),
+        );
+        s.insert(
+            "/attribution/noise_sd",
+            Dataset::f64(vec![k], rs.noise_sd.clone()),
+        );
     }
     s.write_atomic(path)
 }

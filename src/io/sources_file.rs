@@ -104,7 +104,11 @@ fn read_source_table(path: &Path) -> Result<SourceSpace, InputError> {
         ]);
         let n = match &ncols {
             Some(nc) => {
-                let n = [number(row, nc[0])?, number(row, nc[1])?, number(row, nc[2])?];
+                let n = [
+                    number(row, nc[0])?,
+                    number(row, nc[1])?,
+                    number(row, nc[2])?,
+                ];
                 let len = crate::geometry::norm(n);
                 if len == 0.0 {
                     return Err(InputError::Content {

@@ -170,7 +170,12 @@ fn fit_block(
                 } else {
                     bic(rss, n, df)
                 };
-                summary.push((p.ratio, p.explained_variance_total, p.info.n_active_groups, b));
+                summary.push((
+                    p.ratio,
+                    p.explained_variance_total,
+                    p.info.n_active_groups,
+                    b,
+                ));
                 if b < best_bic {
                     best_bic = b;
                     best = i;

@@ -22,7 +22,10 @@ pub fn load_montage(spec: &str) -> Result<(Montage, bool), CliError> {
         || spec.eq_ignore_ascii_case("10-5");
     if known {
         let radius = SphereHead::default_adult().outer_radius();
-        return Ok((standard(spec, radius).bad_input("choosing a montage")?, false));
+        return Ok((
+            standard(spec, radius).bad_input("choosing a montage")?,
+            false,
+        ));
     }
     let path = Path::new(spec);
     if path.is_file() {
@@ -64,7 +67,11 @@ pub fn load_sources(spec: &str, regions: Option<&Path>) -> Result<SourceSpace, C
 /// The head: `default` or a TOML file. When the montage came from a file
 /// and the head gives no centre, the centre is the least-squares sphere fit
 /// of the electrodes.
-pub fn load_head(spec: &str, montage: &Montage, montage_from_file: bool) -> Result<SphereHead, CliError> {
+pub fn load_head(
+    spec: &str,
+    montage: &Montage,
+    montage_from_file: bool,
+) -> Result<SphereHead, CliError> {
     let (spec_value, name) = if spec == "default" {
         (SphereHead::default_adult().to_spec(), "default".to_string())
     } else {

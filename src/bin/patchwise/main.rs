@@ -24,6 +24,8 @@ struct Cli {
 
 #[derive(Subcommand, Debug)]
 enum Command {
+    /// Run the whole job on the embedded default, on an invented scenario with known generators.
+    Demo(commands::demo::Args),
     /// Standard electrode layouts: list, show, export.
     Montage(commands::montage::Args),
     /// Validate a file and say what it holds.
@@ -39,6 +41,7 @@ enum Command {
 fn main() {
     let cli = Cli::parse();
     let outcome = match cli.command {
+        Command::Demo(args) => commands::demo::exec(args),
         Command::Montage(args) => commands::montage::exec(args),
         Command::Check(args) => commands::check::exec(args),
         Command::Leadfield(args) => commands::leadfield::exec(args),

@@ -63,7 +63,9 @@ pub fn region_rows(a: &Attribution) -> Vec<Vec<RegionRow>> {
                     low: iv.map_or(f64::NAN, |i| i.low),
                     high: iv.map_or(f64::NAN, |i| i.high),
                     frequency: iv.map_or(f64::NAN, |i| i.selection_frequency),
-                    peak_mm: best[r].1.map_or([f64::NAN; 3], |v| positions[v].map(|x| x * 1e3)),
+                    peak_mm: best[r]
+                        .1
+                        .map_or([f64::NAN; 3], |v| positions[v].map(|x| x * 1e3)),
                 }
             })
             .collect();
@@ -91,10 +93,18 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
             a.component_names[c],
             100.0 * a.outcome.fit.explained_variance[c],
             comp.peak_position
-                .map(|p| format!(", peak at ({:.0}, {:.0}, {:.0}) mm", p[0] * 1e3, p[1] * 1e3, p[2] * 1e3))
+                .map(|p| format!(
+                    ", peak at ({:.0}, {:.0}, {:.0}) mm",
+                    p[0] * 1e3,
+                    p[1] * 1e3,
+                    p[2] * 1e3
+                ))
                 .unwrap_or_default()
         );
-        println!("  {:<28} {:>7} {:>17} {:>9}", "region", "share", "95 % interval", "selected");
+        println!(
+            "  {:<28} {:>7} {:>17} {:>9}",
+            "region", "share", "95 % interval", "selected"
+        );
         for r in comp_rows.iter().take(top) {
             if r.share.abs() < 0.005 && r.frequency.is_nan() {
                 continue;
@@ -138,10 +148,12 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
             })
             .collect();
         let peak_region = if comp.peak_region >= 0 {
-            a.dictionary
-                .leadfield
-                .as_ref()
-                .and_then(|l| l.sources.region_names.get(comp.peak_region as usize).cloned())
+            a.dictionary.leadfield.as_ref().and_then(|l| {
+                l.sources
+                    .region_names
+                    .get(comp.peak_region as usize)
+                    .cloned()
+            })
         } else {
             None
         };
@@ -203,7 +215,15 @@ pub fn write_outputs(out: &Path, a: &Attribution) -> Result<PathBuf, CliError> {
     };
     write_result(&stage.file("result.h5"), &record).map_err(CliError::compute)?;
     let header = [
-        "component", "region", "share", "share_low", "share_high", "selection_frequency", "peak_x_mm", "peak_y_mm", "peak_z_mm",
+        "component",
+        "region",
+        "share",
+        "share_low",
+        "share_high",
+        "selection_frequency",
+        "peak_x_mm",
+        "peak_y_mm",
+        "peak_z_mm",
     ];
     let csv: Vec<Vec<String>> = rows
         .iter()
@@ -222,14 +242,18 @@ pub fn write_outputs(out: &Path, a: &Attribution) -> Result<PathBuf, CliError> {
             ]
         })
         .collect();
-    write_table(&stage.file("regions.csv"), Delimiter::Comma, &header, &csv).map_err(CliError::compute)?;
+    write_table(&stage.file("regions.csv"), Delimiter::Comma, &header, &csv)
+        .map_err(CliError::compute)?;
     let summary = serde_json::to_string_pretty(&summary_json(a, &rows)).unwrap_or_default();
     patchwise::io::atomic::write_atomic(&stage.file("summary.json"), summary.as_bytes())
         .map_err(|e| CliError::compute(anyhow::anyhow!("writing summary.json: {e}")))?;
     let dir = stage.commit().map_err(CliError::compute)?;
     print_table(a, &rows, 6);
     println!();
-    println!("results in {} (result.h5, regions.csv, summary.json)", dir.display());
+    println!(
+        "results in {} (result.h5, regions.csv, summary.json)",
+        dir.display()
+    );
     println!("caution: {CAUTION}");
     Ok(dir)
 }

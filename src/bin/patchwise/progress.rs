@@ -11,8 +11,7 @@ pub fn bar(total: usize, what: &str) -> ProgressBar {
         return ProgressBar::hidden();
     }
     let pb = ProgressBar::new(total as u64);
-    if let Ok(style) =
-        ProgressStyle::with_template("{msg:>22} [{bar:30}] {pos}/{len} ({eta} left)")
+    if let Ok(style) = ProgressStyle::with_template("{msg:>22} [{bar:30}] {pos}/{len} ({eta} left)")
     {
         pb.set_style(style.progress_chars("=> "));
     }

@@ -2,7 +2,9 @@
 
 use std::path::{Path, PathBuf};
 
-use patchwise::dictionary::{atoms_for_channels, select_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM};
+use patchwise::dictionary::{
+    atoms_for_channels, select_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM,
+};
 use patchwise::forward::Orientation;
 use patchwise::io::cache::{default_cache_dir, entry_path, file_sha256, ContentHash};
 use patchwise::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
@@ -11,7 +13,9 @@ use patchwise::io::leadfield_file::{read_leadfield, write_leadfield, LeadFieldFi
 use patchwise::io::npy::read_npy;
 use patchwise::montage::Montage;
 use patchwise::patterns::{activation_patterns, average_reference, Whitener};
-use patchwise::pipeline::{fit_patterns, FitOptions, FitOutcome, LambdaRule, Problem, ResampleOptions};
+use patchwise::pipeline::{
+    fit_patterns, FitOptions, FitOutcome, LambdaRule, Problem, ResampleOptions,
+};
 
 use super::dictionary::{AtomOrientationArg, DictionaryOptions};
 use crate::cli_error::OrExit;
@@ -145,14 +149,22 @@ fn read_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
     let is_npy = path.extension().is_some_and(|e| e == "npy");
     if is_npy {
         let a = read_npy(path).bad_input("reading a matrix")?;
-        let v = a.to_f64().ok_or_else(|| bad(format!("{}: holds strings, expected numbers", path.display())))?;
+        let v = a.to_f64().ok_or_else(|| {
+            bad(format!(
+                "{}: holds strings, expected numbers",
+                path.display()
+            ))
+        })?;
         if v.iter().any(|x| !x.is_finite()) {
             return Err(bad(format!("{}: holds a non-finite value", path.display())));
         }
         return match a.shape.as_slice() {
             [n] => Ok((v, *n, 1)),
             [r, c] => Ok((v, *r, *c)),
-            s => Err(bad(format!("{}: shape {s:?}, expected a matrix", path.display()))),
+            s => Err(bad(format!(
+                "{}: shape {s:?}, expected a matrix",
+                path.display()
+            ))),
         };
     }
     // A text matrix: reuse the decoder reader's parser through a bare read.
@@ -161,7 +173,8 @@ fn read_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
 }
 
 fn read_decoder_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
-    let text = std::fs::read_to_string(path).map_err(|e| bad(format!("{}: {e}", path.display())))?;
+    let text =
+        std::fs::read_to_string(path).map_err(|e| bad(format!("{}: {e}", path.display())))?;
     let mut values = Vec::new();
     let (mut rows, mut cols) = (0usize, None);
     for (i, line) in text.lines().enumerate() {
@@ -173,12 +186,26 @@ fn read_decoder_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError
             .split([',', '\t', ';'])
             .map(|f| f.trim().parse::<f64>())
             .collect();
-        let parsed = parsed.map_err(|_| bad(format!("{}: line {}: expected numbers", path.display(), i + 1)))?;
+        let parsed = parsed.map_err(|_| {
+            bad(format!(
+                "{}: line {}: expected numbers",
+                path.display(),
+                i + 1
+            ))
+        })?;
         if parsed.iter().any(|v| !v.is_finite()) {
-            return Err(bad(format!("{}: line {}: non-finite value", path.display(), i + 1)));
+            return Err(bad(format!(
+                "{}: line {}: non-finite value",
+                path.display(),
+                i + 1
+            )));
         }
         if cols.is_some_and(|c| c != parsed.len()) {
-            return Err(bad(format!("{}: line {}: wrong number of fields", path.display(), i + 1)));
+            return Err(bad(format!(
+                "{}: line {}: wrong number of fields",
+                path.display(),
+                i + 1
+            )));
         }
         cols = Some(parsed.len());
         values.extend(parsed);
@@ -193,7 +220,10 @@ fn decoder_patterns(decoder: &DecoderFile, path: &Path) -> Result<Vec<f64>, CliE
     let n = decoder.channels.len();
     let raw = match &decoder.content {
         DecoderContent::Patterns(p) => p.clone(),
-        DecoderContent::Weights { weights, covariance } => {
+        DecoderContent::Weights {
+            weights,
+            covariance,
+        } => {
             activation_patterns(weights, covariance, n, decoder.k)
                 .bad_input(format!("{}: turning weights into patterns", path.display()))?
                 .0
@@ -201,8 +231,13 @@ fn decoder_patterns(decoder: &DecoderFile, path: &Path) -> Result<Vec<f64>, CliE
     };
     let referenced = average_reference(&raw, n, decoder.k).bad_input("average reference")?;
     for c in 0..decoder.k {
-        let norm: f64 = (0..n).map(|i| referenced[i * decoder.k + c].powi(2)).sum::<f64>().sqrt();
-        let scale: f64 = (0..n).map(|i| raw[i * decoder.k + c].abs()).fold(0.0, f64::max);
+        let norm: f64 = (0..n)
+            .map(|i| referenced[i * decoder.k + c].powi(2))
+            .sum::<f64>()
+            .sqrt();
+        let scale: f64 = (0..n)
+            .map(|i| raw[i * decoder.k + c].abs())
+            .fold(0.0, f64::max);
         if !(norm > 1e-12 * scale.max(f64::MIN_POSITIVE)) || norm == 0.0 {
             return Err(bad(format!(
                 "{}: component {c} is zero or constant over the channels after average referencing; nothing to attribute",
@@ -213,27 +248,74 @@ fn decoder_patterns(decoder: &DecoderFile, path: &Path) -> Result<Vec<f64>, CliE
     Ok(referenced)
 }
 
-fn leadfield_hash(montage: &Montage, lf_sources: &patchwise::geometry::SourceSpace, head_json: &str, orientation: Orientation) -> String {
+fn leadfield_hash(
+    montage: &Montage,
+    lf_sources: &patchwise::geometry::SourceSpace,
+    head_json: &str,
+    orientation: Orientation,
+) -> String {
     let mut h = ContentHash::new("leadfield-v1");
     for l in &montage.labels {
         h.str(l);
     }
-    h.f64s(&montage.positions.iter().flatten().copied().collect::<Vec<_>>());
-    h.f64s(&lf_sources.positions.iter().flatten().copied().collect::<Vec<_>>());
-    h.f64s(&lf_sources.normals.iter().flatten().copied().collect::<Vec<_>>());
+    h.f64s(
+        &montage
+            .positions
+            .iter()
+            .flatten()
+            .copied()
+            .collect::<Vec<_>>(),
+    );
+    h.f64s(
+        &lf_sources
+            .positions
+            .iter()
+            .flatten()
+            .copied()
+            .collect::<Vec<_>>(),
+    );
+    h.f64s(
+        &lf_sources
+            .normals
+            .iter()
+            .flatten()
+            .copied()
+            .collect::<Vec<_>>(),
+    );
     h.f64s(&lf_sources.areas);
-    h.u64s(&lf_sources.triangles.iter().flatten().map(|&v| v as u64).collect::<Vec<_>>());
-    h.u64s(&lf_sources.region.iter().map(|&r| r as i64 as u64).collect::<Vec<_>>());
+    h.u64s(
+        &lf_sources
+            .triangles
+            .iter()
+            .flatten()
+            .map(|&v| v as u64)
+            .collect::<Vec<_>>(),
+    );
+    h.u64s(
+        &lf_sources
+            .region
+            .iter()
+            .map(|&r| r as i64 as u64)
+            .collect::<Vec<_>>(),
+    );
     for n in &lf_sources.region_names {
         h.str(n);
     }
     h.str(head_json);
-    h.str(if orientation == Orientation::Free { "free" } else { "normal" });
+    h.str(if orientation == Orientation::Free {
+        "free"
+    } else {
+        "normal"
+    });
     h.hex()
 }
 
 /// Build (or fetch from the cache) the dictionary for the decoder's channels.
-fn dictionary_for_decoder(args: &Args, labels: &[String], hashes: &mut Vec<(String, String)>) -> Result<DictionaryFile, CliError> {
+fn dictionary_for_decoder(
+    args: &Args,
+    labels: &[String],
+    hashes: &mut Vec<(String, String)>,
+) -> Result<DictionaryFile, CliError> {
     let (montage, from_file) = load_montage(&args.montage)?;
     let idx = montage.select(labels).bad_input(format!(
         "matching the decoder's channels to montage {}",
@@ -247,7 +329,9 @@ fn dictionary_for_decoder(args: &Args, labels: &[String], hashes: &mut Vec<(Stri
         AtomOrientationArg::Free => Orientation::Free,
     };
     let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
-    std::fs::create_dir_all(&cache).map_err(|e| CliError::compute(anyhow::anyhow!("creating cache {}: {e}", cache.display())))?;
+    std::fs::create_dir_all(&cache).map_err(|e| {
+        CliError::compute(anyhow::anyhow!("creating cache {}: {e}", cache.display()))
+    })?;
     let lf_hash = leadfield_hash(&montage, &sources, &head.head_model_json(), orientation);
     let mut dh = ContentHash::new("dictionary-v1");
     dh.str(&lf_hash).str(&args.dictionary_options.to_json());
@@ -269,7 +353,10 @@ fn dictionary_for_decoder(args: &Args, labels: &[String], hashes: &mut Vec<(Stri
         }
         _ => {
             let pb = bar(sources.len(), "lead field");
-            let (lf, warnings) = patchwise::pipeline::leadfield_for(&montage, &sources, &head, orientation, &|n| pb.inc(n as u64))
+            let (lf, warnings) =
+                patchwise::pipeline::leadfield_for(&montage, &sources, &head, orientation, &|n| {
+                    pb.inc(n as u64)
+                })
                 .bad_input("computing the lead field")?;
             pb.finish_and_clear();
             for w in warnings {
@@ -287,7 +374,11 @@ fn dictionary_for_decoder(args: &Args, labels: &[String], hashes: &mut Vec<(Stri
 
 /// Restrict a dictionary to `labels` (decoder order), recomputing atoms
 /// from the profiles when channels must be dropped or reordered.
-fn restrict(dict: DictionaryFile, labels: &[String], path: &Path) -> Result<DictionaryFile, CliError> {
+fn restrict(
+    dict: DictionaryFile,
+    labels: &[String],
+    path: &Path,
+) -> Result<DictionaryFile, CliError> {
     let Some(lf) = &dict.leadfield else {
         if labels.len() != dict.n_channels {
             return Err(bad(format!(
@@ -301,9 +392,10 @@ fn restrict(dict: DictionaryFile, labels: &[String], path: &Path) -> Result<Dict
     };
     let montage = Montage::new(lf.labels.clone(), lf.electrode_positions.clone())
         .bad_input(format!("{}: channel labels", path.display()))?;
-    let idx = montage
-        .select(labels)
-        .bad_input(format!("matching the decoder's channels to {}", path.display()))?;
+    let idx = montage.select(labels).bad_input(format!(
+        "matching the decoder's channels to {}",
+        path.display()
+    ))?;
     if idx.iter().copied().eq(0..dict.n_channels) {
         return Ok(dict);
     }
@@ -318,9 +410,20 @@ fn restrict(dict: DictionaryFile, labels: &[String], path: &Path) -> Result<Dict
         Some(g) => Some(select_channels(g, lf.n_channels(), &idx).bad_input("selecting channels")?),
         None => None,
     };
-    let component = dict.component.clone().unwrap_or_else(|| vec![AtomComponent::Normal; dict.n_atoms]);
-    let (atoms, norms) = atoms_for_channels(profile, &component, &gain, gain_xyz.as_deref(), idx.len(), true, DEFAULT_DROP_RELATIVE_NORM)
-        .bad_input("recomputing atoms for the decoder's channels")?;
+    let component = dict
+        .component
+        .clone()
+        .unwrap_or_else(|| vec![AtomComponent::Normal; dict.n_atoms]);
+    let (atoms, norms) = atoms_for_channels(
+        profile,
+        &component,
+        &gain,
+        gain_xyz.as_deref(),
+        idx.len(),
+        true,
+        DEFAULT_DROP_RELATIVE_NORM,
+    )
+    .bad_input("recomputing atoms for the decoder's channels")?;
     let mut sub_lf = lf.clone();
     sub_lf.labels = idx.iter().map(|&i| lf.labels[i].clone()).collect();
     sub_lf.electrode_positions = idx.iter().map(|&i| lf.electrode_positions[i]).collect();
@@ -335,25 +438,38 @@ fn restrict(dict: DictionaryFile, labels: &[String], path: &Path) -> Result<Dict
     })
 }
 
-fn whiten(dict: &mut DictionaryFile, patterns: &[f64], k: usize, path: &Path) -> Result<Vec<f64>, CliError> {
+fn whiten(
+    dict: &mut DictionaryFile,
+    patterns: &[f64],
+    k: usize,
+    path: &Path,
+) -> Result<Vec<f64>, CliError> {
     let n = dict.n_channels;
     let (cov, r, c) = read_matrix(path)?;
     if r != n || c != n {
-        return Err(bad(format!("{}: noise covariance is {r} x {c}, expected {n} x {n}", path.display())));
+        return Err(bad(format!(
+            "{}: noise covariance is {r} x {c}, expected {n} x {n}",
+            path.display()
+        )));
     }
     // Reference the noise covariance like the data: H C H with H the centring matrix.
     let mut centred = cov.clone();
-    let row_mean: Vec<f64> = (0..n).map(|i| (0..n).map(|j| cov[i * n + j]).sum::<f64>() / n as f64).collect();
+    let row_mean: Vec<f64> = (0..n)
+        .map(|i| (0..n).map(|j| cov[i * n + j]).sum::<f64>() / n as f64)
+        .collect();
     let all_mean = row_mean.iter().sum::<f64>() / n as f64;
     for i in 0..n {
         for j in 0..n {
             centred[i * n + j] = cov[i * n + j] - row_mean[i] - row_mean[j] + all_mean;
         }
     }
-    let w = Whitener::new(&centred, n).bad_input(format!("{}: noise covariance", path.display()))?;
+    let w =
+        Whitener::new(&centred, n).bad_input(format!("{}: noise covariance", path.display()))?;
     let yw = w.apply(patterns, k).bad_input("whitening the patterns")?;
     let m = dict.n_atoms;
-    let aw = w.apply(&dict.atoms, m).bad_input("whitening the dictionary")?;
+    let aw = w
+        .apply(&dict.atoms, m)
+        .bad_input("whitening the dictionary")?;
     let mut norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);
     let mut atoms = aw;
     for j in 0..m {
@@ -377,33 +493,59 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     let mut notes = Vec::new();
     // Inputs first: every bad input is found before anything is computed or written.
     let (decoder, input_path) = match (&args.decoder, &args.patterns) {
-        (Some(d), _) => (read_decoder(d, args.channels.as_deref()).bad_input("reading the decoder")?, d.clone()),
+        (Some(d), _) => (
+            read_decoder(d, args.channels.as_deref()).bad_input("reading the decoder")?,
+            d.clone(),
+        ),
         (None, Some(p)) => {
             let (values, rows, k) = read_matrix(p)?;
             let labels = match &args.channels {
-                Some(c) => patchwise::io::electrodes::read_channel_list(c).bad_input("reading channels")?,
+                Some(c) => {
+                    patchwise::io::electrodes::read_channel_list(c).bad_input("reading channels")?
+                }
                 None => (0..rows).map(|i| format!("row{i}")).collect(),
             };
             if labels.len() != rows {
-                return Err(bad(format!("{}: {rows} rows but {} channel labels", p.display(), labels.len())));
+                return Err(bad(format!(
+                    "{}: {rows} rows but {} channel labels",
+                    p.display(),
+                    labels.len()
+                )));
             }
-            (DecoderFile { channels: labels, k, content: DecoderContent::Patterns(values) }, p.clone())
+            (
+                DecoderFile {
+                    channels: labels,
+                    k,
+                    content: DecoderContent::Patterns(values),
+                },
+                p.clone(),
+            )
         }
-        (None, None) => return Err(bad("give --decoder FILE (or --dictionary with --patterns)".to_string())),
+        (None, None) => {
+            return Err(bad(
+                "give --decoder FILE (or --dictionary with --patterns)".to_string()
+            ))
+        }
     };
     hashes.push((
         "decoder".to_string(),
         file_sha256(&input_path).map_err(|e| bad(format!("{}: {e}", input_path.display())))?,
     ));
     // Labels must be unique ignoring case and aliases.
-    Montage::new(decoder.channels.clone(), vec![[0.0, 0.0, 1.0]; decoder.channels.len()])
-        .bad_input(format!("{}: channel labels", input_path.display()))?;
+    Montage::new(
+        decoder.channels.clone(),
+        vec![[0.0, 0.0, 1.0]; decoder.channels.len()],
+    )
+    .bad_input(format!("{}: channel labels", input_path.display()))?;
     let patterns = decoder_patterns(&decoder, &input_path)?;
     let k = decoder.k;
     let mut dict = match &args.dictionary {
         Some(p) => {
             let d = read_dictionary(p).bad_input("reading the dictionary")?;
-            hashes.push(("dictionary".to_string(), file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?));
+            hashes.push((
+                "dictionary".to_string(),
+                file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
+            ));
             if args.patterns.is_some() && args.channels.is_none() {
                 if decoder.channels.len() != d.n_channels {
                     return Err(bad(format!(
@@ -422,7 +564,10 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     };
     let fit_y = match &args.noise_covariance {
         Some(p) => {
-            hashes.push(("noise_covariance".to_string(), file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?));
+            hashes.push((
+                "noise_covariance".to_string(),
+                file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
+            ));
             whiten(&mut dict, &patterns, k, p)?
         }
         None => {
@@ -432,13 +577,23 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     };
     let empty_profile = sprs::CsMat::zero((0, dict.n_atoms)).to_csc();
     let (profile, regions, names, positions) = match (&dict.leadfield, &dict.profile) {
-        (Some(lf), Some(p)) => (p, lf.sources.region.clone(), lf.sources.region_names.clone(), lf.sources.positions.clone()),
+        (Some(lf), Some(p)) => (
+            p,
+            lf.sources.region.clone(),
+            lf.sources.region_names.clone(),
+            lf.sources.positions.clone(),
+        ),
         _ => {
-            notes.push("the dictionary has no source space or profiles: no region table".to_string());
+            notes.push(
+                "the dictionary has no source space or profiles: no region table".to_string(),
+            );
             (&empty_profile, Vec::new(), Vec::new(), Vec::new())
         }
     };
-    let norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; dict.n_atoms]);
+    let norms = dict
+        .atom_norms
+        .clone()
+        .unwrap_or_else(|| vec![1.0; dict.n_atoms]);
     let problem = Problem {
         atoms: &dict.atoms,
         n_channels: dict.n_channels,
@@ -450,9 +605,11 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         source_positions: &positions,
     };
     let pb = bar(options.resample.n_resamples, "resampling");
-    let outcome = fit_patterns(&problem, &fit_y, k, &options, &|n| pb.inc(n as u64)).compute("fitting")?;
+    let outcome =
+        fit_patterns(&problem, &fit_y, k, &options, &|n| pb.inc(n as u64)).compute("fitting")?;
     pb.finish_and_clear();
-    let component_names = component_names.unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
+    let component_names =
+        component_names.unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
     Ok(Attribution {
         labels: decoder.channels.clone(),
         patterns,

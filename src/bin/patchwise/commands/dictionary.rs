@@ -2,7 +2,9 @@
 
 use std::path::PathBuf;
 
-use patchwise::dictionary::{AtomOrientation, Dictionary, DictionaryInfo, DictionaryParams, Profile};
+use patchwise::dictionary::{
+    AtomOrientation, Dictionary, DictionaryInfo, DictionaryParams, Profile,
+};
 use patchwise::io::dictionary_file::write_dictionary;
 use patchwise::io::leadfield_file::{read_leadfield, LeadFieldFile};
 use patchwise::pipeline::{dictionary_for, DistanceKind};
@@ -99,7 +101,10 @@ impl DictionaryOptions {
 }
 
 /// Build the dictionary of a lead field with a progress bar.
-pub fn build(lf: &LeadFieldFile, options: &DictionaryOptions) -> Result<(Dictionary, DictionaryInfo), CliError> {
+pub fn build(
+    lf: &LeadFieldFile,
+    options: &DictionaryOptions,
+) -> Result<(Dictionary, DictionaryInfo), CliError> {
     let params = options.params()?;
     let pb = bar(lf.n_sources(), "patch dictionary");
     let spacing = options.spacing_mm.map(|s| s * 1e-3);

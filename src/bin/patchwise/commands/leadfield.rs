@@ -3,7 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use patchwise::forward::Orientation;
-use patchwise::geometry::{normalize, norm, SourceSpace};
+use patchwise::geometry::{norm, normalize, SourceSpace};
 use patchwise::io::electrodes::read_channel_list;
 use patchwise::io::leadfield_file::{write_leadfield, LeadFieldFile};
 use patchwise::io::npy::read_npy;
@@ -151,17 +151,26 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     Ok(())
 }
 
-fn matrix(store: Option<(&Store, &Path)>, file: Option<&PathBuf>, name: &str) -> Result<(Vec<f64>, Vec<usize>, String), CliError> {
+fn matrix(
+    store: Option<(&Store, &Path)>,
+    file: Option<&PathBuf>,
+    name: &str,
+) -> Result<(Vec<f64>, Vec<usize>, String), CliError> {
     if let Some((s, p)) = store {
         let (v, shape) = s.f64_array(p, name).bad_input("importing")?;
         return Ok((v, shape, format!("{} {name}", p.display())));
     }
     let path = file.ok_or_else(|| {
-        CliError::bad_input(anyhow::anyhow!("missing --{name} FILE.npy (or --from FILE)"))
+        CliError::bad_input(anyhow::anyhow!(
+            "missing --{name} FILE.npy (or --from FILE)"
+        ))
     })?;
     let a = read_npy(path).bad_input("importing")?;
     let v = a.to_f64().ok_or_else(|| {
-        CliError::bad_input(anyhow::anyhow!("{}: holds strings, expected numbers", path.display()))
+        CliError::bad_input(anyhow::anyhow!(
+            "{}: holds strings, expected numbers",
+            path.display()
+        ))
     })?;
     if v.iter().any(|x| !x.is_finite()) {
         return Err(CliError::bad_input(anyhow::anyhow!(
@@ -181,8 +190,12 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
             for (name, a) in arrays {
                 let name = name.trim_end_matches(".npy").to_string();
                 let ds = match &a.data {
-                    patchwise::io::npy::NpyData::Str(v) => patchwise::io::Dataset::strings(v.clone()),
-                    _ => patchwise::io::Dataset::f64(a.shape.clone(), a.to_f64().unwrap_or_default()),
+                    patchwise::io::npy::NpyData::Str(v) => {
+                        patchwise::io::Dataset::strings(v.clone())
+                    }
+                    _ => {
+                        patchwise::io::Dataset::f64(a.shape.clone(), a.to_f64().unwrap_or_default())
+                    }
                 };
                 s.insert(&format!("/{name}"), ds);
             }
@@ -200,18 +213,26 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
     let (nrm, nshape, nname) = matrix(store, args.normals.as_ref(), "normals")?;
     let bad = |m: String| CliError::bad_input(anyhow::anyhow!(m));
     if gshape.len() != 2 {
-        return Err(bad(format!("{gname}: shape {gshape:?}, expected [n_ch, n_src]")));
+        return Err(bad(format!(
+            "{gname}: shape {gshape:?}, expected [n_ch, n_src]"
+        )));
     }
     let (n_ch, n_src) = (gshape[0], gshape[1]);
     if pshape != [n_src, 3] {
-        return Err(bad(format!("{pname}: shape {pshape:?}, expected [{n_src}, 3] (mm)")));
+        return Err(bad(format!(
+            "{pname}: shape {pshape:?}, expected [{n_src}, 3] (mm)"
+        )));
     }
     if nshape != [n_src, 3] {
-        return Err(bad(format!("{nname}: shape {nshape:?}, expected [{n_src}, 3]")));
+        return Err(bad(format!(
+            "{nname}: shape {nshape:?}, expected [{n_src}, 3]"
+        )));
     }
     let channels = match (store, &args.channels) {
         (_, Some(c)) => read_channel_list(c).bad_input("importing channels")?,
-        (Some((s, p)), None) => s.strings(p, "/channels", Some(n_ch)).bad_input("importing")?,
+        (Some((s, p)), None) => s
+            .strings(p, "/channels", Some(n_ch))
+            .bad_input("importing")?,
         (None, None) => return Err(bad("missing --channels FILE".to_string())),
     };
     if channels.len() != n_ch {
@@ -231,7 +252,10 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
         }
         normals.push(normalize(n));
     }
-    let positions: Vec<_> = pos.chunks_exact(3).map(|c| [c[0] * 1e-3, c[1] * 1e-3, c[2] * 1e-3]).collect();
+    let positions: Vec<_> = pos
+        .chunks_exact(3)
+        .map(|c| [c[0] * 1e-3, c[1] * 1e-3, c[2] * 1e-3])
+        .collect();
     let triangles = match (store, &args.triangles) {
         (_, Some(t)) => {
             let (v, s, name) = matrix(None, Some(t), "triangles")?;
@@ -269,7 +293,10 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
             }
         }
     } else if args.reference != "none" {
-        return Err(bad(format!("--reference {:?}: expected average or none", args.reference)));
+        return Err(bad(format!(
+            "--reference {:?}: expected average or none",
+            args.reference
+        )));
     }
     let lf = LeadFieldFile {
         labels: channels,
@@ -288,7 +315,12 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
     Ok(())
 }
 
-fn to_triangles(v: &[f64], shape: &[usize], n_src: usize, name: &str) -> Result<Vec<[u32; 3]>, CliError> {
+fn to_triangles(
+    v: &[f64],
+    shape: &[usize],
+    n_src: usize,
+    name: &str,
+) -> Result<Vec<[u32; 3]>, CliError> {
     if shape.len() != 2 || shape[1] != 3 {
         return Err(CliError::bad_input(anyhow::anyhow!(
             "{name}: shape {shape:?}, expected [n_tri, 3]"

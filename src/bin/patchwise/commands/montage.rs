@@ -71,7 +71,11 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         Action::Export { name, out } => {
             let m = standard_on_default_head(&name)?;
             write_electrodes_tsv(&out, &m).compute(format!("writing {}", out.display()))?;
-            println!("wrote {} electrodes of {name} to {}", m.len(), out.display());
+            println!(
+                "wrote {} electrodes of {name} to {}",
+                m.len(),
+                out.display()
+            );
             Ok(())
         }
     }
