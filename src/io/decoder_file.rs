@@ -67,48 +67,49 @@ fn ext(path: &Path) -> String {
 /// Read a decoder. `channels_file` supplies the labels for `.npy`/`.csv`
 /// (one label a line, or a BIDS channels.tsv) and overrides none otherwise.
 pub fn read_decoder(path: &Path, channels_file: Option<&Path>) -> Result<DecoderFile, InputError> {
-    let decoder =
-        match ext(path).as_str() {
-            "npz" => read_npz_decoder(path)?,
-            "h5" | "hdf5" | "mat" => read_store_decoder(path)?,
-            "npy" | "csv" | "tsv" | "txt" => {
-                let Some(ch) = channels_file else {
-                    return Err(content_error(
-                        path,
-                        "a bare matrix of patterns needs --channels FILE with one label per row"
-                            .to_string(),
-                    ));
-                };
-                let channels = read_channel_list(ch)?;
-                let (values, rows, cols) = if ext(path) == "npy" {
-                    let a = read_npy(path)?;
-                    matrix_of(path, "the array", &a)?
-                } else {
-                    read_text_matrix(path)?
-                };
-                if rows != channels.len() {
-                    return Err(content_error(
-                        path,
-                        format!(
+    let decoder = match ext(path).as_str() {
+        "npz" => read_npz_decoder(path)?,
+        "h5" | "hdf5" | "mat" => read_store_decoder(path)?,
+        "npy" | "csv" | "tsv" | "txt" => {
+            let Some(ch) = channels_file else {
+                return Err(content_error(
+                    path,
+                    "a bare matrix of patterns needs --channels FILE with one label per row"
+                        .to_string(),
+                ));
+            };
+            let channels = read_channel_list(ch)?;
+            let (values, rows, cols) = if ext(path) == "npy" {
+                let a = read_npy(path)?;
+                matrix_of(path, "the array", &a)?
+            } else {
+                read_text_matrix(path)?
+            };
+            if rows != channels.len() {
+                return Err(content_error(
+                    path,
+                    format!(
                         "has {rows} rows but {} names {} channels; expected one row per channel",
                         ch.display(),
                         channels.len()
                     ),
-                    ));
-                }
-                DecoderFile {
-                    channels,
-                    k: cols,
-                    content: DecoderContent::Patterns(values),
-                }
+                ));
             }
-            other => return Err(content_error(
+            DecoderFile {
+                channels,
+                k: cols,
+                content: DecoderContent::Patterns(values),
+            }
+        }
+        other => {
+            return Err(content_error(
                 path,
                 format!(
                     "unknown decoder file kind {other:?}; expected .npz, .h5, .mat, .npy or .csv"
                 ),
-            )),
-        };
+            ))
+        }
+    };
     if decoder.channels.is_empty() || decoder.k == 0 {
         return Err(content_error(
             path,

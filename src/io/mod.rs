@@ -20,6 +20,7 @@ pub mod sources_file;
 pub mod store;
 pub mod store_access;
 pub mod table;
+pub mod template_files;
 
 pub use error::IoError;
 pub use store::{Array, Attr, Dataset, Store};

@@ -36,6 +36,8 @@ enum Command {
     Dictionary(commands::dictionary::Args),
     /// Which cortical regions does a decoder rely on? Fit its patterns and attribute them.
     Attribute(Box<commands::attribute::Args>),
+    /// The template cortex: regenerate its GIFTI files.
+    Template(commands::template::Args),
 }
 
 fn main() {
@@ -47,6 +49,7 @@ fn main() {
         Command::Leadfield(args) => commands::leadfield::exec(args),
         Command::Dictionary(args) => commands::dictionary::exec(args),
         Command::Attribute(args) => commands::attribute::exec(*args),
+        Command::Template(args) => commands::template::exec(args),
     };
     if let Err(err) = outcome {
         eprintln!("error: {err}");

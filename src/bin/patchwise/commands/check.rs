@@ -87,7 +87,7 @@ fn check_gifti(path: &Path) -> Result<(), CliError> {
 fn check_table(path: &Path) -> Result<(), CliError> {
     let t = table::read_table(path).bad_input("reading table")?;
     let has = |n: &str| t.header.iter().any(|h| h.eq_ignore_ascii_case(n));
-    if has("x") && has("y") && has("z") {
+    if has("x") || has("y") || has("z") {
         let m = electrodes::read_electrodes(path).bad_input("reading electrodes")?;
         println!(
             "{}: electrodes file, {} electrodes (positions in mm): {}",

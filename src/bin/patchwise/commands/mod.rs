@@ -6,3 +6,4 @@ pub mod demo;
 pub mod dictionary;
 pub mod leadfield;
 pub mod montage;
+pub mod template;
