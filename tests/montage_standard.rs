@@ -195,7 +195,7 @@ fn left_right_mirror_symmetry() {
                 None => (rest, ""),
             };
             let n: u32 = digits.parse().unwrap();
-            if n % 2 == 0 {
+            if n.is_multiple_of(2) {
                 assert!(p[0] > 0.0, "{label} should be on the right");
                 continue;
             }

@@ -142,33 +142,33 @@ pub fn attribute(input: &AttributionInput<'_>) -> Result<Attribution, Attributio
             .map(|j| input.coefficients[j * k + c])
             .collect();
         let y: Vec<f64> = (0..n_ch).map(|i| input.patterns[i * k + c]).collect();
-        // Per-group reconstructions D_g x_g, summed into ŷ.
-        let mut group_recon = vec![vec![0.0; n_ch]; n_groups];
+        // Per-group reconstructions D_g x_g of the active groups only (a
+        // sorted map keeps the summation order fixed), summed into ŷ.
+        let mut group_recon: std::collections::BTreeMap<usize, Vec<f64>> = Default::default();
         for (j, &xj) in x.iter().enumerate() {
             if xj != 0.0 {
-                let g = input.group[j];
-                for i in 0..n_ch {
-                    group_recon[g][i] += input.atoms[i * n_atoms + j] * xj;
+                let recon = group_recon
+                    .entry(input.group[j])
+                    .or_insert_with(|| vec![0.0; n_ch]);
+                for (i, r) in recon.iter_mut().enumerate() {
+                    *r += input.atoms[i * n_atoms + j] * xj;
                 }
             }
         }
         let mut y_hat = vec![0.0; n_ch];
-        for recon in &group_recon {
-            for i in 0..n_ch {
-                y_hat[i] += recon[i];
+        for recon in group_recon.values() {
+            for (yh, r) in y_hat.iter_mut().zip(recon) {
+                *yh += r;
             }
         }
         let y_hat_sq: f64 = y_hat.iter().map(|v| v * v).sum();
-        let group_share: Vec<f64> = group_recon
-            .iter()
-            .map(|recon| {
-                if y_hat_sq > 0.0 {
-                    recon.iter().zip(&y_hat).map(|(a, b)| a * b).sum::<f64>() / y_hat_sq
-                } else {
-                    0.0
-                }
-            })
-            .collect();
+        let mut group_share = vec![0.0; n_groups];
+        if y_hat_sq > 0.0 {
+            for (&g, recon) in &group_recon {
+                group_share[g] =
+                    recon.iter().zip(&y_hat).map(|(a, b)| a * b).sum::<f64>() / y_hat_sq;
+            }
+        }
         let mut region_share = vec![0.0; input.n_regions];
         let mut unassigned_share = 0.0;
         for (g, &share) in group_share.iter().enumerate() {

@@ -53,7 +53,7 @@ pub fn minimum_norm(
     k: usize,
     params: MinimumNormParams,
 ) -> Result<Vec<f64>, MinimumNormError> {
-    if n_channels == 0 || gain.len() % n_channels != 0 {
+    if n_channels == 0 || !gain.len().is_multiple_of(n_channels) {
         return Err(MinimumNormError::Shape {
             found: gain.len(),
             expected: n_channels,

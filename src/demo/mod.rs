@@ -113,8 +113,8 @@ fn region_seed(
     }
     let mut centroid = [0.0; 3];
     for &v in &members {
-        for d in 0..3 {
-            centroid[d] += mesh.vertices[v][d] / members.len() as f64;
+        for (c, p) in centroid.iter_mut().zip(mesh.vertices[v]) {
+            *c += p / members.len() as f64;
         }
     }
     // The region vertex nearest to the centroid: a central, typical seed.

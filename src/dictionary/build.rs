@@ -310,7 +310,7 @@ pub fn select_channels(
     if keep.is_empty() || n_rows == 0 {
         return Err(DictionaryError::NoChannels);
     }
-    if matrix.len() % n_rows != 0 {
+    if !matrix.len().is_multiple_of(n_rows) {
         return Err(DictionaryError::RaggedMatrix {
             len: matrix.len(),
             n_rows,

@@ -282,10 +282,7 @@ fn read_text_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), InputError>
         if line.is_empty() || line.starts_with('#') {
             continue;
         }
-        let fields: Vec<&str> = line
-            .split(|c: char| c == ',' || c == '\t' || c == ';')
-            .map(str::trim)
-            .collect();
+        let fields: Vec<&str> = line.split([',', '\t', ';']).map(str::trim).collect();
         let parsed: Result<Vec<f64>, _> = fields.iter().map(|f| f.parse::<f64>()).collect();
         let Ok(parsed) = parsed else {
             if rows == 0 && values.is_empty() {

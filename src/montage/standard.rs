@@ -108,7 +108,7 @@ fn mirror(p: Vec3) -> Vec3 {
 /// Column label suffixes for half-steps 1..=10 from the midline: left and right.
 /// Odd half-steps are the "h" positions between two 10-10 columns.
 fn column_names(half_steps: usize) -> (String, String) {
-    if half_steps % 2 == 0 {
+    if half_steps.is_multiple_of(2) {
         ((half_steps - 1).to_string(), half_steps.to_string())
     } else {
         (format!("{half_steps}h"), format!("{}h", half_steps + 1))

@@ -12,20 +12,15 @@
 //! recovery benchmark.
 
 /// The rule that sets λ.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub enum LambdaRule {
     /// Minimum BIC along the path (the default).
+    #[default]
     Bic,
     /// λ = ratio · λ_max, 0 < ratio ≤ 1.
     Ratio(f64),
     /// λ itself (in the units of the whitened patterns).
     Absolute(f64),
-}
-
-impl Default for LambdaRule {
-    fn default() -> Self {
-        LambdaRule::Bic
-    }
 }
 
 /// Number of path points searched by [`LambdaRule::Bic`].

@@ -23,6 +23,7 @@ struct Cli {
 }
 
 #[derive(Subcommand, Debug)]
+#[allow(clippy::large_enum_variant)]
 enum Command {
     /// Run the whole job on the embedded default, on an invented scenario with known generators.
     Demo(commands::demo::Args),

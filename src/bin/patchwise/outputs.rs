@@ -132,6 +132,7 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
 pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Value {
     let o = &a.outcome;
     let mut comps = Vec::new();
+    #[allow(clippy::needless_range_loop)]
     for c in 0..a.k {
         let block = o.blocks.iter().find(|b| b.components.contains(&c));
         let comp = &o.attribution.components[c];

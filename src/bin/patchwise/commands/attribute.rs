@@ -238,7 +238,7 @@ fn decoder_patterns(decoder: &DecoderFile, path: &Path) -> Result<Vec<f64>, CliE
         let scale: f64 = (0..n)
             .map(|i| raw[i * decoder.k + c].abs())
             .fold(0.0, f64::max);
-        if !(norm > 1e-12 * scale.max(f64::MIN_POSITIVE)) || norm == 0.0 {
+        if norm <= 1e-12 * scale.max(f64::MIN_POSITIVE) || norm.is_nan() {
             return Err(bad(format!(
                 "{}: component {c} is zero or constant over the channels after average referencing; nothing to attribute",
                 path.display()

@@ -165,6 +165,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     println!("known generators:");
     let rows = region_rows(&a);
     let mut found_all = true;
+    #[allow(clippy::needless_range_loop)]
     for c in 0..k {
         let truth: Vec<_> = scenario
             .generators
