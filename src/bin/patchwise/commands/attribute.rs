@@ -57,6 +57,9 @@ pub struct Args {
     /// Noise covariance (n_ch x n_ch .npy or .csv, decoder channel order) to whiten patterns and dictionary.
     #[arg(long)]
     pub noise_covariance: Option<PathBuf>,
+    /// Reference of the fit: average (patterns and atoms re-referenced to the common average) or none (both used as given).
+    #[arg(long, value_parser = ["average", "none"], default_value = "average")]
+    pub reference: String,
     /// Fit all components with one shared support instead of one by one.
     #[arg(long)]
     pub joint: bool,
@@ -215,8 +218,44 @@ fn read_decoder_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError
     Ok((values, rows, cols))
 }
 
-/// The decoder's patterns (n_ch x k), average-referenced over its channels.
-fn decoder_patterns(decoder: &DecoderFile, path: &Path) -> Result<Vec<f64>, CliError> {
+/// Re-reference atoms to the common average (subtract each column's
+/// channel mean) and rescale them to unit norm, folding the scale into the
+/// atom norms; columns already referenced are left as they are.
+fn reference_atoms(dict: &mut DictionaryFile) {
+    let (n, m) = (dict.n_channels, dict.n_atoms);
+    let mut norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);
+    for j in 0..m {
+        let mean = (0..n).map(|i| dict.atoms[i * m + j]).sum::<f64>() / n as f64;
+        let scale = (0..n)
+            .map(|i| dict.atoms[i * m + j].abs())
+            .fold(0.0, f64::max);
+        if mean.abs() <= 1e-12 * scale {
+            continue;
+        }
+        for i in 0..n {
+            dict.atoms[i * m + j] -= mean;
+        }
+        let s = (0..n)
+            .map(|i| dict.atoms[i * m + j].powi(2))
+            .sum::<f64>()
+            .sqrt();
+        if s > 0.0 {
+            for i in 0..n {
+                dict.atoms[i * m + j] /= s;
+            }
+        }
+        norms[j] *= s;
+    }
+    dict.atom_norms = Some(norms);
+}
+
+/// The decoder's patterns (n_ch x k), average-referenced over its channels
+/// unless `average` is false.
+fn decoder_patterns(
+    decoder: &DecoderFile,
+    path: &Path,
+    average: bool,
+) -> Result<Vec<f64>, CliError> {
     let n = decoder.channels.len();
     let raw = match &decoder.content {
         DecoderContent::Patterns(p) => p.clone(),
@@ -229,7 +268,11 @@ fn decoder_patterns(decoder: &DecoderFile, path: &Path) -> Result<Vec<f64>, CliE
                 .0
         }
     };
-    let referenced = average_reference(&raw, n, decoder.k).bad_input("average reference")?;
+    let referenced = if average {
+        average_reference(&raw, n, decoder.k).bad_input("average reference")?
+    } else {
+        raw.clone()
+    };
     for c in 0..decoder.k {
         let norm: f64 = (0..n)
             .map(|i| referenced[i * decoder.k + c].powi(2))
@@ -537,7 +580,8 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         vec![[0.0, 0.0, 1.0]; decoder.channels.len()],
     )
     .bad_input(format!("{}: channel labels", input_path.display()))?;
-    let patterns = decoder_patterns(&decoder, &input_path)?;
+    let average = args.reference == "average";
+    let patterns = decoder_patterns(&decoder, &input_path, average)?;
     let k = decoder.k;
     let mut dict = match &args.dictionary {
         Some(p) => {
@@ -562,6 +606,11 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         }
         None => dictionary_for_decoder(args, &decoder.channels, &mut hashes)?,
     };
+    if average {
+        reference_atoms(&mut dict);
+    } else {
+        notes.push("reference none: patterns and atoms used as given".to_string());
+    }
     let fit_y = match &args.noise_covariance {
         Some(p) => {
             hashes.push((

@@ -139,6 +139,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             atom_orientation: AtomOrientationArg::Normal,
         },
         noise_covariance: None,
+        reference: "average".to_string(),
         joint: false,
         lambda_ratio: None,
         lambda: None,
