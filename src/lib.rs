@@ -24,3 +24,4 @@ pub mod montage;
 pub mod patterns;
 pub mod pipeline;
 pub mod solver;
+pub mod validation;

@@ -21,6 +21,16 @@ use crate::geometry::{Mesh, Vec3};
 use faer::linalg::solvers::Solve;
 use faer::{Mat, Side};
 
+/// The demo's 64 channels: a common 64-electrode selection of the 10-10
+/// system (common practice, no source).
+pub const CHANNELS_64: [&str; 64] = [
+    "Fp1", "Fpz", "Fp2", "AF7", "AF3", "AFz", "AF4", "AF8", "F7", "F5", "F3", "F1", "Fz", "F2",
+    "F4", "F6", "F8", "FT7", "FC5", "FC3", "FC1", "FCz", "FC2", "FC4", "FC6", "FT8", "T7", "C5",
+    "C3", "C1", "Cz", "C2", "C4", "C6", "T8", "TP7", "CP5", "CP3", "CP1", "CPz", "CP2", "CP4",
+    "CP6", "TP8", "P7", "P5", "P3", "P1", "Pz", "P2", "P4", "P6", "P8", "PO7", "PO3", "POz", "PO4",
+    "PO8", "O1", "Oz", "O2", "Iz", "T9", "T10",
+];
+
 /// Errors building the demo scenario.
 #[derive(Debug, thiserror::Error)]
 #[non_exhaustive]

@@ -221,6 +221,7 @@ fn read_decoder_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError
 /// Re-reference atoms to the common average (subtract each column's
 /// channel mean) and rescale them to unit norm, folding the scale into the
 /// atom norms; columns already referenced are left as they are.
+#[allow(clippy::needless_range_loop)]
 fn reference_atoms(dict: &mut DictionaryFile) {
     let (n, m) = (dict.n_channels, dict.n_atoms);
     let mut norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);

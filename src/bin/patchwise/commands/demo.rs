@@ -34,16 +34,6 @@ pub struct Args {
     pub cache: Option<PathBuf>,
 }
 
-/// The demo's 64 channels: a common 64-electrode selection of the 10-10
-/// system (common practice, no source).
-pub const DEMO_CHANNELS: [&str; 64] = [
-    "Fp1", "Fpz", "Fp2", "AF7", "AF3", "AFz", "AF4", "AF8", "F7", "F5", "F3", "F1", "Fz", "F2",
-    "F4", "F6", "F8", "FT7", "FC5", "FC3", "FC1", "FCz", "FC2", "FC4", "FC6", "FT8", "T7", "C5",
-    "C3", "C1", "Cz", "C2", "C4", "C6", "T8", "TP7", "CP5", "CP3", "CP1", "CPz", "CP2", "CP4",
-    "CP6", "TP8", "P7", "P5", "P3", "P1", "Pz", "P2", "P4", "P6", "P8", "PO7", "PO3", "POz", "PO4",
-    "PO8", "O1", "Oz", "O2", "Iz", "T9", "T10",
-];
-
 /// Skull conductivity of the simulation head (S/m); the fit assumes the
 /// default head's 0.02 S/m, so the demo includes a head-model mismatch.
 const SIMULATION_SKULL: f64 = 0.015;
@@ -56,7 +46,10 @@ fn simulate(res: TemplateResolution) -> Result<(Scenario, Vec<String>), CliError
     let sim_head = SphereHead::new(fit_head.center(), fit_head.radii().to_vec(), cond)
         .compute("simulation head")?;
     let full = standard("10-10", fit_head.outer_radius()).compute("demo montage")?;
-    let labels: Vec<String> = DEMO_CHANNELS.iter().map(|s| s.to_string()).collect();
+    let labels: Vec<String> = patchwise::demo::CHANNELS_64
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
     let idx = full.select(&labels).compute("demo channels")?;
     let montage = full.subset(&idx);
     let mut sources = SourceSpace::from_mesh(&t.mesh);

@@ -1,0 +1,54 @@
+//! Metrics of the recovery benchmark.
+
+/// Area under the ROC curve of `scores` for the positives `truth`
+/// (Mann–Whitney U statistic divided by n₊·n₋; ties count one half;
+/// Hanley & McNeil 1982, Radiology 143:29). NaN without both classes.
+pub fn roc_auc(scores: &[f64], truth: &[bool]) -> f64 {
+    let mut order: Vec<usize> = (0..scores.len()).collect();
+    order.sort_by(|&a, &b| scores[a].total_cmp(&scores[b]));
+    // Average ranks over ties.
+    let mut ranks = vec![0.0; scores.len()];
+    let mut i = 0;
+    while i < order.len() {
+        let mut j = i;
+        while j + 1 < order.len() && scores[order[j + 1]] == scores[order[i]] {
+            j += 1;
+        }
+        let rank = (i + j) as f64 / 2.0 + 1.0;
+        for &o in &order[i..=j] {
+            ranks[o] = rank;
+        }
+        i = j + 1;
+    }
+    let n_pos = truth.iter().filter(|&&t| t).count() as f64;
+    let n_neg = truth.len() as f64 - n_pos;
+    if n_pos == 0.0 || n_neg == 0.0 {
+        return f64::NAN;
+    }
+    let rank_sum: f64 = ranks
+        .iter()
+        .zip(truth)
+        .filter(|(_, &t)| t)
+        .map(|(r, _)| r)
+        .sum();
+    (rank_sum - n_pos * (n_pos + 1.0) / 2.0) / (n_pos * n_neg)
+}
+
+/// The region holding the largest total of `weights` (index), if any.
+pub fn region_top1(weights: &[f64], region: &[i32], n_regions: usize) -> Option<usize> {
+    let mut totals = vec![0.0; n_regions];
+    for (&w, &r) in weights.iter().zip(region) {
+        if r >= 0 {
+            totals[r as usize] += w;
+        }
+    }
+    let mut best = None;
+    let mut best_value = 0.0;
+    for (r, &t) in totals.iter().enumerate() {
+        if t > best_value {
+            best_value = t;
+            best = Some(r);
+        }
+    }
+    best
+}
