@@ -10,14 +10,10 @@
 //! for comparison) and depth-weighted minimum norm.
 #![allow(clippy::unwrap_used)]
 
-use patchwise::demo::CHANNELS_64;
-use patchwise::dictionary::DictionaryParams;
-use patchwise::forward::Orientation;
-use patchwise::geometry::{template, GeodesicSolver, SourceSpace, TemplateResolution};
+use patchwise::geometry::TemplateResolution;
 use patchwise::head::SphereHead;
-use patchwise::montage::standard;
-use patchwise::pipeline::{dictionary_for, leadfield_for, LambdaRule};
-use patchwise::validation::{run_case, CaseSpec, Method, RecoverySetup};
+use patchwise::pipeline::LambdaRule;
+use patchwise::validation::{run_case, CaseSpec, Method, RecoveryFixture};
 
 fn median(mut v: Vec<f64>) -> f64 {
     v.retain(|x| x.is_finite());
@@ -37,24 +33,9 @@ fn main() {
     let args: Vec<String> = std::env::args().collect();
     let res = TemplateResolution::from_name(args.get(1).map_or("template", |s| s)).unwrap();
     let cases: u64 = args.get(2).map_or(20, |s| s.parse().unwrap());
-    let t = template(res);
-    let mut sources = SourceSpace::from_mesh(&t.mesh);
-    sources.region = t.region.clone();
-    sources.region_names = t.region_names.clone();
-    let head = SphereHead::default_adult();
-    let full = standard("10-10", head.outer_radius()).unwrap();
-    let labels: Vec<String> = CHANNELS_64.iter().map(|s| s.to_string()).collect();
-    let montage = full.subset(&full.select(&labels).unwrap());
-    let (lf, _) = leadfield_for(&montage, &sources, &head, Orientation::Normal, &|_| {}).unwrap();
-    let (dict, _, _) = dictionary_for(&lf, &DictionaryParams::default(), None, &|_| {}).unwrap();
-    let geodesic = GeodesicSolver::new(&t.mesh).unwrap();
-    let setup = RecoverySetup {
-        sources: &sources,
-        fit_gain: &lf.gain,
-        dictionary: &dict,
-        geodesic: &geodesic,
-        electrodes: &montage.positions,
-    };
+    let fixture = RecoveryFixture::new(res).unwrap();
+    let setup = fixture.setup();
+    let head = fixture.head.clone();
     let r = head.radii().to_vec();
     let mismatched = SphereHead::new(head.center(), r, vec![0.47, 1.79, 0.01, 0.33]).unwrap();
     println!(

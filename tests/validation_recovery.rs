@@ -5,14 +5,9 @@
 //! because six cases are few.
 #![allow(clippy::unwrap_used)]
 
-use patchwise::demo::CHANNELS_64;
-use patchwise::dictionary::DictionaryParams;
-use patchwise::forward::Orientation;
-use patchwise::geometry::{template, GeodesicSolver, SourceSpace, TemplateResolution};
-use patchwise::head::SphereHead;
-use patchwise::montage::standard;
-use patchwise::pipeline::{dictionary_for, leadfield_for, LambdaRule};
-use patchwise::validation::{roc_auc, run_case, CaseSpec, Method, RecoverySetup};
+use patchwise::geometry::TemplateResolution;
+use patchwise::pipeline::LambdaRule;
+use patchwise::validation::{roc_auc, run_case, CaseSpec, Method, RecoveryFixture};
 
 #[test]
 fn roc_auc_matches_the_mann_whitney_definition() {
@@ -28,24 +23,9 @@ fn roc_auc_matches_the_mann_whitney_definition() {
 
 #[test]
 fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
-    let t = template(TemplateResolution::Low);
-    let mut sources = SourceSpace::from_mesh(&t.mesh);
-    sources.region = t.region.clone();
-    sources.region_names = t.region_names.clone();
-    let head = SphereHead::default_adult();
-    let full = standard("10-10", head.outer_radius()).unwrap();
-    let labels: Vec<String> = CHANNELS_64.iter().map(|s| s.to_string()).collect();
-    let montage = full.subset(&full.select(&labels).unwrap());
-    let (lf, _) = leadfield_for(&montage, &sources, &head, Orientation::Normal, &|_| {}).unwrap();
-    let (dict, _, _) = dictionary_for(&lf, &DictionaryParams::default(), None, &|_| {}).unwrap();
-    let geodesic = GeodesicSolver::new(&t.mesh).unwrap();
-    let setup = RecoverySetup {
-        sources: &sources,
-        fit_gain: &lf.gain,
-        dictionary: &dict,
-        geodesic: &geodesic,
-        electrodes: &montage.positions,
-    };
+    let fixture = RecoveryFixture::new(TemplateResolution::Low).unwrap();
+    let setup = fixture.setup();
+    let head = fixture.head.clone();
     let mut patch_err = Vec::new();
     let mut mn_err = Vec::new();
     let mut patch_top1 = 0;

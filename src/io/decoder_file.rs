@@ -269,7 +269,9 @@ impl Store {
     }
 }
 
-fn read_text_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), InputError> {
+/// A numeric text matrix (comma, tab or semicolon separated; one header
+/// row and `#` comments allowed), row-major with its rows and columns.
+pub fn read_text_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), InputError> {
     let text = std::fs::read_to_string(path).map_err(|source| super::IoError::File {
         path: path.to_path_buf(),
         source,

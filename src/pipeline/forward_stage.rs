@@ -68,42 +68,42 @@ pub fn dictionary_for(
         _ => Seeds::All,
     };
     let gain_xyz = lf.gain_xyz.as_deref();
-    if mesh.triangles.is_empty() {
-        let positions = &lf.sources.positions;
-        let oracle = |seed: usize, radius: f64| -> Vec<(u32, f64)> {
-            let p = positions[seed];
-            positions
-                .par_iter()
-                .enumerate()
-                .filter_map(|(v, q)| {
-                    let d = norm(sub(*q, p));
-                    (d <= radius).then_some((v as u32, d))
-                })
-                .collect()
-        };
-        let (d, info) = build_dictionary(
-            &mesh,
-            &lf.gain,
-            gain_xyz,
-            lf.n_channels(),
-            &seeds,
-            &oracle,
-            params,
-            progress,
-        )?;
-        return Ok((d, info, DistanceKind::Euclidean));
-    }
-    let solver = GeodesicSolver::new(&mesh)?;
-    let oracle = |seed: usize, radius: f64| solver.distances_within(seed, radius);
+    let positions = &lf.sources.positions;
+    // Point sets have no surface to measure along: Euclidean distances.
+    let euclidean = |seed: usize, radius: f64| -> Vec<(u32, f64)> {
+        let p = positions[seed];
+        positions
+            .par_iter()
+            .enumerate()
+            .filter_map(|(v, q)| {
+                let d = norm(sub(*q, p));
+                (d <= radius).then_some((v as u32, d))
+            })
+            .collect()
+    };
+    let solver = if mesh.triangles.is_empty() {
+        None
+    } else {
+        Some(GeodesicSolver::new(&mesh)?)
+    };
+    let geodesic = |seed: usize, radius: f64| match &solver {
+        Some(s) => s.distances_within(seed, radius),
+        None => euclidean(seed, radius),
+    };
     let (d, info) = build_dictionary(
         &mesh,
         &lf.gain,
         gain_xyz,
         lf.n_channels(),
         &seeds,
-        &oracle,
+        &geodesic,
         params,
         progress,
     )?;
-    Ok((d, info, DistanceKind::Geodesic))
+    let kind = if solver.is_some() {
+        DistanceKind::Geodesic
+    } else {
+        DistanceKind::Euclidean
+    };
+    Ok((d, info, kind))
 }

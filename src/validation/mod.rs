@@ -7,4 +7,4 @@ mod metrics;
 mod recovery;
 
 pub use metrics::{region_top1, roc_auc};
-pub use recovery::{run_case, CaseResult, CaseSpec, Method, RecoverySetup};
+pub use recovery::{run_case, CaseResult, CaseSpec, Method, RecoveryFixture, RecoverySetup};

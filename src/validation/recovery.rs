@@ -206,3 +206,66 @@ pub fn run_case(
     };
     Ok(vec![patch, mn])
 }
+
+/// The shared data of a recovery run, owned: the template with regions,
+/// the demo's 64 channels of the 10-10 system, the default head's lead field
+/// and the default dictionary.
+pub struct RecoveryFixture {
+    sources: SourceSpace,
+    gain: Vec<f64>,
+    dictionary: Dictionary,
+    geodesic: GeodesicSolver,
+    electrodes: Vec<Vec3>,
+    /// The head the fit assumes.
+    pub head: SphereHead,
+}
+
+impl RecoveryFixture {
+    /// Build the fixture on a template resolution.
+    pub fn new(resolution: crate::geometry::TemplateResolution) -> Result<Self, PipelineError> {
+        let t = crate::geometry::template(resolution);
+        let mut sources = SourceSpace::from_mesh(&t.mesh);
+        sources.region = t.region.clone();
+        sources.region_names = t.region_names.clone();
+        let head = SphereHead::default_adult();
+        let full = crate::montage::standard("10-10", head.outer_radius())?;
+        let labels: Vec<String> = crate::demo::CHANNELS_64
+            .iter()
+            .map(|s| s.to_string())
+            .collect();
+        let montage = full.subset(&full.select(&labels)?);
+        let (lf, _) = crate::pipeline::leadfield_for(
+            &montage,
+            &sources,
+            &head,
+            Orientation::Normal,
+            &|_| {},
+        )?;
+        let (dictionary, _, _) = crate::pipeline::dictionary_for(
+            &lf,
+            &crate::dictionary::DictionaryParams::default(),
+            None,
+            &|_| {},
+        )?;
+        let geodesic = GeodesicSolver::new(&t.mesh)?;
+        Ok(RecoveryFixture {
+            sources,
+            gain: lf.gain,
+            dictionary,
+            geodesic,
+            electrodes: montage.positions,
+            head,
+        })
+    }
+
+    /// The borrowed setup for [`run_case`].
+    pub fn setup(&self) -> RecoverySetup<'_> {
+        RecoverySetup {
+            sources: &self.sources,
+            fit_gain: &self.gain,
+            dictionary: &self.dictionary,
+            geodesic: &self.geodesic,
+            electrodes: &self.electrodes,
+        }
+    }
+}

@@ -170,52 +170,7 @@ fn read_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
             ))),
         };
     }
-    // A text matrix: reuse the decoder reader's parser through a bare read.
-    let d = read_decoder_matrix(path)?;
-    Ok(d)
-}
-
-fn read_decoder_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
-    let text =
-        std::fs::read_to_string(path).map_err(|e| bad(format!("{}: {e}", path.display())))?;
-    let mut values = Vec::new();
-    let (mut rows, mut cols) = (0usize, None);
-    for (i, line) in text.lines().enumerate() {
-        let line = line.trim();
-        if line.is_empty() || line.starts_with('#') {
-            continue;
-        }
-        let parsed: Result<Vec<f64>, _> = line
-            .split([',', '\t', ';'])
-            .map(|f| f.trim().parse::<f64>())
-            .collect();
-        let parsed = parsed.map_err(|_| {
-            bad(format!(
-                "{}: line {}: expected numbers",
-                path.display(),
-                i + 1
-            ))
-        })?;
-        if parsed.iter().any(|v| !v.is_finite()) {
-            return Err(bad(format!(
-                "{}: line {}: non-finite value",
-                path.display(),
-                i + 1
-            )));
-        }
-        if cols.is_some_and(|c| c != parsed.len()) {
-            return Err(bad(format!(
-                "{}: line {}: wrong number of fields",
-                path.display(),
-                i + 1
-            )));
-        }
-        cols = Some(parsed.len());
-        values.extend(parsed);
-        rows += 1;
-    }
-    let cols = cols.ok_or_else(|| bad(format!("{}: holds no numbers", path.display())))?;
-    Ok((values, rows, cols))
+    patchwise::io::decoder_file::read_text_matrix(path).bad_input("reading a matrix")
 }
 
 /// Re-reference atoms to the common average (subtract each column's
