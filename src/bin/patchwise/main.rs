@@ -16,7 +16,11 @@ pub use cli_error::CliError;
 ///
 /// Research tool; not for clinical decisions.
 #[derive(Parser, Debug)]
-#[command(name = "patchwise", version, about, long_about = None)]
+#[command(
+    name = "patchwise",
+    version,
+    about = "Which cortical regions does a linear EEG decoder rely on? Research tool; not for clinical decisions."
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,
