@@ -2,6 +2,7 @@
 
 Pinned versions: numpy==2.4.6, scikit-learn==1.9.1, skglm==0.5 (numba 0.68.1).
 Run:  python benches/reference/solver_peers.py [k ...]   (default: 1 4)
+      PEERS=skglm python benches/reference/solver_peers.py 1   (skglm only)
 
 The dictionary and patterns are rebuilt here from the formula documented at the
 top of benches/solver.rs (no file exchange). Each solver runs the same path:
@@ -14,6 +15,7 @@ comparison says what accuracy each reached. skglm is timed after a first
 (compiling) call.
 """
 
+import os
 import sys
 import time
 import warnings
@@ -95,10 +97,12 @@ def main():
         lmax = np.linalg.norm(d.T @ y, axis=1).max()
         lambdas = lmax * np.exp(np.linspace(0.0, np.log(0.05), 20))
         warnings.simplefilter("ignore")
-        t, gap, active = run_path(
-            lambda: SkMultiTaskLasso(fit_intercept=False, tol=0.5e-6, max_iter=100_000, warm_start=True),
-            d, y, lambdas)
-        print(f"k={k} scikit-learn MultiTaskLasso: {t:.3f} s, worst relative gap {gap:.2e}, active {active}")
+        # PEERS=skglm skips scikit-learn, whose path takes many minutes here.
+        if os.environ.get("PEERS", "all") != "skglm":
+            t, gap, active = run_path(
+                lambda: SkMultiTaskLasso(fit_intercept=False, tol=0.5e-6, max_iter=100_000, warm_start=True),
+                d, y, lambdas)
+            print(f"k={k} scikit-learn MultiTaskLasso: {t:.3f} s, worst relative gap {gap:.2e}, active {active}")
         try:
             import skglm
             from skglm import MultiTaskLasso as GlmMultiTaskLasso
