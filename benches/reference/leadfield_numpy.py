@@ -6,7 +6,7 @@ same points (formulas repeated from benches/leadfield.rs), same series
 closed form, de Munck & Peters 1993) and the same tail bound (1e-12 of
 3|f_1|/(4 pi sigma_N R^2)). Free orientation, average reference.
 
-Run: /work/wt/pyenv/bin/python benches/reference/leadfield_numpy.py [n_sources]
+Run: python benches/reference/leadfield_numpy.py [n_sources]
 Versions used: Python 3, numpy==2.4.6 (scipy not needed here).
 """
 
