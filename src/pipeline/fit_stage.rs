@@ -7,7 +7,7 @@ use crate::attribution::rng::SplitMix64;
 use crate::attribution::{attribute, percentile, Attribution, AttributionInput, RegionInterval};
 use crate::geometry::Vec3;
 use crate::solver::{
-    fit, path, refit, DenseDictionary, Fit, Groups, Lambda, NoObserver, Params, PathSpec,
+    fit, fit_warm, path, refit, DenseDictionary, Fit, Groups, Lambda, NoObserver, Params, PathSpec,
     ValidParams,
 };
 
@@ -126,6 +126,7 @@ fn fit_block(
     cols: &[usize],
     rule: LambdaRule,
     params: &ValidParams,
+    warm: Option<&[f64]>,
 ) -> Result<BlockFit, PipelineError> {
     let kb = cols.len();
     let n_ch = dict.n_channels();
@@ -137,7 +138,10 @@ fn fit_block(
                 LambdaRule::Bic => Lambda::Ratio(1.0),
             };
             let p = params.with_lambda(lambda)?;
-            let (f, info) = fit(dict, groups, y, kb, &p, &mut NoObserver)?;
+            let (f, info) = match warm {
+                Some(x0) => fit_warm(dict, groups, y, kb, x0, &p, &mut NoObserver)?,
+                None => fit(dict, groups, y, kb, &p, &mut NoObserver)?,
+            };
             Ok(BlockFit {
                 coefficients: f.coefficients,
                 info: FittedComponent {
@@ -198,6 +202,7 @@ fn fit_block(
     }
 }
 
+#[allow(clippy::too_many_arguments)]
 fn fit_all(
     dict: &DenseDictionary,
     groups: &Groups,
@@ -206,6 +211,7 @@ fn fit_all(
     blocks: &[Vec<usize>],
     rules: &[LambdaRule],
     params: &ValidParams,
+    warm: Option<&[f64]>,
 ) -> Result<(Vec<f64>, Vec<FittedComponent>), PipelineError> {
     let n_atoms = dict.n_atoms();
     let fitted: Vec<Result<BlockFit, PipelineError>> = blocks
@@ -213,7 +219,8 @@ fn fit_all(
         .zip(rules.par_iter())
         .map(|(cols, &rule)| {
             let yb = column_block(y, k, cols);
-            fit_block(dict, groups, &yb, cols, rule, params)
+            let x0 = warm.map(|x| column_block(x, k, cols));
+            fit_block(dict, groups, &yb, cols, rule, params, x0.as_deref())
         })
         .collect();
     let mut coefficients = vec![0.0; n_atoms * k];
@@ -263,7 +270,8 @@ pub fn fit_patterns(
         (0..k).map(|c| vec![c]).collect()
     };
     let rules = vec![options.lambda; blocks.len()];
-    let (coefficients, infos) = fit_all(&dict, &groups, patterns, k, &blocks, &rules, &params)?;
+    let (coefficients, infos) =
+        fit_all(&dict, &groups, patterns, k, &blocks, &rules, &params, None)?;
     let full_fit = fit_result(&dict, patterns, k, coefficients.clone())?;
     let refit_fit = if options.refit {
         Some(refit(&dict, patterns, k, &coefficients)?.fit)
@@ -415,7 +423,17 @@ fn resample(
                     y_star[i * k + c] = y_hat[i * k + c] + noise_sd[c] * e[i];
                 }
             }
-            let (coef, _) = fit_all(dict, groups, &y_star, k, blocks, &rules, params)?;
+            // Warm-started from the fit itself: the resampled problem is close.
+            let (coef, _) = fit_all(
+                dict,
+                groups,
+                &y_star,
+                k,
+                blocks,
+                &rules,
+                params,
+                Some(coefficients),
+            )?;
             let input = AttributionInput {
                 atoms: problem.atoms,
                 n_channels: n_ch,

@@ -101,6 +101,36 @@ fn fit_prepared(
     Ok((Fit::from_coefficients(prep.dict, targets, x), info))
 }
 
+/// As [`fit`], starting from `x0` (row-major `n_atoms x k`) instead of
+/// zero: a warm start, e.g. from the solution of a nearby problem. The
+/// result is certified by the same duality gap.
+///
+/// # Errors
+/// As [`fit`], plus a shape error when `x0` has the wrong length.
+pub fn fit_warm(
+    dict: &DenseDictionary,
+    groups: &Groups,
+    y: &[f64],
+    k: usize,
+    x0: &[f64],
+    params: &ValidParams,
+    observer: &mut dyn Observer,
+) -> Result<(Fit, Info), SolverError> {
+    let prep = Prepared::new(dict, groups)?;
+    let targets = Targets::from_row_major(dict.n_channels(), k, y)?;
+    super::error::check_len(
+        "warm start (n_atoms x k, row-major)",
+        || format!("{} x {k}", dict.n_atoms()),
+        dict.n_atoms() * k,
+        x0.len(),
+    )?;
+    let lmax = lambda_max(&prep, &targets);
+    let lambda = params.lambda.resolve(lmax);
+    let mut x = x0.to_vec();
+    let info = solve(&prep, &targets, lambda, lmax, params, &mut x, observer)?;
+    Ok((Fit::from_coefficients(prep.dict, &targets, x), info))
+}
+
 /// Fits every column of `y` (row-major `n_ch x k`) as its own problem, in
 /// parallel over columns; λ (if a ratio) is relative to each column's own
 /// λ_max. The result is the same whatever the number of threads: each column

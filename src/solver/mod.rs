@@ -48,7 +48,7 @@ mod problem;
 mod refit;
 
 pub use error::SolverError;
-pub use fit::{fit, fit_separately, Fit};
+pub use fit::{fit, fit_separately, fit_warm, Fit};
 pub use groups::Groups;
 pub use observer::{NoObserver, Observer, Recorder};
 pub use operator::{DenseDictionary, LinearOperator};
