@@ -7,16 +7,7 @@
 
 mod common;
 
-use std::path::Path;
-use std::process::{Command, Output};
-
-fn patchwise(args: &[&str], cwd: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_patchwise"))
-        .args(args)
-        .current_dir(cwd)
-        .output()
-        .unwrap()
-}
+use common::cli::patchwise;
 
 #[test]
 fn imported_leadfield_keeps_its_values_and_is_average_referenced() {

@@ -6,18 +6,11 @@
 mod common;
 
 use std::path::Path;
-use std::process::{Command, Output};
 
 use patchwise::geometry::{template, TemplateResolution};
 use patchwise::io::gifti::{read_gifti_labels, read_gifti_surface};
 
-fn patchwise(args: &[&str], cwd: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_patchwise"))
-        .args(args)
-        .current_dir(cwd)
-        .output()
-        .unwrap()
-}
+use common::cli::patchwise;
 
 fn meshes() -> std::path::PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("meshes")

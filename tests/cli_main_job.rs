@@ -6,15 +6,9 @@
 mod common;
 
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 
-fn patchwise(args: &[&str], cwd: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_patchwise"))
-        .args(args)
-        .current_dir(cwd)
-        .output()
-        .unwrap()
-}
+use common::cli::patchwise;
 
 fn stdout(o: &Output) -> String {
     String::from_utf8_lossy(&o.stdout).into_owned()

@@ -1,0 +1,14 @@
+//! Running the real binary in a test folder.
+#![allow(dead_code)]
+
+use std::path::Path;
+use std::process::{Command, Output};
+
+/// Run `patchwise ARGS` in `cwd` and return its output.
+pub fn patchwise(args: &[&str], cwd: &Path) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_patchwise"))
+        .args(args)
+        .current_dir(cwd)
+        .output()
+        .unwrap_or_else(|e| panic!("running patchwise: {e}"))
+}
