@@ -28,14 +28,18 @@ pub struct RegionRow {
     pub peak_mm: [f64; 3],
 }
 
+/// The region names the attribution used: those of the source space when
+/// the dictionary has profiles (else no region table).
+fn region_names(a: &Attribution) -> Vec<String> {
+    match (&a.dictionary.leadfield, &a.dictionary.profile) {
+        (Some(l), Some(_)) => l.sources.region_names.clone(),
+        _ => Vec::new(),
+    }
+}
+
 /// Region rows per component, ordered by decreasing share.
 pub fn region_rows(a: &Attribution) -> Vec<Vec<RegionRow>> {
-    let names = a
-        .dictionary
-        .leadfield
-        .as_ref()
-        .map(|l| l.sources.region_names.clone())
-        .unwrap_or_default();
+    let names = region_names(a);
     let (regions, positions) = a
         .dictionary
         .leadfield
@@ -196,12 +200,7 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
 pub fn write_outputs(out: &Path, a: &Attribution) -> Result<PathBuf, CliError> {
     let rows = region_rows(a);
     let stage = Staging::new(out).map_err(CliError::compute)?;
-    let names = a
-        .dictionary
-        .leadfield
-        .as_ref()
-        .map(|l| l.sources.region_names.clone())
-        .unwrap_or_default();
+    let names = region_names(a);
     let notes = serde_json::to_string(&a.notes).unwrap_or_default();
     let record = ResultRecord {
         hashes: &a.hashes,
