@@ -119,3 +119,23 @@ impl IoError {
         }
     }
 }
+
+/// Refuse to write a mesh with a non-finite coordinate, naming the first
+/// such vertex (shared by the surface writers).
+pub(crate) fn check_finite_vertices(
+    path: &std::path::Path,
+    mesh: &crate::geometry::Mesh,
+) -> Result<(), IoError> {
+    match mesh
+        .vertices
+        .iter()
+        .position(|p| p.iter().any(|x| !x.is_finite()))
+    {
+        Some(v) => Err(IoError::Value {
+            path: path.to_path_buf(),
+            object: format!("vertex {v}"),
+            message: "coordinates are not finite".to_string(),
+        }),
+        None => Ok(()),
+    }
+}

@@ -808,18 +808,7 @@ pub fn write_gifti_surface_with(
     points: GiftiLayout,
     triangles: GiftiLayout,
 ) -> Result<(), IoError> {
-    if let Some((v, _)) = mesh
-        .vertices
-        .iter()
-        .enumerate()
-        .find(|(_, p)| p.iter().any(|x| !x.is_finite()))
-    {
-        return Err(IoError::Value {
-            path: path.to_path_buf(),
-            object: format!("vertex {v}"),
-            message: "coordinates are not finite".to_string(),
-        });
-    }
+    super::error::check_finite_vertices(path, mesh)?;
     let arrays = [
         OutArray {
             intent: "NIFTI_INTENT_POINTSET",

@@ -120,18 +120,7 @@ pub fn read_off(path: &Path) -> Result<Mesh, IoError> {
 
 /// Write an OFF surface, positions in millimetres.
 pub fn write_off(path: &Path, mesh: &Mesh) -> Result<(), IoError> {
-    if let Some((v, _)) = mesh
-        .vertices
-        .iter()
-        .enumerate()
-        .find(|(_, p)| p.iter().any(|x| !x.is_finite()))
-    {
-        return Err(IoError::Value {
-            path: path.to_path_buf(),
-            object: format!("vertex {v}"),
-            message: "coordinates are not finite".to_string(),
-        });
-    }
+    super::error::check_finite_vertices(path, mesh)?;
     let mut s = format!(
         "OFF\n# positions in millimetres\n{} {} 0\n",
         mesh.vertices.len(),

@@ -434,18 +434,7 @@ impl<'a> Body<'a> {
 /// Write a PLY surface: `double` x y z in millimetres and a
 /// `uchar int vertex_indices` face list.
 pub fn write_ply(path: &Path, mesh: &Mesh, format: PlyFormat) -> Result<(), IoError> {
-    if let Some((v, _)) = mesh
-        .vertices
-        .iter()
-        .enumerate()
-        .find(|(_, p)| p.iter().any(|x| !x.is_finite()))
-    {
-        return Err(IoError::Value {
-            path: path.to_path_buf(),
-            object: format!("vertex {v}"),
-            message: "coordinates are not finite".to_string(),
-        });
-    }
+    super::error::check_finite_vertices(path, mesh)?;
     let name = match format {
         PlyFormat::Ascii => "ascii",
         PlyFormat::BinaryLittleEndian => "binary_little_endian",

@@ -77,38 +77,8 @@ impl Store {
         expected_cols: Option<usize>,
     ) -> Result<(Vec<f64>, usize, usize), IoError> {
         let ds = self.dataset(file, name)?;
-        let mut values = numeric_as_f64(ds, file, name)?;
-        let (rows, cols) = match (ds.shape.as_slice(), ds.is_matlab()) {
-            ([r, c], false) => (*r, *c),
-            ([c, r], true) => {
-                values = transpose(&values, *c, *r);
-                (*r, *c)
-            }
-            _ => {
-                return Err(shape_error(
-                    file,
-                    name,
-                    &ds.shape,
-                    &[expected_rows, expected_cols],
-                ))
-            }
-        };
-        if values.len() != rows * cols {
-            return Err(shape_error(
-                file,
-                name,
-                &ds.shape,
-                &[Some(values.len()), None],
-            ));
-        }
-        if !matches(&[rows, cols], &[expected_rows, expected_cols]) {
-            return Err(shape_error(
-                file,
-                name,
-                &[rows, cols],
-                &[expected_rows, expected_cols],
-            ));
-        }
+        let values = numeric_as_f64(ds, file, name)?;
+        let (values, rows, cols) = as_matrix(ds, values, file, name, expected_rows, expected_cols)?;
         check_finite(&values, file, name)?;
         Ok((values, rows, cols))
     }
@@ -171,39 +141,8 @@ impl Store {
         expected_cols: Option<usize>,
     ) -> Result<(Vec<i64>, usize, usize), IoError> {
         let ds = self.dataset(file, name)?;
-        let mut values = integers(ds, file, name)?;
-        let (rows, cols) = match (ds.shape.as_slice(), ds.is_matlab()) {
-            ([r, c], false) => (*r, *c),
-            ([c, r], true) => {
-                values = transpose(&values, *c, *r);
-                (*r, *c)
-            }
-            _ => {
-                return Err(shape_error(
-                    file,
-                    name,
-                    &ds.shape,
-                    &[expected_rows, expected_cols],
-                ))
-            }
-        };
-        if values.len() != rows * cols {
-            return Err(shape_error(
-                file,
-                name,
-                &ds.shape,
-                &[Some(values.len()), None],
-            ));
-        }
-        if !matches(&[rows, cols], &[expected_rows, expected_cols]) {
-            return Err(shape_error(
-                file,
-                name,
-                &[rows, cols],
-                &[expected_rows, expected_cols],
-            ));
-        }
-        Ok((values, rows, cols))
+        let values = integers(ds, file, name)?;
+        as_matrix(ds, values, file, name, expected_rows, expected_cols)
     }
 
     /// A one-dimensional string dataset, or a MATLAB `char` array (one string
@@ -379,6 +318,37 @@ fn check_finite(values: &[f64], file: &Path, name: &str) -> Result<(), IoError> 
 
 /// `values` holds a row-major `rows × cols` matrix; return its transpose,
 /// row-major `cols × rows`.
+/// The values of a rank-2 dataset as a row-major matrix with its (rows,
+/// columns), MATLAB datasets transposed back, each expected dimension
+/// checked when given.
+fn as_matrix<T: Copy>(
+    ds: &Dataset,
+    values: Vec<T>,
+    file: &Path,
+    name: &str,
+    expected_rows: Option<usize>,
+    expected_cols: Option<usize>,
+) -> Result<(Vec<T>, usize, usize), IoError> {
+    let expected = [expected_rows, expected_cols];
+    let (values, rows, cols) = match (ds.shape.as_slice(), ds.is_matlab()) {
+        ([r, c], false) => (values, *r, *c),
+        ([c, r], true) => (transpose(&values, *c, *r), *r, *c),
+        _ => return Err(shape_error(file, name, &ds.shape, &expected)),
+    };
+    if values.len() != rows * cols {
+        return Err(shape_error(
+            file,
+            name,
+            &ds.shape,
+            &[Some(values.len()), None],
+        ));
+    }
+    if !matches(&[rows, cols], &expected) {
+        return Err(shape_error(file, name, &[rows, cols], &expected));
+    }
+    Ok((values, rows, cols))
+}
+
 fn transpose<T: Copy>(values: &[T], rows: usize, cols: usize) -> Vec<T> {
     let mut out = Vec::with_capacity(values.len());
     for j in 0..cols {
