@@ -79,12 +79,7 @@ pub fn read_decoder(path: &Path, channels_file: Option<&Path>) -> Result<Decoder
                 ));
             };
             let channels = read_channel_list(ch)?;
-            let (values, rows, cols) = if ext(path) == "npy" {
-                let a = read_npy(path)?;
-                matrix_of(path, "the array", &a)?
-            } else {
-                read_text_matrix(path)?
-            };
+            let (values, rows, cols) = read_matrix(path)?;
             if rows != channels.len() {
                 return Err(content_error(
                     path,
@@ -117,6 +112,16 @@ pub fn read_decoder(path: &Path, channels_file: Option<&Path>) -> Result<Decoder
         ));
     }
     Ok(decoder)
+}
+
+/// A bare numeric matrix (or vector, as one column) from a `.npy` file or a
+/// text file, row-major with its rows and columns; every value finite.
+pub fn read_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), InputError> {
+    if ext(path) == "npy" {
+        matrix_of(path, "the array", &read_npy(path)?)
+    } else {
+        read_text_matrix(path)
+    }
 }
 
 fn matrix_of(

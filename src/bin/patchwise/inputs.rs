@@ -1,7 +1,7 @@
 //! Resolving the montage, source and head options shared by several
 //! subcommands into library values.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use patchwise::geometry::{template, SourceSpace, TemplateResolution};
 use patchwise::head::{HeadSpec, SphereHead};
@@ -9,8 +9,68 @@ use patchwise::io::electrodes::read_electrodes;
 use patchwise::io::sources_file::{read_regions, read_sources};
 use patchwise::montage::{fit_sphere, standard, standard_names, Montage};
 
+use patchwise::forward::Orientation;
+use patchwise::io::leadfield_file::LeadFieldFile;
+use patchwise::pipeline::leadfield_for;
+
 use crate::cli_error::OrExit;
+use crate::progress::{bar, note};
 use crate::CliError;
+
+/// The forward-model options shared by `leadfield` and `attribute`.
+#[derive(clap::Args, Debug, Clone)]
+pub struct ForwardOptions {
+    /// Montage: 10-20, 10-10, 10-05, or an electrodes file (.tsv/.csv, mm).
+    #[arg(long, default_value = "10-05")]
+    pub montage: String,
+    /// Sources: template (about 20k vertices), template-5k, or a GIFTI/PLY/OFF surface or TSV/CSV table (mm).
+    #[arg(long, default_value = "template")]
+    pub sources: String,
+    /// Head: default (four shells) or a TOML file.
+    #[arg(long, default_value = "default")]
+    pub head: String,
+    /// Region label per source (GIFTI label array or one label a line).
+    #[arg(long)]
+    pub regions: Option<PathBuf>,
+}
+
+impl ForwardOptions {
+    /// The montage (restricted to `labels`, in their order, when given),
+    /// the sources and the head.
+    pub fn resolve(
+        &self,
+        labels: Option<&[String]>,
+    ) -> Result<(Montage, SourceSpace, SphereHead), CliError> {
+        let (mut montage, from_file) = load_montage(&self.montage)?;
+        if let Some(labels) = labels {
+            let idx = montage.select(labels).bad_input(format!(
+                "matching the decoder's channels to montage {}",
+                self.montage
+            ))?;
+            montage = montage.subset(&idx);
+        }
+        let sources = load_sources(&self.sources, self.regions.as_deref())?;
+        let head = load_head(&self.head, &montage, from_file)?;
+        Ok((montage, sources, head))
+    }
+}
+
+/// The lead field, with a progress bar and the projection warnings on stderr.
+pub fn compute_leadfield(
+    montage: &Montage,
+    sources: &SourceSpace,
+    head: &SphereHead,
+    orientation: Orientation,
+) -> Result<LeadFieldFile, CliError> {
+    let pb = bar(sources.len(), "lead field");
+    let (lf, warnings) = leadfield_for(montage, sources, head, orientation, &|n| pb.inc(n as u64))
+        .bad_input("computing the lead field")?;
+    pb.finish_and_clear();
+    for w in warnings {
+        note(format!("warning: {w}"));
+    }
+    Ok(lf)
+}
 
 /// A montage by standard name (on the default head's scalp sphere) or from
 /// an electrodes file (BIDS TSV or CSV, mm). Returns whether it came from a

@@ -10,7 +10,6 @@ use patchwise::io::cache::{default_cache_dir, entry_path, file_sha256, ContentHa
 use patchwise::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
 use patchwise::io::dictionary_file::{read_dictionary, write_dictionary, DictionaryFile};
 use patchwise::io::leadfield_file::{read_leadfield, write_leadfield, LeadFieldFile};
-use patchwise::io::npy::read_npy;
 use patchwise::montage::Montage;
 use patchwise::patterns::{activation_patterns, average_reference, Whitener};
 use patchwise::pipeline::{
@@ -19,7 +18,7 @@ use patchwise::pipeline::{
 
 use super::dictionary::{AtomOrientationArg, DictionaryOptions};
 use crate::cli_error::OrExit;
-use crate::inputs::{load_head, load_montage, load_sources};
+use crate::inputs::{compute_leadfield, ForwardOptions};
 use crate::outputs::write_outputs;
 use crate::progress::{bar, note};
 use crate::CliError;
@@ -40,18 +39,8 @@ pub struct Args {
     /// A dictionary file (ours, or any HDF5 with /dictionary/atoms and /dictionary/group); skips the forward model.
     #[arg(long)]
     pub dictionary: Option<PathBuf>,
-    /// Montage: 10-20, 10-10, 10-05, or an electrodes file (.tsv/.csv, mm).
-    #[arg(long, default_value = "10-05")]
-    pub montage: String,
-    /// Sources: template, template-5k, or a surface/table file (mm).
-    #[arg(long, default_value = "template")]
-    pub sources: String,
-    /// Head: default (four shells) or a TOML file.
-    #[arg(long, default_value = "default")]
-    pub head: String,
-    /// Region label per source (GIFTI label array or one label a line).
-    #[arg(long)]
-    pub regions: Option<PathBuf>,
+    #[command(flatten)]
+    pub forward: ForwardOptions,
     #[command(flatten)]
     pub dictionary_options: DictionaryOptions,
     /// Noise covariance (n_ch x n_ch .npy or .csv, decoder channel order) to whiten patterns and dictionary.
@@ -149,28 +138,19 @@ impl Args {
 }
 
 fn read_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
-    let is_npy = path.extension().is_some_and(|e| e == "npy");
-    if is_npy {
-        let a = read_npy(path).bad_input("reading a matrix")?;
-        let v = a.to_f64().ok_or_else(|| {
-            bad(format!(
-                "{}: holds strings, expected numbers",
-                path.display()
-            ))
-        })?;
-        if v.iter().any(|x| !x.is_finite()) {
-            return Err(bad(format!("{}: holds a non-finite value", path.display())));
+    patchwise::io::decoder_file::read_matrix(path).bad_input("reading a matrix")
+}
+
+/// Scale column `j` of the row-major n × m `atoms` to unit 2-norm and fold
+/// the scale into `norm` (the atom's removed scale); a zero column stays zero.
+fn rescale_to_unit_norm(atoms: &mut [f64], n: usize, m: usize, j: usize, norm: &mut f64) {
+    let s = (0..n).map(|i| atoms[i * m + j].powi(2)).sum::<f64>().sqrt();
+    if s > 0.0 {
+        for i in 0..n {
+            atoms[i * m + j] /= s;
         }
-        return match a.shape.as_slice() {
-            [n] => Ok((v, *n, 1)),
-            [r, c] => Ok((v, *r, *c)),
-            s => Err(bad(format!(
-                "{}: shape {s:?}, expected a matrix",
-                path.display()
-            ))),
-        };
     }
-    patchwise::io::decoder_file::read_text_matrix(path).bad_input("reading a matrix")
+    *norm *= s;
 }
 
 /// Re-reference atoms to the common average (subtract each column's
@@ -191,16 +171,7 @@ fn reference_atoms(dict: &mut DictionaryFile) {
         for i in 0..n {
             dict.atoms[i * m + j] -= mean;
         }
-        let s = (0..n)
-            .map(|i| dict.atoms[i * m + j].powi(2))
-            .sum::<f64>()
-            .sqrt();
-        if s > 0.0 {
-            for i in 0..n {
-                dict.atoms[i * m + j] /= s;
-            }
-        }
-        norms[j] *= s;
+        rescale_to_unit_norm(&mut dict.atoms, n, m, j, &mut norms[j]);
     }
     dict.atom_norms = Some(norms);
 }
@@ -315,14 +286,7 @@ fn dictionary_for_decoder(
     labels: &[String],
     hashes: &mut Vec<(String, String)>,
 ) -> Result<DictionaryFile, CliError> {
-    let (montage, from_file) = load_montage(&args.montage)?;
-    let idx = montage.select(labels).bad_input(format!(
-        "matching the decoder's channels to montage {}",
-        args.montage
-    ))?;
-    let montage = montage.subset(&idx);
-    let sources = load_sources(&args.sources, args.regions.as_deref())?;
-    let head = load_head(&args.head, &montage, from_file)?;
+    let (montage, sources, head) = args.forward.resolve(Some(labels))?;
     let orientation = match args.dictionary_options.atom_orientation {
         AtomOrientationArg::Normal => Orientation::Normal,
         AtomOrientationArg::Free => Orientation::Free,
@@ -351,16 +315,7 @@ fn dictionary_for_decoder(
             lf
         }
         _ => {
-            let pb = bar(sources.len(), "lead field");
-            let (lf, warnings) =
-                patchwise::pipeline::leadfield_for(&montage, &sources, &head, orientation, &|n| {
-                    pb.inc(n as u64)
-                })
-                .bad_input("computing the lead field")?;
-            pb.finish_and_clear();
-            for w in warnings {
-                note(format!("warning: {w}"));
-            }
+            let lf = compute_leadfield(&montage, &sources, &head, orientation)?;
             write_leadfield(&lf_path, &lf).compute(format!("caching {}", lf_path.display()))?;
             lf
         }
@@ -471,14 +426,8 @@ fn whiten(
         .bad_input("whitening the dictionary")?;
     let mut norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);
     let mut atoms = aw;
-    for j in 0..m {
-        let s: f64 = (0..n).map(|i| atoms[i * m + j].powi(2)).sum::<f64>().sqrt();
-        if s > 0.0 {
-            for i in 0..n {
-                atoms[i * m + j] /= s;
-            }
-        }
-        norms[j] *= s;
+    for (j, norm) in norms.iter_mut().enumerate() {
+        rescale_to_unit_norm(&mut atoms, n, m, j, norm);
     }
     dict.atoms = atoms;
     dict.atom_norms = Some(norms);

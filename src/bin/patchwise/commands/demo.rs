@@ -13,6 +13,7 @@ use patchwise::pipeline::leadfield_for;
 use super::attribute::{run, Args as AttributeArgs};
 use super::dictionary::{AtomOrientationArg, DictionaryOptions, ProfileArg};
 use crate::cli_error::OrExit;
+use crate::inputs::ForwardOptions;
 use crate::outputs::{region_rows, write_outputs};
 use crate::progress::note;
 use crate::CliError;
@@ -121,10 +122,12 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         patterns: None,
         channels: None,
         dictionary: None,
-        montage: "10-10".to_string(),
-        sources: res.name().to_string(),
-        head: "default".to_string(),
-        regions: None,
+        forward: ForwardOptions {
+            montage: "10-10".to_string(),
+            sources: res.name().to_string(),
+            head: "default".to_string(),
+            regions: None,
+        },
         dictionary_options: DictionaryOptions {
             radii_mm: vec![5.0, 10.0, 20.0],
             spacing_mm: None,

@@ -6,14 +6,12 @@ use patchwise::forward::Orientation;
 use patchwise::geometry::{norm, normalize, SourceSpace};
 use patchwise::io::electrodes::read_channel_list;
 use patchwise::io::leadfield_file::{write_leadfield, LeadFieldFile};
-use patchwise::io::npy::read_npy;
+use patchwise::io::npy::read_npy_f64;
 use patchwise::io::sources_file::read_regions;
 use patchwise::io::Store;
-use patchwise::pipeline::leadfield_for;
 
 use crate::cli_error::OrExit;
-use crate::inputs::{load_head, load_montage, load_sources};
-use crate::progress::{bar, note};
+use crate::inputs::{compute_leadfield, ForwardOptions};
 use crate::CliError;
 
 /// Arguments of `patchwise leadfield`.
@@ -23,21 +21,11 @@ pub struct Args {
     /// Import a lead field made elsewhere instead of computing one.
     #[command(subcommand)]
     pub import: Option<Import>,
-    /// Montage: 10-20, 10-10, 10-05, or an electrodes file (.tsv/.csv, mm).
-    #[arg(long, default_value = "10-05")]
-    pub montage: String,
-    /// Sources: template (about 20k vertices), template-5k, or a GIFTI/PLY/OFF surface or TSV/CSV table (mm).
-    #[arg(long, default_value = "template")]
-    pub sources: String,
-    /// Head: default (four shells) or a TOML file.
-    #[arg(long, default_value = "default")]
-    pub head: String,
+    #[command(flatten)]
+    pub forward: ForwardOptions,
     /// Source orientation: along the cortex normals, or free (also x, y, z).
     #[arg(long, value_enum, default_value_t = OrientationArg::Normal)]
     pub orientation: OrientationArg,
-    /// Region label per source (GIFTI label array or one label a line).
-    #[arg(long)]
-    pub regions: Option<PathBuf>,
     /// Output file (.h5).
     #[arg(long)]
     pub out: Option<PathBuf>,
@@ -105,42 +93,14 @@ fn required(out: &Option<PathBuf>, what: &str) -> Result<PathBuf, CliError> {
         .ok_or_else(|| CliError::bad_input(anyhow::anyhow!("missing {what}")))
 }
 
-/// Compute the lead field for the arguments (used by other commands too).
-pub fn compute(
-    montage: &str,
-    sources: &str,
-    head: &str,
-    orientation: Orientation,
-    regions: Option<&Path>,
-) -> Result<LeadFieldFile, CliError> {
-    let (montage, from_file) = load_montage(montage)?;
-    let sources = load_sources(sources, regions)?;
-    let head = load_head(head, &montage, from_file)?;
-    let pb = bar(sources.len(), "lead field");
-    let (lf, warnings) = leadfield_for(&montage, &sources, &head, orientation, &|n| {
-        pb.inc(n as u64)
-    })
-    .bad_input("computing the lead field")?;
-    pb.finish_and_clear();
-    for w in warnings {
-        note(format!("warning: {w}"));
-    }
-    Ok(lf)
-}
-
 /// Run `patchwise leadfield`.
 pub fn exec(args: Args) -> Result<(), CliError> {
     if let Some(Import::Import(imp)) = args.import {
         return import(imp);
     }
     let out = required(&args.out, "--out FILE.h5")?;
-    let lf = compute(
-        &args.montage,
-        &args.sources,
-        &args.head,
-        args.orientation.into(),
-        args.regions.as_deref(),
-    )?;
+    let (montage, sources, head) = args.forward.resolve(None)?;
+    let lf = compute_leadfield(&montage, &sources, &head, args.orientation.into())?;
     write_leadfield(&out, &lf).compute(format!("writing {}", out.display()))?;
     println!(
         "wrote {}: {} channels x {} sources, average reference, V/(A·m)",
@@ -165,20 +125,14 @@ fn matrix(
             "missing --{name} FILE.npy (or --from FILE)"
         ))
     })?;
-    let a = read_npy(path).bad_input("importing")?;
-    let v = a.to_f64().ok_or_else(|| {
-        CliError::bad_input(anyhow::anyhow!(
-            "{}: holds strings, expected numbers",
-            path.display()
-        ))
-    })?;
+    let (v, shape) = read_npy_f64(path).bad_input("importing")?;
     if v.iter().any(|x| !x.is_finite()) {
         return Err(CliError::bad_input(anyhow::anyhow!(
             "{}: holds a non-finite value",
             path.display()
         )));
     }
-    Ok((v, a.shape.clone(), path.display().to_string()))
+    Ok((v, shape, path.display().to_string()))
 }
 
 fn import(args: ImportArgs) -> Result<(), CliError> {
