@@ -272,7 +272,7 @@ pub fn fit_patterns(
     let rules = vec![options.lambda; blocks.len()];
     let (coefficients, infos) =
         fit_all(&dict, &groups, patterns, k, &blocks, &rules, &params, None)?;
-    let full_fit = fit_result(&dict, patterns, k, coefficients.clone())?;
+    let full_fit = Fit::evaluate(&dict, patterns, k, coefficients.clone())?;
     let refit_fit = if options.refit {
         Some(refit(&dict, patterns, k, &coefficients)?.fit)
     } else {
@@ -315,48 +315,6 @@ pub fn fit_patterns(
         blocks: infos,
         attribution,
         resample,
-    })
-}
-
-fn fit_result(
-    dict: &DenseDictionary,
-    y: &[f64],
-    k: usize,
-    coefficients: Vec<f64>,
-) -> Result<Fit, PipelineError> {
-    let n_ch = dict.n_channels();
-    let n_atoms = dict.n_atoms();
-    let mut residual = y.to_vec();
-    for j in 0..n_atoms {
-        let row = &coefficients[j * k..(j + 1) * k];
-        if row.iter().all(|&v| v == 0.0) {
-            continue;
-        }
-        let atom = dict.atom(j);
-        for i in 0..n_ch {
-            for c in 0..k {
-                residual[i * k + c] -= atom[i] * row[c];
-            }
-        }
-    }
-    let explained_variance = (0..k)
-        .map(|c| {
-            let ys: f64 = (0..n_ch).map(|i| y[i * k + c].powi(2)).sum();
-            let rs: f64 = (0..n_ch).map(|i| residual[i * k + c].powi(2)).sum();
-            if ys > 0.0 {
-                1.0 - rs / ys
-            } else {
-                0.0
-            }
-        })
-        .collect();
-    Ok(Fit {
-        n_atoms,
-        n_channels: n_ch,
-        k,
-        coefficients,
-        residual,
-        explained_variance,
     })
 }
 

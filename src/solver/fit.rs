@@ -29,6 +29,18 @@ pub struct Fit {
 }
 
 impl Fit {
+    /// The residual and explained variance of `coefficients` (row-major
+    /// `n_atoms x k`) for patterns `y` (row-major `n_ch x k`).
+    pub(crate) fn evaluate(
+        dict: &DenseDictionary,
+        y: &[f64],
+        k: usize,
+        coefficients: Vec<f64>,
+    ) -> Result<Self, SolverError> {
+        let targets = Targets::from_row_major(dict.n_channels(), k, y)?;
+        Ok(Self::from_coefficients(dict, &targets, coefficients))
+    }
+
     /// Builds the residual and explained variance of `coefficients`.
     pub(crate) fn from_coefficients(
         dict: &DenseDictionary,
