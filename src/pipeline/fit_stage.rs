@@ -36,6 +36,31 @@ pub struct Problem<'a> {
     pub source_positions: &'a [Vec3],
 }
 
+impl Problem<'_> {
+    /// The attribution of `coefficients` (n_atoms × k) fitted to `patterns`
+    /// (n_ch × k) on this problem.
+    fn attribute(
+        &self,
+        patterns: &[f64],
+        coefficients: &[f64],
+        k: usize,
+    ) -> Result<Attribution, PipelineError> {
+        Ok(attribute(&AttributionInput {
+            atoms: self.atoms,
+            n_channels: self.n_channels,
+            group: self.group,
+            atom_norms: self.atom_norms,
+            profile: self.profile,
+            patterns,
+            coefficients,
+            n_components: k,
+            source_region: self.source_region,
+            n_regions: self.n_regions,
+            source_positions: self.source_positions,
+        })?)
+    }
+}
+
 /// Options of the fit.
 #[derive(Debug, Clone, PartialEq)]
 pub struct FitOptions {
@@ -278,20 +303,7 @@ pub fn fit_patterns(
     } else {
         None
     };
-    let input = AttributionInput {
-        atoms: problem.atoms,
-        n_channels: n_ch,
-        group: problem.group,
-        atom_norms: problem.atom_norms,
-        profile: problem.profile,
-        patterns,
-        coefficients: &coefficients,
-        n_components: k,
-        source_region: problem.source_region,
-        n_regions: problem.n_regions,
-        source_positions: problem.source_positions,
-    };
-    let attribution = attribute(&input)?;
+    let attribution = problem.attribute(patterns, &coefficients, k)?;
     let resample = if options.resample.n_resamples > 0 && problem.n_regions > 0 {
         Some(resample(
             problem,
@@ -392,20 +404,7 @@ fn resample(
                 params,
                 Some(coefficients),
             )?;
-            let input = AttributionInput {
-                atoms: problem.atoms,
-                n_channels: n_ch,
-                group: problem.group,
-                atom_norms: problem.atom_norms,
-                profile: problem.profile,
-                patterns: &y_star,
-                coefficients: &coef,
-                n_components: k,
-                source_region: problem.source_region,
-                n_regions: problem.n_regions,
-                source_positions: problem.source_positions,
-            };
-            let a = attribute(&input)?;
+            let a = problem.attribute(&y_star, &coef, k)?;
             let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
             if n % 4 == 3 {
                 progress(4);
