@@ -23,5 +23,6 @@ pub mod io;
 pub mod montage;
 pub mod patterns;
 pub mod pipeline;
+pub mod render;
 pub mod solver;
 pub mod validation;

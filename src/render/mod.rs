@@ -1,0 +1,3 @@
+//! Pictures and the report: topographic maps, cortex views, charts and the
+//! self-contained HTML page. Everything renders on the CPU into plain bytes
+//! (PNG, SVG, HTML); writing them to files is the caller's business.
