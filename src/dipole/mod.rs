@@ -38,8 +38,8 @@ use crate::geometry::Vec3;
 /// The 0.95 quantile of the chi-square distribution with 3 degrees of
 /// freedom (7.8147 in Abramowitz & Stegun 1964, Handbook of Mathematical
 /// Functions, Table 26.8, from memory; scipy.stats.chi2.ppf(0.95, 3) =
-/// 7.814727903251178).
-pub const CHI2_3DOF_95: f64 = 7.814727903251178;
+/// 7.814727903251179).
+pub const CHI2_3DOF_95: f64 = 7.814727903251179;
 
 /// Options of the dipole fit. Lengths in metres.
 #[derive(Debug, Clone, PartialEq)]
