@@ -45,7 +45,11 @@ fn patterns(head: &SphereHead, el: &[[f64; 3]]) -> Vec<f64> {
                 break p;
             }
         };
-        let q = [rng.normal() * 1e-8, rng.normal() * 1e-8, rng.normal() * 1e-8];
+        let q = [
+            rng.normal() * 1e-8,
+            rng.normal() * 1e-8,
+            rng.normal() * 1e-8,
+        ];
         let clean: Vec<f64> = el
             .iter()
             .map(|e| head.potential(*e, p, q).unwrap_or(0.0))

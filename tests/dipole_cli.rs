@@ -68,6 +68,21 @@ fn distance_mm(p_mm: Vec3, q_m: Vec3) -> f64 {
         .sqrt()
 }
 
+/// `patchwise dipole` on the demo's decoder (10-10, template-5k) plus `extra`.
+fn dipole_on_demo(dir: &Path, extra: &[&str]) -> Output {
+    let mut args = vec![
+        "dipole",
+        "--decoder",
+        "demo/decoder.h5",
+        "--montage",
+        "10-10",
+        "--sources",
+        "template-5k",
+    ];
+    args.extend_from_slice(extra);
+    patchwise(&args, dir)
+}
+
 #[test]
 fn dipoles_of_the_demo_decoder_lie_near_its_generators() {
     let dir = common::python::scratch_dir("dipole_cli_demo");
@@ -94,20 +109,7 @@ fn dipoles_of_the_demo_decoder_lie_near_its_generators() {
     // Single dipoles into a new folder. Tolerance: 10 mm from the generating
     // patch centre (brief); the demo simulates with a skull of 0.015 S/m and
     // fits with 0.02 S/m, so the dipole is not expected exactly on the seed.
-    let single = patchwise(
-        &[
-            "dipole",
-            "--decoder",
-            "demo/decoder.h5",
-            "--montage",
-            "10-10",
-            "--sources",
-            "template-5k",
-            "--out",
-            "single",
-        ],
-        &dir,
-    );
+    let single = dipole_on_demo(&dir, &["--out", "single"]);
     assert!(
         single.status.success(),
         "dipole failed: {}",
@@ -142,21 +144,7 @@ fn dipoles_of_the_demo_decoder_lie_near_its_generators() {
     // Symmetric pairs into the attribution's folder: the bilateral frontal
     // component is found as its two generators; result.h5 keeps the
     // attribution and gains /dipole with the distance to the patch peak.
-    let pairs = patchwise(
-        &[
-            "dipole",
-            "--decoder",
-            "demo/decoder.h5",
-            "--montage",
-            "10-10",
-            "--sources",
-            "template-5k",
-            "--pairs",
-            "--out",
-            "demo",
-        ],
-        &dir,
-    );
+    let pairs = dipole_on_demo(&dir, &["--pairs", "--out", "demo"]);
     assert!(
         pairs.status.success(),
         "dipole --pairs failed: {}",

@@ -218,13 +218,15 @@ fn curvature_region_covers_the_truth_at_20_db() {
     };
     let fitter = DipoleFitter::new(&head, &el, &known).unwrap();
     let fits = fitter.fit(&patterns, trials).unwrap();
-    let inside = fits
-        .iter()
-        .filter(|f| {
-            let d = f.dipoles[0].position;
-            mahalanobis(&f.covariance, [d[0] - p[0], d[1] - p[1], d[2] - p[2]]) <= CHI2_3DOF_95
-        })
-        .count();
+    let covered = |fits: &[patchwise::dipole::DipoleFit]| {
+        fits.iter()
+            .filter(|f| {
+                let d = f.dipoles[0].position;
+                mahalanobis(&f.covariance, [d[0] - p[0], d[1] - p[1], d[2] - p[2]]) <= CHI2_3DOF_95
+            })
+            .count()
+    };
+    let inside = covered(&fits);
     let mean_radius = fits.iter().map(|f| f.ci95_radius).sum::<f64>() / trials as f64;
     eprintln!(
         "coverage with the noise level given: {inside}/{trials}, mean 95 % radius {:.2} mm",
@@ -234,13 +236,7 @@ fn curvature_region_covers_the_truth_at_20_db() {
     // With σ estimated from the residual (n_ch − 7 degrees of freedom) the
     // region is nearly the same at 57 degrees of freedom.
     let estimated = fit_dipoles(&head, &el, &patterns, trials, &DipoleOptions::default()).unwrap();
-    let inside_est = estimated
-        .iter()
-        .filter(|f| {
-            let d = f.dipoles[0].position;
-            mahalanobis(&f.covariance, [d[0] - p[0], d[1] - p[1], d[2] - p[2]]) <= CHI2_3DOF_95
-        })
-        .count();
+    let inside_est = covered(&estimated);
     eprintln!("coverage with the noise level estimated: {inside_est}/{trials}");
     assert!(
         inside_est >= 90,

@@ -14,7 +14,7 @@
 use std::path::Path;
 
 use super::error::IoError;
-use super::result_file::CAUTION;
+use super::result_file::{insert_patterns, insert_provenance};
 use super::store::{Array, Attr, Dataset, Store};
 use super::table::{write_table, Delimiter, TableError};
 
@@ -307,28 +307,14 @@ pub fn write_new_result(
     record: &DipoleRecord<'_>,
 ) -> Result<(), IoError> {
     let mut s = Store::new();
-    s.set_group_attr("/", "caution", Attr::Str(CAUTION.to_string()));
-    s.set_group_attr(
-        "/",
-        "software",
-        Attr::Str(format!("patchwise {}", env!("CARGO_PKG_VERSION"))),
-    );
-    let n_ch = patterns.labels.len();
-    s.insert(
-        "/patterns/labels",
-        Dataset::strings(patterns.labels.to_vec()),
-    );
-    s.insert(
-        "/patterns/values",
-        Dataset::f64(vec![n_ch, record.k], patterns.values.to_vec()),
-    );
-    s.insert(
-        "/patterns/source",
-        Dataset::strings(vec![patterns.source.to_string()]),
-    );
-    s.insert(
-        "/patterns/component_names",
-        Dataset::strings(patterns.component_names.to_vec()),
+    insert_provenance(&mut s);
+    insert_patterns(
+        &mut s,
+        patterns.labels,
+        patterns.values,
+        record.k,
+        patterns.source,
+        patterns.component_names,
     );
     insert_dipole_group(&mut s, record, None);
     s.write_atomic(path)
