@@ -222,6 +222,43 @@ fn bad_patterns_exit_2_naming_the_component_and_leave_no_output() {
         .filter(|e| e.file_name().to_string_lossy().starts_with(".out"))
         .collect();
     assert!(leftovers.is_empty());
+    // A result.h5 already in --out made from other channels is refused and kept as it was.
+    let text: String = (0..labels.len())
+        .map(|i| format!("{}\n", (i as f64 * 0.7).sin()))
+        .collect();
+    std::fs::write(dir.join("good.csv"), text).unwrap();
+    let run = |channels: &str| {
+        patchwise(
+            &[
+                "dipole",
+                "--decoder",
+                "good.csv",
+                "--channels",
+                channels,
+                "--montage",
+                "10-20",
+                "--sources",
+                "template-5k",
+                "--out",
+                "kept",
+            ],
+            &dir,
+        )
+    };
+    let first = run("channels.txt");
+    assert!(first.status.success(), "{}", stderr(&first));
+    let before = std::fs::read(dir.join("kept/result.h5")).unwrap();
+    let mut reordered = labels;
+    reordered.swap(0, 1);
+    std::fs::write(dir.join("reordered.txt"), reordered.join("\n")).unwrap();
+    let second = run("reordered.txt");
+    assert_eq!(second.status.code(), Some(2), "{}", stderr(&second));
+    assert!(
+        stderr(&second).contains("/patterns/labels"),
+        "{}",
+        stderr(&second)
+    );
+    assert_eq!(std::fs::read(dir.join("kept/result.h5")).unwrap(), before);
     // A negative noise level is a usage error.
     let out = patchwise(
         &[

@@ -20,7 +20,7 @@ const MAX_ITERATIONS: usize = 200;
 const STEP_TOLERANCE: f64 = 1e-11;
 
 /// Gains of every grid point, ready for scanning any number of patterns.
-#[derive(Debug, Clone)]
+#[derive(Clone)]
 pub struct DipoleFitter {
     head: SphereHead,
     directions: Vec<Vec3>,
@@ -31,6 +31,19 @@ pub struct DipoleFitter {
     grid: Vec<Vec3>,
     /// Thin QR of each grid point's gain (`None` if rank deficient).
     bases: Vec<Option<ThinQr>>,
+}
+
+impl std::fmt::Debug for DipoleFitter {
+    // The grid bases are derived data; printing them would drown the setup.
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("DipoleFitter")
+            .field("head", &self.head)
+            .field("n_channels", &self.directions.len())
+            .field("options", &self.options)
+            .field("radius", &self.radius)
+            .field("n_grid_points", &self.grid.len())
+            .finish()
+    }
 }
 
 /// The misfit at one position.
