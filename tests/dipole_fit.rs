@@ -89,6 +89,12 @@ fn noiseless_single_dipole_is_recovered_in_the_four_shell_head() {
     .unwrap();
     for (fit, (p, q)) in fits.iter().zip(&cases) {
         let d = &fit.dipoles[0];
+        eprintln!(
+            "4-shell: position error {:.2e} m, moment error {:.2e} relative, RV {:.2e}",
+            dist(d.position, *p),
+            rel(d.moment, *q),
+            fit.residual_variance
+        );
         assert!(
             dist(d.position, *p) < 1e-4,
             "position off by {} m",
@@ -120,6 +126,12 @@ fn noiseless_dipole_from_the_closed_form_homogeneous_sphere_is_recovered() {
     let mean = y.iter().sum::<f64>() / y.len() as f64;
     y.iter_mut().for_each(|v| *v -= mean);
     let fit = &fit_dipoles(&head, &el, &y, 1, &DipoleOptions::default()).unwrap()[0];
+    eprintln!(
+        "closed form: position error {:.2e} m, moment error {:.2e}, RV {:.2e}",
+        dist(fit.dipoles[0].position, p),
+        rel(fit.dipoles[0].moment, q),
+        fit.residual_variance
+    );
     assert!(dist(fit.dipoles[0].position, p) < 1e-4);
     assert!(rel(fit.dipoles[0].moment, q) < 1e-4);
     assert!(
@@ -144,6 +156,12 @@ fn symmetric_pair_is_recovered() {
     };
     let fit = &fit_dipoles(&head, &el, &y, 1, &options).unwrap()[0];
     assert_eq!(fit.dipoles.len(), 2);
+    eprintln!(
+        "pair: position errors {:.2e} / {:.2e} m, RV {:.2e}",
+        dist(fit.dipoles[0].position, a),
+        dist(fit.dipoles[1].position, b),
+        fit.residual_variance
+    );
     assert!(
         dist(fit.dipoles[0].position, a) < 1e-4,
         "{:?}",
