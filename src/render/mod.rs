@@ -1,3 +1,10 @@
 //! Pictures and the report: topographic maps, cortex views, charts and the
 //! self-contained HTML page. Everything renders on the CPU into plain bytes
 //! (PNG, SVG, HTML); writing them to files is the caller's business.
+
+pub mod colormap;
+pub mod error;
+pub mod image;
+
+pub use error::RenderError;
+pub use image::Image;
