@@ -4,9 +4,14 @@
 
 mod axes;
 pub mod charts;
+pub mod colormap;
+pub mod error;
 mod figure_error;
+pub mod image;
 pub mod spline;
 pub mod svg;
 pub mod ticks;
 
+pub use error::RenderError;
 pub use figure_error::FigureError;
+pub use image::Image;
