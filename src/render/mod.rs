@@ -5,12 +5,14 @@
 mod axes;
 pub mod charts;
 pub mod colormap;
+mod contour;
 pub mod error;
 mod figure_error;
 pub mod image;
 pub mod spline;
 pub mod svg;
 pub mod ticks;
+pub mod topomap;
 
 pub use error::RenderError;
 pub use figure_error::FigureError;
