@@ -84,8 +84,8 @@ fn pixels_show_a_known_field_in_the_azimuthal_equidistant_projection() {
                 let u = [theta.sin() * x / rho, theta.sin() * y / rho];
                 let expected = diverging(u[axis]);
                 let k = 4 * (row * side + col) as usize;
-                for c in 0..3 {
-                    let d = (i32::from(image.rgba[k + c]) - i32::from(expected[c])).abs();
+                for (c, &want) in expected.iter().enumerate() {
+                    let d = (i32::from(image.rgba[k + c]) - i32::from(want)).abs();
                     assert!(d <= 2, "axis {axis} pixel ({col}, {row}) channel {c}: {d}");
                 }
                 assert_eq!(image.rgba[k + 3], 255);

@@ -529,7 +529,7 @@ pub enum HeatmapScale {
 }
 
 /// Options of [`heatmap_svg`].
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct HeatmapOptions {
     /// Title above the chart.
     pub title: String,
@@ -544,19 +544,6 @@ pub struct HeatmapOptions {
     pub scale: Option<HeatmapScale>,
     /// Side of a cell (px); `None`: 560 px / the larger dimension, within 6–28 px.
     pub cell_px: Option<f64>,
-}
-
-impl Default for HeatmapOptions {
-    fn default() -> Self {
-        Self {
-            title: String::new(),
-            unit: String::new(),
-            row_labels: Vec::new(),
-            column_labels: Vec::new(),
-            scale: None,
-            cell_px: None,
-        }
-    }
 }
 
 /// Colour of a missing (NaN) cell.

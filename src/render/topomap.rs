@@ -140,7 +140,7 @@ fn layout(
     let projected: Vec<(f64, [f64; 2])> = spline.directions().iter().map(|&u| project(u)).collect();
     let lowest = projected.iter().map(|p| p.0).fold(0.0, f64::max);
     let edge = lowest.min(MAX_EDGE_DEG.to_radians()) / std::f64::consts::FRAC_PI_2;
-    if !(edge > 0.0) {
+    if edge.is_nan() || edge <= 0.0 {
         return Err(FigureError::BadOption {
             field: "positions",
             value: "all electrodes at the vertex".to_string(),
