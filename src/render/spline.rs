@@ -363,10 +363,11 @@ impl SphericalSpline {
     /// V(u) with g_m from a cubic Hermite table (4097 nodes, agreeing with the series to
     /// rounding) instead of the N-term series: the cost per electrode no longer grows
     /// with N. Used for rasters. Pass a unit vector.
+    #[inline]
     pub fn evaluate_fast(&self, u: Vec3) -> f64 {
         let mut v = self.constant;
         for (d, c) in self.directions.iter().zip(&self.weights) {
-            v += c * self.table.eval(dot(u, *d));
+            v += c * self.table.eval(d[0] * u[0] + d[1] * u[1] + d[2] * u[2]);
         }
         v
     }
