@@ -222,6 +222,31 @@ fn pictures_for_the_documentation() {
     let figure = topomap_svg(&positions, &values, &options).unwrap();
     keep("render_topomap", "map.svg", &figure.svg);
     parse_svg(&figure.svg, figure.width, figure.height);
+    // At pixel_ratio 2 the embedded raster has twice as many pixels across as the
+    // image box, and the figure's geometry is unchanged.
+    let sharp = topomap_svg(
+        &positions,
+        &values,
+        &TopomapOptions {
+            pixel_ratio: 2,
+            ..options.clone()
+        },
+    )
+    .unwrap();
+    keep("render_topomap", "map_2x.svg", &sharp.svg);
+    let elements = parse_svg(&sharp.svg, figure.width, figure.height);
+    let map = elements.iter().find(|e| e.has_class("map")).unwrap();
+    let png = base64::engine::general_purpose::STANDARD
+        .decode(
+            map.attrs["href"]
+                .strip_prefix("data:image/png;base64,")
+                .unwrap(),
+        )
+        .unwrap();
+    let reader = png::Decoder::new(std::io::Cursor::new(png))
+        .read_info()
+        .unwrap();
+    assert_eq!(f64::from(reader.info().width), 2.0 * map.num("width"));
 }
 
 #[test]
@@ -289,6 +314,17 @@ fn bad_input_is_a_typed_error() {
             })
         ));
     }
+    let blurry = TopomapOptions {
+        pixel_ratio: 0,
+        ..TopomapOptions::default()
+    };
+    assert!(matches!(
+        topomap_svg(&positions, &values, &blurry),
+        Err(FigureError::BadOption {
+            field: "pixel_ratio",
+            ..
+        })
+    ));
     let tiny = TopomapOptions {
         size_px: 10,
         ..TopomapOptions::default()
@@ -306,4 +342,24 @@ fn bad_input_is_a_typed_error() {
         topomap_svg(&twice, &values, &o),
         Err(FigureError::Spline(_))
     ));
+}
+
+#[test]
+fn the_raster_does_not_depend_on_the_thread_count() {
+    // Brief requirement: results identical whatever the rayon thread count. Pixels are
+    // independent and the colour limit is a maximum, so the bytes must match exactly.
+    let (_, positions) = montage_64();
+    let values = dipolar(&positions);
+    let options = TopomapOptions {
+        size_px: 128,
+        ..TopomapOptions::default()
+    };
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| topomap_png(&positions, &values, &options).unwrap())
+    };
+    assert_eq!(run(1), run(3));
 }
