@@ -394,3 +394,37 @@ fn a_head_off_the_origin_gives_the_same_map() {
         assert!((i32::from(*x) - i32::from(*y)).abs() <= 1);
     }
 }
+
+#[test]
+fn a_small_cap_is_drawn_about_a_given_centre() {
+    // Twelve electrodes around Cz: the disc ends at the lowest of them (polar angle
+    // below 45°), far inside the head outline; with the head centre given the map is
+    // drawn, and without it the sphere fit either succeeds or fails with a typed error.
+    let (_, positions) = montage_64();
+    let cap: Vec<Vec3> = positions
+        .iter()
+        .copied()
+        .filter(|&p| unit(p)[2] > 0.72)
+        .collect();
+    assert!(cap.len() >= 8, "{}", cap.len());
+    let values = dipolar(&cap);
+    let options = TopomapOptions {
+        size_px: 120,
+        sphere_center: Some([0.0; 3]),
+        ..TopomapOptions::default()
+    };
+    let image = topomap_png(&cap, &values, &options).unwrap();
+    let centre = 4 * (60 * 120 + 60);
+    assert_eq!(image.rgba[centre + 3], 255);
+    let figure = topomap_svg(&cap, &values, &options).unwrap();
+    let elements = parse_svg(&figure.svg, figure.width, figure.height);
+    assert_eq!(mark_positions(&elements).len(), cap.len());
+    let fitted = TopomapOptions {
+        sphere_center: None,
+        ..options
+    };
+    match topomap_png(&cap, &values, &fitted) {
+        Ok(_) | Err(FigureError::Spline(_)) => {}
+        Err(e) => panic!("unexpected error {e}"),
+    }
+}

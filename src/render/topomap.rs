@@ -48,6 +48,9 @@ pub struct TopomapOptions<'a> {
     /// Raster pixels per CSS pixel of the SVG's map (1–4; 2 gives crisp maps on
     /// high-density screens at four times the cost). Ignored by [`topomap_png`].
     pub pixel_ratio: u32,
+    /// Centre of the head sphere (m) to project the electrodes about. `None`: the
+    /// least-squares sphere through the electrodes (needs them spread over the head).
+    pub sphere_center: Option<Vec3>,
     /// Parameters of the spherical spline.
     pub spline: SplineParams,
 }
@@ -62,6 +65,7 @@ impl Default for TopomapOptions<'_> {
             labels: None,
             contours: true,
             pixel_ratio: 1,
+            sphere_center: None,
             spline: SplineParams::default(),
         }
     }
@@ -147,7 +151,10 @@ fn layout(
             expected: "1, 2, 3 or 4 raster pixels per CSS pixel",
         });
     }
-    let spline = SphericalSpline::fit(positions, values, &options.spline)?;
+    let spline = match options.sphere_center {
+        Some(center) => SphericalSpline::fit_about(positions, values, center, &options.spline)?,
+        None => SphericalSpline::fit(positions, values, &options.spline)?,
+    };
     let projected: Vec<(f64, [f64; 2])> = spline.directions().iter().map(|&u| project(u)).collect();
     let lowest = projected.iter().map(|p| p.0).fold(0.0, f64::max);
     let edge = lowest.min(MAX_EDGE_DEG.to_radians()) / std::f64::consts::FRAC_PI_2;
