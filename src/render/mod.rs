@@ -2,9 +2,16 @@
 //! self-contained HTML page. Everything renders on the CPU into plain bytes
 //! (PNG, SVG, HTML); writing them to files is the caller's business.
 
+pub mod camera;
 pub mod colormap;
+pub mod cortex;
 pub mod error;
 pub mod image;
+pub mod raster;
+pub mod sheet;
 
+pub use camera::View;
+pub use cortex::{render_view, render_views, ColourSpec, Scale, Shading, ViewOptions};
 pub use error::RenderError;
 pub use image::Image;
+pub use sheet::contact_sheet;
