@@ -19,7 +19,7 @@ use super::colormap::{bytes_to_linear_srgb, linear_to_srgb, ColourTable};
 use super::error::RenderError;
 use super::image::Image;
 use super::raster::{check_mesh, fit_framing, rasterize, Framing, NO_TRIANGLE};
-use crate::geometry::{dot, normalize, Mesh, Vec3};
+use crate::geometry::{dot, normalize, scale, Mesh, Vec3};
 
 /// How per-vertex values become colours.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -140,11 +140,45 @@ struct Scene<'a> {
     values: &'a [f64],
     normals: Vec<Vec3>,
     left_triangle: Vec<bool>,
-    table: Option<ColourTable>,
+    /// Outward face normals (from the winding, flipped when the surface is
+    /// oriented inward) when the mesh is closed and consistently oriented,
+    /// so that faces turned away from the camera can be skipped; `None`
+    /// draws every face.
+    outward: Option<Vec<Vec3>>,
+    /// The colour map tabulated in linear light.
+    table: Option<Vec<[f64; 3]>>,
     /// Colour-map range: value at the table's start and end.
     range: [f64; 2],
     threshold: f64,
     signed: bool,
+}
+
+/// Whether every edge is shared by exactly two triangles that run along it in
+/// opposite directions: a closed, consistently oriented surface (possibly
+/// several, like the template's two hemispheres).
+fn closed_and_oriented(triangles: &[[u32; 3]]) -> bool {
+    let mut directed: Vec<u64> = triangles
+        .iter()
+        .flat_map(|&[a, b, c]| [(a, b), (b, c), (c, a)])
+        .map(|(a, b)| (a as u64) << 32 | b as u64)
+        .collect();
+    directed.par_sort_unstable();
+    if directed.windows(2).any(|w| w[0] == w[1]) {
+        return false;
+    }
+    directed.iter().all(|&e| {
+        let reverse = (e & 0xffff_ffff) << 32 | e >> 32;
+        directed.binary_search(&reverse).is_ok()
+    })
+}
+
+/// A colour table's entries in linear light, so that pixel loops need no
+/// transfer-curve powers.
+fn linear_table(table: &ColourTable) -> Vec<[f64; 3]> {
+    let n = table.len();
+    (0..n)
+        .map(|i| bytes_to_linear_srgb(table.at(i as f64 / (n - 1) as f64)))
+        .collect()
 }
 
 /// Checks a finite option value.
@@ -243,7 +277,12 @@ impl<'a> Scene<'a> {
                     "a finite number >= 0",
                 )?;
                 let l = limit.unwrap_or(largest_abs);
-                (Some(ColourTable::diverging()), [-l, l], threshold, true)
+                (
+                    Some(linear_table(&ColourTable::diverging())),
+                    [-l, l],
+                    threshold,
+                    true,
+                )
             }
             ColourSpec::Positive { max, threshold } => {
                 if let Some(m) = max {
@@ -256,7 +295,12 @@ impl<'a> Scene<'a> {
                     "a finite number >= 0",
                 )?;
                 let m = max.unwrap_or(largest);
-                (Some(ColourTable::sequential()), [0.0, m], threshold, false)
+                (
+                    Some(linear_table(&ColourTable::sequential())),
+                    [0.0, m],
+                    threshold,
+                    false,
+                )
             }
         };
         let left_triangle = mesh
@@ -273,11 +317,18 @@ impl<'a> Scene<'a> {
                 }
             })
             .collect();
+        let outward = closed_and_oriented(&mesh.triangles).then(|| {
+            let sign = if mesh.volume() < 0.0 { -1.0 } else { 1.0 };
+            (0..mesh.n_triangles())
+                .map(|t| scale(mesh.triangle_cross(t), sign))
+                .collect()
+        });
         Ok(Scene {
             mesh,
             values,
             normals: mesh.vertex_normals(),
             left_triangle,
+            outward,
             table,
             range,
             threshold,
@@ -285,7 +336,22 @@ impl<'a> Scene<'a> {
         })
     }
 
-    /// Which triangles a view draws.
+    /// Which triangles a view rasterizes: those of its hemispheres that do
+    /// not face away from the camera. On a closed surface a face turned away
+    /// is always hidden by a nearer one, so skipping it changes nothing but
+    /// the time.
+    fn visible(&self, view: View) -> Vec<bool> {
+        let mut include = self.include(view);
+        if let Some(outward) = &self.outward {
+            let forward = view.forward();
+            for (inc, n) in include.iter_mut().zip(outward) {
+                *inc = *inc && dot(*n, forward) < 0.0;
+            }
+        }
+        include
+    }
+
+    /// Which triangles belong to a view's hemispheres.
     fn include(&self, view: View) -> Vec<bool> {
         match view.hemispheres() {
             Hemispheres::Both => vec![true; self.left_triangle.len()],
@@ -304,7 +370,8 @@ impl<'a> Scene<'a> {
             return grey;
         }
         let f = (value - self.range[0]) / (self.range[1] - self.range[0]);
-        bytes_to_linear_srgb(table.at(f))
+        let i = (f.clamp(0.0, 1.0) * (table.len() - 1) as f64).round() as usize;
+        table[i.min(table.len() - 1)]
     }
 }
 
@@ -483,7 +550,7 @@ fn draw(
         pixels_per_metre: framing.pixels_per_metre * s as f64,
         centre: framing.centre,
     };
-    let include = scene.include(view);
+    let include = scene.visible(view);
     let frags = rasterize(
         &scene.mesh.vertices,
         &scene.mesh.triangles,
@@ -505,10 +572,9 @@ fn draw(
     let edge = options
         .regions
         .map(|r| outline_samples(&frags.triangle, &frags.barycentric, triangles, r, wu, hu));
-    // The linear-light colour of covered sample i.
-    let shade = |i: usize, t: u32| -> [f64; 3] {
+    // The linear-light colour of triangle t at barycentric point b.
+    let shade = |t: u32, b: [f64; 3]| -> [f64; 3] {
         let tri = triangles[t as usize];
-        let b = frags.barycentric[i].map(f64::from);
         let mut n = [0.0; 3];
         let mut value = 0.0;
         for k in 0..3 {
@@ -523,13 +589,7 @@ fn draw(
         // Two-sided: a back face seen through an open mesh is lit too.
         let cos = dot(normalize(n), to_camera).abs().min(1.0);
         let light = options.shading.ambient + options.shading.diffuse * cos;
-        let mut c = scene.base_colour(value, grey).map(|c| c * light);
-        if edge.as_ref().is_some_and(|e| e[i]) {
-            for k in 0..3 {
-                c[k] = c[k] * (1.0 - outline_alpha) + outline[k] * outline_alpha;
-            }
-        }
-        c
+        scene.base_colour(value, grey).map(|c| c * light)
     };
     // Shade the samples of each output pixel and average them in linear
     // light with premultiplied alpha.
@@ -547,25 +607,58 @@ fn draw(
         .par_chunks_mut(width * 4)
         .enumerate()
         .for_each(|(y, row)| {
+            // Reused for every pixel of the row; only the first `n_groups`
+            // entries are meaningful.
+            let mut groups = [(NO_TRIANGLE, 0u32, [0.0f64; 3], 0u32); 16];
             for x in 0..width {
-                let mut sum = [0.0; 3];
-                let mut alpha = 0.0;
-                let mut covered = 0;
+                // Samples are grouped by triangle and each triangle is
+                // shaded once, at the mean of its samples' barycentric
+                // coordinates, weighted by its share of the samples (shading
+                // is smooth inside a triangle, so this differs from shading
+                // every sample by far less than one 8-bit step, at a quarter
+                // of the cost). Outlines blend per sample.
+                let mut n_groups = 0;
+                let mut uncovered = 0u32;
                 for dy in 0..su {
                     for dx in 0..su {
                         let i = (y * su + dy) * wu + x * su + dx;
                         let t = frags.triangle[i];
-                        let (c, a) = if t == NO_TRIANGLE {
-                            (bg, bg_alpha)
-                        } else {
-                            covered += 1;
-                            (shade(i, t), 1.0)
-                        };
-                        for k in 0..3 {
-                            sum[k] += c[k] * a;
+                        if t == NO_TRIANGLE {
+                            uncovered += 1;
+                            continue;
                         }
-                        alpha += a;
+                        let g = match groups[..n_groups].iter().position(|g| g.0 == t) {
+                            Some(g) => g,
+                            None => {
+                                groups[n_groups] = (t, 0, [0.0; 3], 0);
+                                n_groups += 1;
+                                n_groups - 1
+                            }
+                        };
+                        let group = &mut groups[g];
+                        group.1 += 1;
+                        for (acc, b) in group.2.iter_mut().zip(frags.barycentric[i]) {
+                            *acc += b as f64;
+                        }
+                        if edge.as_ref().is_some_and(|e| e[i]) {
+                            group.3 += 1;
+                        }
                     }
+                }
+                let covered = su * su - uncovered as usize;
+                let mut sum = [0.0; 3];
+                for &(t, count, bary, edges) in &groups[..n_groups] {
+                    let m = count as f64;
+                    let mut c = shade(t, bary.map(|b| b / m));
+                    let e = outline_alpha * edges as f64 / m;
+                    for k in 0..3 {
+                        c[k] = c[k] * (1.0 - e) + outline[k] * e;
+                        sum[k] += c[k] * m;
+                    }
+                }
+                let alpha = covered as f64 + uncovered as f64 * bg_alpha;
+                for k in 0..3 {
+                    sum[k] += bg[k] * bg_alpha * uncovered as f64;
                 }
                 if covered == 0 {
                     continue;

@@ -18,7 +18,7 @@ use crate::geometry::Vec3;
 pub const NO_TRIANGLE: u32 = u32::MAX;
 
 /// Rows per band of parallel work.
-const BAND_ROWS: usize = 8;
+const BAND_ROWS: usize = 32;
 
 /// How screen coordinates (metres) map to pixels.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -264,25 +264,40 @@ fn fill_triangle(
         return;
     }
     let (x0, x1, y0, y1) = (x0 as usize, x1 as usize, y0 as usize, y1 as usize);
+    // Edge functions are affine in the pixel position: step them by their
+    // x-gradients along each row instead of re-evaluating.
+    let gradient = |a: [f64; 3], b: [f64; 3]| -(b[1] - a[1]) * inv;
+    let (g0, g1, g2) = (
+        gradient(c[1], c[2]),
+        gradient(c[2], c[0]),
+        gradient(c[0], c[1]),
+    );
     for y in y0..=y1 {
         let py = y as f64 + 0.5;
         let row = (y - row0) * w;
+        let px = x0 as f64 + 0.5;
+        // Normalised edge functions are the barycentric coordinates.
+        let mut b0 = edge(c[1], c[2], px, py) * inv;
+        let mut b1 = edge(c[2], c[0], px, py) * inv;
+        let mut b2 = edge(c[0], c[1], px, py) * inv;
+        let mut entered = false;
         for x in x0..=x1 {
-            let px = x as f64 + 0.5;
-            // Normalised edge functions are the barycentric coordinates.
-            let b0 = edge(c[1], c[2], px, py) * inv;
-            let b1 = edge(c[2], c[0], px, py) * inv;
-            let b2 = edge(c[0], c[1], px, py) * inv;
-            if b0 < 0.0 || b1 < 0.0 || b2 < 0.0 {
-                continue;
+            if b0 >= 0.0 && b1 >= 0.0 && b2 >= 0.0 {
+                entered = true;
+                let z = b0 * c[0][2] + b1 * c[1][2] + b2 * c[2][2];
+                let i = row + x;
+                if z < depth_out[i] {
+                    depth_out[i] = z;
+                    tri_out[i] = t;
+                    bary_out[i] = [b0 as f32, b1 as f32, b2 as f32];
+                }
+            } else if entered {
+                // A triangle is convex: once a row has left it, it stays out.
+                break;
             }
-            let z = b0 * c[0][2] + b1 * c[1][2] + b2 * c[2][2];
-            let i = row + x;
-            if z < depth_out[i] {
-                depth_out[i] = z;
-                tri_out[i] = t;
-                bary_out[i] = [b0 as f32, b1 as f32, b2 as f32];
-            }
+            b0 += g0;
+            b1 += g1;
+            b2 += g2;
         }
     }
 }
