@@ -18,7 +18,7 @@ use super::camera::{Hemispheres, View};
 use super::colormap::{bytes_to_linear_srgb, linear_to_srgb, ColourTable};
 use super::error::RenderError;
 use super::image::Image;
-use super::raster::{check_mesh, fit_framing, rasterize, Framing, NO_TRIANGLE};
+use super::raster::{check_mesh, fit_framing, Binned, Framing, BAND_ROWS, NO_TRIANGLE};
 use crate::geometry::{dot, normalize, scale, Mesh, Vec3};
 
 /// How per-vertex values become colours.
@@ -551,7 +551,7 @@ fn draw(
         centre: framing.centre,
     };
     let include = scene.visible(view);
-    let frags = rasterize(
+    let binned = Binned::new(
         &scene.mesh.vertices,
         &scene.mesh.triangles,
         &include,
@@ -569,9 +569,6 @@ fn draw(
     let outline = bytes_to_linear_srgb([OUTLINE[0], OUTLINE[1], OUTLINE[2]]);
     let outline_alpha = OUTLINE[3] as f64 / 255.0;
     let triangles = &scene.mesh.triangles;
-    let edge = options
-        .regions
-        .map(|r| outline_samples(&frags.triangle, &frags.barycentric, triangles, r, wu, hu));
     // The linear-light colour of triangle t at barycentric point b.
     let shade = |t: u32, b: [f64; 3]| -> [f64; 3] {
         let tri = triangles[t as usize];
@@ -603,73 +600,87 @@ fn draw(
     let su = s as usize;
     let inv = 1.0 / (su * su) as f64;
     let width = options.width as usize;
+    // Blocks of output rows are drawn independently: each rasterizes its
+    // own samples (plus one sample row above and below, which the outlines
+    // need) into buffers small enough to stay in cache.
+    let block_rows = (BAND_ROWS / su).max(1);
     out.rgba
-        .par_chunks_mut(width * 4)
+        .par_chunks_mut(block_rows * width * 4)
         .enumerate()
-        .for_each(|(y, row)| {
-            // Reused for every pixel of the row; only the first `n_groups`
-            // entries are meaningful.
-            let mut groups = [(NO_TRIANGLE, 0u32, [0.0f64; 3], 0u32); 16];
-            for x in 0..width {
-                // Samples are grouped by triangle and each triangle is
-                // shaded once, at the mean of its samples' barycentric
-                // coordinates, weighted by its share of the samples (shading
-                // is smooth inside a triangle, so this differs from shading
-                // every sample by far less than one 8-bit step, at a quarter
-                // of the cost). Outlines blend per sample.
-                let mut n_groups = 0;
-                let mut uncovered = 0u32;
-                for dy in 0..su {
-                    for dx in 0..su {
-                        let i = (y * su + dy) * wu + x * su + dx;
-                        let t = frags.triangle[i];
-                        if t == NO_TRIANGLE {
-                            uncovered += 1;
-                            continue;
-                        }
-                        let g = match groups[..n_groups].iter().position(|g| g.0 == t) {
-                            Some(g) => g,
-                            None => {
-                                groups[n_groups] = (t, 0, [0.0; 3], 0);
-                                n_groups += 1;
-                                n_groups - 1
+        .for_each(|(block, block_out)| {
+            let first = block * block_rows * su;
+            let start = first.saturating_sub(1);
+            let end = (first + block_rows * su + 1).min(hu);
+            let (tri_buf, _, bary_buf) = binned.fill_rows(start, end - start);
+            let edge = options
+                .regions
+                .map(|r| outline_samples(&tri_buf, &bary_buf, triangles, r, wu, end - start));
+            for (y_in_block, row) in block_out.chunks_mut(width * 4).enumerate() {
+                let y = block * block_rows + y_in_block;
+                // Reused for every pixel of the row; only the first `n_groups`
+                // entries are meaningful.
+                let mut groups = [(NO_TRIANGLE, 0u32, [0.0f64; 3], 0u32); 16];
+                for x in 0..width {
+                    // Samples are grouped by triangle and each triangle is
+                    // shaded once, at the mean of its samples' barycentric
+                    // coordinates, weighted by its share of the samples (shading
+                    // is smooth inside a triangle, so this differs from shading
+                    // every sample by far less than one 8-bit step, at a quarter
+                    // of the cost). Outlines blend per sample.
+                    let mut n_groups = 0;
+                    let mut uncovered = 0u32;
+                    for dy in 0..su {
+                        for dx in 0..su {
+                            let i = (y * su + dy - start) * wu + x * su + dx;
+                            let t = tri_buf[i];
+                            if t == NO_TRIANGLE {
+                                uncovered += 1;
+                                continue;
                             }
-                        };
-                        let group = &mut groups[g];
-                        group.1 += 1;
-                        for (acc, b) in group.2.iter_mut().zip(frags.barycentric[i]) {
-                            *acc += b as f64;
+                            let g = match groups[..n_groups].iter().position(|g| g.0 == t) {
+                                Some(g) => g,
+                                None => {
+                                    groups[n_groups] = (t, 0, [0.0; 3], 0);
+                                    n_groups += 1;
+                                    n_groups - 1
+                                }
+                            };
+                            let group = &mut groups[g];
+                            group.1 += 1;
+                            for (acc, b) in group.2.iter_mut().zip(bary_buf[i]) {
+                                *acc += b as f64;
+                            }
+                            if edge.as_ref().is_some_and(|e| e[i]) {
+                                group.3 += 1;
+                            }
                         }
-                        if edge.as_ref().is_some_and(|e| e[i]) {
-                            group.3 += 1;
+                    }
+                    let covered = su * su - uncovered as usize;
+                    let mut sum = [0.0; 3];
+                    for &(t, count, bary, edges) in &groups[..n_groups] {
+                        let m = count as f64;
+                        let mut c = shade(t, bary.map(|b| b / m));
+                        let e = outline_alpha * edges as f64 / m;
+                        for k in 0..3 {
+                            c[k] = c[k] * (1.0 - e) + outline[k] * e;
+                            sum[k] += c[k] * m;
                         }
                     }
-                }
-                let covered = su * su - uncovered as usize;
-                let mut sum = [0.0; 3];
-                for &(t, count, bary, edges) in &groups[..n_groups] {
-                    let m = count as f64;
-                    let mut c = shade(t, bary.map(|b| b / m));
-                    let e = outline_alpha * edges as f64 / m;
+                    let alpha = covered as f64 + uncovered as f64 * bg_alpha;
                     for k in 0..3 {
-                        c[k] = c[k] * (1.0 - e) + outline[k] * e;
-                        sum[k] += c[k] * m;
+                        sum[k] += bg[k] * bg_alpha * uncovered as f64;
                     }
-                }
-                let alpha = covered as f64 + uncovered as f64 * bg_alpha;
-                for k in 0..3 {
-                    sum[k] += bg[k] * bg_alpha * uncovered as f64;
-                }
-                if covered == 0 {
-                    continue;
-                }
-                let px = &mut row[x * 4..x * 4 + 4];
-                if alpha > 0.0 {
-                    for k in 0..3 {
-                        px[k] = encoder.encode(sum[k] / alpha);
+                    if covered == 0 {
+                        continue;
                     }
+                    let px = &mut row[x * 4..x * 4 + 4];
+                    if alpha > 0.0 {
+                        for k in 0..3 {
+                            px[k] = encoder.encode(sum[k] / alpha);
+                        }
+                    }
+                    px[3] = (alpha * inv * 255.0).round().clamp(0.0, 255.0) as u8;
                 }
-                px[3] = (alpha * inv * 255.0).round().clamp(0.0, 255.0) as u8;
             }
         });
     Ok(out)

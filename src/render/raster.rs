@@ -12,13 +12,13 @@ use rayon::prelude::*;
 
 use super::camera::View;
 use super::error::RenderError;
-use crate::geometry::Vec3;
+use crate::geometry::{dot, Vec3};
 
 /// Marks a pixel no triangle covers.
 pub const NO_TRIANGLE: u32 = u32::MAX;
 
 /// Rows per band of parallel work.
-const BAND_ROWS: usize = 32;
+pub const BAND_ROWS: usize = 32;
 
 /// How screen coordinates (metres) map to pixels.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -127,6 +127,117 @@ pub fn fit_framing(
     })
 }
 
+/// Triangles projected to pixel coordinates and sorted into bands of rows,
+/// ready to be filled band by band.
+pub struct Binned<'a> {
+    triangles: &'a [[u32; 3]],
+    /// Pixel x, y and depth of every vertex.
+    projected: Vec<[f64; 3]>,
+    /// Triangles whose rows meet each band of [`BAND_ROWS`] rows, in mesh
+    /// order.
+    bands: Vec<Vec<u32>>,
+    width: usize,
+    height: usize,
+}
+
+impl<'a> Binned<'a> {
+    /// Projects the triangles with `include[t]` (all when `include` is
+    /// empty) seen from `view`, framed by `framing`, into a `width` x
+    /// `height` image, and bins them by rows.
+    pub fn new(
+        vertices: &[Vec3],
+        triangles: &'a [[u32; 3]],
+        include: &[bool],
+        view: View,
+        width: u32,
+        height: u32,
+        framing: &Framing,
+    ) -> Binned<'a> {
+        let (w, h) = (width as usize, height as usize);
+        let (right, up, forward) = (view.right(), view.up(), view.forward());
+        let projected: Vec<[f64; 3]> = vertices
+            .par_iter()
+            .map(|&p| {
+                let [x, y] = framing.to_pixel(width, height, dot(p, right), dot(p, up));
+                [x, y, dot(p, forward)]
+            })
+            .collect();
+        let mut bands: Vec<Vec<u32>> = vec![Vec::new(); h.div_ceil(BAND_ROWS)];
+        for (t, tri) in triangles.iter().enumerate() {
+            if !include.is_empty() && !include.get(t).copied().unwrap_or(false) {
+                continue;
+            }
+            let Some(c) = corners(&projected, tri) else {
+                continue;
+            };
+            let y_min = c[0][1].min(c[1][1]).min(c[2][1]);
+            let y_max = c[0][1].max(c[1][1]).max(c[2][1]);
+            if y_max < 0.0 || y_min >= h as f64 || !y_min.is_finite() || !y_max.is_finite() {
+                continue;
+            }
+            // Rows whose centre may lie inside: centre y + 0.5 in [y_min, y_max].
+            let first = ((y_min - 0.5).ceil().max(0.0)) as usize;
+            let last = ((y_max - 0.5).floor().min(h as f64 - 1.0)) as usize;
+            if (y_max - 0.5).floor() < 0.0 || first > last {
+                continue;
+            }
+            for band in bands
+                .iter_mut()
+                .take(last / BAND_ROWS + 1)
+                .skip(first / BAND_ROWS)
+            {
+                band.push(t as u32);
+            }
+        }
+        Binned {
+            triangles,
+            projected,
+            bands,
+            width: w,
+            height: h,
+        }
+    }
+
+    /// Fills rows `row0 .. row0 + rows` (clipped to the image) into fresh
+    /// buffers: triangle per pixel, depth, barycentric coordinates, each
+    /// `rows * width` long. Triangles are drawn in mesh order, so the result
+    /// does not depend on how the rows are split.
+    pub fn fill_rows(&self, row0: usize, rows: usize) -> (Vec<u32>, Vec<f64>, Vec<[f32; 3]>) {
+        let w = self.width;
+        let rows = rows.min(self.height.saturating_sub(row0));
+        let mut tri_out = vec![NO_TRIANGLE; rows * w];
+        let mut depth_out = vec![f64::INFINITY; rows * w];
+        let mut bary_out = vec![[0.0f32; 3]; rows * w];
+        if rows == 0 {
+            return (tri_out, depth_out, bary_out);
+        }
+        let first = row0 / BAND_ROWS;
+        let last = (row0 + rows - 1) / BAND_ROWS;
+        let list: Vec<u32> = if first == last {
+            self.bands[first].clone()
+        } else {
+            let mut all: Vec<u32> = self.bands[first..=last].concat();
+            all.sort_unstable();
+            all.dedup();
+            all
+        };
+        for t in list {
+            let Some(c) = corners(&self.projected, &self.triangles[t as usize]) else {
+                continue;
+            };
+            fill_triangle(
+                &c,
+                t,
+                w,
+                row0,
+                rows,
+                (&mut tri_out, &mut depth_out, &mut bary_out),
+            );
+        }
+        (tri_out, depth_out, bary_out)
+    }
+}
+
 /// Rasterizes the triangles with `include[t]` (all when `include` is empty)
 /// seen from `view`, framed by `framing`.
 ///
@@ -141,76 +252,20 @@ pub fn rasterize(
     height: u32,
     framing: &Framing,
 ) -> Fragments {
-    let (w, h) = (width as usize, height as usize);
-    let (right, up, forward) = (view.right(), view.up(), view.forward());
-    // Pixel coordinates and depth of every vertex.
-    let projected: Vec<[f64; 3]> = vertices
-        .par_iter()
-        .map(|&p| {
-            let [x, y] = framing.to_pixel(
-                width,
-                height,
-                crate::geometry::dot(p, right),
-                crate::geometry::dot(p, up),
-            );
-            [x, y, crate::geometry::dot(p, forward)]
-        })
+    let binned = Binned::new(vertices, triangles, include, view, width, height, framing);
+    let bands: Vec<_> = (0..binned.bands.len())
+        .into_par_iter()
+        .map(|band| binned.fill_rows(band * BAND_ROWS, BAND_ROWS))
         .collect();
-    // Bin the triangles into bands of rows, in mesh order.
-    let n_bands = h.div_ceil(BAND_ROWS);
-    let mut bands: Vec<Vec<u32>> = vec![Vec::new(); n_bands];
-    for (t, tri) in triangles.iter().enumerate() {
-        if !include.is_empty() && !include.get(t).copied().unwrap_or(false) {
-            continue;
-        }
-        let Some(c) = corners(&projected, tri) else {
-            continue;
-        };
-        let y_min = c[0][1].min(c[1][1]).min(c[2][1]);
-        let y_max = c[0][1].max(c[1][1]).max(c[2][1]);
-        if y_max < 0.0 || y_min >= h as f64 || !y_min.is_finite() || !y_max.is_finite() {
-            continue;
-        }
-        // Rows whose centre may lie inside: centre y + 0.5 in [y_min, y_max].
-        let first = ((y_min - 0.5).ceil().max(0.0)) as usize;
-        let last = ((y_max - 0.5).floor().min(h as f64 - 1.0)) as usize;
-        if (y_max - 0.5).floor() < 0.0 || first > last {
-            continue;
-        }
-        for band in bands
-            .iter_mut()
-            .take(last / BAND_ROWS + 1)
-            .skip(first / BAND_ROWS)
-        {
-            band.push(t as u32);
-        }
+    let n = width as usize * height as usize;
+    let mut triangle = Vec::with_capacity(n);
+    let mut depth = Vec::with_capacity(n);
+    let mut barycentric = Vec::with_capacity(n);
+    for (t, d, b) in bands {
+        triangle.extend(t);
+        depth.extend(d);
+        barycentric.extend(b);
     }
-    let mut triangle = vec![NO_TRIANGLE; w * h];
-    let mut depth = vec![f64::INFINITY; w * h];
-    let mut barycentric = vec![[0.0f32; 3]; w * h];
-    triangle
-        .par_chunks_mut(BAND_ROWS * w)
-        .zip(depth.par_chunks_mut(BAND_ROWS * w))
-        .zip(barycentric.par_chunks_mut(BAND_ROWS * w))
-        .zip(bands.par_iter())
-        .enumerate()
-        .for_each(|(band, (((tri_out, depth_out), bary_out), list))| {
-            let row0 = band * BAND_ROWS;
-            let rows = tri_out.len() / w.max(1);
-            for &t in list {
-                let Some(c) = corners(&projected, &triangles[t as usize]) else {
-                    continue;
-                };
-                fill_triangle(
-                    &c,
-                    t,
-                    w,
-                    row0,
-                    rows,
-                    (&mut *tri_out, &mut *depth_out, &mut *bary_out),
-                );
-            }
-        });
     Fragments {
         width,
         height,
