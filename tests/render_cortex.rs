@@ -443,3 +443,25 @@ fn bad_input_is_a_typed_error() {
         Err(RenderError::EmptyMesh { .. })
     ));
 }
+
+#[test]
+fn pictures_do_not_depend_on_the_thread_count() {
+    // The brief's rule: results identical whatever the rayon thread count.
+    let t = template(TemplateResolution::Low);
+    let values = asymmetric_values(&t.mesh);
+    let mut o = ViewOptions::new(View::Top, 160, 120);
+    o.hemisphere = Some(&t.hemisphere);
+    o.regions = Some(&t.region);
+    o.colour = ColourSpec::Signed {
+        limit: None,
+        threshold: 0.1,
+    };
+    let draw = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| render_view(&t.mesh, &values, &o).unwrap())
+    };
+    assert_eq!(draw(1), draw(3));
+}
