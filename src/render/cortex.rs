@@ -264,29 +264,22 @@ impl<'a> Scene<'a> {
         }
         let largest_abs = values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
         let largest = values.iter().fold(0.0f64, |m, &v| m.max(v));
-        let (table, range, threshold, signed) = match options.colour {
-            ColourSpec::Plain => (None, [0.0, 1.0], f64::INFINITY, false),
+        // Signed data: symmetric limits and the diverging map; shares: [0, max]
+        // and the sequential map. A limit left out is the data's own.
+        let (limit, threshold, signed) = match options.colour {
+            ColourSpec::Plain => (None, f64::INFINITY, false),
             ColourSpec::Signed { limit, threshold } => {
-                if let Some(l) = limit {
-                    check_option("colour.limit", l, l > 0.0, "a finite number > 0")?;
-                }
-                check_option(
-                    "colour.threshold",
-                    threshold,
-                    threshold >= 0.0,
-                    "a finite number >= 0",
-                )?;
-                let l = limit.unwrap_or(largest_abs);
-                (
-                    Some(linear_table(&ColourTable::diverging())),
-                    [-l, l],
-                    threshold,
-                    true,
-                )
+                (Some(("colour.limit", limit, largest_abs)), threshold, true)
             }
             ColourSpec::Positive { max, threshold } => {
-                if let Some(m) = max {
-                    check_option("colour.max", m, m > 0.0, "a finite number > 0")?;
+                (Some(("colour.max", max, largest)), threshold, false)
+            }
+        };
+        let (table, range) = match limit {
+            None => (None, [0.0, 1.0]),
+            Some((field, given, own)) => {
+                if let Some(l) = given {
+                    check_option(field, l, l > 0.0, "a finite number > 0")?;
                 }
                 check_option(
                     "colour.threshold",
@@ -294,13 +287,12 @@ impl<'a> Scene<'a> {
                     threshold >= 0.0,
                     "a finite number >= 0",
                 )?;
-                let m = max.unwrap_or(largest);
-                (
-                    Some(linear_table(&ColourTable::sequential())),
-                    [0.0, m],
-                    threshold,
-                    false,
-                )
+                let l = given.unwrap_or(own);
+                if signed {
+                    (Some(linear_table(&ColourTable::diverging())), [-l, l])
+                } else {
+                    (Some(linear_table(&ColourTable::sequential())), [0.0, l])
+                }
             }
         };
         let left_triangle = mesh
