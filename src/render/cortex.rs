@@ -9,8 +9,24 @@
 //! boundaries follow the data rather than the triangle edges. Region outlines
 //! mark the pixels whose region differs from a neighbouring pixel's, a
 //! pixel's region being the one its triangle's corners weigh most in
-//! (barycentric weights summed per region; at a vertex, the vertex's own). Pictures are drawn at `supersample`² samples per
-//! pixel and averaged in linear light (premultiplied alpha).
+//! (barycentric weights summed per region; at a vertex, the vertex's own).
+//! Pictures are drawn at `supersample`² samples per pixel and averaged in
+//! linear light (premultiplied alpha). The design is described in
+//! `docs/pictures.md`.
+//!
+//! ```
+//! use patchwise::geometry::Mesh;
+//! use patchwise::render::{render_view, ColourSpec, View, ViewOptions};
+//!
+//! let sphere = Mesh::icosphere(3, 0.07);
+//! let values: Vec<f64> = sphere.vertices.iter().map(|p| p[2]).collect();
+//! let mut options = ViewOptions::new(View::Front, 320, 240);
+//! options.colour = ColourSpec::Signed { limit: None, threshold: 0.01 };
+//! let picture = render_view(&sphere, &values, &options)?;
+//! let png = picture.encode_png()?;
+//! assert!(png.starts_with(b"\x89PNG"));
+//! # Ok::<(), patchwise::render::RenderError>(())
+//! ```
 
 use rayon::prelude::*;
 
