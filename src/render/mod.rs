@@ -3,17 +3,24 @@
 //! (PNG, SVG, HTML); writing them to files is the caller's business.
 
 mod axes;
+pub mod camera;
 pub mod charts;
 pub mod colormap;
 mod contour;
+pub mod cortex;
 pub mod error;
 mod figure_error;
 pub mod image;
+pub mod raster;
+pub mod sheet;
 pub mod spline;
 pub mod svg;
 pub mod ticks;
 pub mod topomap;
 
+pub use camera::View;
+pub use cortex::{render_view, render_views, ColourSpec, Scale, Shading, ViewOptions};
 pub use error::RenderError;
 pub use figure_error::FigureError;
 pub use image::Image;
+pub use sheet::contact_sheet;
