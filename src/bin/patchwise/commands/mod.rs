@@ -6,4 +6,5 @@ pub mod demo;
 pub mod dictionary;
 pub mod leadfield;
 pub mod montage;
+pub mod report;
 pub mod template;
