@@ -54,6 +54,11 @@ pub struct ReportOptions {
     pub no_figures: bool,
 }
 
+/// The page's content security policy (W3C Content Security Policy Level 3):
+/// no fetches of any kind except inline styles and `data:` images.
+const CONTENT_SECURITY_POLICY: &str = "<meta http-equiv=\"Content-Security-Policy\" \
+     content=\"default-src 'none'; img-src data:; style-src 'unsafe-inline'; base-uri 'none'; form-action 'none'\"/>\n";
+
 /// Share at or above which a region always gets its own row in a region
 /// table (smaller ones are counted in one closing line).
 const SHOWN_SHARE: f64 = 0.005;
@@ -94,6 +99,10 @@ pub fn build_report(
     let mut h = Html::new();
     h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
     h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
+    // The page declares that it loads nothing: pictures are data URIs or
+    // inline SVG and the style sheet is inline, so a browser blocks (and
+    // reports on its console) anything else, whatever a file string held.
+    h.raw(CONTENT_SECURITY_POLICY);
     h.element("title", "", &title);
     h.raw("<style>")
         .raw(STYLE)
