@@ -823,3 +823,92 @@ fn footer(h: &mut Html, r: &ResultFile) {
     h.element("p", "", CAUTION);
     h.raw("</footer>\n");
 }
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used)]
+    use super::*;
+    use crate::io::result_file::{ResultAttribution, ResultFit};
+
+    /// A two-channel, one-component, two-region result without pictures.
+    fn tiny() -> ResultFile {
+        ResultFile {
+            path: "tiny/result.h5".into(),
+            hashes: vec![("decoder".into(), "ab".into())],
+            caution: CAUTION.to_string(),
+            software: "patchwise test".into(),
+            notes: vec![],
+            labels: vec!["C3".into(), "C4".into()],
+            component_names: vec!["c0".into()],
+            k: 1,
+            patterns: vec![1.0, -1.0],
+            patterns_source: "patterns".into(),
+            electrode_positions: None,
+            sources: None,
+            fit: ResultFit {
+                n_atoms: 2,
+                coefficients: vec![0.5, 0.0],
+                lambda: vec![0.1],
+                lambda_max: vec![1.0],
+                duality_gap: vec![1e-9],
+                iterations: vec![12],
+                explained_variance: vec![0.9],
+                residual: vec![0.1, -0.1],
+                reconstruction: None,
+                path: None,
+            },
+            attribution: ResultAttribution {
+                region_names: vec!["a".into(), "b".into()],
+                share: vec![0.25, 0.75],
+                share_low: None,
+                share_high: None,
+                selection_frequency: None,
+                source_map: vec![],
+                peak_mm: vec![[f64::NAN; 3]],
+                peak_region: vec![-1],
+                unassigned_share: vec![0.0],
+                noise_sd: None,
+            },
+        }
+    }
+
+    #[test]
+    fn regions_are_listed_by_decreasing_share() {
+        let html = build_report(&tiny(), None, &ReportOptions::default()).unwrap();
+        let b = html.find("<th>b</th>").unwrap();
+        let a = html.find("<th>a</th>").unwrap();
+        assert!(b < a, "region b (75 %) must come before a (25 %)");
+        // Without groups the active count is of non-zero atoms (1 of 2).
+        assert!(html.contains("1 atoms*"));
+        assert!(html.contains("fixed: \u{03bb} = 0.1000"));
+    }
+
+    #[test]
+    fn inconsistent_sizes_are_an_error_naming_the_dataset() {
+        let mut r = tiny();
+        r.fit.lambda.push(0.2);
+        let err = build_report(&r, None, &ReportOptions::default()).unwrap_err();
+        let text = err.to_string();
+        assert!(
+            text.contains("tiny/result.h5") && text.contains("/fit/lambda"),
+            "{text}"
+        );
+        let mut r = tiny();
+        r.attribution.share.pop();
+        let err = build_report(&r, None, &ReportOptions::default()).unwrap_err();
+        assert!(err.to_string().contains("/attribution/share"));
+    }
+
+    #[test]
+    fn job_comes_from_the_options_or_the_summary() {
+        let summary = serde_json::json!({"job": {"montage": "10-10 <x>"}, "resamples": 0});
+        let html = build_report(&tiny(), Some(&summary), &ReportOptions::default()).unwrap();
+        assert!(html.contains("<dt>montage</dt>\n<dd>10-10 &lt;x&gt;</dd>"));
+        let options = ReportOptions {
+            job: vec![("decoder".into(), "d.npz".into())],
+            ..ReportOptions::default()
+        };
+        let html = build_report(&tiny(), Some(&summary), &options).unwrap();
+        assert!(html.contains("d.npz") && !html.contains("10-10 &lt;x&gt;"));
+    }
+}
