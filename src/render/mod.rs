@@ -2,7 +2,20 @@
 //! self-contained HTML page. Everything renders on the CPU into plain bytes
 //! (PNG, SVG, HTML); writing them to files is the caller's business.
 
+mod axes;
+pub mod charts;
+pub mod colormap;
+pub mod error;
+mod figure_error;
+pub mod image;
 pub mod report;
 pub mod report_figures;
 pub mod report_html;
 pub mod report_style;
+pub mod spline;
+pub mod svg;
+pub mod ticks;
+
+pub use error::RenderError;
+pub use figure_error::FigureError;
+pub use image::Image;
