@@ -39,6 +39,8 @@ struct Page {
     elements: Vec<String>,
     /// Every attribute value.
     attribute_values: Vec<String>,
+    /// Every `id` attribute.
+    ids: Vec<String>,
     /// All text content, unescaped.
     text: String,
 }
@@ -58,9 +60,16 @@ fn parse(html: &str) -> Page {
         match &event {
             Event::Start(e) | Event::Empty(e) => {
                 let name = String::from_utf8(e.name().as_ref().to_vec()).unwrap();
-                for a in e.attributes() {
-                    page.attribute_values
-                        .push(a.unwrap().unescape_value().unwrap().into_owned());
+                for a in e.attributes().map(|a| a.unwrap()) {
+                    // A namespace name (xmlns) identifies, it is never fetched
+                    // (Namespaces in XML 1.0, W3C 2009, section 2.2).
+                    if !a.key.as_ref().starts_with(b"xmlns") {
+                        page.attribute_values
+                            .push(a.unescape_value().unwrap().into_owned());
+                    }
+                }
+                if let Some(id) = attr(e, "id") {
+                    page.ids.push(id);
                 }
                 if name == "img" {
                     page.images.push((
@@ -148,6 +157,14 @@ fn embedded_pictures_decode_at_their_stated_size() {
         assert_eq!(frame.width.to_string(), *width, "image {i}: width");
         assert_eq!(frame.height.to_string(), *height, "image {i}: height");
     }
+    // HTML (WHATWG Living Standard, "the id attribute"): ids are unique in
+    // a document, so inline SVGs must not repeat each other's ids.
+    let mut ids = page.ids.clone();
+    ids.sort();
+    let before = ids.len();
+    ids.dedup();
+    assert_eq!(ids.len(), before, "an id appears twice on the page");
+    assert!(!page.svgs.is_empty(), "the page has no inline SVG figure");
     for (i, svg) in page.svgs.iter().enumerate() {
         let mut reader = quick_xml::Reader::from_str(svg);
         let mut root = None;

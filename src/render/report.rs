@@ -83,7 +83,12 @@ pub fn build_report(
     } else {
         (0..result.k)
             .into_par_iter()
-            .map(|c| component_figures(result, c))
+            .map(|c| {
+                let shown = (0..facts[c].order.len())
+                    .filter(|&rank| is_shown(result, &facts[c], c, rank))
+                    .count();
+                component_figures(result, c, &facts[c].order, shown)
+            })
             .collect::<Result<_, _>>()?
     };
     let title = options.title.clone().unwrap_or_else(|| {
@@ -733,6 +738,12 @@ fn component_section(
     h.raw("</section>\n");
 }
 
+/// Whether the region of rank `rank` in component `c` gets its own row.
+fn is_shown(r: &ResultFile, f: &ComponentFacts, c: usize, rank: usize) -> bool {
+    let (share, _, _, freq) = region_numbers(r, f.order[rank], c);
+    rank < SHOWN_TOP || share.abs() >= SHOWN_SHARE || (freq.is_finite() && freq >= SHOWN_FREQUENCY)
+}
+
 fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
     h.element("h3", "", "Regions");
     if f.order.is_empty() {
@@ -755,10 +766,7 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
     let mut hidden_sum = 0.0;
     for (rank, &reg) in f.order.iter().enumerate() {
         let (share, low, high, freq) = region_numbers(r, reg, c);
-        let shown = rank < SHOWN_TOP
-            || share.abs() >= SHOWN_SHARE
-            || (freq.is_finite() && freq >= SHOWN_FREQUENCY);
-        if !shown {
+        if !is_shown(r, f, c, rank) {
             hidden += 1;
             hidden_sum += share;
             continue;

@@ -1,6 +1,14 @@
 //! The pictures of one component for the report: sensor maps, cortex views
 //! and charts, each as inline markup (SVG, or a PNG data URI) with a caption.
+//!
+//! The pictures themselves come from the picture makers of this module
+//! (`charts`, and the topographic maps and cortex views when present);
+//! this file only chooses what to draw, at which size, and how to caption it.
 
+use super::charts::{
+    region_shares_svg, regularisation_path_svg, PathChartOptions, PathSample, RegionBar,
+    RegionSharesOptions,
+};
 use super::report::ReportError;
 use crate::io::result_file::ResultFile;
 
@@ -33,7 +41,142 @@ pub struct ComponentFigures {
     pub groups: Vec<FigureGroup>,
 }
 
-/// Draw the pictures of component `c`.
-pub fn component_figures(_result: &ResultFile, _c: usize) -> Result<ComponentFigures, ReportError> {
-    Ok(ComponentFigures::default())
+/// Width of one of two charts side by side (px): half the page's text
+/// column (1056 px) less half the gap between them.
+const CHART_WIDTH: u32 = 520;
+/// Height of the path chart (px).
+const PATH_HEIGHT: u32 = 300;
+/// At most this many regions in the share chart.
+const CHART_REGIONS: usize = 8;
+
+fn figure_error(r: &ResultFile, figure: String, e: impl std::fmt::Display) -> ReportError {
+    ReportError::Figure {
+        path: r.path.clone(),
+        figure,
+        message: e.to_string(),
+    }
+}
+
+/// Draw the pictures of component `c`; `order` lists the regions by
+/// decreasing share and `shown` how many of them the region table lists.
+pub fn component_figures(
+    result: &ResultFile,
+    c: usize,
+    order: &[usize],
+    shown: usize,
+) -> Result<ComponentFigures, ReportError> {
+    let mut groups = Vec::new();
+    let mut charts = Vec::new();
+    if let Some(f) = share_chart(result, c, order, shown)? {
+        charts.push(f);
+    }
+    if let Some(f) = path_chart(result, c)? {
+        charts.push(f);
+    }
+    if !charts.is_empty() {
+        groups.push(FigureGroup {
+            title: "Shares and the regularisation path".to_string(),
+            figures: charts,
+            note: String::new(),
+        });
+    }
+    Ok(ComponentFigures { groups })
+}
+
+/// Bars of the leading regions with their intervals and selection frequencies.
+fn share_chart(
+    r: &ResultFile,
+    c: usize,
+    order: &[usize],
+    shown: usize,
+) -> Result<Option<Figure>, ReportError> {
+    if order.is_empty() {
+        return Ok(None);
+    }
+    let a = &r.attribution;
+    let k = r.k;
+    let bars: Vec<RegionBar> = order
+        .iter()
+        .take(shown.clamp(1, CHART_REGIONS))
+        .map(|&reg| {
+            let i = reg * k + c;
+            let low = a.share_low.as_ref().map(|v| v[i]);
+            let high = a.share_high.as_ref().map(|v| v[i]);
+            let interval = match (low, high) {
+                (Some(l), Some(h)) if l.is_finite() && h.is_finite() && l <= h => Some([l, h]),
+                _ => None,
+            };
+            RegionBar {
+                name: a.region_names[reg].clone(),
+                share: a.share[i],
+                interval,
+                selection_frequency: a
+                    .selection_frequency
+                    .as_ref()
+                    .map(|v| v[i])
+                    .filter(|f| (0.0..=1.0).contains(f)),
+            }
+        })
+        .collect();
+    let with_intervals = bars.iter().any(|b| b.interval.is_some());
+    let options = RegionSharesOptions {
+        width: CHART_WIDTH,
+        title: "Leading regions".to_string(),
+        ..RegionSharesOptions::default()
+    };
+    let svg = region_shares_svg(&bars, &options)
+        .map_err(|e| figure_error(r, format!("the share chart of component {c}"), e))?;
+    Ok(Some(Figure {
+        markup: svg.svg,
+        caption: if with_intervals {
+            "Bars: share of the fitted pattern; whiskers: 95 % bootstrap interval; \
+             dots: how often the region was selected across resamples."
+                .to_string()
+        } else {
+            "Bars: share of the fitted pattern (no resampling, so no intervals).".to_string()
+        },
+    }))
+}
+
+/// Explained variance and active patches along the λ path, the chosen λ marked.
+fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
+    let Some(p) = &r.fit.path else {
+        return Ok(None);
+    };
+    let k = r.k;
+    let samples: Vec<PathSample> = (0..p.n_points)
+        .filter_map(|i| {
+            let ratio = p.ratio[i * k + c];
+            let ev = p.explained_variance[i * k + c];
+            let active = p.active_patches[i * k + c];
+            (ratio.is_finite()
+                && ratio > 0.0
+                && ev.is_finite()
+                && active.is_finite()
+                && active >= 0.0)
+                .then(|| PathSample {
+                    ratio,
+                    explained_variance: ev,
+                    active_patches: active as usize,
+                })
+        })
+        .collect();
+    if samples.is_empty() {
+        return Ok(None);
+    }
+    let chosen = r.fit.lambda[c] / r.fit.lambda_max[c];
+    let options = PathChartOptions {
+        width: CHART_WIDTH,
+        height: PATH_HEIGHT,
+        title: "Regularisation path".to_string(),
+        chosen_ratio: (chosen.is_finite() && chosen > 0.0).then_some(chosen),
+    };
+    let svg = regularisation_path_svg(&samples, &options)
+        .map_err(|e| figure_error(r, format!("the path chart of component {c}"), e))?;
+    Ok(Some(Figure {
+        markup: svg.svg,
+        caption: "Explained variance and active patches as \u{03bb} falls from \u{03bb}max; \
+                  the dashed line is the \u{03bb} of the fit (minimum BIC)."
+            .to_string(),
+    }))
 }

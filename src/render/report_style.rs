@@ -58,6 +58,7 @@ th, td { text-align: left; padding: 5px 8px; border-bottom: 1px solid var(--rule
 thead th { border-bottom: 2px solid var(--ink); font-size: 13px; color: var(--muted); font-weight: 600; }
 td.num, th.num { text-align: right; white-space: nowrap; }
 td.hash { font-family: ui-monospace, "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 12px; overflow-wrap: anywhere; }
+tbody th { font-weight: 500; }
 tr.lead-row td, tr.lead-row th { background: var(--accent-soft); }
 tr.faint td, tr.faint th { color: var(--muted); }
 p.note { color: var(--muted); font-size: 13px; margin: 6px 0 0; }
