@@ -3,19 +3,26 @@
 //! (PNG, SVG, HTML); writing them to files is the caller's business.
 
 mod axes;
+pub mod camera;
 pub mod charts;
 pub mod colormap;
+pub mod cortex;
 pub mod error;
 mod figure_error;
 pub mod image;
+pub mod raster;
 pub mod report;
 pub mod report_figures;
 pub mod report_html;
 pub mod report_style;
+pub mod sheet;
 pub mod spline;
 pub mod svg;
 pub mod ticks;
 
+pub use camera::View;
+pub use cortex::{render_view, render_views, ColourSpec, Scale, Shading, ViewOptions};
 pub use error::RenderError;
 pub use figure_error::FigureError;
 pub use image::Image;
+pub use sheet::contact_sheet;

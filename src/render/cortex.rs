@@ -1,0 +1,583 @@
+//! Pictures of the cortex: shaded, colour-coded orthographic views of a
+//! triangle mesh with per-vertex values, optional region outlines, and
+//! panels of several views.
+//!
+//! Shading is Lambert's cosine law with a head-light (the light comes from
+//! the camera) plus an ambient term, evaluated in linear light with the
+//! vertex normals interpolated across each triangle. Values are interpolated
+//! across each triangle too (barycentric), then coloured, so colour
+//! boundaries follow the data rather than the triangle edges. Region outlines
+//! mark the pixels whose region differs from a neighbouring pixel's, a
+//! pixel's region being the one its triangle's corners weigh most in
+//! (barycentric weights summed per region; at a vertex, the vertex's own). Pictures are drawn at `supersample`² samples per
+//! pixel and averaged in linear light (premultiplied alpha).
+
+use rayon::prelude::*;
+
+use super::camera::{Hemispheres, View};
+use super::colormap::{bytes_to_linear_srgb, linear_to_srgb, ColourTable};
+use super::error::RenderError;
+use super::image::Image;
+use super::raster::{check_mesh, fit_framing, rasterize, Framing, NO_TRIANGLE};
+use crate::geometry::{dot, normalize, Mesh, Vec3};
+
+/// How per-vertex values become colours.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ColourSpec {
+    /// No values: the bare cortex in [`CORTEX_GREY`].
+    Plain,
+    /// Signed values on the diverging map, limits `-limit ..= limit`
+    /// (`None`: the largest |value|). Values with |value| < `threshold`
+    /// show as bare cortex.
+    Signed {
+        /// Symmetric colour limit (> 0), or `None` for the largest |value|.
+        limit: Option<f64>,
+        /// Values with |value| below this (≥ 0, same unit as the values) are
+        /// not coloured.
+        threshold: f64,
+    },
+    /// Values ≥ 0 (shares, magnitudes) on the sequential map over
+    /// `0 ..= max` (`None`: the largest value). Values below `threshold`
+    /// show as bare cortex.
+    Positive {
+        /// Upper colour limit (> 0), or `None` for the largest value.
+        max: Option<f64>,
+        /// Values below this (≥ 0) are not coloured.
+        threshold: f64,
+    },
+}
+
+/// Lambert shading weights: colour × (ambient + diffuse · cos θ).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Shading {
+    /// Light that reaches every surface (0..1).
+    pub ambient: f64,
+    /// Head-light weight (0..1); cos θ is between the surface normal and the
+    /// direction to the camera.
+    pub diffuse: f64,
+}
+
+impl Default for Shading {
+    fn default() -> Self {
+        Shading {
+            ambient: 0.3,
+            diffuse: 0.7,
+        }
+    }
+}
+
+/// The bare cortex colour (8-bit sRGB): a light warm grey, darker than the
+/// diverging map's neutral centre so that uncoloured cortex and near-zero
+/// coloured values stay apart.
+pub const CORTEX_GREY: [u8; 3] = [196, 193, 188];
+
+/// Region outline colour (8-bit sRGB) and its opacity.
+pub const OUTLINE: [u8; 4] = [38, 36, 44, 200];
+
+/// How a picture is scaled and placed.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Scale {
+    /// Fit what the view draws into the image with this margin (a fraction
+    /// of each side, 0 to 0.45).
+    Fit {
+        /// Free fraction on each side.
+        margin: f64,
+    },
+    /// A fixed number of pixels per metre, centred on what the view draws.
+    PixelsPerMetre(f64),
+}
+
+/// Everything about one picture except the mesh and the values.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ViewOptions<'a> {
+    /// Which side to show.
+    pub view: View,
+    /// Width in pixels.
+    pub width: u32,
+    /// Height in pixels.
+    pub height: u32,
+    /// How values become colours.
+    pub colour: ColourSpec,
+    /// Region per vertex (any integers, -1 for none) to outline, if any.
+    pub regions: Option<&'a [i32]>,
+    /// Hemisphere per vertex (0 left, 1 right), as the template gives; when
+    /// absent a triangle is left when its centroid has x < 0.
+    pub hemisphere: Option<&'a [u8]>,
+    /// Shading weights.
+    pub shading: Shading,
+    /// Samples per pixel along each axis (1 to 4); 2 gives 2×2 anti-aliasing.
+    pub supersample: u32,
+    /// Background colour (RGBA); transparent by default.
+    pub background: [u8; 4],
+    /// Scale and placement.
+    pub scale: Scale,
+}
+
+impl ViewOptions<'_> {
+    /// Defaults: bare cortex, no regions, hemispheres by x sign, default
+    /// shading, 2×2 anti-aliasing, transparent background, fitted with a 3 %
+    /// margin.
+    pub fn new(view: View, width: u32, height: u32) -> ViewOptions<'static> {
+        ViewOptions {
+            view,
+            width,
+            height,
+            colour: ColourSpec::Plain,
+            regions: None,
+            hemisphere: None,
+            shading: Shading::default(),
+            supersample: 2,
+            background: [255, 255, 255, 0],
+            scale: Scale::Fit { margin: 0.03 },
+        }
+    }
+}
+
+/// The checked, view-independent part of a picture: normals, colour limits,
+/// hemisphere per triangle.
+struct Scene<'a> {
+    mesh: &'a Mesh,
+    values: &'a [f64],
+    normals: Vec<Vec3>,
+    left_triangle: Vec<bool>,
+    table: Option<ColourTable>,
+    /// Colour-map range: value at the table's start and end.
+    range: [f64; 2],
+    threshold: f64,
+    signed: bool,
+}
+
+/// Checks a finite option value.
+fn check_option(
+    field: &'static str,
+    value: f64,
+    ok: bool,
+    expected: &'static str,
+) -> Result<(), RenderError> {
+    if ok && value.is_finite() {
+        Ok(())
+    } else {
+        Err(RenderError::BadColourOption {
+            field,
+            value,
+            expected,
+        })
+    }
+}
+
+impl<'a> Scene<'a> {
+    fn new(
+        mesh: &'a Mesh,
+        values: &'a [f64],
+        options: &ViewOptions<'_>,
+    ) -> Result<Scene<'a>, RenderError> {
+        check_mesh(&mesh.vertices, &mesh.triangles)?;
+        let n = mesh.n_vertices();
+        let needs_values = !matches!(options.colour, ColourSpec::Plain);
+        if (needs_values || !values.is_empty()) && values.len() != n {
+            return Err(RenderError::LengthMismatch {
+                field: "values",
+                expected: n,
+                got: values.len(),
+            });
+        }
+        if let Some((vertex, &value)) = values.iter().enumerate().find(|(_, v)| !v.is_finite()) {
+            return Err(RenderError::NonFiniteValue { vertex, value });
+        }
+        for (field, len) in [
+            ("regions", options.regions.map(<[i32]>::len)),
+            ("hemisphere", options.hemisphere.map(<[u8]>::len)),
+        ] {
+            if let Some(got) = len {
+                if got != n {
+                    return Err(RenderError::LengthMismatch {
+                        field,
+                        expected: n,
+                        got,
+                    });
+                }
+            }
+        }
+        let s = options.supersample;
+        check_option(
+            "supersample",
+            s as f64,
+            (1..=4).contains(&s),
+            "an integer from 1 to 4",
+        )?;
+        check_option(
+            "shading.ambient",
+            options.shading.ambient,
+            (0.0..=1.0).contains(&options.shading.ambient),
+            "a number in [0, 1]",
+        )?;
+        check_option(
+            "shading.diffuse",
+            options.shading.diffuse,
+            (0.0..=1.0).contains(&options.shading.diffuse),
+            "a number in [0, 1]",
+        )?;
+        match options.scale {
+            Scale::Fit { margin } => check_option(
+                "scale.margin",
+                margin,
+                (0.0..=0.45).contains(&margin),
+                "a fraction in [0, 0.45]",
+            )?,
+            Scale::PixelsPerMetre(p) => {
+                check_option("scale.pixels_per_metre", p, p > 0.0, "a finite number > 0")?
+            }
+        }
+        let largest_abs = values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+        let largest = values.iter().fold(0.0f64, |m, &v| m.max(v));
+        let (table, range, threshold, signed) = match options.colour {
+            ColourSpec::Plain => (None, [0.0, 1.0], f64::INFINITY, false),
+            ColourSpec::Signed { limit, threshold } => {
+                if let Some(l) = limit {
+                    check_option("colour.limit", l, l > 0.0, "a finite number > 0")?;
+                }
+                check_option(
+                    "colour.threshold",
+                    threshold,
+                    threshold >= 0.0,
+                    "a finite number >= 0",
+                )?;
+                let l = limit.unwrap_or(largest_abs);
+                (Some(ColourTable::diverging()), [-l, l], threshold, true)
+            }
+            ColourSpec::Positive { max, threshold } => {
+                if let Some(m) = max {
+                    check_option("colour.max", m, m > 0.0, "a finite number > 0")?;
+                }
+                check_option(
+                    "colour.threshold",
+                    threshold,
+                    threshold >= 0.0,
+                    "a finite number >= 0",
+                )?;
+                let m = max.unwrap_or(largest);
+                (Some(ColourTable::sequential()), [0.0, m], threshold, false)
+            }
+        };
+        let left_triangle = mesh
+            .triangles
+            .iter()
+            .map(|tri| match options.hemisphere {
+                // A triangle belongs to the hemisphere of most of its corners.
+                Some(h) => tri.iter().filter(|&&v| h[v as usize] == 0).count() >= 2,
+                None => {
+                    tri.iter()
+                        .map(|&v| mesh.vertices[v as usize][0])
+                        .sum::<f64>()
+                        < 0.0
+                }
+            })
+            .collect();
+        Ok(Scene {
+            mesh,
+            values,
+            normals: mesh.vertex_normals(),
+            left_triangle,
+            table,
+            range,
+            threshold,
+            signed,
+        })
+    }
+
+    /// Which triangles a view draws.
+    fn include(&self, view: View) -> Vec<bool> {
+        match view.hemispheres() {
+            Hemispheres::Both => vec![true; self.left_triangle.len()],
+            Hemispheres::Left => self.left_triangle.clone(),
+            Hemispheres::Right => self.left_triangle.iter().map(|&l| !l).collect(),
+        }
+    }
+
+    /// The linear-light base colour of a value.
+    fn base_colour(&self, value: f64, grey: [f64; 3]) -> [f64; 3] {
+        let Some(table) = &self.table else {
+            return grey;
+        };
+        let magnitude = if self.signed { value.abs() } else { value };
+        if magnitude < self.threshold || self.range[1] <= 0.0 {
+            return grey;
+        }
+        let f = (value - self.range[0]) / (self.range[1] - self.range[0]);
+        bytes_to_linear_srgb(table.at(f))
+    }
+}
+
+/// Marks the covered samples whose region differs from a covered
+/// 4-neighbour's. Both sides of a boundary are marked, so a
+/// line is two samples (one output pixel at 2×2) wide.
+fn outline_samples(
+    triangle: &[u32],
+    barycentric: &[[f32; 3]],
+    triangles: &[[u32; 3]],
+    regions: &[i32],
+    w: usize,
+    h: usize,
+) -> Vec<bool> {
+    // Region of each covered sample: the region whose corners carry the
+    // largest summed barycentric weight. At a vertex this is the vertex's
+    // own region; across a triangle whose corners straddle two regions the
+    // boundary runs straight from edge midpoint to edge midpoint, which
+    // draws smoother lines than the nearest vertex's region would.
+    let region: Vec<Option<i32>> = triangle
+        .par_iter()
+        .zip(barycentric)
+        .map(|(&t, b)| {
+            let tri = triangles.get(t as usize)?;
+            let r = [0, 1, 2].map(|k| regions.get(tri[k] as usize).copied());
+            let weight = |k: usize| -> f32 { (0..3).filter(|&j| r[j] == r[k]).map(|j| b[j]).sum() };
+            let (w0, w1, w2) = (weight(0), weight(1), weight(2));
+            let k = if w0 >= w1 && w0 >= w2 {
+                0
+            } else if w1 >= w2 {
+                1
+            } else {
+                2
+            };
+            r[k]
+        })
+        .collect();
+    (0..w * h)
+        .into_par_iter()
+        .map(|i| {
+            let Some(r) = region[i] else {
+                return false;
+            };
+            let (x, y) = (i % w, i / w);
+            let differs = |j: usize| region[j].is_some_and(|q| q != r);
+            (x > 0 && differs(i - 1))
+                || (x + 1 < w && differs(i + 1))
+                || (y > 0 && differs(i - w))
+                || (y + 1 < h && differs(i + w))
+        })
+        .collect()
+}
+
+/// Linear light (0..1) to 8-bit sRGB through a table of 4096 + 1 entries
+/// with linear interpolation, accurate to well under one 8-bit step.
+struct Encoder {
+    table: Vec<f32>,
+}
+
+impl Encoder {
+    const N: usize = 4096;
+
+    fn new() -> Encoder {
+        Encoder {
+            table: (0..=Self::N)
+                .map(|i| (linear_to_srgb(i as f64 / Self::N as f64) * 255.0) as f32)
+                .collect(),
+        }
+    }
+
+    fn encode(&self, v: f64) -> u8 {
+        let x = v.clamp(0.0, 1.0) * Self::N as f64;
+        let i = (x as usize).min(Self::N - 1);
+        let f = (x - i as f64) as f32;
+        let s = self.table[i] + (self.table[i + 1] - self.table[i]) * f;
+        s.round().clamp(0.0, 255.0) as u8
+    }
+}
+
+/// Draws one view of a mesh with per-vertex values.
+///
+/// `values` has one entry per vertex (it may be empty with
+/// [`ColourSpec::Plain`]). Errors: an empty or invalid mesh, wrong array
+/// lengths, non-finite values, bad options, a zero or oversized image, or a
+/// view whose hemisphere has no triangles.
+pub fn render_view(
+    mesh: &Mesh,
+    values: &[f64],
+    options: &ViewOptions<'_>,
+) -> Result<Image, RenderError> {
+    let scene = Scene::new(mesh, values, options)?;
+    let framing = framing_for(&scene, options.view, options)?;
+    draw(&scene, options.view, options, &framing)
+}
+
+/// Draws several views of one mesh at one common scale (the largest that
+/// fits every view), so that sizes compare across the panel. Returns each
+/// view with its picture, in the order asked.
+pub fn render_views(
+    mesh: &Mesh,
+    values: &[f64],
+    views: &[View],
+    options: &ViewOptions<'_>,
+) -> Result<Vec<(View, Image)>, RenderError> {
+    let scene = Scene::new(mesh, values, options)?;
+    let mut framings = Vec::with_capacity(views.len());
+    for &view in views {
+        framings.push(framing_for(&scene, view, options)?);
+    }
+    let common = framings
+        .iter()
+        .map(|f| f.pixels_per_metre)
+        .fold(f64::INFINITY, f64::min);
+    views
+        .iter()
+        .zip(framings)
+        .map(|(&view, framing)| {
+            let framing = Framing {
+                pixels_per_metre: common,
+                ..framing
+            };
+            Ok((view, draw(&scene, view, options, &framing)?))
+        })
+        .collect()
+}
+
+/// The framing of one view (at the output resolution).
+fn framing_for(
+    scene: &Scene<'_>,
+    view: View,
+    options: &ViewOptions<'_>,
+) -> Result<Framing, RenderError> {
+    let include = scene.include(view);
+    let margin = match options.scale {
+        Scale::Fit { margin } => margin,
+        Scale::PixelsPerMetre(_) => 0.0,
+    };
+    let fitted = fit_framing(
+        &scene.mesh.vertices,
+        &scene.mesh.triangles,
+        &include,
+        view,
+        options.width.max(1),
+        options.height.max(1),
+        margin,
+    )
+    .ok_or(RenderError::EmptyHemisphere {
+        view: view.name(),
+        hemisphere: match view.hemispheres() {
+            Hemispheres::Left => "left",
+            Hemispheres::Right => "right",
+            Hemispheres::Both => "whole",
+        },
+    })?;
+    Ok(match options.scale {
+        Scale::Fit { .. } => fitted,
+        Scale::PixelsPerMetre(p) => Framing {
+            pixels_per_metre: p,
+            ..fitted
+        },
+    })
+}
+
+/// Rasterizes at the supersampled size, shades every sample, outlines the
+/// regions and averages down to the output size.
+fn draw(
+    scene: &Scene<'_>,
+    view: View,
+    options: &ViewOptions<'_>,
+    framing: &Framing,
+) -> Result<Image, RenderError> {
+    let mut out = Image::new(options.width, options.height, options.background)?;
+    let s = options.supersample;
+    let (w, h) = (options.width * s, options.height * s);
+    let fine = Framing {
+        pixels_per_metre: framing.pixels_per_metre * s as f64,
+        centre: framing.centre,
+    };
+    let include = scene.include(view);
+    let frags = rasterize(
+        &scene.mesh.vertices,
+        &scene.mesh.triangles,
+        &include,
+        view,
+        w,
+        h,
+        &fine,
+    );
+    let (wu, hu) = (w as usize, h as usize);
+    let to_camera = {
+        let f = view.forward();
+        [-f[0], -f[1], -f[2]]
+    };
+    let grey = bytes_to_linear_srgb(CORTEX_GREY);
+    let outline = bytes_to_linear_srgb([OUTLINE[0], OUTLINE[1], OUTLINE[2]]);
+    let outline_alpha = OUTLINE[3] as f64 / 255.0;
+    let triangles = &scene.mesh.triangles;
+    let edge = options
+        .regions
+        .map(|r| outline_samples(&frags.triangle, &frags.barycentric, triangles, r, wu, hu));
+    // The linear-light colour of covered sample i.
+    let shade = |i: usize, t: u32| -> [f64; 3] {
+        let tri = triangles[t as usize];
+        let b = frags.barycentric[i].map(f64::from);
+        let mut n = [0.0; 3];
+        let mut value = 0.0;
+        for k in 0..3 {
+            let v = tri[k] as usize;
+            for (c, nc) in n.iter_mut().zip(scene.normals[v]) {
+                *c += b[k] * nc;
+            }
+            if !scene.values.is_empty() {
+                value += b[k] * scene.values[v];
+            }
+        }
+        // Two-sided: a back face seen through an open mesh is lit too.
+        let cos = dot(normalize(n), to_camera).abs().min(1.0);
+        let light = options.shading.ambient + options.shading.diffuse * cos;
+        let mut c = scene.base_colour(value, grey).map(|c| c * light);
+        if edge.as_ref().is_some_and(|e| e[i]) {
+            for k in 0..3 {
+                c[k] = c[k] * (1.0 - outline_alpha) + outline[k] * outline_alpha;
+            }
+        }
+        c
+    };
+    // Shade the samples of each output pixel and average them in linear
+    // light with premultiplied alpha.
+    let encoder = Encoder::new();
+    let bg = bytes_to_linear_srgb([
+        options.background[0],
+        options.background[1],
+        options.background[2],
+    ]);
+    let bg_alpha = options.background[3] as f64 / 255.0;
+    let su = s as usize;
+    let inv = 1.0 / (su * su) as f64;
+    let width = options.width as usize;
+    out.rgba
+        .par_chunks_mut(width * 4)
+        .enumerate()
+        .for_each(|(y, row)| {
+            for x in 0..width {
+                let mut sum = [0.0; 3];
+                let mut alpha = 0.0;
+                let mut covered = 0;
+                for dy in 0..su {
+                    for dx in 0..su {
+                        let i = (y * su + dy) * wu + x * su + dx;
+                        let t = frags.triangle[i];
+                        let (c, a) = if t == NO_TRIANGLE {
+                            (bg, bg_alpha)
+                        } else {
+                            covered += 1;
+                            (shade(i, t), 1.0)
+                        };
+                        for k in 0..3 {
+                            sum[k] += c[k] * a;
+                        }
+                        alpha += a;
+                    }
+                }
+                if covered == 0 {
+                    continue;
+                }
+                let px = &mut row[x * 4..x * 4 + 4];
+                if alpha > 0.0 {
+                    for k in 0..3 {
+                        px[k] = encoder.encode(sum[k] / alpha);
+                    }
+                }
+                px[3] = (alpha * inv * 255.0).round().clamp(0.0, 255.0) as u8;
+            }
+        });
+    Ok(out)
+}
