@@ -721,7 +721,7 @@ fn component_section(
     h.element("p", "headline", &headline);
     for group in &figs.groups {
         h.element("h3", "", &group.title);
-        h.raw("<div class=\"figures\">\n");
+        h.raw(&format!("<div class=\"figures {}\">\n", group.layout));
         for fig in &group.figures {
             h.raw("<figure>").raw(&fig.markup);
             if !fig.caption.is_empty() {

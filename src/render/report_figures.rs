@@ -5,11 +5,17 @@
 //! (`charts`, and the topographic maps and cortex views when present);
 //! this file only chooses what to draw, at which size, and how to caption it.
 
+use super::axes::colour_bar;
+use super::camera::View;
 use super::charts::{
     region_shares_svg, regularisation_path_svg, PathChartOptions, PathSample, RegionBar,
     RegionSharesOptions,
 };
+use super::colormap::diverging;
+use super::cortex::{render_views, ColourSpec, ViewOptions};
 use super::report::ReportError;
+use super::report_html::png_img;
+use super::svg::Svg;
 use crate::io::result_file::ResultFile;
 
 /// One picture: its markup (an inline `<svg>` or an `<img>` with a data URI)
@@ -31,6 +37,9 @@ pub struct FigureGroup {
     pub figures: Vec<Figure>,
     /// A note under the group (escaped by the page); empty for none.
     pub note: String,
+    /// Layout: `row` (side by side, wrapping) or `cortex` (a grid of three
+    /// columns with the last picture, the colour bar, beside them).
+    pub layout: &'static str,
 }
 
 /// All pictures of one component, in page order; groups that cannot be
@@ -48,6 +57,11 @@ const CHART_WIDTH: u32 = 520;
 const PATH_HEIGHT: u32 = 300;
 /// At most this many regions in the share chart.
 const CHART_REGIONS: usize = 8;
+/// Size of one cortex view (px): three to a row of the text column.
+const VIEW_SIZE: (u32, u32) = (300, 210);
+/// Source-map values below this fraction of the largest |value| show as
+/// bare cortex, so the active patches stand out.
+const CORTEX_THRESHOLD: f64 = 0.02;
 
 fn figure_error(r: &ResultFile, figure: String, e: impl std::fmt::Display) -> ReportError {
     ReportError::Figure {
@@ -66,6 +80,9 @@ pub fn component_figures(
     shown: usize,
 ) -> Result<ComponentFigures, ReportError> {
     let mut groups = Vec::new();
+    if let Some(g) = cortex_views(result, c)? {
+        groups.push(g);
+    }
     let mut charts = Vec::new();
     if let Some(f) = share_chart(result, c, order, shown)? {
         charts.push(f);
@@ -78,6 +95,7 @@ pub fn component_figures(
             title: "Shares and the regularisation path".to_string(),
             figures: charts,
             note: String::new(),
+            layout: "row",
         });
     }
     Ok(ComponentFigures { groups })
@@ -179,4 +197,88 @@ fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
                   the dashed line is the \u{03bb} of the fit (minimum BIC)."
             .to_string(),
     }))
+}
+
+/// Six views of the source map on the cortex at one common scale, with
+/// region outlines, and a colour bar.
+fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportError> {
+    let Some(sources) = &r.sources else {
+        return Ok(None);
+    };
+    let n_src = sources.len();
+    if sources.triangles.is_empty() || r.attribution.source_map.len() != n_src * r.k {
+        return Ok(None);
+    }
+    let values: Vec<f64> = (0..n_src)
+        .map(|v| r.attribution.source_map[v * r.k + c])
+        .collect();
+    let largest = values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    if !largest.is_finite() {
+        return Err(figure_error(
+            r,
+            format!("the cortex views of component {c}"),
+            "the source map holds a value that is not finite",
+        ));
+    }
+    let mesh = sources.mesh();
+    let mut options = ViewOptions::new(View::Left, VIEW_SIZE.0, VIEW_SIZE.1);
+    options.background = [255, 255, 255, 255];
+    options.regions = Some(&sources.region);
+    if largest > 0.0 {
+        options.colour = ColourSpec::Signed {
+            limit: Some(largest),
+            threshold: CORTEX_THRESHOLD * largest,
+        };
+    }
+    let what = || format!("the cortex views of component {c}");
+    let views = render_views(&mesh, &values, &View::PANEL, &options)
+        .map_err(|e| figure_error(r, what(), e))?;
+    let mut figures = Vec::with_capacity(views.len() + 1);
+    for (view, image) in &views {
+        let png = image.encode_png().map_err(|e| figure_error(r, what(), e))?;
+        figures.push(Figure {
+            markup: png_img(&png, image.width, image.height, view.caption()),
+            caption: view.caption().to_string(),
+        });
+    }
+    let note = if largest > 0.0 {
+        figures.push(Figure {
+            markup: signed_colour_bar(VIEW_SIZE.1),
+            caption: String::new(),
+        });
+        format!(
+            "Source map: dipole moment per source relative to the largest, {:.3e} A\u{00b7}m \
+             (orange positive, blue negative, along the outward normal); values below {:.0} % of \
+             the largest are left grey; lines: region borders. All views share one scale.",
+            largest,
+            100.0 * CORTEX_THRESHOLD
+        )
+    } else {
+        "The source map is zero everywhere: the fit kept no patch.".to_string()
+    };
+    Ok(Some(FigureGroup {
+        title: "Source map on the cortex".to_string(),
+        figures,
+        note,
+        layout: "cortex",
+    }))
+}
+
+/// A vertical colour bar of the diverging map from −1 to 1, `height` px tall.
+fn signed_colour_bar(height: u32) -> String {
+    let width = 84;
+    let mut svg = Svg::new(width, height);
+    let map = |t: f64| diverging(2.0 * t - 1.0);
+    colour_bar(
+        &mut svg,
+        12.0,
+        28.0,
+        14.0,
+        f64::from(height) - 48.0,
+        -1.0,
+        1.0,
+        &map,
+        "relative",
+    );
+    svg.finish().svg
 }

@@ -67,11 +67,17 @@ ul.notes { margin: 6px 0 0; padding-left: 20px; color: var(--muted); font-size: 
 .component { border-top: 1px solid var(--rule); padding-top: 18px; }
 .component .headline { color: var(--muted); margin: -4px 0 10px; }
 .figures { display: flex; flex-wrap: wrap; gap: 14px; align-items: flex-start; }
+.figures.cortex { display: grid; grid-template-columns: repeat(3, max-content) 84px; gap: 6px 14px; }
+.figures.cortex figure:last-child { grid-column: 4; grid-row: 1 / span 2; align-self: center; }
 figure { margin: 0; }
 figure img, figure svg { display: block; max-width: 100%; height: auto; }
 figcaption { font-size: 12.5px; color: var(--muted); margin-top: 4px; max-width: 520px; }
 footer { border-top: 1px solid var(--rule); padding-top: 12px; color: var(--muted); font-size: 13px; }
-@media (max-width: 760px) { .columns { grid-template-columns: 1fr; } }
+@media (max-width: 760px) {
+  .columns { grid-template-columns: 1fr; }
+  .figures.cortex { grid-template-columns: repeat(2, max-content); }
+  .figures.cortex figure:last-child { grid-column: auto; grid-row: auto; }
+}
 @media print {
   main { max-width: none; padding: 0; }
   body { font-size: 11pt; }
