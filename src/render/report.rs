@@ -114,15 +114,17 @@ pub fn build_report(
         .raw("</style>\n</head>\n<body>\n<main>\n");
     masthead(&mut h, result, &title);
     caution(&mut h, result);
-    glance(&mut h, result, &facts);
-    h.raw("<div class=\"columns\">\n");
-    job(&mut h, result, summary, options);
-    inputs(&mut h, result, summary);
-    h.raw("</div>\n");
+    // Answer first (the leading regions and how well the fit explains the
+    // patterns), then the evidence per component, then how it was made.
+    glance(&mut h, result, &facts, &figures);
     fit_quality(&mut h, &facts);
     for (c, figs) in figures.iter().enumerate() {
         component_section(&mut h, result, &facts[c], figs, c);
     }
+    h.raw("<div class=\"columns provenance\">\n");
+    job(&mut h, result, summary, options);
+    inputs(&mut h, result, summary);
+    h.raw("</div>\n");
     footer(&mut h, result);
     h.raw("</main>\n</body>\n</html>\n");
     Ok(h.finish())
@@ -418,13 +420,18 @@ fn caution(h: &mut Html, r: &ResultFile) {
     h.raw("</aside>\n");
 }
 
-fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts]) {
+fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[ComponentFigures]) {
     h.raw("<section id=\"glance\">\n");
     h.element("h2", "", "At a glance");
     h.raw("<div class=\"glance\">\n");
     for (c, f) in facts.iter().enumerate() {
         h.raw("<div class=\"card\">");
         h.element("p", "name", &f.name);
+        if let Some(thumb) = &figures[c].thumbnail {
+            h.raw("<div class=\"thumb\">")
+                .raw(&thumb.markup)
+                .raw("</div>");
+        }
         match f.order.first() {
             Some(&reg) => {
                 let (share, low, high, freq) = region_numbers(r, reg, c);
@@ -536,10 +543,11 @@ fn job(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &Re
         fact(h, name, value);
     }
     fact(h, "\u{03bb} rule (as fitted)", &lambda_rule(r));
-    if let Some(joint) = summary
+    let joint = summary
         .and_then(|s| s.get("joint_fit"))
         .and_then(|v| v.as_bool())
-    {
+        .filter(|_| asked.is_empty());
+    if let Some(joint) = joint {
         fact(
             h,
             "components",

@@ -48,6 +48,9 @@ pub struct FigureGroup {
 pub struct ComponentFigures {
     /// The groups.
     pub groups: Vec<FigureGroup>,
+    /// The cortex view that shows most of the source map, for the summary
+    /// card at the top of the page.
+    pub thumbnail: Option<Figure>,
 }
 
 /// Width of one of two charts side by side (px): half the page's text
@@ -80,7 +83,9 @@ pub fn component_figures(
     shown: usize,
 ) -> Result<ComponentFigures, ReportError> {
     let mut groups = Vec::new();
-    if let Some(g) = cortex_views(result, c)? {
+    let mut thumbnail = None;
+    if let Some((g, best)) = cortex_views(result, c)? {
+        thumbnail = g.figures.get(best).cloned();
         groups.push(g);
     }
     let mut charts = Vec::new();
@@ -98,7 +103,7 @@ pub fn component_figures(
             layout: "row",
         });
     }
-    Ok(ComponentFigures { groups })
+    Ok(ComponentFigures { groups, thumbnail })
 }
 
 /// Bars of the leading regions with their intervals and selection frequencies.
@@ -199,9 +204,21 @@ fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
     }))
 }
 
+/// Pixels of `image` coloured by the map (not grey, white or outline): the
+/// red and blue bytes differ by more than 24 (the bare cortex grey differs
+/// by 8, the outlines by 8).
+fn coloured_pixels(image: &super::image::Image) -> usize {
+    image
+        .rgba
+        .chunks_exact(4)
+        .filter(|p| p[0].abs_diff(p[2]) > 24)
+        .count()
+}
+
 /// Six views of the source map on the cortex at one common scale, with
-/// region outlines, and a colour bar.
-fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportError> {
+/// region outlines, and a colour bar; with the index of the view that shows
+/// the most coloured cortex.
+fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>, ReportError> {
     let Some(sources) = &r.sources else {
         return Ok(None);
     };
@@ -233,6 +250,11 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportE
     let what = || format!("the cortex views of component {c}");
     let views = render_views(&mesh, &values, &View::PANEL, &options)
         .map_err(|e| figure_error(r, what(), e))?;
+    let best = views
+        .iter()
+        .enumerate()
+        .max_by_key(|(i, (_, image))| (coloured_pixels(image), usize::MAX - i))
+        .map_or(0, |(i, _)| i);
     let mut figures = Vec::with_capacity(views.len() + 1);
     for (view, image) in &views {
         let png = image.encode_png().map_err(|e| figure_error(r, what(), e))?;
@@ -256,12 +278,15 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportE
     } else {
         "The source map is zero everywhere: the fit kept no patch.".to_string()
     };
-    Ok(Some(FigureGroup {
-        title: "Source map on the cortex".to_string(),
-        figures,
-        note,
-        layout: "cortex",
-    }))
+    Ok(Some((
+        FigureGroup {
+            title: "Source map on the cortex".to_string(),
+            figures,
+            note,
+            layout: "cortex",
+        },
+        best,
+    )))
 }
 
 /// A vertical colour bar of the diverging map from −1 to 1, `height` px tall.

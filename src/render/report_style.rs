@@ -45,6 +45,7 @@ h3 { font-size: 15px; margin: 18px 0 8px; color: var(--muted); text-transform: u
 section { margin: 0 0 28px; }
 .glance { display: grid; grid-template-columns: repeat(auto-fill, minmax(240px, 1fr)); gap: 12px; }
 .card { border: 1px solid var(--rule); border-top: 4px solid var(--accent); border-radius: 6px; padding: 10px 14px; background: #fff; }
+.card .thumb img { display: block; width: 100%; height: auto; margin: 2px 0 4px; }
 .card .name { font-weight: 700; margin: 0 0 4px; }
 .card .lead { font-size: 22px; font-weight: 700; color: var(--accent); margin: 0; }
 .card .region { margin: 0 0 6px; }
@@ -64,6 +65,7 @@ tr.faint td, tr.faint th { color: var(--muted); }
 p.note { color: var(--muted); font-size: 13px; margin: 6px 0 0; }
 ul.notes { margin: 6px 0 0; padding-left: 20px; color: var(--muted); font-size: 13px; }
 .labels { font-size: 13px; color: var(--muted); overflow-wrap: anywhere; }
+.provenance { border-top: 1px solid var(--rule); padding-top: 18px; }
 .component { border-top: 1px solid var(--rule); padding-top: 18px; }
 .component .headline { color: var(--muted); margin: -4px 0 10px; }
 .figures { display: flex; flex-wrap: wrap; gap: 14px; align-items: flex-start; }
@@ -82,7 +84,7 @@ footer { border-top: 1px solid var(--rule); padding-top: 12px; color: var(--mute
   main { max-width: none; padding: 0; }
   body { font-size: 11pt; }
   section, figure, table, .card { break-inside: avoid; }
-  .component { break-before: page; }
+  .component, .provenance { break-before: page; }
   .caution { background: #ffffff; }
 }
 "#;
