@@ -4,10 +4,12 @@
 
 mod render_common;
 
+use base64::Engine;
 use patchwise::render::charts::{
-    region_shares_svg, regularisation_path_svg, PathChartOptions, PathSample, RegionBar,
-    RegionSharesOptions,
+    heatmap_svg, region_shares_svg, regularisation_path_svg, HeatmapOptions, HeatmapScale,
+    PathChartOptions, PathSample, RegionBar, RegionSharesOptions,
 };
+use patchwise::render::colormap::{diverging, sequential};
 use patchwise::render::svg::{Attrs, Svg};
 use patchwise::render::ticks::{log_ticks, nice_number, nice_ticks};
 use patchwise::render::FigureError;
@@ -278,5 +280,129 @@ fn path_chart_rejects_bad_input() {
     assert!(matches!(
         regularisation_path_svg(&path_samples(), &bad),
         Err(FigureError::BadOption { .. })
+    ));
+}
+
+fn hex(rgb: [u8; 3]) -> String {
+    format!("#{:02x}{:02x}{:02x}", rgb[0], rgb[1], rgb[2])
+}
+
+#[test]
+fn heatmap_cells_follow_the_colour_scale() {
+    // Subjects × regions, shares in [0, 0.5]; the automatic scale for values ≥ 0 is
+    // sequential from 0 to the maximum, so 0 gets sequential(0) and the maximum
+    // sequential(1) (the colour map's own ends; exact byte match).
+    let (rows, cols) = (6, 12);
+    let values: Vec<f64> = (0..rows * cols)
+        .map(|k| 0.5 * ((k * 7) % 13) as f64 / 12.0)
+        .collect();
+    let options = HeatmapOptions {
+        title: "Region shares by subject".into(),
+        unit: "share".into(),
+        row_labels: (1..=rows).map(|i| format!("sub-{i:02}")).collect(),
+        column_labels: (0..cols).map(|j| format!("region {j}")).collect(),
+        ..HeatmapOptions::default()
+    };
+    let figure = heatmap_svg(&values, rows, cols, &options).unwrap();
+    keep("render_charts", "heatmap.svg", &figure.svg);
+    let elements = parse_svg(&figure.svg, figure.width, figure.height);
+    let cells: Vec<&Element> = elements.iter().filter(|e| e.has_class("cell")).collect();
+    assert_eq!(cells.len(), rows * cols);
+    let max = values.iter().cloned().fold(0.0, f64::max);
+    for (cell, v) in cells.iter().zip(&values) {
+        if *v == 0.0 {
+            assert_eq!(cell.attrs["fill"], hex(sequential(0.0)));
+        }
+        if *v == max {
+            assert_eq!(cell.attrs["fill"], hex(sequential(1.0)));
+        }
+    }
+    // Cells are laid out row by row, left to right.
+    assert!(cells[1].num("x") > cells[0].num("x"));
+    assert!(cells[cols].num("y") > cells[0].num("y"));
+    let texts: Vec<&str> = elements
+        .iter()
+        .filter(|e| e.name == "text")
+        .map(|e| e.text.as_str())
+        .collect();
+    assert!(texts.contains(&"sub-03") && texts.contains(&"region 11"));
+
+    // Signed values (a similarity matrix) get the diverging map symmetric about 0;
+    // a NaN cell is drawn as missing.
+    let mut similarity = vec![0.2, -0.8, 0.5, 1.0];
+    similarity[2] = f64::NAN;
+    let figure = heatmap_svg(&similarity, 2, 2, &HeatmapOptions::default()).unwrap();
+    let elements = parse_svg(&figure.svg, figure.width, figure.height);
+    let cells: Vec<&Element> = elements.iter().filter(|e| e.has_class("cell")).collect();
+    assert_eq!(cells[3].attrs["fill"], hex(diverging(1.0)));
+    assert_eq!(cells[1].attrs["fill"], hex(diverging(-0.8)));
+    assert_eq!(cells[2].attrs["fill"], "#d9dde2");
+}
+
+#[test]
+fn large_heatmaps_embed_one_pixel_per_cell() {
+    let n = 60;
+    let values: Vec<f64> = (0..n * n)
+        .map(|k| ((k % n) as f64 - (k / n) as f64) / n as f64)
+        .collect();
+    let options = HeatmapOptions {
+        scale: Some(HeatmapScale::Diverging { limit: 1.0 }),
+        ..HeatmapOptions::default()
+    };
+    let figure = heatmap_svg(&values, n, n, &options).unwrap();
+    keep("render_charts", "heatmap_large.svg", &figure.svg);
+    let elements = parse_svg(&figure.svg, figure.width, figure.height);
+    let image = elements.iter().find(|e| e.has_class("cells")).unwrap();
+    let uri = &image.attrs["href"];
+    let png = base64::engine::general_purpose::STANDARD
+        .decode(uri.strip_prefix("data:image/png;base64,").unwrap())
+        .unwrap();
+    let decoder = png::Decoder::new(std::io::Cursor::new(png));
+    let mut reader = decoder.read_info().unwrap();
+    let mut buf = vec![0; reader.output_buffer_size().unwrap()];
+    let info = reader.next_frame(&mut buf).unwrap();
+    assert_eq!((info.width, info.height), (n as u32, n as u32));
+    // Top-right cell: value (n−1)/n → diverging((n−1)/n).
+    let k = 4 * (n - 1);
+    assert_eq!(&buf[k..k + 3], &diverging((n as f64 - 1.0) / n as f64)[..]);
+}
+
+#[test]
+fn heatmap_rejects_bad_input() {
+    let o = HeatmapOptions::default();
+    assert!(matches!(
+        heatmap_svg(&[1.0; 5], 2, 3, &o),
+        Err(FigureError::LengthMismatch {
+            field: "values",
+            expected: 6,
+            got: 5
+        })
+    ));
+    assert!(matches!(
+        heatmap_svg(&[], 0, 3, &o),
+        Err(FigureError::Empty { .. })
+    ));
+    let labels = HeatmapOptions {
+        row_labels: vec!["a".into()],
+        ..HeatmapOptions::default()
+    };
+    assert!(matches!(
+        heatmap_svg(&[1.0; 6], 2, 3, &labels),
+        Err(FigureError::LengthMismatch {
+            field: "row_labels",
+            ..
+        })
+    ));
+    assert!(matches!(
+        heatmap_svg(&[1.0, f64::INFINITY, 0.0, 0.0], 2, 2, &o),
+        Err(FigureError::NotFinite { index: 1, .. })
+    ));
+    let bad = HeatmapOptions {
+        scale: Some(HeatmapScale::Sequential { lo: 1.0, hi: 1.0 }),
+        ..HeatmapOptions::default()
+    };
+    assert!(matches!(
+        heatmap_svg(&[1.0; 4], 2, 2, &bad),
+        Err(FigureError::BadOption { field: "scale", .. })
     ));
 }

@@ -6,6 +6,7 @@ use super::axes::{
     ACCENT_2, FONT_SIZE, GRID, INK, MUTED,
 };
 use super::figure_error::{check_finite, check_length, FigureError};
+use super::image::Image;
 use super::svg::{num, Attrs, Figure, Svg};
 use super::ticks::{log_label, log_ticks, nice_ticks};
 
@@ -528,7 +529,7 @@ pub enum HeatmapScale {
 }
 
 /// Options of [`heatmap_svg`].
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, Default, PartialEq)]
 pub struct HeatmapOptions {
     /// Title above the chart.
     pub title: String,
@@ -545,23 +546,39 @@ pub struct HeatmapOptions {
     pub cell_px: Option<f64>,
 }
 
-impl Default for HeatmapOptions {
-    fn default() -> Self {
-        Self {
-            title: String::new(),
-            unit: String::new(),
-            row_labels: Vec::new(),
-            column_labels: Vec::new(),
-            scale: None,
-            cell_px: None,
-        }
-    }
-}
-
 /// Colour of a missing (NaN) cell.
-const MISSING: &str = "#d9dde2";
+const MISSING: [u8; 3] = [0xd9, 0xdd, 0xe2];
 
 /// A heatmap of the row-major `n_rows` × `n_cols` matrix `values` with row labels on
+/// the left, column labels below (turned by 45° when they do not fit under a cell), and
+/// a colour bar on the right; colours from [`super::colormap::sequential`] or
+/// [`super::colormap::diverging`]. NaN marks a missing cell (drawn in neutral grey).
+/// Up to 2500 cells are drawn as rectangles (`class="cell"`); larger matrices as one
+/// embedded PNG with one pixel per cell, scaled without smoothing.
+///
+/// Errors: an empty matrix, `values.len() != n_rows · n_cols`, labels of the wrong
+/// number, an infinite value, a scale with lo ≥ hi or limit ≤ 0, a cell size outside
+/// 2–200 px.
+pub fn heatmap_svg(
+    values: &[f64],
+    n_rows: usize,
+    n_cols: usize,
+    options: &HeatmapOptions,
+) -> Result<Figure, FigureError> {
+    heatmap_with(
+        values,
+        n_rows,
+        n_cols,
+        options,
+        super::colormap::diverging,
+        super::colormap::sequential,
+    )
+}
+
+/// Matrices with more cells than this become one embedded PNG.
+const MAX_VECTOR_CELLS: usize = 2500;
+
+/// [`heatmap_svg`] with the colour maps given: the row-major `n_rows` × `n_cols` matrix `values` with row labels on
 /// the left, column labels below (turned by 45° when they do not fit under a cell), and
 /// a colour bar on the right. NaN marks a missing cell (drawn in neutral grey).
 /// `diverging(t)` (t ∈ [−1, 1]) and `sequential(t)` (t ∈ [0, 1]) give the colours.
@@ -640,14 +657,14 @@ pub(crate) fn heatmap_with(
             (-limit, limit)
         }
     };
-    let colour = |v: f64| -> String {
+    let colour = |v: f64| -> [u8; 3] {
         if v.is_nan() {
-            return MISSING.to_string();
+            return MISSING;
         }
         let t = ((v - bar_lo) / (bar_hi - bar_lo)).clamp(0.0, 1.0);
         match scale {
-            HeatmapScale::Sequential { .. } => hex(sequential(t)),
-            HeatmapScale::Diverging { .. } => hex(diverging(2.0 * t - 1.0)),
+            HeatmapScale::Sequential { .. } => sequential(t),
+            HeatmapScale::Diverging { .. } => diverging(2.0 * t - 1.0),
         }
     };
     let cell = match options.cell_px {
@@ -704,21 +721,48 @@ pub(crate) fn heatmap_with(
     let mut svg = Svg::new(width as u32, height as u32);
     svg.rect(0.0, 0.0, width, height, &Attrs::new().fill("#ffffff"));
     title(&mut svg, MARGIN, TITLE_BASELINE, &options.title);
-    for r in 0..n_rows {
-        for c in 0..n_cols {
-            svg.rect(
-                grid_x + c as f64 * cell,
-                grid_y + r as f64 * cell,
-                cell,
-                cell,
-                &Attrs::new()
-                    .fill(&colour(values[r * n_cols + c]))
-                    .class("cell"),
-            );
+    let vector = n_rows * n_cols <= MAX_VECTOR_CELLS;
+    if vector {
+        for r in 0..n_rows {
+            for c in 0..n_cols {
+                svg.rect(
+                    grid_x + c as f64 * cell,
+                    grid_y + r as f64 * cell,
+                    cell,
+                    cell,
+                    &Attrs::new()
+                        .fill(&hex(colour(values[r * n_cols + c])))
+                        .class("cell"),
+                );
+            }
         }
+    } else {
+        let side = |n: usize, field| {
+            u32::try_from(n).map_err(|_| FigureError::BadOption {
+                field,
+                value: n.to_string(),
+                expected: "at most 16384 cells along a side",
+            })
+        };
+        let mut raster = Image::new(side(n_cols, "n_cols")?, side(n_rows, "n_rows")?, [0; 4])?;
+        for (i, &v) in values.iter().enumerate() {
+            let [r, g, b] = colour(v);
+            raster.rgba[4 * i..4 * i + 4].copy_from_slice(&[r, g, b, 255]);
+        }
+        svg.image_png(
+            grid_x,
+            grid_y,
+            grid_w,
+            grid_h,
+            &raster.encode_png()?,
+            &Attrs::new()
+                .set("preserveAspectRatio", "none")
+                .set("style", "image-rendering:pixelated")
+                .class("cells"),
+        );
     }
     // Thin white lines between cells keep neighbours apart when cells are large.
-    if cell >= 10.0 {
+    if vector && cell >= 10.0 {
         for r in 1..n_rows {
             let y = grid_y + r as f64 * cell;
             svg.line(

@@ -1,5 +1,6 @@
 //! The typed error of the vector figures (topographic maps and charts).
 
+use super::error::RenderError;
 use super::spline::SplineError;
 
 /// What went wrong while drawing a topographic map or a chart. Every variant names the
@@ -60,6 +61,9 @@ pub enum FigureError {
     /// The spherical spline of a topographic map could not be fitted.
     #[error("topographic map interpolation: {0}")]
     Spline(#[from] SplineError),
+    /// A raster inside the figure could not be made or encoded.
+    #[error("raster inside the figure: {0}")]
+    Render(#[from] RenderError),
 }
 
 /// The first non-finite entry of `values`, as a [`FigureError::NotFinite`].

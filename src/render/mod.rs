@@ -6,6 +6,7 @@ mod axes;
 pub mod camera;
 pub mod charts;
 pub mod colormap;
+mod contour;
 pub mod cortex;
 pub mod error;
 mod figure_error;
@@ -19,6 +20,7 @@ pub mod sheet;
 pub mod spline;
 pub mod svg;
 pub mod ticks;
+pub mod topomap;
 
 pub use camera::View;
 pub use cortex::{render_view, render_views, ColourSpec, Scale, Shading, ViewOptions};

@@ -188,33 +188,35 @@ pub fn legendre_kernel(x: f64, order: u32, terms: usize) -> f64 {
 }
 
 /// g_m and its derivative on a uniform grid over [−1, 1], interpolated by cubic Hermite.
+/// Value and slope of a node sit side by side so one lookup touches one cache line.
 #[derive(Debug, Clone, PartialEq)]
 struct KernelTable {
-    values: Vec<f64>,
-    slopes: Vec<f64>,
+    nodes: Vec<[f64; 2]>,
 }
 
 impl KernelTable {
     fn new(a: &[f64]) -> Self {
-        let (values, slopes) = (0..=TABLE_INTERVALS)
-            .map(|k| series(a, -1.0 + 2.0 * k as f64 / TABLE_INTERVALS as f64))
-            .unzip();
-        Self { values, slopes }
+        let h = 2.0 / TABLE_INTERVALS as f64;
+        let nodes = (0..=TABLE_INTERVALS)
+            .map(|k| {
+                let (value, slope) = series(a, -1.0 + k as f64 * h);
+                // Slopes are stored per interval (× h) as the Hermite basis uses them.
+                [value, slope * h]
+            })
+            .collect();
+        Self { nodes }
     }
 
+    #[inline]
     fn eval(&self, x: f64) -> f64 {
-        let h = 2.0 / TABLE_INTERVALS as f64;
-        let s = ((x.clamp(-1.0, 1.0) + 1.0) / h).min(TABLE_INTERVALS as f64);
-        let k = (s.floor() as usize).min(TABLE_INTERVALS - 1);
+        let s = (x.clamp(-1.0, 1.0) + 1.0) * (TABLE_INTERVALS as f64 / 2.0);
+        let k = (s as usize).min(TABLE_INTERVALS - 1);
         let t = s - k as f64;
-        let (y0, y1) = (self.values[k], self.values[k + 1]);
-        let (d0, d1) = (self.slopes[k] * h, self.slopes[k + 1] * h);
-        let t2 = t * t;
-        let t3 = t2 * t;
-        (2.0 * t3 - 3.0 * t2 + 1.0) * y0
-            + (t3 - 2.0 * t2 + t) * d0
-            + (-2.0 * t3 + 3.0 * t2) * y1
-            + (t3 - t2) * d1
+        let ([y0, d0], [y1, d1]) = (self.nodes[k], self.nodes[k + 1]);
+        // Hermite form: y0 + t (d0 + t (c2 + t c3)).
+        let c2 = 3.0 * (y1 - y0) - 2.0 * d0 - d1;
+        let c3 = 2.0 * (y0 - y1) + d0 + d1;
+        y0 + t * (d0 + t * (c2 + t * c3))
     }
 }
 

@@ -18,16 +18,14 @@ pub struct Ticks {
 }
 
 impl Ticks {
-    /// A tick value printed with [`Ticks::decimals`] decimals (and "0", not "-0").
+    /// A tick value printed with [`Ticks::decimals`] decimals, negative numbers with the
+    /// typographic minus sign U+2212 (and "0", not "−0").
     pub fn label(&self, value: f64) -> String {
         let s = format!("{:.*}", self.decimals, value);
-        if s.trim_start_matches('-')
-            .chars()
-            .all(|c| c == '0' || c == '.')
-        {
-            s.trim_start_matches('-').to_string()
-        } else {
-            s
+        match s.strip_prefix('-') {
+            Some(rest) if rest.chars().all(|c| c == '0' || c == '.') => rest.to_string(),
+            Some(rest) => format!("\u{2212}{rest}"),
+            None => s,
         }
     }
 }
