@@ -71,6 +71,14 @@ fn parse(html: &str) -> Page {
                 if let Some(id) = attr(e, "id") {
                     page.ids.push(id);
                 }
+                // <image> inside an inline SVG states its size the same way.
+                if name == "image" {
+                    page.images.push((
+                        attr(e, "href").unwrap_or_default(),
+                        attr(e, "width").unwrap_or_default(),
+                        attr(e, "height").unwrap_or_default(),
+                    ));
+                }
                 if name == "img" {
                     page.images.push((
                         attr(e, "src").unwrap_or_default(),
@@ -154,9 +162,32 @@ fn embedded_pictures_decode_at_their_stated_size() {
         let mut reader = decoder.read_info().unwrap();
         let mut buf = vec![0u8; reader.output_buffer_size().unwrap()];
         let frame = reader.next_frame(&mut buf).unwrap();
-        assert_eq!(frame.width.to_string(), *width, "image {i}: width");
-        assert_eq!(frame.height.to_string(), *height, "image {i}: height");
+        // SVG writes sizes as numbers that may carry a decimal point.
+        assert_eq!(
+            f64::from(frame.width),
+            number(width, "image width"),
+            "image {i}: width"
+        );
+        assert_eq!(
+            f64::from(frame.height),
+            number(height, "image height"),
+            "image {i}: height"
+        );
     }
+    // The demo has 3 components, each with 6 cortex views, plus one card
+    // thumbnail each, and 3 topographic maps (each a PNG inside its SVG).
+    let n_img = page
+        .images
+        .iter()
+        .filter(|(s, _, _)| s.starts_with("data:"))
+        .count();
+    assert!(n_img >= 3 * (6 + 1 + 3), "only {n_img} embedded PNGs");
+    // 3 topographic maps, a colour bar and 2 charts per component.
+    assert!(
+        page.svgs.len() >= 3 * 6,
+        "only {} inline SVGs",
+        page.svgs.len()
+    );
     // HTML (WHATWG Living Standard, "the id attribute"): ids are unique in
     // a document, so inline SVGs must not repeat each other's ids.
     let mut ids = page.ids.clone();

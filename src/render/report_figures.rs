@@ -16,6 +16,7 @@ use super::cortex::{render_views, ColourSpec, ViewOptions};
 use super::report::ReportError;
 use super::report_html::png_img;
 use super::svg::Svg;
+use super::topomap::{topomap_svg, TopomapOptions};
 use crate::io::result_file::ResultFile;
 
 /// One picture: its markup (an inline `<svg>` or an `<img>` with a data URI)
@@ -60,6 +61,8 @@ const CHART_WIDTH: u32 = 520;
 const PATH_HEIGHT: u32 = 300;
 /// At most this many regions in the share chart.
 const CHART_REGIONS: usize = 8;
+/// Width of one topographic map (px): three to a row of the text column.
+const TOPOMAP_WIDTH: u32 = 340;
 /// Size of one cortex view (px): three to a row of the text column.
 const VIEW_SIZE: (u32, u32) = (300, 210);
 /// Source-map values below this fraction of the largest |value| show as
@@ -83,6 +86,9 @@ pub fn component_figures(
     shown: usize,
 ) -> Result<ComponentFigures, ReportError> {
     let mut groups = Vec::new();
+    if let Some(g) = sensor_maps(result, c)? {
+        groups.push(g);
+    }
     let mut thumbnail = None;
     if let Some((g, best)) = cortex_views(result, c)? {
         thumbnail = g.figures.get(best).cloned();
@@ -306,4 +312,69 @@ fn signed_colour_bar(height: u32) -> String {
         "relative",
     );
     svg.finish().svg
+}
+
+/// Topographic maps of the pattern, its fit and the residual on one colour
+/// scale (the largest |pattern| value), so the residual reads against the
+/// pattern. Without a stored reconstruction only the pattern is drawn
+/// (the stored residual is in the fit's whitened space then).
+fn sensor_maps(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportError> {
+    let Some(positions) = &r.electrode_positions else {
+        return Ok(None);
+    };
+    let k = r.k;
+    let n_ch = r.labels.len();
+    let column = |m: &[f64]| -> Vec<f64> { (0..n_ch).map(|e| m[e * k + c]).collect() };
+    let pattern = column(&r.patterns);
+    let largest = pattern.iter().fold(0.0f64, |m, v| m.max(v.abs()));
+    if !(largest.is_finite() && largest > 0.0) {
+        return Ok(None);
+    }
+    let mut maps = vec![("Pattern", pattern.clone())];
+    let mut note = String::new();
+    if let Some(recon) = &r.fit.reconstruction {
+        let fitted = column(recon);
+        let residual: Vec<f64> = pattern.iter().zip(&fitted).map(|(p, f)| p - f).collect();
+        let norm = |v: &[f64]| v.iter().map(|x| x * x).sum::<f64>().sqrt();
+        note = format!(
+            "The pattern as stored (after the average reference), its fit D\u{00b7}X and their \
+             difference, all relative to the largest |pattern| value ({:.3e}) on one colour scale; \
+             \u{2016}residual\u{2016} / \u{2016}pattern\u{2016} = {:.1} %. Dots: electrodes; \
+             view from above, nose up.",
+            largest,
+            100.0 * norm(&residual) / norm(&pattern)
+        );
+        maps.push(("Fit", fitted));
+        maps.push(("Residual", residual));
+    }
+    let mut figures = Vec::with_capacity(maps.len());
+    for (title, values) in &maps {
+        // Drawn relative to the largest |pattern| value so that the colour
+        // bar reads in plain numbers whatever the patterns' unit.
+        let relative: Vec<f64> = values.iter().map(|v| v / largest).collect();
+        let options = TopomapOptions {
+            size_px: TOPOMAP_WIDTH,
+            title: title.to_string(),
+            unit: "relative".to_string(),
+            limits: Some(1.0),
+            ..TopomapOptions::default()
+        };
+        let svg = topomap_svg(positions, &relative, &options).map_err(|e| {
+            figure_error(
+                r,
+                format!("the {} map of component {c}", title.to_lowercase()),
+                e,
+            )
+        })?;
+        figures.push(Figure {
+            markup: svg.svg,
+            caption: String::new(),
+        });
+    }
+    Ok(Some(FigureGroup {
+        title: "Sensor patterns".to_string(),
+        figures,
+        note,
+        layout: "row",
+    }))
 }
