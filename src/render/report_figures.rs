@@ -183,7 +183,7 @@ fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
                 && ev.is_finite()
                 && active.is_finite()
                 && active >= 0.0)
-                .then(|| PathSample {
+                .then_some(PathSample {
                     ratio,
                     explained_variance: ev,
                     active_patches: active as usize,
