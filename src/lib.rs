@@ -16,6 +16,7 @@ pub mod attribution;
 pub mod baseline;
 pub mod demo;
 pub mod dictionary;
+pub mod dipole;
 pub mod forward;
 pub mod geometry;
 pub mod head;

@@ -7,6 +7,7 @@ pub mod atomic;
 pub mod cache;
 pub mod decoder_file;
 pub mod dictionary_file;
+pub mod dipole_file;
 pub mod electrodes;
 pub mod error;
 pub mod gifti;

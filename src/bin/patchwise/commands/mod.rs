@@ -4,6 +4,7 @@ pub mod attribute;
 pub mod check;
 pub mod demo;
 pub mod dictionary;
+pub mod dipole;
 pub mod leadfield;
 pub mod montage;
 pub mod report;
