@@ -250,13 +250,13 @@ fn path_points_are_monotone_in_lambda() {
     // the y of the explained-variance line increases with x.
     let ev = points(elements.iter().find(|e| e.has_class("explained")).unwrap());
     assert!(ev.windows(2).all(|w| w[1].1 >= w[0].1));
-    // The chosen λ lies between the decades 0.01 and 0.1 on the log axis: at
-    // log10(0.05) = −1.30, i.e. 56.6 % of the way from 10⁻³ to 1 would be wrong; the
-    // axis runs from 10⁻³ to 1, so x = left + (3 − 1.301)/3 · width.
+    // The chosen λ/λmax = 0.05 sits on the log axis from 10⁻³ to 1 at the fraction
+    // (log10 0.05 + 3) / 3 of the way from the left end (definition of a log axis;
+    // coordinates are written to 0.01 px, tolerance 0.02 px).
     let chosen = elements.iter().find(|e| e.has_class("chosen")).unwrap();
-    let first = ev[ev.len() - 1].0; // ratio 1 is the right end
-    let last = ev[0].0; // ratio 10⁻³ is the left end
-    let expected = last + (0.05f64.log10() + 3.0) / 3.0 * (first - last);
+    let right = ev[ev.len() - 1].0; // ratio 1
+    let left = ev[0].0; // ratio 10⁻³
+    let expected = left + (0.05f64.log10() + 3.0) / 3.0 * (right - left);
     assert!((chosen.num("x1") - expected).abs() < 0.02);
 }
 

@@ -195,6 +195,35 @@ fn fast_evaluation_agrees_with_the_series() {
 }
 
 #[test]
+fn a_known_centre_gives_the_same_spline_as_the_fitted_one() {
+    // The standard layout is a sphere about the origin, so fitting about the origin and
+    // fitting a sphere must give the same interpolant (1e-9 relative; the sphere fit
+    // converges to ~1e-12 m, common practice, no source).
+    let positions = positions_64();
+    let mut seed = 5;
+    let values: Vec<f64> = (0..64).map(|_| lcg(&mut seed)).collect();
+    let p = SplineParams::default();
+    let fitted = SphericalSpline::fit(&positions, &values, &p).unwrap();
+    let about = SphericalSpline::fit_about(&positions, &values, [0.0; 3], &p).unwrap();
+    assert!((about.radius() - RADIUS).abs() < 1e-12);
+    for u in fibonacci_cap(200, 0.0) {
+        let (a, b) = (fitted.evaluate(u), about.evaluate(u));
+        assert!((a - b).abs() < 1e-9 * (1.0 + a.abs()), "{a} vs {b}");
+    }
+    assert!(matches!(
+        SphericalSpline::fit_about(&positions, &values, [f64::NAN, 0.0, 0.0], &p),
+        Err(SplineError::InvalidParameter {
+            field: "center",
+            ..
+        })
+    ));
+    assert!(matches!(
+        SphericalSpline::fit_about(&positions, &values, positions[3], &p),
+        Err(SplineError::BadPosition { index: 3, .. })
+    ));
+}
+
+#[test]
 fn bad_input_is_a_typed_error() {
     let positions = positions_64();
     let values = vec![1.0; 64];

@@ -222,6 +222,31 @@ fn pictures_for_the_documentation() {
     let figure = topomap_svg(&positions, &values, &options).unwrap();
     keep("render_topomap", "map.svg", &figure.svg);
     parse_svg(&figure.svg, figure.width, figure.height);
+    // At pixel_ratio 2 the embedded raster has twice as many pixels across as the
+    // image box, and the figure's geometry is unchanged.
+    let sharp = topomap_svg(
+        &positions,
+        &values,
+        &TopomapOptions {
+            pixel_ratio: 2,
+            ..options.clone()
+        },
+    )
+    .unwrap();
+    keep("render_topomap", "map_2x.svg", &sharp.svg);
+    let elements = parse_svg(&sharp.svg, figure.width, figure.height);
+    let map = elements.iter().find(|e| e.has_class("map")).unwrap();
+    let png = base64::engine::general_purpose::STANDARD
+        .decode(
+            map.attrs["href"]
+                .strip_prefix("data:image/png;base64,")
+                .unwrap(),
+        )
+        .unwrap();
+    let reader = png::Decoder::new(std::io::Cursor::new(png))
+        .read_info()
+        .unwrap();
+    assert_eq!(f64::from(reader.info().width), 2.0 * map.num("width"));
 }
 
 #[test]
@@ -289,6 +314,17 @@ fn bad_input_is_a_typed_error() {
             })
         ));
     }
+    let blurry = TopomapOptions {
+        pixel_ratio: 0,
+        ..TopomapOptions::default()
+    };
+    assert!(matches!(
+        topomap_svg(&positions, &values, &blurry),
+        Err(FigureError::BadOption {
+            field: "pixel_ratio",
+            ..
+        })
+    ));
     let tiny = TopomapOptions {
         size_px: 10,
         ..TopomapOptions::default()
@@ -306,4 +342,89 @@ fn bad_input_is_a_typed_error() {
         topomap_svg(&twice, &values, &o),
         Err(FigureError::Spline(_))
     ));
+}
+
+#[test]
+fn the_raster_does_not_depend_on_the_thread_count() {
+    // Brief requirement: results identical whatever the rayon thread count. Pixels are
+    // independent and the colour limit is a maximum, so the bytes must match exactly.
+    let (_, positions) = montage_64();
+    let values = dipolar(&positions);
+    let options = TopomapOptions {
+        size_px: 128,
+        ..TopomapOptions::default()
+    };
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| topomap_png(&positions, &values, &options).unwrap())
+    };
+    assert_eq!(run(1), run(3));
+}
+
+#[test]
+fn a_head_off_the_origin_gives_the_same_map() {
+    // The electrodes are projected about the least-squares sphere through them, so
+    // moving the whole montage (a digitiser's origin at the neck, say) changes nothing
+    // beyond rounding: electrode marks within 0.01 px (coordinates are written to
+    // 0.01 px) and pixel colours within 1/255 (common practice, no source).
+    let (_, positions) = montage_64();
+    let values = dipolar(&positions);
+    let shifted: Vec<Vec3> = positions
+        .iter()
+        .map(|p| [p[0] + 0.003, p[1] - 0.012, p[2] + 0.041])
+        .collect();
+    let options = TopomapOptions::default();
+    let a = topomap_svg(&positions, &values, &options).unwrap();
+    let b = topomap_svg(&shifted, &values, &options).unwrap();
+    let marks_a = mark_positions(&parse_svg(&a.svg, a.width, a.height));
+    let marks_b = mark_positions(&parse_svg(&b.svg, b.width, b.height));
+    for (p, q) in marks_a.iter().zip(&marks_b) {
+        assert!((p.0 - q.0).abs() <= 0.011 && (p.1 - q.1).abs() <= 0.011);
+    }
+    let small = TopomapOptions {
+        size_px: 96,
+        ..TopomapOptions::default()
+    };
+    let pa = topomap_png(&positions, &values, &small).unwrap();
+    let pb = topomap_png(&shifted, &values, &small).unwrap();
+    for (x, y) in pa.rgba.iter().zip(&pb.rgba) {
+        assert!((i32::from(*x) - i32::from(*y)).abs() <= 1);
+    }
+}
+
+#[test]
+fn a_small_cap_is_drawn_about_a_given_centre() {
+    // Twelve electrodes around Cz: the disc ends at the lowest of them (polar angle
+    // below 45°), far inside the head outline; with the head centre given the map is
+    // drawn, and without it the sphere fit either succeeds or fails with a typed error.
+    let (_, positions) = montage_64();
+    let cap: Vec<Vec3> = positions
+        .iter()
+        .copied()
+        .filter(|&p| unit(p)[2] > 0.72)
+        .collect();
+    assert!(cap.len() >= 8, "{}", cap.len());
+    let values = dipolar(&cap);
+    let options = TopomapOptions {
+        size_px: 120,
+        sphere_center: Some([0.0; 3]),
+        ..TopomapOptions::default()
+    };
+    let image = topomap_png(&cap, &values, &options).unwrap();
+    let centre = 4 * (60 * 120 + 60);
+    assert_eq!(image.rgba[centre + 3], 255);
+    let figure = topomap_svg(&cap, &values, &options).unwrap();
+    let elements = parse_svg(&figure.svg, figure.width, figure.height);
+    assert_eq!(mark_positions(&elements).len(), cap.len());
+    let fitted = TopomapOptions {
+        sphere_center: None,
+        ..options
+    };
+    match topomap_png(&cap, &values, &fitted) {
+        Ok(_) | Err(FigureError::Spline(_)) => {}
+        Err(e) => panic!("unexpected error {e}"),
+    }
 }

@@ -466,7 +466,13 @@ pub fn regularisation_path_svg(
             cx + dx,
             top + 6.0,
             &text,
-            &Attrs::new().fill(INK).set("text-anchor", anchor),
+            // A white halo keeps the label readable over grid lines.
+            &Attrs::new()
+                .fill(INK)
+                .set("text-anchor", anchor)
+                .set("stroke", "#ffffff")
+                .set("stroke-width", "3")
+                .set("paint-order", "stroke"),
         );
     }
     Ok(svg.finish())
@@ -763,25 +769,14 @@ pub(crate) fn heatmap_with(
     }
     // Thin white lines between cells keep neighbours apart when cells are large.
     if vector && cell >= 10.0 {
+        let white = Attrs::new().stroke("#ffffff", 1.0);
         for r in 1..n_rows {
             let y = grid_y + r as f64 * cell;
-            svg.line(
-                grid_x,
-                y,
-                grid_x + grid_w,
-                y,
-                &Attrs::new().stroke("#ffffff", 1.0),
-            );
+            svg.line(grid_x, y, grid_x + grid_w, y, &white);
         }
         for c in 1..n_cols {
             let x = grid_x + c as f64 * cell;
-            svg.line(
-                x,
-                grid_y,
-                x,
-                grid_y + grid_h,
-                &Attrs::new().stroke("#ffffff", 1.0),
-            );
+            svg.line(x, grid_y, x, grid_y + grid_h, &white);
         }
     }
     svg.rect(

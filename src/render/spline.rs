@@ -265,6 +265,34 @@ impl SphericalSpline {
         Ok(spline)
     }
 
+    /// Fit to values at electrode positions (m) about a known sphere `center` (m), for
+    /// montages that cover too little of the head to fit a sphere through. The radius
+    /// reported is the mean distance of the electrodes from the centre.
+    ///
+    /// Errors as for [`SphericalSpline::fit`]; an electrode at the centre is a
+    /// [`SplineError::BadPosition`].
+    pub fn fit_about(
+        positions: &[Vec3],
+        values: &[f64],
+        center: Vec3,
+        params: &SplineParams,
+    ) -> Result<Self, SplineError> {
+        check_lengths(positions.len(), values.len())?;
+        check_positions(positions)?;
+        if let Some(&value) = center.iter().find(|c| !c.is_finite()) {
+            return Err(SplineError::InvalidParameter {
+                field: "center",
+                value,
+                expected: "finite coordinates (m)",
+            });
+        }
+        let offsets: Vec<Vec3> = positions.iter().map(|&p| sub(p, center)).collect();
+        let mut spline = Self::fit_directions(&offsets, values, params)?;
+        spline.center = center;
+        spline.radius = offsets.iter().map(|&d| norm(d)).sum::<f64>() / offsets.len() as f64;
+        Ok(spline)
+    }
+
     /// Fit to values at unit directions (the given vectors are normalised; the sphere
     /// centre is the origin and its radius 1).
     ///
@@ -363,10 +391,11 @@ impl SphericalSpline {
     /// V(u) with g_m from a cubic Hermite table (4097 nodes, agreeing with the series to
     /// rounding) instead of the N-term series: the cost per electrode no longer grows
     /// with N. Used for rasters. Pass a unit vector.
+    #[inline]
     pub fn evaluate_fast(&self, u: Vec3) -> f64 {
         let mut v = self.constant;
         for (d, c) in self.directions.iter().zip(&self.weights) {
-            v += c * self.table.eval(dot(u, *d));
+            v += c * self.table.eval(d[0] * u[0] + d[1] * u[1] + d[2] * u[2]);
         }
         v
     }
