@@ -159,6 +159,26 @@ fn report_renders_in_a_headless_browser() {
         "screenshot is nearly blank: {ink} of {n} pixels inked"
     );
 
+    // The detector itself: the same page with an outside image and a
+    // stylesheet beside it must produce faults (the policy blocks and logs them).
+    let bad = root.join("bad.html");
+    let html = std::fs::read_to_string(&page).unwrap().replacen(
+        "</main>",
+        "<img src=\"http://example.invalid/x.png\" alt=\"\"/><link rel=\"stylesheet\" href=\"x.css\"/></main>",
+        1,
+    );
+    std::fs::write(&bad, html).unwrap();
+    let (log, _) = run_browser(
+        &browser,
+        &bad,
+        &root.join("profile-bad"),
+        &["--dump-dom".to_string()],
+    );
+    assert!(
+        faults(&log, &bad).len() >= 2,
+        "the fault check did not see a blocked outside image and style sheet:\n{log}"
+    );
+
     // The DOM after loading: the browser parsed the whole page, caution included.
     let (log, dom) = run_browser(
         &browser,

@@ -467,13 +467,15 @@ fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[Com
         h.raw("</div>\n");
     }
     h.raw("</div>\n");
-    h.element(
-        "p",
-        "note",
-        "Share: the part of the fitted pattern that the patches of a region explain (patch \
+    if !r.attribution.region_names.is_empty() {
+        h.element(
+            "p",
+            "note",
+            "Share: the part of the fitted pattern that the patches of a region explain (patch \
          contributions projected on the fitted pattern, split over regions by the patch \
          profiles); shares and the unassigned part sum to 100 %.",
-    );
+        );
+    }
     h.raw("</section>\n");
 }
 
