@@ -348,10 +348,14 @@ fn bad_result_folders_exit_2_naming_the_file() {
     std::fs::create_dir_all(root.join("truncated")).unwrap();
     let bytes = std::fs::read(demo().join("result.h5")).unwrap();
     std::fs::write(root.join("truncated/result.h5"), &bytes[..bytes.len() / 3]).unwrap();
+    std::fs::create_dir_all(root.join("bad-summary")).unwrap();
+    std::fs::write(root.join("bad-summary/result.h5"), &bytes).unwrap();
+    std::fs::write(root.join("bad-summary/summary.json"), "{\"components\": [").unwrap();
     for (folder, named) in [
         ("missing", "missing"),
         ("empty", "empty/result.h5"),
         ("truncated", "truncated/result.h5"),
+        ("bad-summary", "bad-summary/summary.json"),
     ] {
         let run = patchwise(&["report", folder], &root);
         let stderr = String::from_utf8_lossy(&run.stderr);
@@ -368,29 +372,7 @@ fn bad_result_folders_exit_2_naming_the_file() {
 #[test]
 fn no_report_flag_and_out_option() {
     let root = demo().parent().unwrap();
-    let cache = root.join("cache");
-    let out = root.join("no-report");
-    let _ = std::fs::remove_dir_all(&out);
-    let run = patchwise(
-        &[
-            "demo",
-            "--sources",
-            "template-5k",
-            "--resamples",
-            "0",
-            "--no-report",
-            "--out",
-            out.to_str().unwrap(),
-            "--cache",
-            cache.to_str().unwrap(),
-        ],
-        root,
-    );
-    assert!(
-        run.status.success(),
-        "{}",
-        String::from_utf8_lossy(&run.stderr)
-    );
+    let out = common::report::run_demo(root, "no-report", &["--resamples", "0", "--no-report"]);
     assert!(out.join("result.h5").is_file());
     assert!(!out.join("report.html").exists());
     let other = root.join("elsewhere.html");

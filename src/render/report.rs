@@ -2,9 +2,10 @@
 //! hashes, fit quality, region tables with intervals, pictures and the
 //! caution, in one page that needs no other file and no network.
 //!
-//! The page is built as a string; writing it is the caller's business
-//! (`crate::io::report_file`). Every string that comes from a file is
-//! escaped (see [`super::report_html::escape`]).
+//! The page is built as a string; writing it is the caller's business (the
+//! CLI writes it with `crate::io::atomic::write_atomic`). Every string that
+//! comes from a file is escaped (see [`super::report_html::escape`]), and the
+//! page carries a content security policy that forbids any fetch.
 
 use rayon::prelude::*;
 
