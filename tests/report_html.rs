@@ -394,3 +394,37 @@ fn no_report_flag_and_out_option() {
     // Without resampling the page says so instead of showing intervals.
     assert!(read(&other).contains("none (no resampling)"));
 }
+
+// The project's rule (BRIEF: results identical whatever the rayon thread
+// count): the page, pictures included, is byte-identical on 1 and 2 threads.
+#[test]
+fn page_is_the_same_on_one_and_two_threads() {
+    let dir = demo();
+    let mut pages = Vec::new();
+    for threads in ["1", "2"] {
+        let out = dir
+            .parent()
+            .unwrap()
+            .join(format!("threads-{threads}.html"));
+        let run = std::process::Command::new(env!("CARGO_BIN_EXE_patchwise"))
+            .args([
+                "report",
+                dir.to_str().unwrap(),
+                "--out",
+                out.to_str().unwrap(),
+            ])
+            .env("RAYON_NUM_THREADS", threads)
+            .output()
+            .unwrap();
+        assert!(
+            run.status.success(),
+            "{}",
+            String::from_utf8_lossy(&run.stderr)
+        );
+        pages.push(std::fs::read(&out).unwrap());
+    }
+    assert!(
+        pages[0] == pages[1],
+        "the report differs between 1 and 2 threads"
+    );
+}
