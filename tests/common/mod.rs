@@ -1,3 +1,4 @@
 //! Helpers shared by the integration tests.
 pub mod cli;
 pub mod python;
+pub mod report;

@@ -45,6 +45,8 @@ enum Command {
     Dipole(commands::dipole::Args),
     /// The template cortex: regenerate its GIFTI files.
     Template(commands::template::Args),
+    /// One self-contained HTML page for a result folder.
+    Report(commands::report::Args),
 }
 
 fn main() {
@@ -58,6 +60,7 @@ fn main() {
         Command::Attribute(args) => commands::attribute::exec(*args),
         Command::Dipole(args) => commands::dipole::exec(args),
         Command::Template(args) => commands::template::exec(args),
+        Command::Report(args) => commands::report::exec(args),
     };
     if let Err(err) = outcome {
         eprintln!("error: {err}");

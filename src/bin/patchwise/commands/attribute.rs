@@ -76,6 +76,9 @@ pub struct Args {
     /// Output folder.
     #[arg(long)]
     pub out: PathBuf,
+    /// Do not write report.html into the output folder.
+    #[arg(long)]
+    pub no_report: bool,
 }
 
 /// Everything the outputs need.
@@ -640,6 +643,9 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
 /// Run `patchwise attribute`.
 pub fn exec(args: Args) -> Result<(), CliError> {
     let result = run(&args, None)?;
-    write_outputs(&args.out, &result)?;
+    let dir = write_outputs(&args.out, &result)?;
+    if !args.no_report {
+        super::report::report_after_outputs(&dir, super::report::job_of(&args))?;
+    }
     Ok(())
 }

@@ -33,6 +33,9 @@ pub struct Args {
     /// Cache folder for lead fields and dictionaries.
     #[arg(long)]
     pub cache: Option<PathBuf>,
+    /// Do not write report.html into the output folder.
+    #[arg(long)]
+    pub no_report: bool,
 }
 
 /// Skull conductivity of the simulation head (S/m); the fit assumes the
@@ -145,6 +148,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         no_refit: false,
         cache: args.cache.clone(),
         out: args.out.clone(),
+        no_report: args.no_report,
     };
     let result = run(&attribute_args, Some(scenario.component_names.clone()));
     let outcome = result.and_then(|a| write_outputs(&args.out, &a).map(|dir| (a, dir)));
@@ -195,6 +199,16 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             dist.map(|d| format!(" (peak {d:.0} mm from the nearest generator seed)"))
                 .unwrap_or_default()
         );
+    }
+    if !args.no_report {
+        let mut job = super::report::job_of(&attribute_args);
+        if let Some(entry) = job.iter_mut().find(|(name, _)| name == "decoder") {
+            entry.1 = format!(
+                "the demo's invented decoder (saved as {})",
+                dir.join("decoder.h5").display()
+            );
+        }
+        super::report::report_after_outputs(&dir, job)?;
     }
     note(if found_all {
         "all known generators were found as the leading region of their component"

@@ -7,4 +7,5 @@ pub mod dictionary;
 pub mod dipole;
 pub mod leadfield;
 pub mod montage;
+pub mod report;
 pub mod template;

@@ -1,0 +1,179 @@
+//! `patchwise report`: one self-contained HTML page for a result folder.
+
+use std::path::{Path, PathBuf};
+
+use patchwise::io::result_file::read_result;
+use patchwise::render::report::{build_report, ReportError, ReportOptions};
+
+use super::attribute::Args as AttributeArgs;
+use crate::CliError;
+
+/// Arguments of `patchwise report`.
+#[derive(clap::Args, Debug)]
+pub struct Args {
+    /// Result folder written by `attribute` or `demo` (holds result.h5; summary.json is used when present).
+    pub result_dir: PathBuf,
+    /// Output file (default: RESULT_DIR/report.html).
+    #[arg(long)]
+    pub out: Option<PathBuf>,
+}
+
+fn bad(message: String) -> CliError {
+    CliError::bad_input(anyhow::anyhow!(message))
+}
+
+/// What the user asked `attribute` for, as (name, value) lines of the report.
+pub fn job_of(args: &AttributeArgs) -> Vec<(String, String)> {
+    let mut job = Vec::new();
+    let mut put = |name: &str, value: String| job.push((name.to_string(), value));
+    if let Some(d) = &args.decoder {
+        put("decoder", d.display().to_string());
+    }
+    if let Some(p) = &args.patterns {
+        put("patterns", p.display().to_string());
+    }
+    if let Some(c) = &args.channels {
+        put("channel labels", c.display().to_string());
+    }
+    match &args.dictionary {
+        Some(d) => put("dictionary", format!("{} (given)", d.display())),
+        None => {
+            put("montage", args.forward.montage.clone());
+            put("sources", args.forward.sources.clone());
+            put("head", args.forward.head.clone());
+            if let Some(r) = &args.forward.regions {
+                put("regions", r.display().to_string());
+            }
+            let o = &args.dictionary_options;
+            let radii: Vec<String> = o.radii_mm.iter().map(|r| format!("{r}")).collect();
+            put(
+                "patches",
+                format!(
+                    "radii {} mm, {} profile, {} orientation, seeds {}",
+                    radii.join(", "),
+                    format!("{:?}", o.profile).to_lowercase(),
+                    format!("{:?}", o.atom_orientation).to_lowercase(),
+                    o.spacing_mm
+                        .map_or("at every source".to_string(), |s| format!("{s} mm apart"))
+                ),
+            );
+        }
+    }
+    put("reference", args.reference.clone());
+    put(
+        "noise covariance",
+        args.noise_covariance
+            .as_ref()
+            .map_or("none".to_string(), |p| p.display().to_string()),
+    );
+    put(
+        "\u{03bb} rule (asked)",
+        match (args.lambda_ratio, args.lambda) {
+            (Some(r), _) => format!("\u{03bb} = {r} \u{00b7} \u{03bb}max"),
+            (None, Some(l)) => format!("\u{03bb} = {l}"),
+            (None, None) => "minimum BIC along the path (default)".to_string(),
+        },
+    );
+    put(
+        "stopping rule",
+        format!("relative duality gap \u{2264} {:e}", args.tol),
+    );
+    put(
+        "fit",
+        if args.joint {
+            "joint".to_string()
+        } else {
+            "one component at a time".to_string()
+        },
+    );
+    put(
+        "resampling",
+        if args.resamples == 0 {
+            "none".to_string()
+        } else {
+            format!("{} resamples, seed {}", args.resamples, args.seed)
+        },
+    );
+    put(
+        "refit",
+        if args.no_refit {
+            "no".to_string()
+        } else {
+            "debiased least-squares refit".to_string()
+        },
+    );
+    job
+}
+
+/// Read `dir`/result.h5 (and summary.json when present), build the page and
+/// write it atomically to `out` (default `dir`/report.html). Bad or missing
+/// input files exit 2; a failure to draw or write exits 1.
+pub fn write_report(
+    dir: &Path,
+    out: Option<&Path>,
+    job: Vec<(String, String)>,
+) -> Result<PathBuf, CliError> {
+    if !dir.is_dir() {
+        return Err(bad(format!(
+            "{}: no such folder (expected a result folder written by `patchwise attribute` or `patchwise demo`)",
+            dir.display()
+        )));
+    }
+    let result_path = dir.join("result.h5");
+    if !result_path.is_file() {
+        return Err(bad(format!(
+            "{}: not found (a result folder holds the result.h5 that `patchwise attribute` writes)",
+            result_path.display()
+        )));
+    }
+    let result = read_result(&result_path)
+        .map_err(|e| CliError::bad_input(anyhow::Error::new(e).context("reading the result")))?;
+    let summary_path = dir.join("summary.json");
+    let summary: Option<serde_json::Value> = if summary_path.is_file() {
+        let text = std::fs::read_to_string(&summary_path)
+            .map_err(|e| bad(format!("{}: {e}", summary_path.display())))?;
+        Some(serde_json::from_str(&text).map_err(|e| {
+            bad(format!(
+                "{}: not valid JSON ({e}); remove it or rerun the attribution",
+                summary_path.display()
+            ))
+        })?)
+    } else {
+        None
+    };
+    let options = ReportOptions {
+        job,
+        ..ReportOptions::default()
+    };
+    let html = build_report(&result, summary.as_ref(), &options).map_err(|e| match e {
+        ReportError::Shape { .. } => CliError::bad_input(anyhow::Error::new(e)),
+        other => CliError::compute(anyhow::Error::new(other).context("building the report")),
+    })?;
+    let out = out.map_or_else(|| dir.join("report.html"), Path::to_path_buf);
+    patchwise::io::atomic::write_atomic(&out, html.as_bytes())
+        .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", out.display())))?;
+    Ok(out)
+}
+
+/// The report step of `attribute` and `demo`: the results are already
+/// written, so any failure here is a failure while computing (exit 1) and
+/// leaves them in place.
+pub fn report_after_outputs(dir: &Path, job: Vec<(String, String)>) -> Result<(), CliError> {
+    match write_report(dir, None, job) {
+        Ok(path) => {
+            println!("report in {}", path.display());
+            Ok(())
+        }
+        Err(e) => Err(CliError::compute(e.error.context(format!(
+            "the results in {} are written, but the report failed",
+            dir.display()
+        )))),
+    }
+}
+
+/// Run `patchwise report`.
+pub fn exec(args: Args) -> Result<(), CliError> {
+    let out = write_report(&args.result_dir, args.out.as_deref(), Vec::new())?;
+    println!("report in {}", out.display());
+    Ok(())
+}

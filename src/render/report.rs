@@ -1,0 +1,933 @@
+//! The self-contained HTML report of a result: the job, the inputs and their
+//! hashes, fit quality, region tables with intervals, pictures and the
+//! caution, in one page that needs no other file and no network.
+//!
+//! The page is built as a string; writing it is the caller's business (the
+//! CLI writes it with `crate::io::atomic::write_atomic`). Every string that
+//! comes from a file is escaped (see [`super::report_html::escape`]), and the
+//! page carries a content security policy that forbids any fetch.
+
+use rayon::prelude::*;
+
+use super::report_figures::{component_figures, ComponentFigures};
+use super::report_html::{escape, fixed, percent, scientific, Html};
+use super::report_style::STYLE;
+use crate::io::result_file::{ResultFile, CAUTION};
+
+/// What can go wrong while building the report.
+#[derive(Debug, thiserror::Error)]
+#[non_exhaustive]
+pub enum ReportError {
+    /// Two parts of the result disagree in size.
+    #[error("{}: {field} has {found} values, expected {expected}", path.display())]
+    Shape {
+        /// The result file.
+        path: std::path::PathBuf,
+        /// The dataset (e.g. `/fit/lambda`).
+        field: &'static str,
+        /// Its number of values.
+        found: usize,
+        /// What the rest of the file implies, in words.
+        expected: String,
+    },
+    /// A picture could not be drawn.
+    #[error("{}: drawing {figure}: {message}", path.display())]
+    Figure {
+        /// The result file.
+        path: std::path::PathBuf,
+        /// Which picture (e.g. `cortex views of component 1`).
+        figure: String,
+        /// What the picture maker reported.
+        message: String,
+    },
+}
+
+/// Choices for the report.
+#[derive(Debug, Clone, Default)]
+pub struct ReportOptions {
+    /// Page title; default "Region attribution" followed by the folder name.
+    pub title: Option<String>,
+    /// What was asked (name, value), e.g. ("decoder", "bci.npz"),
+    /// ("montage", "10-10"). When empty, the `job` object of the summary
+    /// is used if it has one.
+    pub job: Vec<(String, String)>,
+    /// Leave the pictures out (tables only).
+    pub no_figures: bool,
+}
+
+/// The page's content security policy (W3C Content Security Policy Level 3):
+/// no fetches of any kind except inline styles and `data:` images.
+const CONTENT_SECURITY_POLICY: &str = "<meta http-equiv=\"Content-Security-Policy\" \
+     content=\"default-src 'none'; img-src data:; style-src 'unsafe-inline'; base-uri 'none'; form-action 'none'\"/>\n";
+
+/// Share at or above which a region always gets its own row in a region
+/// table (smaller ones are counted in one closing line).
+const SHOWN_SHARE: f64 = 0.005;
+/// Selection frequency at or above which a region gets its own row.
+const SHOWN_FREQUENCY: f64 = 0.05;
+/// Regions always listed, whatever their share.
+const SHOWN_TOP: usize = 3;
+
+/// Build the report page of `result` (with the summary.json written beside
+/// it, when available) as one HTML string.
+pub fn build_report(
+    result: &ResultFile,
+    summary: Option<&serde_json::Value>,
+    options: &ReportOptions,
+) -> Result<String, ReportError> {
+    check_shapes(result)?;
+    let facts: Vec<ComponentFacts> = (0..result.k)
+        .map(|c| ComponentFacts::new(result, summary, c))
+        .collect();
+    let figures: Vec<ComponentFigures> = if options.no_figures {
+        (0..result.k).map(|_| ComponentFigures::default()).collect()
+    } else {
+        (0..result.k)
+            .into_par_iter()
+            .map(|c| {
+                let shown = (0..facts[c].order.len())
+                    .filter(|&rank| is_shown(result, &facts[c], c, rank))
+                    .count();
+                component_figures(result, c, &facts[c].order, shown)
+            })
+            .collect::<Result<_, _>>()?
+    };
+    let title = options.title.clone().unwrap_or_else(|| {
+        let folder = result
+            .path
+            .parent()
+            .and_then(|p| p.file_name())
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "result".to_string());
+        format!("Region attribution \u{2014} {folder}")
+    });
+
+    let mut h = Html::new();
+    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
+    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
+    // The page declares that it loads nothing: pictures are data URIs or
+    // inline SVG and the style sheet is inline, so a browser blocks (and
+    // reports on its console) anything else, whatever a file string held.
+    h.raw(CONTENT_SECURITY_POLICY);
+    h.element("title", "", &title);
+    h.raw("<style>")
+        .raw(STYLE)
+        .raw("</style>\n</head>\n<body>\n<main>\n");
+    masthead(&mut h, result, &title);
+    caution(&mut h, result);
+    // Answer first (the leading regions and how well the fit explains the
+    // patterns), then the evidence per component, then how it was made.
+    glance(&mut h, result, &facts, &figures);
+    fit_quality(&mut h, &facts);
+    for (c, figs) in figures.iter().enumerate() {
+        component_section(&mut h, result, &facts[c], figs, c);
+    }
+    h.raw("<div class=\"columns provenance\">\n");
+    job(&mut h, result, summary, options);
+    inputs(&mut h, result, summary);
+    h.raw("</div>\n");
+    footer(&mut h, result);
+    h.raw("</main>\n</body>\n</html>\n");
+    Ok(h.finish())
+}
+
+/// Check that every per-component and per-region array has the size the
+/// component and region counts imply, so the page never indexes out of range.
+fn check_shapes(r: &ResultFile) -> Result<(), ReportError> {
+    let k = r.k;
+    let n_ch = r.labels.len();
+    let n_reg = r.attribution.region_names.len();
+    let a = &r.attribution;
+    let f = &r.fit;
+    let mut checks: Vec<(&'static str, usize, usize, String)> = vec![
+        (
+            "/patterns/component_names",
+            r.component_names.len(),
+            k,
+            format!("k = {k}"),
+        ),
+        (
+            "/patterns/values",
+            r.patterns.len(),
+            n_ch * k,
+            format!("n_ch x k = {n_ch} x {k}"),
+        ),
+        ("/fit/lambda", f.lambda.len(), k, format!("k = {k}")),
+        ("/fit/lambda_max", f.lambda_max.len(), k, format!("k = {k}")),
+        (
+            "/fit/duality_gap",
+            f.duality_gap.len(),
+            k,
+            format!("k = {k}"),
+        ),
+        ("/fit/iterations", f.iterations.len(), k, format!("k = {k}")),
+        (
+            "/fit/explained_variance",
+            f.explained_variance.len(),
+            k,
+            format!("k = {k}"),
+        ),
+        (
+            "/fit/residual",
+            f.residual.len(),
+            n_ch * k,
+            format!("n_ch x k = {n_ch} x {k}"),
+        ),
+        (
+            "/fit/coefficients",
+            f.coefficients.len(),
+            f.n_atoms * k,
+            format!("n_atoms x k = {} x {k}", f.n_atoms),
+        ),
+        (
+            "/attribution/share",
+            a.share.len(),
+            n_reg * k,
+            format!("n_regions x k = {n_reg} x {k}"),
+        ),
+        (
+            "/attribution/peak_mm",
+            a.peak_mm.len(),
+            k,
+            format!("k = {k} rows"),
+        ),
+        (
+            "/attribution/peak_region",
+            a.peak_region.len(),
+            k,
+            format!("k = {k}"),
+        ),
+        (
+            "/attribution/unassigned_share",
+            a.unassigned_share.len(),
+            k,
+            format!("k = {k}"),
+        ),
+    ];
+    let region_arrays = [
+        ("/attribution/share_low", &a.share_low),
+        ("/attribution/share_high", &a.share_high),
+        ("/attribution/selection_frequency", &a.selection_frequency),
+    ];
+    for (field, values) in region_arrays {
+        if let Some(v) = values {
+            checks.push((
+                field,
+                v.len(),
+                n_reg * k,
+                format!("n_regions x k = {n_reg} x {k}"),
+            ));
+        }
+    }
+    if let Some(v) = &a.noise_sd {
+        checks.push(("/attribution/noise_sd", v.len(), k, format!("k = {k}")));
+    }
+    if let Some(v) = &f.reconstruction {
+        checks.push((
+            "/fit/reconstruction",
+            v.len(),
+            n_ch * k,
+            format!("n_ch x k = {n_ch} x {k}"),
+        ));
+    }
+    if let Some(p) = &f.path {
+        let n = p.n_points * k;
+        let expected = format!("n_path x k = {} x {k}", p.n_points);
+        checks.push(("/fit/path/ratio", p.ratio.len(), n, expected.clone()));
+        checks.push((
+            "/fit/path/explained_variance",
+            p.explained_variance.len(),
+            n,
+            expected.clone(),
+        ));
+        checks.push((
+            "/fit/path/active_patches",
+            p.active_patches.len(),
+            n,
+            expected.clone(),
+        ));
+        checks.push(("/fit/path/bic", p.bic.len(), n, expected));
+    }
+    if let Some(e) = &r.electrode_positions {
+        checks.push((
+            "/montage/positions_mm",
+            e.len(),
+            n_ch,
+            format!("n_ch = {n_ch} rows"),
+        ));
+    }
+    if let Some(s) = &r.sources {
+        let n_src = s.len();
+        if !a.source_map.is_empty() {
+            checks.push((
+                "/attribution/source_map",
+                a.source_map.len(),
+                n_src * k,
+                format!("n_src x k = {n_src} x {k}"),
+            ));
+        }
+        checks.push((
+            "/sources/region",
+            s.region.len(),
+            n_src,
+            format!("n_src = {n_src}"),
+        ));
+    }
+    for (field, found, expected_len, expected) in checks {
+        if found != expected_len {
+            return Err(ReportError::Shape {
+                path: r.path.clone(),
+                field,
+                found,
+                expected,
+            });
+        }
+    }
+    Ok(())
+}
+
+/// How many patches a component's fit kept, and where that count came from.
+enum Active {
+    /// Patches (groups) with a non-zero block, from the summary or the path.
+    Patches(usize),
+    /// Without group information: atoms with a non-zero coefficient.
+    Atoms(usize),
+}
+
+/// The numbers the page shows for one component.
+struct ComponentFacts {
+    name: String,
+    explained_variance: f64,
+    lambda: f64,
+    ratio: f64,
+    duality_gap: f64,
+    iterations: i64,
+    active: Active,
+    /// Region indices by decreasing share.
+    order: Vec<usize>,
+    peak_mm: [f64; 3],
+    peak_region: Option<String>,
+    unassigned: f64,
+}
+
+impl ComponentFacts {
+    fn new(r: &ResultFile, summary: Option<&serde_json::Value>, c: usize) -> ComponentFacts {
+        let k = r.k;
+        let f = &r.fit;
+        let a = &r.attribution;
+        let ratio = f.lambda[c] / f.lambda_max[c];
+        let from_summary = summary
+            .and_then(|s| s.get("components"))
+            .and_then(|v| v.get(c))
+            .and_then(|v| v.get("active_patches"))
+            .and_then(|v| v.as_u64())
+            .map(|n| n as usize);
+        let from_path = f.path.as_ref().and_then(|p| {
+            (0..p.n_points)
+                .find(|&i| (p.ratio[i * k + c] - ratio).abs() <= 1e-9 * ratio.abs())
+                .map(|i| p.active_patches[i * k + c])
+                .filter(|n| n.is_finite() && *n >= 0.0)
+                .map(|n| n as usize)
+        });
+        let active = match from_summary.or(from_path) {
+            Some(n) => Active::Patches(n),
+            None => Active::Atoms(
+                (0..f.n_atoms)
+                    .filter(|&j| f.coefficients[j * k + c] != 0.0)
+                    .count(),
+            ),
+        };
+        let n_reg = a.region_names.len();
+        let mut order: Vec<usize> = (0..n_reg).collect();
+        order.sort_by(|&x, &y| {
+            a.share[y * k + c]
+                .total_cmp(&a.share[x * k + c])
+                .then(a.region_names[x].cmp(&a.region_names[y]))
+        });
+        let peak_region = usize::try_from(a.peak_region[c])
+            .ok()
+            .and_then(|i| a.region_names.get(i).cloned());
+        ComponentFacts {
+            name: r.component_names[c].clone(),
+            explained_variance: f.explained_variance[c],
+            lambda: f.lambda[c],
+            ratio,
+            duality_gap: f.duality_gap[c],
+            iterations: f.iterations[c],
+            active,
+            order,
+            peak_mm: a.peak_mm[c],
+            peak_region,
+            unassigned: a.unassigned_share[c],
+        }
+    }
+}
+
+/// Share, interval ends and selection frequency of region `reg` in component `c`.
+fn region_numbers(r: &ResultFile, reg: usize, c: usize) -> (f64, f64, f64, f64) {
+    let a = &r.attribution;
+    let i = reg * r.k + c;
+    let pick = |v: &Option<Vec<f64>>| v.as_ref().map_or(f64::NAN, |v| v[i]);
+    (
+        a.share[i],
+        pick(&a.share_low),
+        pick(&a.share_high),
+        pick(&a.selection_frequency),
+    )
+}
+
+fn interval(low: f64, high: f64) -> String {
+    if low.is_finite() && high.is_finite() {
+        format!("{} \u{2013} {}", percent(low, 1), percent(high, 1))
+    } else {
+        "\u{2013}".to_string()
+    }
+}
+
+fn masthead(h: &mut Html, r: &ResultFile, title: &str) {
+    h.raw("<header class=\"masthead\">\n");
+    h.element(
+        "p",
+        "kicker",
+        "patchwise \u{00b7} which cortical regions a decoder relies on",
+    );
+    h.element("h1", "", title);
+    let components = if r.k == 1 {
+        "1 component".to_string()
+    } else {
+        format!("{} components", r.k)
+    };
+    h.element(
+        "p",
+        "sub",
+        &format!(
+            "{} \u{00b7} {} channels \u{00b7} {} \u{00b7} {}",
+            r.path.display(),
+            r.labels.len(),
+            components,
+            r.software
+        ),
+    );
+    h.raw("</header>\n");
+}
+
+fn caution(h: &mut Html, r: &ResultFile) {
+    h.raw("<aside class=\"caution\" role=\"note\"><strong>Caution.</strong>");
+    h.text(CAUTION);
+    if !r.caution.is_empty() && r.caution != CAUTION {
+        h.raw(" <em>The result file adds:</em> ");
+        h.text(&r.caution);
+    }
+    h.raw("</aside>\n");
+}
+
+fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[ComponentFigures]) {
+    h.raw("<section id=\"glance\">\n");
+    h.element("h2", "", "At a glance");
+    h.raw("<div class=\"glance\">\n");
+    for (c, f) in facts.iter().enumerate() {
+        h.raw("<div class=\"card\">");
+        h.element("p", "name", &f.name);
+        if let Some(thumb) = &figures[c].thumbnail {
+            h.raw("<div class=\"thumb\">")
+                .raw(&thumb.markup)
+                .raw("</div>");
+        }
+        match f.order.first() {
+            Some(&reg) => {
+                let (share, low, high, freq) = region_numbers(r, reg, c);
+                h.raw(&format!("<p class=\"lead\">{}</p>", percent(share, 0)));
+                h.element("p", "region", &r.attribution.region_names[reg]);
+                let mut detail = String::new();
+                if low.is_finite() {
+                    detail.push_str(&format!("95\u{2009}% interval {}", interval(low, high)));
+                }
+                if freq.is_finite() {
+                    if !detail.is_empty() {
+                        detail.push_str(" \u{00b7} ");
+                    }
+                    detail.push_str(&format!("selected in {}", percent(freq, 0)));
+                }
+                if !detail.is_empty() {
+                    h.element("p", "small", &detail);
+                }
+            }
+            None => {
+                h.element(
+                    "p",
+                    "region",
+                    "no region table (the dictionary had no source space)",
+                );
+            }
+        }
+        h.element(
+            "p",
+            "small",
+            &format!("explained variance {}", percent(f.explained_variance, 1)),
+        );
+        h.raw("</div>\n");
+    }
+    h.raw("</div>\n");
+    if !r.attribution.region_names.is_empty() {
+        h.element(
+            "p",
+            "note",
+            "Share: the part of the fitted pattern that the patches of a region explain (patch \
+         contributions projected on the fitted pattern, split over regions by the patch \
+         profiles); shares and the unassigned part sum to 100 %.",
+        );
+    }
+    h.raw("</section>\n");
+}
+
+/// The value of a summary.json entry as plain text.
+fn json_text(v: &serde_json::Value) -> String {
+    match v {
+        serde_json::Value::String(s) => s.clone(),
+        serde_json::Value::Null => "\u{2013}".to_string(),
+        serde_json::Value::Array(items) => {
+            items.iter().map(json_text).collect::<Vec<_>>().join(", ")
+        }
+        other => other.to_string(),
+    }
+}
+
+/// The λ rule as the fit applied it, read from the result.
+fn lambda_rule(r: &ResultFile) -> String {
+    let k = r.k;
+    if let Some(p) = &r.fit.path {
+        let ratios: Vec<f64> = (0..p.n_points * k)
+            .map(|i| p.ratio[i])
+            .filter(|x| x.is_finite())
+            .collect();
+        if !ratios.is_empty() {
+            let lo = ratios.iter().copied().fold(f64::INFINITY, f64::min);
+            let hi = ratios.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+            return format!(
+                "minimum BIC along a path of {} values of \u{03bb}/\u{03bb}max from {} to {}",
+                p.n_points,
+                fixed(hi, 2),
+                fixed(lo, 2)
+            );
+        }
+    }
+    let ratios: Vec<f64> = (0..k)
+        .map(|c| r.fit.lambda[c] / r.fit.lambda_max[c])
+        .collect();
+    let same = ratios
+        .windows(2)
+        .all(|w| (w[0] - w[1]).abs() <= 1e-9 * w[0].abs().max(w[1].abs()));
+    match ratios.first() {
+        Some(x) if same => format!("fixed: \u{03bb} = {} \u{00b7} \u{03bb}max", fixed(*x, 4)),
+        Some(_) => "fixed \u{03bb} per component (see the fit table)".to_string(),
+        None => "\u{2013}".to_string(),
+    }
+}
+
+fn fact(h: &mut Html, name: &str, value: &str) {
+    h.element("dt", "", name);
+    h.element("dd", "", value);
+}
+
+fn job(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &ReportOptions) {
+    h.raw("<section id=\"job\">\n");
+    h.element("h2", "", "The job");
+    h.raw("<dl class=\"facts\">\n");
+    let mut asked: Vec<(String, String)> = o.job.clone();
+    if asked.is_empty() {
+        if let Some(obj) = summary
+            .and_then(|s| s.get("job"))
+            .and_then(|j| j.as_object())
+        {
+            asked = obj.iter().map(|(k, v)| (k.clone(), json_text(v))).collect();
+        }
+    }
+    for (name, value) in &asked {
+        fact(h, name, value);
+    }
+    fact(h, "\u{03bb} rule (as fitted)", &lambda_rule(r));
+    let joint = summary
+        .and_then(|s| s.get("joint_fit"))
+        .and_then(|v| v.as_bool())
+        .filter(|_| asked.is_empty());
+    if let Some(joint) = joint {
+        fact(
+            h,
+            "components",
+            if joint {
+                "fitted jointly (one shared set of patches)"
+            } else {
+                "fitted one by one"
+            },
+        );
+    }
+    if let Some(w) = summary
+        .and_then(|s| s.get("whitened"))
+        .and_then(|v| v.as_bool())
+    {
+        fact(
+            h,
+            "whitening",
+            if w {
+                "by the given noise covariance"
+            } else {
+                "none (white sensor noise assumed)"
+            },
+        );
+    }
+    let resamples = summary
+        .and_then(|s| s.get("resamples"))
+        .and_then(|v| v.as_u64());
+    match resamples {
+        Some(0) | None if r.attribution.share_low.is_none() => {
+            fact(h, "intervals", "none (no resampling)")
+        }
+        Some(n) => fact(
+            h,
+            "intervals",
+            &format!("95 % percentile intervals over {n} bootstrap resamples"),
+        ),
+        None => fact(
+            h,
+            "intervals",
+            "95 % percentile intervals over bootstrap resamples",
+        ),
+    }
+    h.raw("</dl>\n");
+    if asked.is_empty() {
+        h.element(
+            "p",
+            "note",
+            "The result folder does not record the command-line choices; the entries above are read from the fit itself.",
+        );
+    }
+    h.raw("</section>\n");
+}
+
+fn inputs(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>) {
+    h.raw("<section id=\"inputs\">\n");
+    h.element("h2", "", "Inputs");
+    h.raw("<dl class=\"facts\">\n");
+    fact(h, "patterns", &r.patterns_source);
+    fact(h, "channels", &r.labels.len().to_string());
+    fact(h, "components", &r.k.to_string());
+    fact(h, "dictionary atoms", &r.fit.n_atoms.to_string());
+    if let Some(s) = &r.sources {
+        fact(
+            h,
+            "cortical sources",
+            &format!("{} ({} triangles)", s.len(), s.triangles.len()),
+        );
+    }
+    fact(h, "regions", &r.attribution.region_names.len().to_string());
+    if let Some(n) = summary
+        .and_then(|s| s.get("channels"))
+        .and_then(|v| v.as_u64())
+    {
+        if n as usize != r.labels.len() {
+            fact(h, "channels (summary.json)", &n.to_string());
+        }
+    }
+    h.raw("</dl>\n");
+    if !r.hashes.is_empty() {
+        h.element("h3", "", "SHA-256 of the inputs");
+        h.raw("<table>\n");
+        h.head_row(&[("input", ""), ("hash", "")]);
+        h.raw("<tbody>\n");
+        for (name, hash) in &r.hashes {
+            h.row(&[(escape(name), ""), (escape(hash), "hash")], true);
+        }
+        h.raw("</tbody></table>\n");
+    }
+    h.element("h3", "", "Channels, in fit order");
+    h.element("p", "labels", &r.labels.join(" \u{00b7} "));
+    if !r.notes.is_empty() {
+        h.element("h3", "", "Notes");
+        h.raw("<ul class=\"notes\">");
+        for n in &r.notes {
+            h.element("li", "", n);
+        }
+        h.raw("</ul>\n");
+    }
+    h.raw("</section>\n");
+}
+
+fn fit_quality(h: &mut Html, facts: &[ComponentFacts]) {
+    h.raw("<section id=\"fit\">\n");
+    h.element("h2", "", "Fit quality");
+    h.raw("<table>\n");
+    h.head_row(&[
+        ("component", ""),
+        ("explained variance", "num"),
+        ("\u{03bb}/\u{03bb}max", "num"),
+        ("\u{03bb}", "num"),
+        ("relative duality gap", "num"),
+        ("iterations", "num"),
+        ("active patches", "num"),
+        ("unassigned share", "num"),
+    ]);
+    h.raw("<tbody>\n");
+    let mut any_atoms = false;
+    for f in facts {
+        let active = match f.active {
+            Active::Patches(n) => n.to_string(),
+            Active::Atoms(n) => {
+                any_atoms = true;
+                format!("{n} atoms*")
+            }
+        };
+        h.row(
+            &[
+                (escape(&f.name), ""),
+                (percent(f.explained_variance, 1), "num"),
+                (fixed(f.ratio, 4), "num"),
+                (scientific(f.lambda, 2), "num"),
+                (scientific(f.duality_gap, 1), "num"),
+                (f.iterations.to_string(), "num"),
+                (active, "num"),
+                (percent(f.unassigned, 1), "num"),
+            ],
+            true,
+        );
+    }
+    h.raw("</tbody></table>\n");
+    h.element(
+        "p",
+        "note",
+        "Explained variance: 1 \u{2212} \u{2016}y \u{2212} \u{0177}\u{2016}\u{00b2} / \u{2016}y\u{2016}\u{00b2} of the \
+         pattern y and its fit \u{0177}. The duality gap is relative to \u{00bd}\u{2016}y\u{2016}\u{00b2}; it bounds \
+         how far the objective is from its minimum. \u{03bb} is in the units of the (whitened) patterns.",
+    );
+    if any_atoms {
+        h.element(
+            "p",
+            "note",
+            "* Without the patch groups, the count is of atoms with a non-zero coefficient.",
+        );
+    }
+    h.raw("</section>\n");
+}
+
+fn component_section(
+    h: &mut Html,
+    r: &ResultFile,
+    f: &ComponentFacts,
+    figs: &ComponentFigures,
+    c: usize,
+) {
+    h.raw(&format!(
+        "<section class=\"component\" id=\"component-{c}\">\n"
+    ));
+    h.element("h2", "", &f.name);
+    let mut headline = format!("explained variance {}", percent(f.explained_variance, 1));
+    if f.peak_mm.iter().all(|x| x.is_finite()) {
+        headline.push_str(&format!(
+            " \u{00b7} peak of the source map at ({:.0}, {:.0}, {:.0}) mm",
+            f.peak_mm[0], f.peak_mm[1], f.peak_mm[2]
+        ));
+        if let Some(name) = &f.peak_region {
+            headline.push_str(&format!(" in {name}"));
+        }
+    }
+    h.element("p", "headline", &headline);
+    for group in &figs.groups {
+        h.element("h3", "", &group.title);
+        h.raw(&format!("<div class=\"figures {}\">\n", group.layout));
+        for fig in &group.figures {
+            h.raw("<figure>").raw(&fig.markup);
+            if !fig.caption.is_empty() {
+                h.element("figcaption", "", &fig.caption);
+            }
+            h.raw("</figure>\n");
+        }
+        h.raw("</div>\n");
+        if !group.note.is_empty() {
+            h.element("p", "note", &group.note);
+        }
+    }
+    region_table(h, r, f, c);
+    h.raw("</section>\n");
+}
+
+/// Whether the region of rank `rank` in component `c` gets its own row.
+fn is_shown(r: &ResultFile, f: &ComponentFacts, c: usize, rank: usize) -> bool {
+    let (share, _, _, freq) = region_numbers(r, f.order[rank], c);
+    rank < SHOWN_TOP || share.abs() >= SHOWN_SHARE || (freq.is_finite() && freq >= SHOWN_FREQUENCY)
+}
+
+fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
+    h.element("h3", "", "Regions");
+    if f.order.is_empty() {
+        h.element(
+            "p",
+            "note",
+            "No region table: the dictionary this result was fitted with had no source space or patch profiles.",
+        );
+        return;
+    }
+    h.raw("<table>\n");
+    h.head_row(&[
+        ("region", ""),
+        ("share", "num"),
+        ("95 % interval", "num"),
+        ("selected in", "num"),
+    ]);
+    h.raw("<tbody>\n");
+    let mut hidden = 0usize;
+    let mut hidden_sum = 0.0;
+    for (rank, &reg) in f.order.iter().enumerate() {
+        let (share, low, high, freq) = region_numbers(r, reg, c);
+        if !is_shown(r, f, c, rank) {
+            hidden += 1;
+            hidden_sum += share;
+            continue;
+        }
+        let class = if rank == 0 { "lead-row" } else { "" };
+        h.raw(&format!("<tr class=\"{class}\">"));
+        h.element("th", "", &r.attribution.region_names[reg]);
+        h.raw(&format!(
+            "<td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
+            percent(share, 1),
+            interval(low, high),
+            percent(freq, 0)
+        ));
+    }
+    if f.unassigned.abs() >= SHOWN_SHARE {
+        h.raw("<tr class=\"faint\"><th>sources outside every region</th>");
+        h.raw(&format!(
+            "<td class=\"num\">{}</td><td class=\"num\">\u{2013}</td><td class=\"num\">\u{2013}</td></tr>\n",
+            percent(f.unassigned, 1)
+        ));
+    }
+    if hidden > 0 {
+        h.raw("<tr class=\"faint\">");
+        h.element(
+            "th",
+            "",
+            &format!(
+                "{hidden} more region{}, each below {} and selected in under {}",
+                if hidden == 1 { "" } else { "s" },
+                percent(SHOWN_SHARE, 1),
+                percent(SHOWN_FREQUENCY, 0)
+            ),
+        );
+        h.raw(&format!(
+            "<td class=\"num\">{}</td><td class=\"num\"></td><td class=\"num\"></td></tr>\n",
+            percent(hidden_sum, 1)
+        ));
+    }
+    h.raw("</tbody></table>\n");
+    if r.attribution.share_low.is_some() {
+        h.element(
+            "p",
+            "note",
+            "Interval: 2.5\u{2013}97.5 % percentiles of the share over a parametric bootstrap (the fit plus \
+             resampled noise at the residual's level, refitted at the same \u{03bb}). Selected in: the fraction \
+             of resamples in which the region's share reached 5 %.",
+        );
+    }
+}
+
+fn footer(h: &mut Html, r: &ResultFile) {
+    h.raw("<footer>\n");
+    h.element(
+        "p",
+        "",
+        &format!(
+            "Made by {} from {}. The page is self-contained: pictures are embedded and nothing is fetched.",
+            r.software,
+            r.path.display()
+        ),
+    );
+    h.element("p", "", CAUTION);
+    h.raw("</footer>\n");
+}
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used)]
+    use super::*;
+    use crate::io::result_file::{ResultAttribution, ResultFit};
+
+    /// A two-channel, one-component, two-region result without pictures.
+    fn tiny() -> ResultFile {
+        ResultFile {
+            path: "tiny/result.h5".into(),
+            hashes: vec![("decoder".into(), "ab".into())],
+            caution: CAUTION.to_string(),
+            software: "patchwise test".into(),
+            notes: vec![],
+            labels: vec!["C3".into(), "C4".into()],
+            component_names: vec!["c0".into()],
+            k: 1,
+            patterns: vec![1.0, -1.0],
+            patterns_source: "patterns".into(),
+            electrode_positions: None,
+            sources: None,
+            fit: ResultFit {
+                n_atoms: 2,
+                coefficients: vec![0.5, 0.0],
+                lambda: vec![0.1],
+                lambda_max: vec![1.0],
+                duality_gap: vec![1e-9],
+                iterations: vec![12],
+                explained_variance: vec![0.9],
+                residual: vec![0.1, -0.1],
+                reconstruction: None,
+                path: None,
+            },
+            attribution: ResultAttribution {
+                region_names: vec!["a".into(), "b".into()],
+                share: vec![0.25, 0.75],
+                share_low: None,
+                share_high: None,
+                selection_frequency: None,
+                source_map: vec![],
+                peak_mm: vec![[f64::NAN; 3]],
+                peak_region: vec![-1],
+                unassigned_share: vec![0.0],
+                noise_sd: None,
+            },
+        }
+    }
+
+    #[test]
+    fn regions_are_listed_by_decreasing_share() {
+        let html = build_report(&tiny(), None, &ReportOptions::default()).unwrap();
+        let b = html.find("<th>b</th>").unwrap();
+        let a = html.find("<th>a</th>").unwrap();
+        assert!(b < a, "region b (75 %) must come before a (25 %)");
+        // Without groups the active count is of non-zero atoms (1 of 2).
+        assert!(html.contains("1 atoms*"));
+        assert!(html.contains("fixed: \u{03bb} = 0.1000"));
+    }
+
+    #[test]
+    fn inconsistent_sizes_are_an_error_naming_the_dataset() {
+        let mut r = tiny();
+        r.fit.lambda.push(0.2);
+        let err = build_report(&r, None, &ReportOptions::default()).unwrap_err();
+        let text = err.to_string();
+        assert!(
+            text.contains("tiny/result.h5") && text.contains("/fit/lambda"),
+            "{text}"
+        );
+        let mut r = tiny();
+        r.attribution.share.pop();
+        let err = build_report(&r, None, &ReportOptions::default()).unwrap_err();
+        assert!(err.to_string().contains("/attribution/share"));
+    }
+
+    #[test]
+    fn job_comes_from_the_options_or_the_summary() {
+        let summary = serde_json::json!({"job": {"montage": "10-10 <x>"}, "resamples": 0});
+        let html = build_report(&tiny(), Some(&summary), &ReportOptions::default()).unwrap();
+        assert!(html.contains("<dt>montage</dt>\n<dd>10-10 &lt;x&gt;</dd>"));
+        let options = ReportOptions {
+            job: vec![("decoder".into(), "d.npz".into())],
+            ..ReportOptions::default()
+        };
+        let html = build_report(&tiny(), Some(&summary), &options).unwrap();
+        assert!(html.contains("d.npz") && !html.contains("10-10 &lt;x&gt;"));
+    }
+}

@@ -1,0 +1,430 @@
+//! The report page of a small result: well-formed, every embedded picture
+//! decodes at its stated size, nothing comes from outside, file strings are
+//! escaped, the caution is there, and bad result folders exit 2.
+#![allow(clippy::unwrap_used)]
+
+mod common;
+
+use std::path::{Path, PathBuf};
+use std::sync::OnceLock;
+
+use base64::Engine;
+use patchwise::io::result_file::CAUTION;
+use patchwise::io::{Dataset, Store};
+use quick_xml::events::{BytesStart, Event};
+
+use common::cli::patchwise;
+
+/// One demo result shared by the tests of this file (made once).
+fn demo() -> &'static PathBuf {
+    static DIR: OnceLock<PathBuf> = OnceLock::new();
+    DIR.get_or_init(|| common::report::demo_result(&common::python::scratch_dir("report_html")))
+}
+
+fn attr(e: &BytesStart<'_>, name: &str) -> Option<String> {
+    e.attributes()
+        .map(|a| a.unwrap())
+        .find(|a| a.key.as_ref() == name.as_bytes())
+        .map(|a| a.unescape_value().unwrap().into_owned())
+}
+
+/// What the test reads off a page.
+#[derive(Default)]
+struct Page {
+    /// (src, width, height) of every `<img>`.
+    images: Vec<(String, String, String)>,
+    /// Source text of every outermost `<svg>` element.
+    svgs: Vec<String>,
+    /// Every element name.
+    elements: Vec<String>,
+    /// Every attribute value.
+    attribute_values: Vec<String>,
+    /// Every `id` attribute.
+    ids: Vec<String>,
+    /// All text content, unescaped.
+    text: String,
+}
+
+/// Parse the page as XML (it is written as well-formed XML; a parse error
+/// fails the test) and collect images, inline SVGs and text.
+fn parse(html: &str) -> Page {
+    let mut reader = quick_xml::Reader::from_str(html);
+    let mut page = Page::default();
+    let mut svg_depth = 0usize;
+    let mut svg_start = 0usize;
+    loop {
+        let before = reader.buffer_position() as usize;
+        let event = reader
+            .read_event()
+            .unwrap_or_else(|e| panic!("page is not well-formed at byte {before}: {e}"));
+        match &event {
+            Event::Start(e) | Event::Empty(e) => {
+                let name = String::from_utf8(e.name().as_ref().to_vec()).unwrap();
+                for a in e.attributes().map(|a| a.unwrap()) {
+                    // A namespace name (xmlns) identifies, it is never fetched
+                    // (Namespaces in XML 1.0, W3C 2009, section 2.2).
+                    if !a.key.as_ref().starts_with(b"xmlns") {
+                        page.attribute_values
+                            .push(a.unescape_value().unwrap().into_owned());
+                    }
+                }
+                if let Some(id) = attr(e, "id") {
+                    page.ids.push(id);
+                }
+                // <image> inside an inline SVG states its size the same way.
+                if name == "image" {
+                    page.images.push((
+                        attr(e, "href").unwrap_or_default(),
+                        attr(e, "width").unwrap_or_default(),
+                        attr(e, "height").unwrap_or_default(),
+                    ));
+                }
+                if name == "img" {
+                    page.images.push((
+                        attr(e, "src").unwrap_or_default(),
+                        attr(e, "width").unwrap_or_default(),
+                        attr(e, "height").unwrap_or_default(),
+                    ));
+                }
+                if name == "svg" && matches!(event, Event::Start(_)) {
+                    if svg_depth == 0 {
+                        svg_start = before;
+                    }
+                    svg_depth += 1;
+                }
+                page.elements.push(name);
+            }
+            Event::End(e) if e.name().as_ref() == b"svg" => {
+                svg_depth -= 1;
+                if svg_depth == 0 {
+                    let end = reader.buffer_position() as usize;
+                    page.svgs.push(html[svg_start..end].to_string());
+                }
+            }
+            Event::Text(t) => page.text.push_str(&t.decode().unwrap()),
+            Event::GeneralRef(r) => {
+                // Character and predefined entity references inside text.
+                let name = r.decode().unwrap();
+                let ch = match name.as_ref() {
+                    "amp" => "&".to_string(),
+                    "lt" => "<".to_string(),
+                    "gt" => ">".to_string(),
+                    "quot" => "\"".to_string(),
+                    "apos" => "'".to_string(),
+                    other => other
+                        .strip_prefix('#')
+                        .and_then(|n| n.parse::<u32>().ok())
+                        .and_then(char::from_u32)
+                        .map(|c| c.to_string())
+                        .unwrap_or_else(|| panic!("unknown entity &{other};")),
+                };
+                page.text.push_str(&ch);
+            }
+            Event::Eof => break,
+            _ => {}
+        }
+    }
+    page
+}
+
+fn read(path: &Path) -> String {
+    std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+}
+
+fn number(text: &str, what: &str) -> f64 {
+    let v: f64 = text
+        .trim_end_matches("px")
+        .parse()
+        .unwrap_or_else(|_| panic!("{what} = {text:?}: expected a number"));
+    assert!(
+        v.is_finite() && v > 0.0,
+        "{what} = {v}: expected a positive size"
+    );
+    v
+}
+
+// PNG (ISO/IEC 15948:2004): the IHDR chunk states width and height; the
+// tag's width and height must equal them exactly (integers, no tolerance).
+// SVG 1.1 (W3C 2011, section 7.2): an outermost svg element's width and
+// height give its size; the report draws in user units, so its viewBox
+// must have the same width and height (to 1e-9).
+#[test]
+fn embedded_pictures_decode_at_their_stated_size() {
+    let page = parse(&read(&demo().join("report.html")));
+    for (i, (src, width, height)) in page.images.iter().enumerate() {
+        let data = src
+            .strip_prefix("data:image/png;base64,")
+            .unwrap_or_else(|| panic!("image {i}: src is not a PNG data URI"));
+        let bytes = base64::engine::general_purpose::STANDARD
+            .decode(data)
+            .unwrap_or_else(|e| panic!("image {i}: base64: {e}"));
+        let decoder = png::Decoder::new(std::io::Cursor::new(bytes));
+        let mut reader = decoder.read_info().unwrap();
+        let mut buf = vec![0u8; reader.output_buffer_size().unwrap()];
+        let frame = reader.next_frame(&mut buf).unwrap();
+        // SVG writes sizes as numbers that may carry a decimal point.
+        assert_eq!(
+            f64::from(frame.width),
+            number(width, "image width"),
+            "image {i}: width"
+        );
+        assert_eq!(
+            f64::from(frame.height),
+            number(height, "image height"),
+            "image {i}: height"
+        );
+    }
+    // The demo has 3 components, each with 6 cortex views, plus one card
+    // thumbnail each, and 3 topographic maps (each a PNG inside its SVG).
+    let n_img = page
+        .images
+        .iter()
+        .filter(|(s, _, _)| s.starts_with("data:"))
+        .count();
+    assert!(n_img >= 3 * (6 + 1 + 3), "only {n_img} embedded PNGs");
+    // 3 topographic maps, a colour bar and 2 charts per component.
+    assert!(
+        page.svgs.len() >= 3 * 6,
+        "only {} inline SVGs",
+        page.svgs.len()
+    );
+    // HTML (WHATWG Living Standard, "the id attribute"): ids are unique in
+    // a document, so inline SVGs must not repeat each other's ids.
+    let mut ids = page.ids.clone();
+    ids.sort();
+    let before = ids.len();
+    ids.dedup();
+    assert_eq!(ids.len(), before, "an id appears twice on the page");
+    assert!(!page.svgs.is_empty(), "the page has no inline SVG figure");
+    for (i, svg) in page.svgs.iter().enumerate() {
+        let mut reader = quick_xml::Reader::from_str(svg);
+        let mut root = None;
+        loop {
+            match reader
+                .read_event()
+                .unwrap_or_else(|e| panic!("svg {i} does not parse: {e}"))
+            {
+                Event::Start(e) if root.is_none() => {
+                    root = Some((
+                        attr(&e, "width").unwrap_or_default(),
+                        attr(&e, "height").unwrap_or_default(),
+                        attr(&e, "viewBox").unwrap_or_default(),
+                    ))
+                }
+                Event::Eof => break,
+                _ => {}
+            }
+        }
+        let (w, h, view_box) = root.unwrap();
+        let (w, h) = (number(&w, "svg width"), number(&h, "svg height"));
+        let vb: Vec<f64> = view_box
+            .split([' ', ','])
+            .filter(|s| !s.is_empty())
+            .map(|s| s.parse().unwrap())
+            .collect();
+        assert_eq!(vb.len(), 4, "svg {i}: viewBox {view_box:?}");
+        assert!(
+            (vb[2] - w).abs() <= 1e-9 && (vb[3] - h).abs() <= 1e-9,
+            "svg {i}: viewBox {view_box:?} vs {w} x {h}"
+        );
+    }
+}
+
+// Self-contained (the task's rule, common practice, no source): no
+// attribute points outside the page, no script, no external style sheet,
+// no url() in the style except data: or a fragment.
+#[test]
+fn page_fetches_nothing_from_outside() {
+    let html = read(&demo().join("report.html"));
+    let lower = html.to_lowercase();
+    for bad in [
+        "src=\"http",
+        "href=\"http",
+        "url(http",
+        "src='http",
+        "href='http",
+        "@import",
+    ] {
+        assert!(!lower.contains(bad), "page contains {bad:?}");
+    }
+    let page = parse(&html);
+    for el in ["script", "link", "iframe", "object", "embed", "base"] {
+        assert!(
+            !page.elements.iter().any(|e| e == el),
+            "page has a <{el}> element"
+        );
+    }
+    for v in page.attribute_values.iter().map(|v| v.to_lowercase()) {
+        assert!(
+            !v.starts_with("http:")
+                && !v.starts_with("https:")
+                && !v.starts_with("file:")
+                && !v.starts_with("//"),
+            "attribute value {v:?} points outside the page"
+        );
+    }
+    for (i, (src, _, _)) in page.images.iter().enumerate() {
+        assert!(src.starts_with("data:"), "image {i} is not embedded");
+    }
+    for (i, part) in lower.split("url(").enumerate().skip(1) {
+        assert!(
+            part.starts_with('#')
+                || part.starts_with("data:")
+                || part.starts_with("'#")
+                || part.starts_with("\"#"),
+            "url( number {i} is not a fragment or data URI"
+        );
+    }
+    // The page also forbids fetches to the browser itself.
+    assert!(html.contains("Content-Security-Policy"));
+    assert!(html.contains("default-src 'none'"));
+}
+
+// The caution of src/io/result_file.rs must be on every page.
+#[test]
+fn caution_is_on_the_page() {
+    let page = parse(&read(&demo().join("report.html")));
+    assert!(page.text.contains(CAUTION), "the caution is missing");
+    assert!(page.text.contains("presurgical planning"));
+}
+
+// XML 1.0 (W3C 2008, sections 2.4 and 4.6): markup characters in data must
+// be written as references; a name holding markup must come back as the
+// same text and create no element.
+#[test]
+fn file_strings_are_escaped() {
+    let src = demo();
+    let dir = src.parent().unwrap().join("escaped");
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("result.h5");
+    let mut store = Store::read(&src.join("result.h5")).unwrap();
+    let component = "<script>alert(\"pw\")</script> & co";
+    let region = "Tom & Jerry's <b>area</b>";
+    let names = store
+        .strings(&path, "/patterns/component_names", None)
+        .unwrap();
+    let mut new_names = names.clone();
+    new_names[0] = component.to_string();
+    store.insert("/patterns/component_names", Dataset::strings(new_names));
+    for dataset in ["/attribution/region_names", "/sources/region_names"] {
+        if store.contains(dataset) {
+            let mut regions = store.strings(&path, dataset, None).unwrap();
+            // The leading region of component 0 in the demo, so it is listed.
+            let lead = regions.iter().position(|r| r == "left-precentral").unwrap();
+            regions[lead] = region.to_string();
+            store.insert(dataset, Dataset::strings(regions));
+        }
+    }
+    store.write_atomic(&path).unwrap();
+    let run = patchwise(&["report", dir.to_str().unwrap()], &dir);
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let html = read(&dir.join("report.html"));
+    assert!(
+        !html.contains(component) && !html.contains("<script"),
+        "raw component name on the page"
+    );
+    assert!(
+        !html.contains(region) && !html.contains("<b>"),
+        "raw region name on the page"
+    );
+    assert!(html.contains("&lt;script&gt;alert(&quot;pw&quot;)&lt;/script&gt; &amp; co"));
+    assert!(html.contains("Tom &amp; Jerry&#39;s &lt;b&gt;area&lt;/b&gt;"));
+    let page = parse(&html);
+    assert!(page.text.contains(component) && page.text.contains(region));
+    assert!(!page.elements.iter().any(|e| e == "script" || e == "b"));
+}
+
+// Exit codes of design.md: 2 for bad input, with the file named.
+#[test]
+fn bad_result_folders_exit_2_naming_the_file() {
+    let root = demo().parent().unwrap().join("bad");
+    let _ = std::fs::remove_dir_all(&root);
+    std::fs::create_dir_all(root.join("empty")).unwrap();
+    std::fs::create_dir_all(root.join("truncated")).unwrap();
+    let bytes = std::fs::read(demo().join("result.h5")).unwrap();
+    std::fs::write(root.join("truncated/result.h5"), &bytes[..bytes.len() / 3]).unwrap();
+    std::fs::create_dir_all(root.join("bad-summary")).unwrap();
+    std::fs::write(root.join("bad-summary/result.h5"), &bytes).unwrap();
+    std::fs::write(root.join("bad-summary/summary.json"), "{\"components\": [").unwrap();
+    for (folder, named) in [
+        ("missing", "missing"),
+        ("empty", "empty/result.h5"),
+        ("truncated", "truncated/result.h5"),
+        ("bad-summary", "bad-summary/summary.json"),
+    ] {
+        let run = patchwise(&["report", folder], &root);
+        let stderr = String::from_utf8_lossy(&run.stderr);
+        assert_eq!(run.status.code(), Some(2), "{folder}: {stderr}");
+        assert!(
+            stderr.contains(named),
+            "{folder}: message does not name {named}: {stderr}"
+        );
+        assert!(!root.join(folder).join("report.html").exists());
+    }
+}
+
+// `--no-report` skips the page; `--out` writes it elsewhere.
+#[test]
+fn no_report_flag_and_out_option() {
+    let root = demo().parent().unwrap();
+    let out = common::report::run_demo(root, "no-report", &["--resamples", "0", "--no-report"]);
+    assert!(out.join("result.h5").is_file());
+    assert!(!out.join("report.html").exists());
+    let other = root.join("elsewhere.html");
+    let run = patchwise(
+        &[
+            "report",
+            out.to_str().unwrap(),
+            "--out",
+            other.to_str().unwrap(),
+        ],
+        root,
+    );
+    assert!(
+        run.status.success(),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    assert!(other.is_file() && !out.join("report.html").exists());
+    // Without resampling the page says so instead of showing intervals.
+    assert!(read(&other).contains("none (no resampling)"));
+}
+
+// The project's rule (BRIEF: results identical whatever the rayon thread
+// count): the page, pictures included, is byte-identical on 1 and 2 threads.
+#[test]
+fn page_is_the_same_on_one_and_two_threads() {
+    let dir = demo();
+    let mut pages = Vec::new();
+    for threads in ["1", "2"] {
+        let out = dir
+            .parent()
+            .unwrap()
+            .join(format!("threads-{threads}.html"));
+        let run = std::process::Command::new(env!("CARGO_BIN_EXE_patchwise"))
+            .args([
+                "report",
+                dir.to_str().unwrap(),
+                "--out",
+                out.to_str().unwrap(),
+            ])
+            .env("RAYON_NUM_THREADS", threads)
+            .output()
+            .unwrap();
+        assert!(
+            run.status.success(),
+            "{}",
+            String::from_utf8_lossy(&run.stderr)
+        );
+        pages.push(std::fs::read(&out).unwrap());
+    }
+    assert!(
+        pages[0] == pages[1],
+        "the report differs between 1 and 2 threads"
+    );
+}
