@@ -43,6 +43,8 @@ enum Command {
     Attribute(Box<commands::attribute::Args>),
     /// The template cortex: regenerate its GIFTI files.
     Template(commands::template::Args),
+    /// Many attributions from a job script: in parallel, resumable, in shards.
+    Batch(commands::batch::Args),
 }
 
 fn main() {
@@ -55,6 +57,7 @@ fn main() {
         Command::Dictionary(args) => commands::dictionary::exec(args),
         Command::Attribute(args) => commands::attribute::exec(*args),
         Command::Template(args) => commands::template::exec(args),
+        Command::Batch(args) => commands::batch::exec(args),
     };
     if let Err(err) = outcome {
         eprintln!("error: {err}");

@@ -1,6 +1,7 @@
 //! One file per subcommand: its arguments and an `exec` that calls the library.
 
 pub mod attribute;
+pub mod batch;
 pub mod check;
 pub mod demo;
 pub mod dictionary;
