@@ -50,3 +50,54 @@ fn parallel_jobs_match_one_at_a_time_and_reruns_skip() {
         text(&again)
     );
 }
+
+/// splitmix64 (Steele, Lea & Flood 2014, OOPSLA), a seeded stand-in for a
+/// random number generator without another dependency.
+fn splitmix64(state: &mut u64) -> u64 {
+    *state = state.wrapping_add(0x9e37_79b9_7f4a_7c15);
+    let mut z = *state;
+    z = (z ^ (z >> 30)).wrapping_mul(0xbf58_476d_1ce4_e5b9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94d0_49bb_1331_11eb);
+    z ^ (z >> 31)
+}
+
+/// SIGKILL at a seeded random moment between 0.5 and 3 s, twice, then a
+/// rerun: every folder seen after a kill is complete (it has its marker),
+/// no staging folder survives the rerun, and every dataset of every
+/// result.h5 equals the uninterrupted run's.
+#[test]
+fn killed_runs_resume_to_the_uninterrupted_numbers() {
+    let dir = scratch("batch-kill");
+    six_jobs(&dir);
+    let full = batch(&dir, &["jobs.toml", "--out", "full"]);
+    assert!(full.status.success(), "{}", text(&full));
+    let mut rng = 20_261_202u64;
+    for _ in 0..2 {
+        let delay = 0.5 + 2.5 * (splitmix64(&mut rng) >> 11) as f64 / (1u64 << 53) as f64;
+        let mut child = spawn(&dir, &["jobs.toml", "--out", "killed", "--jobs", "2"]);
+        std::thread::sleep(std::time::Duration::from_secs_f64(delay));
+        // Child::kill sends SIGKILL on Unix: no handler runs.
+        let _ = child.kill();
+        child.wait().unwrap();
+        if dir.join("killed").is_dir() {
+            for job in job_folders(&dir.join("killed")) {
+                let d = dir.join("killed").join(&job);
+                for f in ["job.json", "result.h5", "regions.csv", "summary.json"] {
+                    assert!(
+                        d.join(f).is_file(),
+                        "{job}/{f} missing after the kill at {delay:.2} s"
+                    );
+                }
+            }
+        }
+    }
+    let rerun = batch(&dir, &["jobs.toml", "--out", "killed"]);
+    assert!(rerun.status.success(), "{}", text(&rerun));
+    assert_eq!(job_folders(&dir.join("killed")), names(6));
+    assert!(
+        hidden_entries(&dir.join("killed")).is_empty(),
+        "{:?}",
+        hidden_entries(&dir.join("killed"))
+    );
+    assert_same_results(&dir.join("full"), &dir.join("killed"), &names(6));
+}
