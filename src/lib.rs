@@ -14,6 +14,7 @@
 
 pub mod attribution;
 pub mod baseline;
+pub mod cohort;
 pub mod demo;
 pub mod dictionary;
 pub mod forward;
