@@ -153,7 +153,12 @@ pub(crate) fn check_subjects(
                 detail,
             });
         }
-        for (c, (a, b)) in s.component_names.iter().zip(&first.component_names).enumerate() {
+        for (c, (a, b)) in s
+            .component_names
+            .iter()
+            .zip(&first.component_names)
+            .enumerate()
+        {
             if a != b {
                 warnings.push(format!(
                     "{}: component {c} is named {a:?}, but {:?} in {}; matched by index",
@@ -349,7 +354,12 @@ pub fn compare(
         );
         let magnitudes: Vec<Vec<f64>> = subjects
             .iter()
-            .map(|s| column(&s.source_map, k, c).iter().map(|x| x.abs()).collect())
+            .map(|s| {
+                column(&s.source_map, k, c)
+                    .iter()
+                    .map(|x| x.abs())
+                    .collect()
+            })
             .collect();
         let smoothed: Vec<Vec<f64>> = magnitudes.iter().map(|m| kernel.apply(m)).collect();
         let cos: Vec<f64> = pair_list

@@ -114,9 +114,8 @@ pub fn nearest_on_sphere(
     // Mean spacing of n points on the unit sphere: √(4π / n).
     let h = (4.0 * std::f64::consts::PI / n_t as f64).sqrt().max(1e-6);
     let cells = (2.0 / h).ceil() as i64;
-    let cell_of = |d: Vec3| -> [i64; 3] {
-        d.map(|x| (((x + 1.0) / h).floor() as i64).clamp(0, cells - 1))
-    };
+    let cell_of =
+        |d: Vec3| -> [i64; 3] { d.map(|x| (((x + 1.0) / h).floor() as i64).clamp(0, cells - 1)) };
     let mut grid: HashMap<[i64; 3], Vec<u32>> = HashMap::new();
     for (v, &d) in dirs.iter().enumerate() {
         grid.entry(cell_of(d)).or_default().push(v as u32);

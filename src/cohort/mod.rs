@@ -28,9 +28,11 @@ mod similarity;
 mod stats;
 mod transport;
 
-pub use compare::{compare, CompareParams, ComponentComparison, Comparison, SubjectResult};
+pub use compare::{compare, CompareParams, Comparison, ComponentComparison, SubjectResult};
 pub use error::CohortError;
 pub use paired::{compare_paired, PairedComparison, PairedComponent};
 pub use similarity::{cosine, SmoothingKernel};
-pub use stats::{bootstrap_mean_interval, sign_flip_max_test, SignFlipTest};
-pub use transport::{region_transport_costs, sinkhorn, SinkhornParams, TransportCosts};
+pub use stats::{bootstrap_draw, bootstrap_mean_interval, sign_flip_max_test, SignFlipTest};
+pub use transport::{
+    region_transport_costs, sinkhorn, SinkhornParams, SinkhornResult, TransportCosts,
+};
