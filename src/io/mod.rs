@@ -18,6 +18,7 @@ pub mod npy;
 pub mod off;
 pub mod ply;
 pub mod result_file;
+pub mod result_read;
 pub mod sources_file;
 pub mod store;
 pub mod store_access;
