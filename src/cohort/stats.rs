@@ -118,7 +118,13 @@ fn t_from_sums(sum: f64, sum_sq: f64, n: usize) -> f64 {
 /// 1e-10 absorbs rounding, so that the observed signs and their mirror image
 /// count as reaching themselves).
 fn reaches(flipped: f64, observed: f64) -> bool {
-    flipped >= observed - 1e-10 * observed.abs()
+    if observed.is_infinite() {
+        // Identical nonzero values: only sign vectors that keep them equal
+        // (all kept or all flipped) reach an infinite |t|.
+        flipped.is_infinite()
+    } else {
+        flipped >= observed - 1e-10 * observed.abs()
+    }
 }
 
 /// Sign-flip permutation test per region with the max-statistic correction
@@ -233,6 +239,14 @@ mod tests {
         assert_eq!(test.n_flips, 8);
         assert!((test.p_raw[0] - 0.25).abs() < 1e-15);
         assert!((test.p_corrected[0] - 0.25).abs() < 1e-15);
+    }
+
+    // Identical nonzero values (|t| = ∞): 2 of the 2^4 sign vectors keep
+    // them identical, so p = 2/16 (hand-worked, common practice).
+    #[test]
+    fn identical_values_give_two_over_two_to_the_n() {
+        let test = sign_flip_max_test(&[0.5; 4], 4, 1, 10_000, 1);
+        assert!((test.p_raw[0] - 0.125).abs() < 1e-15);
     }
 
     #[test]

@@ -43,6 +43,8 @@ enum Command {
     Attribute(Box<commands::attribute::Args>),
     /// The template cortex: regenerate its GIFTI files.
     Template(commands::template::Args),
+    /// Compare attributions across subjects on one template cortex.
+    Compare(Box<commands::compare::Args>),
 }
 
 fn main() {
@@ -55,6 +57,7 @@ fn main() {
         Command::Dictionary(args) => commands::dictionary::exec(args),
         Command::Attribute(args) => commands::attribute::exec(*args),
         Command::Template(args) => commands::template::exec(args),
+        Command::Compare(args) => commands::compare::exec(*args),
     };
     if let Err(err) = outcome {
         eprintln!("error: {err}");

@@ -2,6 +2,7 @@
 
 pub mod attribute;
 pub mod check;
+pub mod compare;
 pub mod demo;
 pub mod dictionary;
 pub mod leadfield;
