@@ -133,8 +133,7 @@ fn read_one(dir: &Path) -> Result<(ResultFile, String), CliError> {
 
 fn same_positions(a: &SourceSpace, b: &SourceSpace) -> bool {
     a.len() == b.len()
-        && a
-            .positions
+        && a.positions
             .iter()
             .zip(&b.positions)
             .all(|(p, q)| (0..3).all(|i| (p[i] - q[i]).abs() <= 1e-9))
@@ -167,8 +166,7 @@ fn to_template(
             )));
         }
         Some(MapSpec::Indices(file)) => {
-            let indices =
-                read_vertex_map(file).bad_input(format!("reading the map of {name}"))?;
+            let indices = read_vertex_map(file).bad_input(format!("reading the map of {name}"))?;
             if indices.len() != sources.len() {
                 return Err(bad(format!(
                     "{}: {} indices, but {name} has {} sources",
@@ -249,7 +247,10 @@ fn pairs(results: &[PathBuf], a: &str, b: &str) -> Result<Vec<(String, usize, us
         let e = found.entry(subject).or_default();
         let slot = if is_a { &mut e.0 } else { &mut e.1 };
         if slot.is_some() {
-            return Err(bad(format!("{}: a second folder for this subject and decoder", dir.display())));
+            return Err(bad(format!(
+                "{}: a second folder for this subject and decoder",
+                dir.display()
+            )));
         }
         *slot = Some(i);
     }
@@ -305,7 +306,11 @@ fn print_table(c: &Comparison, alpha: f64) {
                 "  {:<28} {:>10} {:>17} {:>11} {:>9} {:>11}",
                 c.region_names[r],
                 fmt(comp.mean_share[r], 3),
-                format!("[{}, {}]", fmt(comp.mean_low[r], 3), fmt(comp.mean_high[r], 3)),
+                format!(
+                    "[{}, {}]",
+                    fmt(comp.mean_low[r], 3),
+                    fmt(comp.mean_high[r], 3)
+                ),
                 if comp.consistency[r].is_finite() {
                     format!("{:.0} %", 100.0 * comp.consistency[r])
                 } else {
@@ -321,7 +326,11 @@ fn print_table(c: &Comparison, alpha: f64) {
 fn print_paired(p: &PairedComparison, alpha: f64, a: &str, b: &str) {
     for comp in &p.components {
         println!();
-        println!("{} — paired {a} − {b}, {} subjects", comp.name, p.pairs.len());
+        println!(
+            "{} — paired {a} − {b}, {} subjects",
+            comp.name,
+            p.pairs.len()
+        );
         let rows: Vec<usize> = (0..p.region_names.len())
             .filter(|&r| comp.test.p_corrected[r] < alpha)
             .collect();
@@ -376,7 +385,9 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let template_space = match &args.template {
         Some(name) => {
             let res = TemplateResolution::from_name(name).ok_or_else(|| {
-                bad(format!("--template {name:?}: expected template or template-5k"))
+                bad(format!(
+                    "--template {name:?}: expected template or template-5k"
+                ))
             })?;
             let t = template(res);
             let mut sources = SourceSpace::from_mesh(&t.mesh);
@@ -390,7 +401,9 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         None => {
             let i = (0..args.results.len())
                 .find(|&i| !maps.contains_key(&normalise(&args.results[i])))
-                .ok_or_else(|| bad("every result has a --map; name the template with --template".to_string()))?;
+                .ok_or_else(|| {
+                    bad("every result has a --map; name the template with --template".to_string())
+                })?;
             let sources = read[i].0.sources.clone().ok_or_else(|| {
                 bad(format!(
                     "{}: result.h5 holds no /sources; name the template with --template",
@@ -433,7 +446,8 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             let names: Vec<String> = p.iter().map(|x| x.0.clone()).collect();
             let sa: Vec<SubjectResult> = p.iter().map(|x| subjects[x.1].clone()).collect();
             let sb: Vec<SubjectResult> = p.iter().map(|x| subjects[x.2].clone()).collect();
-            let paired = compare_paired(&names, &sa, &sb, &params).bad_input("paired comparison")?;
+            let paired =
+                compare_paired(&names, &sa, &sb, &params).bad_input("paired comparison")?;
             let idx: Vec<usize> = p.iter().map(|x| x.1).collect();
             (sa, Some(paired), Some((a.to_string(), b.to_string(), idx)))
         }
@@ -472,7 +486,11 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         &params,
     )
     .bad_input("comparing the results")?;
-    for w in comparison.warnings.iter().chain(paired.iter().flat_map(|p| &p.warnings)) {
+    for w in comparison
+        .warnings
+        .iter()
+        .chain(paired.iter().flat_map(|p| &p.warnings))
+    {
         eprintln!("warning: {w}");
     }
     let record = CompareRecord {
