@@ -6,8 +6,7 @@ use std::sync::OnceLock;
 use patchwise::attribution::rng::SplitMix64;
 use patchwise::cohort::mapping::nearest_on_sphere;
 use patchwise::cohort::{
-    compare, region_transport_costs, CompareParams, SmoothingKernel, SubjectResult,
-    TransportCosts,
+    compare, region_transport_costs, CompareParams, SmoothingKernel, SubjectResult, TransportCosts,
 };
 use patchwise::geometry::{normalize, template, GeodesicSolver, Template, TemplateResolution};
 
@@ -34,8 +33,8 @@ fn data() -> &'static Data {
         let kernel = SmoothingKernel::new(&solver, 0.010, 3.0).expect("kernel");
         let areas = t.mesh.vertex_areas();
         let n_r = t.region_names.len();
-        let costs =
-            region_transport_costs(&t.mesh.vertices, &areas, &t.region, n_r, &solver).expect("costs");
+        let costs = region_transport_costs(&t.mesh.vertices, &areas, &t.region, n_r, &solver)
+            .expect("costs");
         let n = t.mesh.n_vertices();
         let k = 3;
         let mut rng = SplitMix64::new(1, 0);

@@ -199,3 +199,70 @@ fn random_generators_rarely_give_family_wise_false_positives() {
         "{hits} of 20 repetitions had a corrected p < 0.05"
     );
 }
+
+/// The whole comparison gives the same bits with 1 and 2 threads (the
+/// crate's rule: parallel loops write independent outputs, random draws
+/// come from per-resample streams).
+#[test]
+fn results_do_not_depend_on_the_thread_count() {
+    let s = setup();
+    let mut rng = SplitMix64::new(99, 0);
+    let n_r = s.t.region_names.len();
+    let subjects: Vec<SubjectResult> = (0..9)
+        .map(|i| subject(&s, &format!("s{i}"), i % n_r, &mut rng))
+        .collect();
+    let run = |threads: usize| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| compare(&subjects, &s.kernel, &s.t.region, Some(&s.costs), &params()))
+            .unwrap()
+    };
+    let (one, two) = (run(1), run(2));
+    let a = &one.components[0];
+    let b = &two.components[0];
+    for (x, y) in [
+        (&a.mean_low, &b.mean_low),
+        (&a.test.p_corrected, &b.test.p_corrected),
+        (&a.cosine, &b.cosine),
+        (&a.transport_m, &b.transport_m),
+    ] {
+        assert!(x.iter().zip(y).all(|(p, q)| p.to_bits() == q.to_bits()));
+    }
+}
+
+/// Paired comparison: decoder A puts 0.2 more share on one region than B in
+/// every one of 8 subjects (plus N(0, 0.03) noise). The mean paired
+/// difference must be within 4 standard errors (0.03·√2/√8 ≈ 0.015) of 0.2,
+/// and the sign-flip test must find it (exact enumeration of 2^8 sign
+/// vectors, smallest p = 2/256; Nichols & Holmes 2002). Component names
+/// that differ give a warning, not an error.
+#[test]
+fn paired_comparison_finds_a_shifted_share() {
+    let s = setup();
+    let target = 3;
+    let mut rng = SplitMix64::new(5, 0);
+    let mut a = Vec::new();
+    let mut b = Vec::new();
+    for i in 0..8 {
+        let base = subject(&s, &format!("s{i}"), i % 5 + 10, &mut rng);
+        let mut other = base.clone();
+        other.share = base.share.iter().map(|x| x + 0.03 * rng.normal()).collect();
+        let mut with = base.clone();
+        with.share[target] += 0.2;
+        with.component_names = vec!["renamed".to_string()];
+        a.push(with);
+        b.push(other);
+    }
+    let names: Vec<String> = (0..8).map(|i| format!("s{i}")).collect();
+    let out = patchwise::cohort::compare_paired(&names, &a, &b, &params()).unwrap();
+    let c = &out.components[0];
+    assert!((c.mean_difference[target] - 0.2).abs() < 4.0 * 0.015);
+    assert!(c.test.exact);
+    assert!(c.test.p_corrected[target] < 0.05, "{}", c.test.p_corrected[target]);
+    assert!(c.mean_low[target] > 0.1);
+    assert!(!out.warnings.is_empty());
+    // Unequal lists are refused.
+    assert!(patchwise::cohort::compare_paired(&names, &a, &b[..7], &params()).is_err());
+}
