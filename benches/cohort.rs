@@ -16,7 +16,6 @@ fn main() {
 
 struct Data {
     t: Template,
-    solver: GeodesicSolver,
     kernel: SmoothingKernel,
     costs: TransportCosts,
     subjects: Vec<SubjectResult>,
@@ -69,7 +68,6 @@ fn data() -> &'static Data {
             .collect();
         Data {
             t,
-            solver,
             kernel,
             costs,
             subjects,
@@ -96,20 +94,23 @@ fn compare_100_results_template_5k() -> usize {
 
 /// The per-mesh setup `patchwise compare` adds: the geodesic smoothing
 /// kernel (σ = 10 mm, cut at 30 mm) and the centroid transport costs.
-#[divan::bench(sample_count = 5)]
-fn kernel_and_costs_template_5k() -> usize {
-    let d = data();
-    let kernel = SmoothingKernel::new(&d.solver, 0.010, 3.0).expect("kernel");
-    let areas = d.t.mesh.vertex_areas();
-    let costs = region_transport_costs(
-        &d.t.mesh.vertices,
-        &areas,
-        &d.t.region,
-        d.t.region_names.len(),
-        &d.solver,
-    )
-    .expect("costs");
-    kernel.weights.len() + costs.cost_m.len()
+#[divan::bench(args = ["template-5k", "template"], sample_count = 3)]
+fn kernel_and_costs(bencher: divan::Bencher, name: &str) {
+    let t = template(TemplateResolution::from_name(name).unwrap_or(TemplateResolution::Low));
+    let solver = GeodesicSolver::new(&t.mesh).expect("template mesh");
+    let areas = t.mesh.vertex_areas();
+    bencher.bench(|| {
+        let kernel = SmoothingKernel::new(&solver, 0.010, 3.0).expect("kernel");
+        let costs = region_transport_costs(
+            &t.mesh.vertices,
+            &areas,
+            &t.region,
+            t.region_names.len(),
+            &solver,
+        )
+        .expect("costs");
+        kernel.weights.len() + costs.cost_m.len()
+    });
 }
 
 fn directions(n: usize, seed: u64) -> Vec<[f64; 3]> {

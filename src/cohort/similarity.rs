@@ -3,7 +3,7 @@
 
 use rayon::prelude::*;
 
-use crate::geometry::GeodesicSolver;
+use crate::geometry::{GeodesicScratch, GeodesicSolver};
 
 use super::error::CohortError;
 
@@ -50,9 +50,9 @@ impl SmoothingKernel {
         let cutoff_m = sigma_m * cutoff_sigmas;
         let rows: Vec<Vec<(u32, f64)>> = (0..solver.n_vertices())
             .into_par_iter()
-            .map(|v| {
+            .map_init(GeodesicScratch::new, |scratch, v| {
                 let mut row: Vec<(u32, f64)> = solver
-                    .distances_within(v, cutoff_m)
+                    .distances_within_using(scratch, v, cutoff_m)
                     .into_iter()
                     .map(|(u, d)| (u, (-0.5 * (d / sigma_m).powi(2)).exp()))
                     .collect();
