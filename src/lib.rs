@@ -15,6 +15,7 @@
 pub mod attribution;
 pub mod baseline;
 pub mod batch;
+pub mod cohort;
 pub mod demo;
 pub mod dictionary;
 pub mod forward;

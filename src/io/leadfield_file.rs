@@ -56,16 +56,18 @@ fn points_from(values: &[f64], scale: f64) -> Vec<Vec3> {
         .collect()
 }
 
-/// Put the lead-field datasets into `store` (used by the dictionary file too).
-pub fn insert_leadfield(store: &mut Store, lf: &LeadFieldFile) {
-    let n_ch = lf.n_channels();
-    let n_src = lf.n_sources();
-    let s = &lf.sources;
-    store.insert("/montage/labels", Dataset::strings(lf.labels.clone()));
+/// Put `/montage/labels` and `/montage/positions_mm` into `store`.
+pub fn insert_montage(store: &mut Store, labels: &[String], positions: &[Vec3]) {
+    store.insert("/montage/labels", Dataset::strings(labels.to_vec()));
     store.insert(
         "/montage/positions_mm",
-        Dataset::f64(vec![n_ch, 3], points_mm(&lf.electrode_positions)),
+        Dataset::f64(vec![positions.len(), 3], points_mm(positions)),
     );
+}
+
+/// Put the `/sources/...` datasets of a source space into `store`.
+pub fn insert_sources(store: &mut Store, s: &SourceSpace) {
+    let n_src = s.len();
     store.insert(
         "/sources/positions_mm",
         Dataset::f64(vec![n_src, 3], points_mm(&s.positions)),
@@ -96,6 +98,14 @@ pub fn insert_leadfield(store: &mut Store, lf: &LeadFieldFile) {
         "/sources/region_names",
         Dataset::strings(s.region_names.clone()),
     );
+}
+
+/// Put the lead-field datasets into `store` (used by the dictionary file too).
+pub fn insert_leadfield(store: &mut Store, lf: &LeadFieldFile) {
+    let n_ch = lf.n_channels();
+    let n_src = lf.n_sources();
+    insert_montage(store, &lf.labels, &lf.electrode_positions);
+    insert_sources(store, &lf.sources);
     let mut gain = Dataset::f64(vec![n_ch, n_src], lf.gain.clone());
     gain.attrs
         .insert("unit".to_string(), Attr::Str("V/(A*m)".to_string()));
@@ -140,7 +150,46 @@ pub fn leadfield_from_store(store: &Store, path: &Path) -> Result<LeadFieldFile,
     let n_ch = labels.len();
     let (gain, _, n_src) = store.f64_matrix(path, "/leadfield/gain", Some(n_ch), None)?;
     let (epos, _, _) = store.f64_matrix(path, "/montage/positions_mm", Some(n_ch), Some(3))?;
-    let (spos, _, _) = store.f64_matrix(path, "/sources/positions_mm", Some(n_src), Some(3))?;
+    let sources = sources_from_store(store, path, Some(n_src))?;
+    let gain_xyz = if store.contains("/leadfield/gain_xyz") {
+        let (v, shape) = store.f64_array(path, "/leadfield/gain_xyz")?;
+        if shape != [n_ch, n_src, 3] {
+            return Err(IoError::Shape {
+                path: path.to_path_buf(),
+                dataset: "/leadfield/gain_xyz".to_string(),
+                found: shape,
+                expected: format!("[{n_ch}, {n_src}, 3]"),
+            });
+        }
+        Some(v)
+    } else {
+        None
+    };
+    let attr_or = |name: &str, default: &str| {
+        store
+            .attr_str(path, "/leadfield/gain", name)
+            .unwrap_or_else(|_| default.to_string())
+    };
+    Ok(LeadFieldFile {
+        labels,
+        electrode_positions: points_from(&epos, 1.0 / MM),
+        sources,
+        gain,
+        gain_xyz,
+        reference: attr_or("reference", "unknown"),
+        head_model: attr_or("head_model", "{}"),
+    })
+}
+
+/// Read the `/sources/...` datasets from a store read from `path` (positions,
+/// normals; areas, triangles and regions when present), checking shapes,
+/// unit normals and indices. `expected` is the source count when known.
+pub fn sources_from_store(
+    store: &Store,
+    path: &Path,
+    expected: Option<usize>,
+) -> Result<SourceSpace, IoError> {
+    let (spos, n_src, _) = store.f64_matrix(path, "/sources/positions_mm", expected, Some(3))?;
     let (normals, _, _) = store.f64_matrix(path, "/sources/normals", Some(n_src), Some(3))?;
     let normals = points_from(&normals, 1.0);
     for (i, n) in normals.iter().enumerate() {
@@ -211,39 +260,29 @@ pub fn leadfield_from_store(store: &Store, path: &Path) -> Result<LeadFieldFile,
     } else {
         vec![-1; n_src]
     };
-    let gain_xyz = if store.contains("/leadfield/gain_xyz") {
-        let (v, shape) = store.f64_array(path, "/leadfield/gain_xyz")?;
-        if shape != [n_ch, n_src, 3] {
-            return Err(IoError::Shape {
-                path: path.to_path_buf(),
-                dataset: "/leadfield/gain_xyz".to_string(),
-                found: shape,
-                expected: format!("[{n_ch}, {n_src}, 3]"),
-            });
-        }
-        Some(v)
-    } else {
-        None
-    };
-    let attr_or = |name: &str, default: &str| {
-        store
-            .attr_str(path, "/leadfield/gain", name)
-            .unwrap_or_else(|_| default.to_string())
-    };
-    Ok(LeadFieldFile {
-        labels,
-        electrode_positions: points_from(&epos, 1.0 / MM),
-        sources: SourceSpace {
-            positions: points_from(&spos, 1.0 / MM),
-            normals,
-            areas,
-            triangles,
-            region,
-            region_names,
-        },
-        gain,
-        gain_xyz,
-        reference: attr_or("reference", "unknown"),
-        head_model: attr_or("head_model", "{}"),
+    Ok(SourceSpace {
+        positions: points_from(&spos, 1.0 / MM),
+        normals,
+        areas,
+        triangles,
+        region,
+        region_names,
     })
+}
+
+/// Channel labels with their electrode positions (m).
+pub type LabelledPositions = (Vec<String>, Vec<Vec3>);
+
+/// Read `/montage/labels` and `/montage/positions_mm` (metres) when both are present.
+pub fn montage_from_store(
+    store: &Store,
+    path: &Path,
+) -> Result<Option<LabelledPositions>, IoError> {
+    if !(store.contains("/montage/labels") && store.contains("/montage/positions_mm")) {
+        return Ok(None);
+    }
+    let labels = store.strings(path, "/montage/labels", None)?;
+    let (epos, _, _) =
+        store.f64_matrix(path, "/montage/positions_mm", Some(labels.len()), Some(3))?;
+    Ok(Some((labels, points_from(&epos, 1.0 / MM))))
 }

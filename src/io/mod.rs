@@ -5,6 +5,7 @@
 
 pub mod atomic;
 pub mod cache;
+pub mod compare_file;
 pub mod decoder_file;
 pub mod dictionary_file;
 pub mod electrodes;
@@ -12,10 +13,12 @@ pub mod error;
 pub mod gifti;
 pub mod hdf5_backend;
 pub mod leadfield_file;
+pub mod mapping_file;
 pub mod npy;
 pub mod off;
 pub mod ply;
 pub mod result_file;
+pub mod result_read;
 pub mod sources_file;
 pub mod store;
 pub mod store_access;

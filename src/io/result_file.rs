@@ -1,10 +1,16 @@
-//! The `result.h5` layout of design.md, plus `regions.csv`.
+//! The `result.h5` layout of design.md: the inputs' hashes, the patterns, the
+//! fit (with its λ path and reconstruction), the attribution, and the montage
+//! and source space the fit was made on (so pictures and comparisons need no
+//! other file). Reading it back is in [`super::result_read`].
 
 use std::path::Path;
 
 use super::error::IoError;
+use super::leadfield_file::{insert_montage, insert_sources, LeadFieldFile};
 use super::store::{Attr, Dataset, Store};
 use crate::pipeline::FitOutcome;
+
+pub use super::result_read::{read_result, ResultAttribution, ResultFile, ResultFit, ResultPath};
 
 /// What goes into `result.h5` besides the fit outcome.
 pub struct ResultRecord<'a> {
@@ -26,6 +32,10 @@ pub struct ResultRecord<'a> {
     pub outcome: &'a FitOutcome,
     /// Free-form notes stored as the root attribute `notes` (JSON).
     pub notes_json: &'a str,
+    /// The fitted patterns D X in the units of `patterns` (n_ch × k).
+    pub reconstruction: &'a [f64],
+    /// The lead field the dictionary came from (for `/montage` and `/sources`), if known.
+    pub leadfield: Option<&'a LeadFieldFile>,
 }
 
 /// The caution stored with every result.
@@ -44,6 +54,40 @@ fn per_component(
         }
     }
     out
+}
+
+/// `/fit/path/{ratio,explained_variance,active_patches,bic}`, each
+/// n_path × k, NaN where a component's block searched fewer points (and
+/// where the BIC is undefined).
+fn insert_path(s: &mut Store, o: &FitOutcome, k: usize) {
+    let n_path = o.blocks.iter().map(|b| b.path.len()).max().unwrap_or(0);
+    if n_path == 0 {
+        return;
+    }
+    let mut columns = [
+        vec![f64::NAN; n_path * k],
+        vec![f64::NAN; n_path * k],
+        vec![f64::NAN; n_path * k],
+        vec![f64::NAN; n_path * k],
+    ];
+    for b in &o.blocks {
+        for (i, &(ratio, ev, active, bic)) in b.path.iter().enumerate() {
+            for &c in &b.components {
+                columns[0][i * k + c] = ratio;
+                columns[1][i * k + c] = ev;
+                columns[2][i * k + c] = active as f64;
+                // An infinite BIC (a perfect fit) is stored as NaN, "undefined".
+                columns[3][i * k + c] = if bic.is_finite() { bic } else { f64::NAN };
+            }
+        }
+    }
+    let names = ["ratio", "explained_variance", "active_patches", "bic"];
+    for (name, values) in names.iter().zip(columns) {
+        s.insert(
+            &format!("/fit/path/{name}"),
+            Dataset::f64(vec![n_path, k], values),
+        );
+    }
 }
 
 /// Write `result.h5` atomically.
@@ -108,6 +152,15 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
                 .collect(),
         ),
     );
+    s.insert(
+        "/fit/reconstruction",
+        Dataset::f64(vec![n_ch, k], r.reconstruction.to_vec()),
+    );
+    insert_path(&mut s, o, k);
+    if let Some(lf) = r.leadfield {
+        insert_montage(&mut s, &lf.labels, &lf.electrode_positions);
+        insert_sources(&mut s, &lf.sources);
+    }
     s.insert(
         "/fit/explained_variance",
         Dataset::f64(vec![k], o.fit.explained_variance.clone()),

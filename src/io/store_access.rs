@@ -83,6 +83,27 @@ impl Store {
         Ok((values, rows, cols))
     }
 
+    /// Like [`Store::f64_matrix`] but NaN is allowed (our own files mark
+    /// "no value" with NaN, e.g. a peak of a component with nothing active);
+    /// infinities are still rejected.
+    pub fn f64_matrix_nan(
+        &self,
+        file: &Path,
+        name: &str,
+        expected_rows: Option<usize>,
+        expected_cols: Option<usize>,
+    ) -> Result<(Vec<f64>, usize, usize), IoError> {
+        let ds = self.dataset(file, name)?;
+        let values = numeric_as_f64(ds, file, name)?;
+        let (values, rows, cols) = as_matrix(ds, values, file, name, expected_rows, expected_cols)?;
+        let masked: Vec<f64> = values
+            .iter()
+            .map(|v| if v.is_nan() { 0.0 } else { *v })
+            .collect();
+        check_finite(&masked, file, name)?;
+        Ok((values, rows, cols))
+    }
+
     /// A one-dimensional float dataset (a MATLAB 1×n or n×1 matrix also
     /// counts), its length checked when given; every value must be finite.
     pub fn f64s(
@@ -95,6 +116,25 @@ impl Store {
         vector_shape(ds, file, name, expected_len)?;
         let values = numeric_as_f64(ds, file, name)?;
         check_finite(&values, file, name)?;
+        Ok(values)
+    }
+
+    /// Like [`Store::f64s`] but NaN is allowed (our own "no value" mark);
+    /// infinities are still rejected.
+    pub fn f64s_nan(
+        &self,
+        file: &Path,
+        name: &str,
+        expected_len: Option<usize>,
+    ) -> Result<Vec<f64>, IoError> {
+        let ds = self.dataset(file, name)?;
+        vector_shape(ds, file, name, expected_len)?;
+        let values = numeric_as_f64(ds, file, name)?;
+        let masked: Vec<f64> = values
+            .iter()
+            .map(|v| if v.is_nan() { 0.0 } else { *v })
+            .collect();
+        check_finite(&masked, file, name)?;
         Ok(values)
     }
 

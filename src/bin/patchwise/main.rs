@@ -45,6 +45,8 @@ enum Command {
     Template(commands::template::Args),
     /// Many attributions from a job script: in parallel, resumable, in shards.
     Batch(commands::batch::Args),
+    /// Compare attributions across subjects on one template cortex.
+    Compare(Box<commands::compare::Args>),
 }
 
 fn main() {
@@ -58,6 +60,7 @@ fn main() {
         Command::Attribute(args) => commands::attribute::exec(*args),
         Command::Template(args) => commands::template::exec(args),
         Command::Batch(args) => commands::batch::exec(args),
+        Command::Compare(args) => commands::compare::exec(*args),
     };
     if let Err(err) = outcome {
         eprintln!("error: {err}");

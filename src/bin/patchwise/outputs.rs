@@ -227,6 +227,8 @@ pub fn write_files(stage: &Staging, a: &Attribution) -> Result<Vec<Vec<RegionRow
         region_names: &names,
         outcome: &a.outcome,
         notes_json: &notes,
+        reconstruction: &a.reconstruction,
+        leadfield: a.dictionary.leadfield.as_ref(),
     };
     write_result(&stage.file("result.h5"), &record).map_err(CliError::compute)?;
     let header = [

@@ -101,6 +101,8 @@ pub struct Attribution {
     pub notes: Vec<String>,
     /// Whether the fit was whitened.
     pub whitened: bool,
+    /// The fitted patterns D X in the units of `patterns` (n_ch x k).
+    pub reconstruction: Vec<f64>,
 }
 
 fn bad(message: String) -> CliError {
@@ -422,12 +424,14 @@ fn restrict(
     })
 }
 
+/// Whitened patterns and, per atom, the norm of its whitened column (the
+/// factor the unit-norm rescale removed), so fits can be mapped back.
 fn whiten(
     dict: &mut DictionaryFile,
     patterns: &[f64],
     k: usize,
     path: &Path,
-) -> Result<Vec<f64>, CliError> {
+) -> Result<(Vec<f64>, Vec<f64>), CliError> {
     let n = dict.n_channels;
     let (cov, r, c) = read_matrix(path)?;
     if r != n || c != n {
@@ -456,12 +460,53 @@ fn whiten(
         .bad_input("whitening the dictionary")?;
     let mut norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);
     let mut atoms = aw;
+    let mut scales = vec![1.0; m];
     for (j, norm) in norms.iter_mut().enumerate() {
+        let before = *norm;
         rescale_to_unit_norm(&mut atoms, n, m, j, norm);
+        if before > 0.0 {
+            scales[j] = *norm / before;
+        }
     }
     dict.atoms = atoms;
     dict.atom_norms = Some(norms);
-    Ok(yw)
+    Ok((yw, scales))
+}
+
+/// The fitted patterns in the units of the (unwhitened) patterns: the fit's
+/// own D X without whitening, else the unwhitened atoms (each divided by the
+/// norm its whitened column had) times the coefficients.
+fn reconstruction(
+    fit: &patchwise::solver::Fit,
+    fit_y: &[f64],
+    unwhitened: Option<(&[f64], &[f64])>,
+    n: usize,
+    k: usize,
+) -> Vec<f64> {
+    match unwhitened {
+        None => fit_y
+            .iter()
+            .zip(&fit.residual)
+            .map(|(y, r)| y - r)
+            .collect(),
+        Some((atoms, scales)) => {
+            let m = fit.n_atoms;
+            let mut out = vec![0.0; n * k];
+            for j in 0..m {
+                for c in 0..k {
+                    let x = fit.coefficients[j * k + c];
+                    if x == 0.0 || scales[j] == 0.0 {
+                        continue;
+                    }
+                    let w = x / scales[j];
+                    for i in 0..n {
+                        out[i * k + c] += atoms[i * m + j] * w;
+                    }
+                }
+            }
+            out
+        }
+    }
 }
 
 /// Run the whole job for validated arguments; used by `attribute` and `demo`.
@@ -546,13 +591,17 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     } else {
         notes.push("reference none: patterns and atoms used as given".to_string());
     }
+    let mut unwhitened = None;
     let fit_y = match &args.noise_covariance {
         Some(p) => {
             hashes.push((
                 "noise_covariance".to_string(),
                 file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
             ));
-            whiten(&mut dict, &patterns, k, p)?
+            let before = dict.atoms.clone();
+            let (yw, scales) = whiten(&mut dict, &patterns, k, p)?;
+            unwhitened = Some((before, scales));
+            yw
         }
         None => {
             notes.push("no noise covariance given: the fit assumes white sensor noise (identity whitening)".to_string());
@@ -594,7 +643,17 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     pb.finish_and_clear();
     let component_names =
         component_names.unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
+    let reconstruction = reconstruction(
+        &outcome.fit,
+        &fit_y,
+        unwhitened
+            .as_ref()
+            .map(|(a, s)| (a.as_slice(), s.as_slice())),
+        dict.n_channels,
+        k,
+    );
     Ok(Attribution {
+        reconstruction,
         labels: decoder.channels.clone(),
         patterns,
         component_names,

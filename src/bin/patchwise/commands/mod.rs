@@ -3,6 +3,7 @@
 pub mod attribute;
 pub mod batch;
 pub mod check;
+pub mod compare;
 pub mod demo;
 pub mod dictionary;
 pub mod leadfield;

@@ -1,0 +1,277 @@
+//! Reading `result.h5` back (the layout written by [`super::result_file`]):
+//! for reports, comparisons and anyone who wants the numbers in Rust.
+//!
+//! Positions come back in metres; shares, source maps (A·m per source) and
+//! patterns as stored. Optional parts (resampling intervals, the λ path,
+//! montage positions, the source space) are `None` when the file lacks them.
+
+use std::path::{Path, PathBuf};
+
+use super::error::IoError;
+use super::leadfield_file::{montage_from_store, sources_from_store};
+use super::store::{Attr, Store};
+use crate::geometry::{SourceSpace, Vec3};
+
+/// Everything `result.h5` holds.
+#[derive(Debug, Clone)]
+pub struct ResultFile {
+    /// The file read.
+    pub path: PathBuf,
+    /// Input hashes (name, hex digest) from the root attributes `hash_<name>`, sorted by name.
+    pub hashes: Vec<(String, String)>,
+    /// The caution stored with the result.
+    pub caution: String,
+    /// The software that wrote it.
+    pub software: String,
+    /// Notes of the run.
+    pub notes: Vec<String>,
+    /// Channel labels of the patterns (n_ch).
+    pub labels: Vec<String>,
+    /// Component names (k).
+    pub component_names: Vec<String>,
+    /// Number of components.
+    pub k: usize,
+    /// Patterns after referencing, before whitening, n_ch × k row-major.
+    pub patterns: Vec<f64>,
+    /// What the patterns came from (`patterns` or `weights+covariance`).
+    pub patterns_source: String,
+    /// Electrode positions (m) of the channels, fit order, when stored.
+    pub electrode_positions: Option<Vec<Vec3>>,
+    /// The source space of the fit, when stored.
+    pub sources: Option<SourceSpace>,
+    /// The fit.
+    pub fit: ResultFit,
+    /// The attribution.
+    pub attribution: ResultAttribution,
+}
+
+/// The `/fit` group.
+#[derive(Debug, Clone)]
+pub struct ResultFit {
+    /// Number of atoms.
+    pub n_atoms: usize,
+    /// Penalised coefficients, n_atoms × k.
+    pub coefficients: Vec<f64>,
+    /// λ per component.
+    pub lambda: Vec<f64>,
+    /// λ_max per component.
+    pub lambda_max: Vec<f64>,
+    /// Relative duality gap per component.
+    pub duality_gap: Vec<f64>,
+    /// Solver iterations per component.
+    pub iterations: Vec<i64>,
+    /// Explained variance per component.
+    pub explained_variance: Vec<f64>,
+    /// Residual, n_ch × k (fit space: whitened when a noise covariance was given).
+    pub residual: Vec<f64>,
+    /// Fitted patterns D X in the units of the patterns, n_ch × k.
+    pub reconstruction: Option<Vec<f64>>,
+    /// The λ path searched, when stored.
+    pub path: Option<ResultPath>,
+}
+
+/// The `/fit/path` group: each field n_points × k, NaN where a component's
+/// block searched fewer points.
+#[derive(Debug, Clone)]
+pub struct ResultPath {
+    /// Number of path points.
+    pub n_points: usize,
+    /// λ / λ_max.
+    pub ratio: Vec<f64>,
+    /// Explained variance.
+    pub explained_variance: Vec<f64>,
+    /// Active patches.
+    pub active_patches: Vec<f64>,
+    /// Bayesian information criterion.
+    pub bic: Vec<f64>,
+}
+
+/// The `/attribution` group.
+#[derive(Debug, Clone)]
+pub struct ResultAttribution {
+    /// Region names (n_regions), the order of `/sources/region_names`.
+    pub region_names: Vec<String>,
+    /// Shares, n_regions × k.
+    pub share: Vec<f64>,
+    /// Lower ends of the intervals, n_regions × k.
+    pub share_low: Option<Vec<f64>>,
+    /// Upper ends of the intervals, n_regions × k.
+    pub share_high: Option<Vec<f64>>,
+    /// Selection frequencies, n_regions × k.
+    pub selection_frequency: Option<Vec<f64>>,
+    /// Source map, n_src × k (A·m per source).
+    pub source_map: Vec<f64>,
+    /// Peak positions (mm) per component; NaN when nothing is active.
+    pub peak_mm: Vec<[f64; 3]>,
+    /// Peak region per component, -1 = none.
+    pub peak_region: Vec<i64>,
+    /// Share not assigned to any region, per component.
+    pub unassigned_share: Vec<f64>,
+    /// Noise level of the resampling per component.
+    pub noise_sd: Option<Vec<f64>>,
+}
+
+fn root_str(store: &Store, path: &Path, name: &str) -> String {
+    store.attr_str(path, "/", name).unwrap_or_default()
+}
+
+fn optional(
+    store: &Store,
+    path: &Path,
+    name: &str,
+    rows: usize,
+    cols: usize,
+) -> Result<Option<Vec<f64>>, IoError> {
+    if !store.contains(name) {
+        return Ok(None);
+    }
+    let (v, _, _) = store.f64_matrix_nan(path, name, Some(rows), Some(cols))?;
+    Ok(Some(v))
+}
+
+/// Per-component vector `name` (length k), NaN allowed.
+fn per_component(store: &Store, path: &Path, name: &str, k: usize) -> Result<Vec<f64>, IoError> {
+    store.f64s_nan(path, name, Some(k))
+}
+
+/// Read `result.h5`.
+pub fn read_result(path: &Path) -> Result<ResultFile, IoError> {
+    let store = Store::read(path)?;
+    result_from_store(&store, path)
+}
+
+/// Extract the result layout from a store read from `path`.
+pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoError> {
+    let mut hashes: Vec<(String, String)> = store
+        .group_attrs
+        .get("/")
+        .map(|attrs| {
+            attrs
+                .iter()
+                .filter_map(|(name, value)| match (name.strip_prefix("hash_"), value) {
+                    (Some(n), Attr::Str(h)) => Some((n.to_string(), h.clone())),
+                    _ => None,
+                })
+                .collect()
+        })
+        .unwrap_or_default();
+    hashes.sort();
+    let notes = serde_json::from_str(&root_str(store, path, "notes")).unwrap_or_default();
+    let labels = store.strings(path, "/patterns/labels", None)?;
+    let n_ch = labels.len();
+    let (patterns, _, k) = store.f64_matrix(path, "/patterns/values", Some(n_ch), None)?;
+    let component_names = if store.contains("/patterns/component_names") {
+        store.strings(path, "/patterns/component_names", Some(k))?
+    } else {
+        (0..k).map(|c| format!("component {c}")).collect()
+    };
+    let patterns_source = store
+        .strings(path, "/patterns/source", Some(1))
+        .map(|v| v.concat())
+        .unwrap_or_default();
+    let electrode_positions = montage_from_store(store, path)?.map(|(_, p)| p);
+    let sources = if store.contains("/sources/positions_mm") {
+        Some(sources_from_store(store, path, None)?)
+    } else {
+        None
+    };
+    let (coefficients, n_atoms, _) = store.f64_matrix(path, "/fit/coefficients", None, Some(k))?;
+    let (residual, _, _) = store.f64_matrix(path, "/fit/residual", Some(n_ch), Some(k))?;
+    let path_data = if store.contains("/fit/path/ratio") {
+        let (ratio, n_points, _) = store.f64_matrix_nan(path, "/fit/path/ratio", None, Some(k))?;
+        let get = |name: &str| {
+            store
+                .f64_matrix_nan(path, name, Some(n_points), Some(k))
+                .map(|(v, _, _)| v)
+        };
+        Some(ResultPath {
+            n_points,
+            ratio,
+            explained_variance: get("/fit/path/explained_variance")?,
+            active_patches: get("/fit/path/active_patches")?,
+            bic: get("/fit/path/bic")?,
+        })
+    } else {
+        None
+    };
+    let fit = ResultFit {
+        n_atoms,
+        coefficients,
+        lambda: per_component(store, path, "/fit/lambda", k)?,
+        lambda_max: per_component(store, path, "/fit/lambda_max", k)?,
+        duality_gap: per_component(store, path, "/fit/duality_gap", k)?,
+        iterations: store.i64s(path, "/fit/iterations", Some(k))?,
+        explained_variance: per_component(store, path, "/fit/explained_variance", k)?,
+        residual,
+        reconstruction: optional(store, path, "/fit/reconstruction", n_ch, k)?,
+        path: path_data,
+    };
+    let region_names = store.strings(path, "/attribution/region_names", None)?;
+    let n_regions = region_names.len();
+    let (share, _, _) = store.f64_matrix(path, "/attribution/share", Some(n_regions), Some(k))?;
+    let (source_map, n_src, _) =
+        store.f64_matrix(path, "/attribution/source_map", None, Some(k))?;
+    if let Some(s) = &sources {
+        if s.len() != n_src {
+            return Err(IoError::Shape {
+                path: path.to_path_buf(),
+                dataset: "/attribution/source_map".to_string(),
+                found: vec![n_src, k],
+                expected: format!("[{}, {k}] (one row per source)", s.len()),
+            });
+        }
+    }
+    let peak_mm = match optional(store, path, "/attribution/peak_mm", k, 3)? {
+        Some(v) => v.chunks_exact(3).map(|c| [c[0], c[1], c[2]]).collect(),
+        None => vec![[f64::NAN; 3]; k],
+    };
+    let peak_region = if store.contains("/attribution/peak_region") {
+        store.i64s(path, "/attribution/peak_region", Some(k))?
+    } else {
+        vec![-1; k]
+    };
+    let unassigned_share = if store.contains("/attribution/unassigned_share") {
+        per_component(store, path, "/attribution/unassigned_share", k)?
+    } else {
+        vec![0.0; k]
+    };
+    let noise_sd = if store.contains("/attribution/noise_sd") {
+        Some(per_component(store, path, "/attribution/noise_sd", k)?)
+    } else {
+        None
+    };
+    let attribution = ResultAttribution {
+        share_low: optional(store, path, "/attribution/share_low", n_regions, k)?,
+        share_high: optional(store, path, "/attribution/share_high", n_regions, k)?,
+        selection_frequency: optional(
+            store,
+            path,
+            "/attribution/selection_frequency",
+            n_regions,
+            k,
+        )?,
+        region_names,
+        share,
+        source_map,
+        peak_mm,
+        peak_region,
+        unassigned_share,
+        noise_sd,
+    };
+    Ok(ResultFile {
+        path: path.to_path_buf(),
+        hashes,
+        caution: root_str(store, path, "caution"),
+        software: root_str(store, path, "software"),
+        notes,
+        labels,
+        component_names,
+        k,
+        patterns,
+        patterns_source,
+        electrode_positions,
+        sources,
+        fit,
+        attribution,
+    })
+}
