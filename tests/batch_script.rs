@@ -178,32 +178,42 @@ fn duplicate_names_after_expansion_and_missing_files_name_the_job() {
 #[test]
 fn compare_table_is_validated() {
     let dir = scratch("batch-compare");
-    touch(&dir.join("decoders/a.npz"), b"a");
-    let base = "[[job]]\nname = \"pat\"\ndecoder = \"decoders/*.npz\"\n[[job]]\nname = \"ctl\"\ndecoder = \"decoders/a.npz\"\n";
+    touch(&dir.join("decoders/s1-motor.npz"), b"a");
+    touch(&dir.join("decoders/s1-visual.npz"), b"b");
+    let base = "[[job]]\nname = \"g\"\ndecoder = \"decoders/*.npz\"\n[[job]]\nname = \"s2-motor\"\ndecoder = \"decoders/s1-motor.npz\"\n";
     let s = load_script(&script(
         &dir,
-        &format!("{base}[compare]\nout = \"cmp\"\npair = [\"pat\", \"ctl\"]\n"),
+        &format!("{base}[compare]\nout = \"cmp\"\npair = [\"motor\", \"visual\"]\n"),
     ))
     .unwrap();
     let c = s.compare.unwrap();
-    assert_eq!(c.pair, ["pat".to_string(), "ctl".to_string()]);
+    assert_eq!(c.pair, Some(["motor".to_string(), "visual".to_string()]));
     assert_eq!(c.out, dir.join("cmp"));
-    // The table's line for bad values, the key's line for an unknown key.
-    for (bad, line) in [
-        ("[compare]\nout = \"cmp\"\npair = [\"pat\"]\n", ":7:"),
+    assert_eq!(c.line, 7);
+    // The table's line for bad values, the key's line for an unknown key,
+    // the job's line and name for a job outside the pairing rule.
+    for (bad, expected) in [
         (
-            "[compare]\nout = \"cmp\"\npair = [\"pat\", \"nobody\"]\n",
-            ":7:",
+            "[compare]\nout = \"cmp\"\npair = [\"motor\"]\n",
+            "jobs.toml:7:",
         ),
         (
-            "[compare]\nout = \"cmp\"\npair = [\"pat\", \"ctl\"]\nmethod = \"t\"\n",
-            ":10:1:",
+            "[compare]\nout = \"cmp\"\npair = [\"motor\", \"motor\"]\n",
+            "jobs.toml:7:",
+        ),
+        (
+            "[compare]\nout = \"cmp\"\npair = [\"motor\", \"eyes\"]\n",
+            "jobs.toml:1: job g-s1-visual",
+        ),
+        (
+            "[compare]\nout = \"cmp\"\nmethod = \"t\"\n",
+            "jobs.toml:9:1:",
         ),
     ] {
         let msg = load_script(&script(&dir, &format!("{base}{bad}")))
             .unwrap_err()
             .to_string();
-        assert!(msg.contains(&format!("jobs.toml{line}")), "{msg}");
+        assert!(msg.contains(expected), "{expected}: {msg}");
         assert!(!msg.contains("(in job"), "{msg}");
     }
 }

@@ -31,13 +31,15 @@ pub struct Job {
     pub line: usize,
 }
 
-/// The `[compare]` table: compare the attributions of two job groups.
+/// The `[compare]` table: compare the attributions of all jobs on one
+/// template cortex (`patchwise compare`), optionally pairing decoders.
 #[derive(Debug, Clone, PartialEq)]
 pub struct CompareSpec {
     /// Output folder of the comparison.
     pub out: PathBuf,
-    /// The two groups (names of `[[job]]` tables) to compare.
-    pub pair: [String; 2],
+    /// Paired comparison of decoders A and B: every job is named
+    /// `<subject>-A` or `<subject>-B` (the rule of `patchwise compare --pair`).
+    pub pair: Option<[String; 2]>,
     /// 1-based line of the table.
     pub line: usize,
 }
@@ -102,28 +104,25 @@ pub fn parse_script(text: &str, path: &Path, folder: &Path) -> Result<Script, Ba
                 message,
             };
             let c = c.get_ref();
-            let [a, b] = <[String; 2]>::try_from(c.pair.clone()).map_err(|p| {
-                table_err(format!(
-                    "pair has {} entries; expected two job names, pair = [\"A\", \"B\"]",
-                    p.len()
-                ))
-            })?;
-            if a == b {
-                return Err(table_err(format!("pair compares {a:?} with itself")));
-            }
-            for g in [&a, &b] {
-                if !jobs.iter().any(|j| &j.group == g) {
-                    return Err(table_err(format!(
-                        "pair names {g:?}, which is not the name of any [[job]] table"
-                    )));
-                }
-            }
             if c.out.trim().is_empty() {
                 return Err(table_err("out is empty; expected a folder".to_string()));
             }
+            if jobs.len() < 2 {
+                return Err(table_err(format!(
+                    "a comparison needs at least 2 jobs, the script has {}",
+                    jobs.len()
+                )));
+            }
+            let pair = match &c.pair {
+                None => None,
+                Some(p) => Some(check_pair(p, &jobs, path).map_err(|e| match e {
+                    PairError::Table(m) => table_err(m),
+                    PairError::Job(e) => e,
+                })?),
+            };
             Some(CompareSpec {
                 out: resolve(folder, &c.out),
-                pair: [a, b],
+                pair,
                 line,
             })
         }
@@ -133,6 +132,45 @@ pub fn parse_script(text: &str, path: &Path, folder: &Path) -> Result<Script, Ba
         jobs,
         compare,
     })
+}
+
+enum PairError {
+    Table(String),
+    Job(BatchError),
+}
+
+/// `pair = [A, B]`: two distinct labels, and every job named
+/// `<subject>-A` or `<subject>-B`.
+fn check_pair(pair: &[String], jobs: &[Job], path: &Path) -> Result<[String; 2], PairError> {
+    let [a, b] = <[String; 2]>::try_from(pair.to_vec()).map_err(|p| {
+        PairError::Table(format!(
+            "pair has {} entries; expected two decoder labels, pair = [\"A\", \"B\"]",
+            p.len()
+        ))
+    })?;
+    if a == b || a.is_empty() || b.is_empty() {
+        return Err(PairError::Table(format!(
+            "pair = [{a:?}, {b:?}]: expected two different, non-empty labels"
+        )));
+    }
+    for job in jobs {
+        let ok = [&a, &b].iter().any(|l| {
+            job.name
+                .strip_suffix(l.as_str())
+                .is_some_and(|s| s.len() > 1 && s.ends_with('-'))
+        });
+        if !ok {
+            return Err(PairError::Job(BatchError::Job {
+                path: path.to_path_buf(),
+                line: job.line,
+                job: job.name.clone(),
+                message: format!(
+                    "[compare] pair = [{a:?}, {b:?}] pairs jobs named <subject>-{a} with <subject>-{b}; this name ends in neither"
+                ),
+            }));
+        }
+    }
+    Ok([a, b])
 }
 
 /// A TOML or schema error with its line, column and (when the line is inside

@@ -140,7 +140,7 @@ impl RawJob {
 #[serde(deny_unknown_fields)]
 pub(crate) struct RawCompare {
     pub out: String,
-    pub pair: Vec<String>,
+    pub pair: Option<Vec<String>>,
 }
 
 /// The whole script as written.

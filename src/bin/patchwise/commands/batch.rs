@@ -1,6 +1,7 @@
 //! `patchwise batch`: many attributions from a job script, run in parallel,
 //! resumable after a kill, and split into shards for cluster array jobs.
 
+mod cohort;
 mod execute;
 mod report;
 
@@ -184,13 +185,25 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             error: anyhow::anyhow!("{} of {} jobs failed", failures.len(), todo.len()),
         });
     }
-    if let (Some(compare), true) = (&script.compare, all_done) {
-        return Err(CliError::bad_input(anyhow::anyhow!(
-            "{}:{}: the [compare] table needs `patchwise compare`, which this build does not have; \
-             the jobs are done, remove the table (or run the comparison separately) to finish without this error",
-            script.path.display(),
-            compare.line
-        )));
+    if let Some(spec) = &script.compare {
+        if !all_done {
+            println!("[compare] waits until every job is done");
+        } else if shard.is_some() {
+            println!("[compare] runs in a plain rerun without --shard");
+        } else {
+            println!(
+                "every job is done; comparing them ([compare], line {})",
+                spec.line
+            );
+            cohort::run_compare(spec, &args.out, &script.jobs).map_err(|e| CliError {
+                code: e.code,
+                error: e.error.context(format!(
+                    "{}:{}: the [compare] table",
+                    script.path.display(),
+                    spec.line
+                )),
+            })?;
+        }
     }
     Ok(())
 }
