@@ -18,6 +18,7 @@ pub mod batch;
 pub mod cohort;
 pub mod demo;
 pub mod dictionary;
+pub mod dipole;
 pub mod forward;
 pub mod geometry;
 pub mod head;

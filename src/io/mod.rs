@@ -8,6 +8,7 @@ pub mod cache;
 pub mod compare_file;
 pub mod decoder_file;
 pub mod dictionary_file;
+pub mod dipole_file;
 pub mod electrodes;
 pub mod error;
 pub mod gifti;

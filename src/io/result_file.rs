@@ -90,6 +90,40 @@ fn insert_path(s: &mut Store, o: &FitOutcome, k: usize) {
     }
 }
 
+/// The root attributes `caution` and `software` of every result file.
+pub(crate) fn insert_provenance(s: &mut Store) {
+    s.set_group_attr("/", "caution", Attr::Str(CAUTION.to_string()));
+    s.set_group_attr(
+        "/",
+        "software",
+        Attr::Str(format!("patchwise {}", env!("CARGO_PKG_VERSION"))),
+    );
+}
+
+/// Insert `/patterns/{labels,values,source,component_names}` (values n_ch × k).
+pub(crate) fn insert_patterns(
+    s: &mut Store,
+    labels: &[String],
+    values: &[f64],
+    k: usize,
+    source: &str,
+    component_names: &[String],
+) {
+    s.insert("/patterns/labels", Dataset::strings(labels.to_vec()));
+    s.insert(
+        "/patterns/values",
+        Dataset::f64(vec![labels.len(), k], values.to_vec()),
+    );
+    s.insert(
+        "/patterns/source",
+        Dataset::strings(vec![source.to_string()]),
+    );
+    s.insert(
+        "/patterns/component_names",
+        Dataset::strings(component_names.to_vec()),
+    );
+}
+
 /// Write `result.h5` atomically.
 pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
     let o = r.outcome;
@@ -100,25 +134,15 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
     for (name, hash) in r.hashes {
         s.set_group_attr("/", &format!("hash_{name}"), Attr::Str(hash.clone()));
     }
-    s.set_group_attr("/", "caution", Attr::Str(CAUTION.to_string()));
+    insert_provenance(&mut s);
     s.set_group_attr("/", "notes", Attr::Str(r.notes_json.to_string()));
-    s.set_group_attr(
-        "/",
-        "software",
-        Attr::Str(format!("patchwise {}", env!("CARGO_PKG_VERSION"))),
-    );
-    s.insert("/patterns/labels", Dataset::strings(r.labels.to_vec()));
-    s.insert(
-        "/patterns/values",
-        Dataset::f64(vec![n_ch, k], r.patterns.to_vec()),
-    );
-    s.insert(
-        "/patterns/source",
-        Dataset::strings(vec![r.patterns_source.to_string()]),
-    );
-    s.insert(
-        "/patterns/component_names",
-        Dataset::strings(r.component_names.to_vec()),
+    insert_patterns(
+        &mut s,
+        r.labels,
+        r.patterns,
+        k,
+        r.patterns_source,
+        r.component_names,
     );
     s.insert(
         "/fit/coefficients",

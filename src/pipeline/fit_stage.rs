@@ -158,9 +158,9 @@ fn fit_block(
     match rule {
         LambdaRule::Ratio(_) | LambdaRule::Absolute(_) => {
             let lambda = match rule {
-                LambdaRule::Ratio(r) => Lambda::Ratio(r),
                 LambdaRule::Absolute(l) => Lambda::Absolute(l),
-                LambdaRule::Bic => Lambda::Ratio(1.0),
+                LambdaRule::Ratio(r) => Lambda::Ratio(r),
+                _ => Lambda::Ratio(1.0),
             };
             let p = params.with_lambda(lambda)?;
             let (f, info) = match warm {
@@ -180,7 +180,7 @@ fn fit_block(
                 },
             })
         }
-        LambdaRule::Bic => {
+        LambdaRule::Bic | LambdaRule::Gcv | LambdaRule::Aic => {
             let spec = PathSpec::LogSpaced {
                 n_lambdas: BIC_PATH_POINTS,
                 min_ratio: BIC_MIN_RATIO,
@@ -189,15 +189,19 @@ fn fit_block(
             let y_sq: f64 = y.iter().map(|v| v * v).sum();
             let n = n_ch * kb;
             let mut best = 0;
-            let mut best_bic = f64::INFINITY;
+            let mut best_score = f64::INFINITY;
             let mut summary = Vec::with_capacity(points.len());
             for (i, p) in points.iter().enumerate() {
                 let rss = (1.0 - p.explained_variance_total) * y_sq;
                 let df = p.coefficients.atoms.len() * kb;
-                let b = if p.coefficients.atoms.is_empty() {
-                    f64::INFINITY
+                // The empty fit (at λ_max) is never chosen.
+                let (b, score) = if p.coefficients.atoms.is_empty() {
+                    (f64::INFINITY, f64::INFINITY)
                 } else {
-                    bic(rss, n, df)
+                    (
+                        bic(rss, n, df),
+                        rule.score(rss, n, df).unwrap_or(f64::INFINITY),
+                    )
                 };
                 summary.push((
                     p.ratio,
@@ -205,8 +209,8 @@ fn fit_block(
                     p.info.n_active_groups,
                     b,
                 ));
-                if b < best_bic {
-                    best_bic = b;
+                if score < best_score {
+                    best_score = score;
                     best = i;
                 }
             }

@@ -38,7 +38,7 @@ mod error;
 mod fista;
 mod fit;
 mod groups;
-mod kernels;
+pub(crate) mod kernels;
 mod observer;
 mod operator;
 mod outer;

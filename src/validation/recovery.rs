@@ -61,8 +61,13 @@ pub struct CaseResult {
     /// Distance (mm) from the strongest recovered patch's seed (patch fit)
     /// or the source-map peak (minimum norm) to the nearest true patch seed.
     pub localization_error_mm: f64,
-    /// Whether the leading region is the true strongest region.
+    /// Whether the leading region by share of the pattern (patch fit:
+    /// `region_share`; minimum norm: ⟨G_r x_r, ŷ⟩/‖ŷ‖²) is the region whose
+    /// true sources contribute most to the clean scalp pattern.
     pub top1_correct: bool,
+    /// Whether the region with the largest summed |source map| is the
+    /// region holding most true source amplitude (A·m).
+    pub top1_amplitude_correct: bool,
     /// Area under the ROC curve of |source map| against the true active set.
     pub auc: f64,
 }
@@ -92,7 +97,7 @@ pub fn run_case(
         }
         seeds.push(seed);
     }
-    let truth_region = region_top1(
+    let truth_amplitude_region = region_top1(
         &amplitude.iter().map(|a| a.abs()).collect::<Vec<_>>(),
         &s.region,
         n_regions,
@@ -126,6 +131,7 @@ pub fn run_case(
             .map(|v| lf.gain[i * n_src + v] * amplitude[v])
             .sum();
     }
+    let truth_region = top_pattern_share(&lf.gain, n_ch, &amplitude, &s.region, n_regions);
     let mut noise: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
     let mean = noise.iter().sum::<f64>() / n_ch as f64;
     noise.iter_mut().for_each(|e| *e -= mean);
@@ -187,6 +193,11 @@ pub fn run_case(
         method: Method::Patches,
         localization_error_mm: strongest_seed.map_or(f64::NAN, |v| nearest_seed_mm(s.positions[v])),
         top1_correct: patch_top.is_some() && patch_top == truth_region,
+        top1_amplitude_correct: {
+            let abs_map: Vec<f64> = comp.source_map.iter().map(|v| v.abs()).collect();
+            let top = region_top1(&abs_map, &s.region, n_regions);
+            top.is_some() && top == truth_amplitude_region
+        },
         auc: roc_auc(
             &comp.source_map.iter().map(|v| v.abs()).collect::<Vec<_>>(),
             &active,
@@ -197,14 +208,58 @@ pub fn run_case(
         .map_err(|e| PipelineError::Inconsistent(e.to_string()))?;
     let abs_x: Vec<f64> = x.iter().map(|v| v.abs()).collect();
     let peak = (0..n_src).max_by(|&a, &b| abs_x[a].total_cmp(&abs_x[b]));
-    let mn_top = region_top1(&abs_x, &s.region, n_regions);
+    let mn_top_amplitude = region_top1(&abs_x, &s.region, n_regions);
+    let mn_top = top_pattern_share(setup.fit_gain, n_ch, &x, &s.region, n_regions);
     let mn = CaseResult {
         method: Method::MinimumNorm,
         localization_error_mm: peak.map_or(f64::NAN, |p| nearest_seed_mm(s.positions[p])),
         top1_correct: mn_top.is_some() && mn_top == truth_region,
+        top1_amplitude_correct: mn_top_amplitude.is_some()
+            && mn_top_amplitude == truth_amplitude_region,
         auc: roc_auc(&abs_x, &active),
     };
     Ok(vec![patch, mn])
+}
+
+/// The region whose sources contribute most to the scalp pattern of
+/// `amplitude` through `gain` (n_ch × n_src): share_r = ⟨G x_r, G x⟩ / ‖G x‖²
+/// with x_r the amplitudes of region r, the same additive decomposition the
+/// attribution reports for fitted patches.
+fn top_pattern_share(
+    gain: &[f64],
+    n_ch: usize,
+    amplitude: &[f64],
+    region: &[i32],
+    n_regions: usize,
+) -> Option<usize> {
+    let n_src = amplitude.len();
+    let mut per_region = vec![vec![0.0; n_ch]; n_regions];
+    let mut total = vec![0.0; n_ch];
+    for (v, &a) in amplitude.iter().enumerate() {
+        if a == 0.0 {
+            continue;
+        }
+        for i in 0..n_ch {
+            let contribution = gain[i * n_src + v] * a;
+            total[i] += contribution;
+            if region[v] >= 0 {
+                per_region[region[v] as usize][i] += contribution;
+            }
+        }
+    }
+    let shares: Vec<f64> = per_region
+        .iter()
+        .map(|y_r| y_r.iter().zip(&total).map(|(a, b)| a * b).sum())
+        .collect();
+    let mut best = None;
+    let mut best_value = 0.0;
+    for (r, &v) in shares.iter().enumerate() {
+        if v > best_value {
+            best_value = v;
+            best = Some(r);
+        }
+    }
+    best
 }
 
 /// The shared data of a recovery run, owned: the template with regions,
@@ -221,8 +276,16 @@ pub struct RecoveryFixture {
 }
 
 impl RecoveryFixture {
-    /// Build the fixture on a template resolution.
+    /// Build the fixture on a template resolution with the default dictionary.
     pub fn new(resolution: crate::geometry::TemplateResolution) -> Result<Self, PipelineError> {
+        Self::with_dictionary(resolution, &crate::dictionary::DictionaryParams::default())
+    }
+
+    /// Build the fixture on a template resolution with the given dictionary parameters.
+    pub fn with_dictionary(
+        resolution: crate::geometry::TemplateResolution,
+        params: &crate::dictionary::DictionaryParams,
+    ) -> Result<Self, PipelineError> {
         let t = crate::geometry::template(resolution);
         let mut sources = SourceSpace::from_mesh(&t.mesh);
         sources.region = t.region.clone();
@@ -241,12 +304,7 @@ impl RecoveryFixture {
             Orientation::Normal,
             &|_| {},
         )?;
-        let (dictionary, _, _) = crate::pipeline::dictionary_for(
-            &lf,
-            &crate::dictionary::DictionaryParams::default(),
-            None,
-            &|_| {},
-        )?;
+        let (dictionary, _, _) = crate::pipeline::dictionary_for(&lf, params, None, &|_| {})?;
         let geodesic = GeodesicSolver::new(&t.mesh)?;
         Ok(RecoveryFixture {
             sources,

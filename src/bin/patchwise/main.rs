@@ -41,6 +41,8 @@ enum Command {
     Dictionary(commands::dictionary::Args),
     /// Which cortical regions does a decoder rely on? Fit its patterns and attribute them.
     Attribute(Box<commands::attribute::Args>),
+    /// Equivalent-dipole fits of a decoder's patterns (single dipoles or symmetric pairs).
+    Dipole(commands::dipole::Args),
     /// The template cortex: regenerate its GIFTI files.
     Template(commands::template::Args),
     /// Many attributions from a job script: in parallel, resumable, in shards.
@@ -58,6 +60,7 @@ fn main() {
         Command::Leadfield(args) => commands::leadfield::exec(args),
         Command::Dictionary(args) => commands::dictionary::exec(args),
         Command::Attribute(args) => commands::attribute::exec(*args),
+        Command::Dipole(args) => commands::dipole::exec(args),
         Command::Template(args) => commands::template::exec(args),
         Command::Batch(args) => commands::batch::exec(args),
         Command::Compare(args) => commands::compare::exec(*args),

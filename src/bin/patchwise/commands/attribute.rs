@@ -181,7 +181,7 @@ fn reference_atoms(dict: &mut DictionaryFile) {
 
 /// The decoder's patterns (n_ch x k), average-referenced over its channels
 /// unless `average` is false.
-fn decoder_patterns(
+pub(crate) fn decoder_patterns(
     decoder: &DecoderFile,
     path: &Path,
     average: bool,

@@ -6,6 +6,7 @@ pub mod check;
 pub mod compare;
 pub mod demo;
 pub mod dictionary;
+pub mod dipole;
 pub mod leadfield;
 pub mod montage;
 pub mod template;
