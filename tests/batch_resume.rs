@@ -61,14 +61,23 @@ fn splitmix64(state: &mut u64) -> u64 {
     z ^ (z >> 31)
 }
 
-/// SIGKILL at a seeded random moment between 0.5 and 3 s, twice, then a
+/// Eight jobs; SIGKILL at a seeded random moment between 0.5 and 3 s, twice, then a
 /// rerun: every folder seen after a kill is complete (it has its marker),
 /// no staging folder survives the rerun, and every dataset of every
 /// result.h5 equals the uninterrupted run's.
 #[test]
 fn killed_runs_resume_to_the_uninterrupted_numbers() {
     let dir = scratch("batch-kill");
-    six_jobs(&dir);
+    // Eight jobs of 30 resamples: about 3 s on two idle cores, so that a
+    // kill between 0.5 and 3 s lands mid-run.
+    write_decoders(&dir, 8);
+    write_script(
+        &dir,
+        &format!(
+            "{}[[job]]\nname = \"s\"\ndecoder = \"decoders/sub-*.h5\"\n",
+            DEFAULTS.replace("resamples = 5", "resamples = 30")
+        ),
+    );
     let full = batch(&dir, &["jobs.toml", "--out", "full"]);
     assert!(full.status.success(), "{}", text(&full));
     let mut rng = 20_261_202u64;
@@ -80,6 +89,12 @@ fn killed_runs_resume_to_the_uninterrupted_numbers() {
         let _ = child.kill();
         child.wait().unwrap();
         if dir.join("killed").is_dir() {
+            // What the kill left, for the log: whole folders and staging ones.
+            eprintln!(
+                "killed at {delay:.2} s: {} done, hidden {:?}",
+                job_folders(&dir.join("killed")).len(),
+                hidden_entries(&dir.join("killed"))
+            );
             for job in job_folders(&dir.join("killed")) {
                 let d = dir.join("killed").join(&job);
                 for f in ["job.json", "result.h5", "regions.csv", "summary.json"] {
@@ -93,11 +108,11 @@ fn killed_runs_resume_to_the_uninterrupted_numbers() {
     }
     let rerun = batch(&dir, &["jobs.toml", "--out", "killed"]);
     assert!(rerun.status.success(), "{}", text(&rerun));
-    assert_eq!(job_folders(&dir.join("killed")), names(6));
+    assert_eq!(job_folders(&dir.join("killed")), names(8));
     assert!(
         hidden_entries(&dir.join("killed")).is_empty(),
         "{:?}",
         hidden_entries(&dir.join("killed"))
     );
-    assert_same_results(&dir.join("full"), &dir.join("killed"), &names(6));
+    assert_same_results(&dir.join("full"), &dir.join("killed"), &names(8));
 }
