@@ -260,7 +260,11 @@ fn paired_comparison_finds_a_shifted_share() {
     let c = &out.components[0];
     assert!((c.mean_difference[target] - 0.2).abs() < 4.0 * 0.015);
     assert!(c.test.exact);
-    assert!(c.test.p_corrected[target] < 0.05, "{}", c.test.p_corrected[target]);
+    assert!(
+        c.test.p_corrected[target] < 0.05,
+        "{}",
+        c.test.p_corrected[target]
+    );
     assert!(c.mean_low[target] > 0.1);
     assert!(!out.warnings.is_empty());
     // Unequal lists are refused.

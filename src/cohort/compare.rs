@@ -285,7 +285,7 @@ pub fn compare(
     params: &CompareParams,
 ) -> Result<Comparison, CohortError> {
     let n_template = kernel.n_vertices();
-    let warnings = check_subjects(subjects, n_template)?;
+    let mut warnings = check_subjects(subjects, n_template)?;
     if template_region.len() != n_template {
         return Err(CohortError::Shape {
             subject: "template".to_string(),
@@ -377,14 +377,23 @@ pub fn compare(
                     epsilon,
                     ..SinkhornParams::default()
                 };
-                let values: Vec<f64> = pair_list
+                let results: Vec<(f64, bool)> = pair_list
                     .par_iter()
                     .map(|&(i, j)| {
                         sinkhorn(&masses[i], &masses[j], &costs.cost_m, &sp)
-                            .map(|r| r.cost)
-                            .unwrap_or(f64::NAN)
+                            .map(|r| (r.cost, r.marginal_error > 1e-4))
+                            .unwrap_or((f64::NAN, false))
                     })
                     .collect();
+                let unconverged = results.iter().filter(|r| r.1).count();
+                if unconverged > 0 {
+                    warnings.push(format!(
+                        "component {c}: Sinkhorn stopped at {} iterations with a marginal error above 1e-4 for {unconverged} of {} pairs",
+                        sp.max_iterations,
+                        results.len()
+                    ));
+                }
+                let values: Vec<f64> = results.iter().map(|r| r.0).collect();
                 let diagonal: Vec<f64> = masses
                     .par_iter()
                     .map(|m| {

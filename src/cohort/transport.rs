@@ -132,7 +132,7 @@ impl Default for SinkhornParams {
         SinkhornParams {
             epsilon: 1e-3,
             max_iterations: 2000,
-            tolerance: 1e-9,
+            tolerance: 1e-6,
         }
     }
 }

@@ -421,6 +421,12 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let mut inputs = Vec::with_capacity(read.len());
     for (dir, (r, hash)) in args.results.iter().zip(&read) {
         let (map, how) = to_template(dir, r, &template_space, maps.get(&normalise(dir)))?;
+        if r.attribution.region_names.is_empty() {
+            return Err(bad(format!(
+                "{}: the result has no region table (its dictionary had no source regions); compare needs region shares",
+                dir.display()
+            )));
+        }
         if r.attribution.region_names != template_space.sources.region_names {
             return Err(bad(format!(
                 "{}: its regions ({}) differ from the template's ({}); compare needs one region set",
