@@ -13,6 +13,7 @@ mod shares;
 mod uncertainty;
 
 pub use shares::{
-    attribute, Attribution, AttributionError, AttributionInput, ComponentAttribution,
+    attribute, attribute_with, component_shares, Attribution, AttributionError, AttributionInput,
+    ComponentAttribution, ComponentShares, RegionMass,
 };
 pub use uncertainty::{percentile, RegionInterval};

@@ -98,9 +98,133 @@ fn check(what: &'static str, found: usize, expected: usize) -> Result<(), Attrib
     }
 }
 
+/// Where each group's profile lies: Σ over its atoms and sources of |p| per
+/// region (the last slot collects sources without a region). Depends only on
+/// the dictionary, so resampled fits compute it once.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RegionMass {
+    mass: Vec<Vec<f64>>,
+    n_regions: usize,
+}
+
+impl RegionMass {
+    /// The region mass of every group of a CSC profile (n_src × n_atoms).
+    pub fn new(
+        profile: &CsMat<f64>,
+        group: &[usize],
+        source_region: &[i32],
+        n_regions: usize,
+    ) -> RegionMass {
+        let n_groups = group.iter().copied().max().map_or(0, |g| g + 1);
+        let owned;
+        let profile = if profile.is_csc() {
+            profile
+        } else {
+            owned = profile.to_csc();
+            &owned
+        };
+        let mut mass = vec![vec![0.0; n_regions + 1]; n_groups];
+        for (j, column) in profile.outer_iterator().enumerate() {
+            let g = group[j];
+            for (s, &p) in column.iter() {
+                let r = source_region[s];
+                let slot = if r < 0 { n_regions } else { r as usize };
+                mass[g][slot] += p.abs();
+            }
+        }
+        RegionMass { mass, n_regions }
+    }
+}
+
+/// The shares of one component with coefficients `x` (n_atoms): per group,
+/// per region, unassigned, and the reconstruction ŷ = D x.
+pub struct ComponentShares {
+    /// Share of each group.
+    pub group_share: Vec<f64>,
+    /// Share of each region.
+    pub region_share: Vec<f64>,
+    /// Share on sources without a region.
+    pub unassigned_share: f64,
+    /// The reconstruction D x (n_ch).
+    pub y_hat: Vec<f64>,
+}
+
+/// Shares of the reconstruction ŷ = D x: share_g = ⟨D_g x_g, ŷ⟩ / ‖ŷ‖²,
+/// spread over regions by each group's profile mass. `atoms` is row-major
+/// n_ch × n_atoms.
+pub fn component_shares(
+    atoms: &[f64],
+    n_ch: usize,
+    group: &[usize],
+    x: &[f64],
+    mass: &RegionMass,
+) -> ComponentShares {
+    let n_atoms = group.len();
+    let n_groups = mass.mass.len();
+    let n_regions = mass.n_regions;
+    // Per-group reconstructions D_g x_g of the active groups only (a
+    // sorted map keeps the summation order fixed), summed into ŷ.
+    let mut group_recon: std::collections::BTreeMap<usize, Vec<f64>> = Default::default();
+    for (j, &xj) in x.iter().enumerate().take(n_atoms) {
+        if xj != 0.0 {
+            let recon = group_recon
+                .entry(group[j])
+                .or_insert_with(|| vec![0.0; n_ch]);
+            for (i, r) in recon.iter_mut().enumerate() {
+                *r += atoms[i * n_atoms + j] * xj;
+            }
+        }
+    }
+    let mut y_hat = vec![0.0; n_ch];
+    for recon in group_recon.values() {
+        for (yh, r) in y_hat.iter_mut().zip(recon) {
+            *yh += r;
+        }
+    }
+    let y_hat_sq: f64 = y_hat.iter().map(|v| v * v).sum();
+    let mut group_share = vec![0.0; n_groups];
+    if y_hat_sq > 0.0 {
+        for (&g, recon) in &group_recon {
+            group_share[g] = recon.iter().zip(&y_hat).map(|(a, b)| a * b).sum::<f64>() / y_hat_sq;
+        }
+    }
+    let mut region_share = vec![0.0; n_regions];
+    let mut unassigned_share = 0.0;
+    for &g in group_recon.keys() {
+        let share = group_share[g];
+        let m = &mass.mass[g];
+        let total: f64 = m.iter().sum();
+        if share == 0.0 || total <= 0.0 {
+            continue;
+        }
+        for (r, &v) in m.iter().enumerate() {
+            let part = share * v / total;
+            if r == n_regions {
+                unassigned_share += part;
+            } else {
+                region_share[r] += part;
+            }
+        }
+    }
+    ComponentShares {
+        group_share,
+        region_share,
+        unassigned_share,
+        y_hat,
+    }
+}
+
 /// Compute shares, explained variance, residual, source map and peak for
 /// every component.
 pub fn attribute(input: &AttributionInput<'_>) -> Result<Attribution, AttributionError> {
+    attribute_with(input, None)
+}
+
+/// [`attribute`] with a precomputed [`RegionMass`] of the same dictionary.
+pub fn attribute_with(
+    input: &AttributionInput<'_>,
+    mass: Option<&RegionMass>,
+) -> Result<Attribution, AttributionError> {
     let n_ch = input.n_channels;
     let n_atoms = input.group.len();
     let k = input.n_components;
@@ -121,20 +245,26 @@ pub fn attribute(input: &AttributionInput<'_>) -> Result<Attribution, Attributio
             });
         }
     }
-    let n_groups = input.group.iter().copied().max().map_or(0, |g| g + 1);
-    let profile = input.profile.to_csc();
-
-    // Region mass of each group: Σ over its atoms and sources of |p|, so a
-    // patch's share is spread by where its profile lies.
-    let mut group_region_mass = vec![vec![0.0; input.n_regions + 1]; n_groups];
-    for (j, column) in profile.outer_iterator().enumerate() {
-        let g = input.group[j];
-        for (s, &p) in column.iter() {
-            let r = input.source_region[s];
-            let slot = if r < 0 { input.n_regions } else { r as usize };
-            group_region_mass[g][slot] += p.abs();
+    let owned_mass;
+    let mass = match mass {
+        Some(m) => m,
+        None => {
+            owned_mass = RegionMass::new(
+                input.profile,
+                input.group,
+                input.source_region,
+                input.n_regions,
+            );
+            &owned_mass
         }
-    }
+    };
+    let owned_profile;
+    let profile = if input.profile.is_csc() {
+        input.profile
+    } else {
+        owned_profile = input.profile.to_csc();
+        &owned_profile
+    };
 
     let mut components = Vec::with_capacity(k);
     for c in 0..k {
@@ -142,50 +272,12 @@ pub fn attribute(input: &AttributionInput<'_>) -> Result<Attribution, Attributio
             .map(|j| input.coefficients[j * k + c])
             .collect();
         let y: Vec<f64> = (0..n_ch).map(|i| input.patterns[i * k + c]).collect();
-        // Per-group reconstructions D_g x_g of the active groups only (a
-        // sorted map keeps the summation order fixed), summed into ŷ.
-        let mut group_recon: std::collections::BTreeMap<usize, Vec<f64>> = Default::default();
-        for (j, &xj) in x.iter().enumerate() {
-            if xj != 0.0 {
-                let recon = group_recon
-                    .entry(input.group[j])
-                    .or_insert_with(|| vec![0.0; n_ch]);
-                for (i, r) in recon.iter_mut().enumerate() {
-                    *r += input.atoms[i * n_atoms + j] * xj;
-                }
-            }
-        }
-        let mut y_hat = vec![0.0; n_ch];
-        for recon in group_recon.values() {
-            for (yh, r) in y_hat.iter_mut().zip(recon) {
-                *yh += r;
-            }
-        }
-        let y_hat_sq: f64 = y_hat.iter().map(|v| v * v).sum();
-        let mut group_share = vec![0.0; n_groups];
-        if y_hat_sq > 0.0 {
-            for (&g, recon) in &group_recon {
-                group_share[g] =
-                    recon.iter().zip(&y_hat).map(|(a, b)| a * b).sum::<f64>() / y_hat_sq;
-            }
-        }
-        let mut region_share = vec![0.0; input.n_regions];
-        let mut unassigned_share = 0.0;
-        for (g, &share) in group_share.iter().enumerate() {
-            let mass = &group_region_mass[g];
-            let total: f64 = mass.iter().sum();
-            if share == 0.0 || total <= 0.0 {
-                continue;
-            }
-            for (r, &m) in mass.iter().enumerate() {
-                let part = share * m / total;
-                if r == input.n_regions {
-                    unassigned_share += part;
-                } else {
-                    region_share[r] += part;
-                }
-            }
-        }
+        let ComponentShares {
+            group_share,
+            region_share,
+            unassigned_share,
+            y_hat,
+        } = component_shares(input.atoms, n_ch, input.group, &x, mass);
         let residual: Vec<f64> = y.iter().zip(&y_hat).map(|(a, b)| a - b).collect();
         let y_sq: f64 = y.iter().map(|v| v * v).sum();
         let r_sq: f64 = residual.iter().map(|v| v * v).sum();

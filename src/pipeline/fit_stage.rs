@@ -4,7 +4,10 @@ use rayon::prelude::*;
 use sprs::CsMat;
 
 use crate::attribution::rng::SplitMix64;
-use crate::attribution::{attribute, percentile, Attribution, AttributionInput, RegionInterval};
+use crate::attribution::{
+    attribute, component_shares, percentile, Attribution, AttributionInput, RegionInterval,
+    RegionMass,
+};
 use crate::geometry::Vec3;
 use crate::solver::{
     fit, fit_warm, path, refit, DenseDictionary, Fit, Groups, Lambda, NoObserver, Params, PathSpec,
@@ -381,6 +384,13 @@ fn resample(
     }
     .validate()?;
     let params = &resample_params;
+    // The region mass of each patch depends on the dictionary only.
+    let mass = RegionMass::new(
+        problem.profile,
+        problem.group,
+        problem.source_region,
+        problem.n_regions,
+    );
     let done = std::sync::atomic::AtomicUsize::new(0);
     let runs: Vec<Result<Vec<Vec<f64>>, PipelineError>> = (0..opts.n_resamples)
         .into_par_iter()
@@ -408,12 +418,18 @@ fn resample(
                 params,
                 Some(coefficients),
             )?;
-            let a = problem.attribute(&y_star, &coef, k)?;
+            // Only the region shares are needed: no source map, no peak.
+            let shares = (0..k)
+                .map(|c| {
+                    let x: Vec<f64> = (0..n_atoms).map(|j| coef[j * k + c]).collect();
+                    component_shares(problem.atoms, n_ch, problem.group, &x, &mass).region_share
+                })
+                .collect();
             let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
             if n % 4 == 3 {
                 progress(4);
             }
-            Ok(a.components.into_iter().map(|c| c.region_share).collect())
+            Ok(shares)
         })
         .collect();
     let mut shares: Vec<Vec<Vec<f64>>> = vec![vec![Vec::new(); problem.n_regions]; k];

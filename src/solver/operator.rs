@@ -43,6 +43,8 @@ pub struct DenseDictionary {
     n_channels: usize,
     n_atoms: usize,
     atoms: Vec<f64>,
+    /// ‖d_j‖₂ of every atom, computed once (every fit needs them).
+    norms: Vec<f64>,
 }
 
 impl DenseDictionary {
@@ -67,11 +69,20 @@ impl DenseDictionary {
                 atoms[j * n_channels + c] = v;
             }
         }
-        Ok(Self {
+        Ok(Self::assemble(n_channels, n_atoms, atoms))
+    }
+
+    fn assemble(n_channels: usize, n_atoms: usize, atoms: Vec<f64>) -> Self {
+        let norms = atoms
+            .chunks_exact(n_channels)
+            .map(|a| norm_sq(a).sqrt())
+            .collect();
+        Self {
             n_channels,
             n_atoms,
             atoms,
-        })
+            norms,
+        }
     }
 
     /// Builds the dictionary from atoms already stored one after another
@@ -95,11 +106,7 @@ impl DenseDictionary {
                 value: atoms[i],
             });
         }
-        Ok(Self {
-            n_channels,
-            n_atoms,
-            atoms,
-        })
+        Ok(Self::assemble(n_channels, n_atoms, atoms))
     }
 
     fn check_dims(
@@ -144,10 +151,12 @@ impl DenseDictionary {
 
     /// The 2-norm of every atom.
     pub fn atom_norms(&self) -> Vec<f64> {
-        self.atoms
-            .chunks_exact(self.n_channels)
-            .map(|a| norm_sq(a).sqrt())
-            .collect()
+        self.norms.clone()
+    }
+
+    /// The 2-norm of atom `j` (panics if `j` is out of range).
+    pub fn atom_norm(&self, j: usize) -> f64 {
+        self.norms[j]
     }
 
     /// Copies the atoms `indices` (in that order) into a new dictionary.
@@ -160,6 +169,7 @@ impl DenseDictionary {
             n_channels: self.n_channels,
             n_atoms: indices.len(),
             atoms,
+            norms: indices.iter().map(|&j| self.norms[j]).collect(),
         }
     }
 

@@ -54,7 +54,7 @@ impl<'a> Prepared<'a> {
 /// upper bound and therefore still safe for screening.
 fn spectral_norm(dict: &DenseDictionary, members: &[usize]) -> f64 {
     if let [j] = members {
-        return norm_sq(dict.atom(*j)).sqrt();
+        return dict.atom_norm(*j);
     }
     let m = members.len();
     let gram = Mat::<f64>::from_fn(m, m, |a, b| {
