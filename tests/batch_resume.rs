@@ -68,14 +68,14 @@ fn splitmix64(state: &mut u64) -> u64 {
 #[test]
 fn killed_runs_resume_to_the_uninterrupted_numbers() {
     let dir = scratch("batch-kill");
-    // Eight jobs of 30 resamples: about 3 s on two idle cores, so that a
+    // Eight jobs of 60 resamples: about 3 s on two idle cores, so that a
     // kill between 0.5 and 3 s lands mid-run.
     write_decoders(&dir, 8);
     write_script(
         &dir,
         &format!(
             "{}[[job]]\nname = \"s\"\ndecoder = \"decoders/sub-*.h5\"\n",
-            DEFAULTS.replace("resamples = 5", "resamples = 30")
+            DEFAULTS.replace("resamples = 5", "resamples = 60")
         ),
     );
     let full = batch(&dir, &["jobs.toml", "--out", "full"]);
