@@ -14,6 +14,8 @@
 
 pub mod attribution;
 pub mod baseline;
+pub mod batch;
+pub mod cohort;
 pub mod demo;
 pub mod dictionary;
 pub mod dipole;

@@ -5,6 +5,7 @@
 
 pub mod atomic;
 pub mod cache;
+pub mod compare_file;
 pub mod decoder_file;
 pub mod dictionary_file;
 pub mod dipole_file;
@@ -13,6 +14,7 @@ pub mod error;
 pub mod gifti;
 pub mod hdf5_backend;
 pub mod leadfield_file;
+pub mod mapping_file;
 pub mod npy;
 pub mod off;
 pub mod ply;

@@ -47,6 +47,11 @@ enum Command {
     Template(commands::template::Args),
     /// One self-contained HTML page for a result folder.
     Report(commands::report::Args),
+
+    /// Many attributions from a job script: in parallel, resumable, in shards.
+    Batch(commands::batch::Args),
+    /// Compare attributions across subjects on one template cortex.
+    Compare(Box<commands::compare::Args>),
 }
 
 fn main() {
@@ -61,6 +66,9 @@ fn main() {
         Command::Dipole(args) => commands::dipole::exec(args),
         Command::Template(args) => commands::template::exec(args),
         Command::Report(args) => commands::report::exec(args),
+
+        Command::Batch(args) => commands::batch::exec(args),
+        Command::Compare(args) => commands::compare::exec(*args),
     };
     if let Err(err) = outcome {
         eprintln!("error: {err}");

@@ -198,8 +198,23 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
 /// Write result.h5, regions.csv and summary.json into `out` atomically and
 /// print the table. Returns the folder.
 pub fn write_outputs(out: &Path, a: &Attribution) -> Result<PathBuf, CliError> {
-    let rows = region_rows(a);
     let stage = Staging::new(out).map_err(CliError::compute)?;
+    let rows = write_files(&stage, a)?;
+    let dir = stage.commit().map_err(CliError::compute)?;
+    print_table(a, &rows, 6);
+    println!();
+    println!(
+        "results in {} (result.h5, regions.csv, summary.json)",
+        dir.display()
+    );
+    println!("caution: {CAUTION}");
+    Ok(dir)
+}
+
+/// Write result.h5, regions.csv and summary.json into a staging folder
+/// (committed by the caller); returns the region rows.
+pub fn write_files(stage: &Staging, a: &Attribution) -> Result<Vec<Vec<RegionRow>>, CliError> {
+    let rows = region_rows(a);
     let names = region_names(a);
     let notes = serde_json::to_string(&a.notes).unwrap_or_default();
     let record = ResultRecord {
@@ -249,13 +264,5 @@ pub fn write_outputs(out: &Path, a: &Attribution) -> Result<PathBuf, CliError> {
     let summary = serde_json::to_string_pretty(&summary_json(a, &rows)).unwrap_or_default();
     patchwise::io::atomic::write_atomic(&stage.file("summary.json"), summary.as_bytes())
         .map_err(|e| CliError::compute(anyhow::anyhow!("writing summary.json: {e}")))?;
-    let dir = stage.commit().map_err(CliError::compute)?;
-    print_table(a, &rows, 6);
-    println!();
-    println!(
-        "results in {} (result.h5, regions.csv, summary.json)",
-        dir.display()
-    );
-    println!("caution: {CAUTION}");
-    Ok(dir)
+    Ok(rows)
 }

@@ -1,12 +1,34 @@
-//! Progress bars on stderr, drawn only when stderr is a terminal.
+//! Progress bars on stderr, drawn only when stderr is a terminal; a quiet
+//! switch silences the per-command bars and notes (batch runs draw one
+//! overall bar instead).
 
 use std::io::IsTerminal;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 use indicatif::{ProgressBar, ProgressStyle};
 
+/// Set by batch runs: the bars and notes of the jobs stay hidden so that
+/// parallel jobs do not interleave their output.
+static QUIET: AtomicBool = AtomicBool::new(false);
+
+/// Hide the bars of [`bar`] and the lines of [`note`] from now on (or show
+/// them again).
+pub fn set_quiet(quiet: bool) {
+    QUIET.store(quiet, Ordering::Relaxed);
+}
+
 /// A progress bar for `total` steps of `what`, hidden when stderr is not a
-/// terminal (pipes, CI logs and tests stay clean).
+/// terminal (pipes, CI logs and tests stay clean) or in quiet mode.
 pub fn bar(total: usize, what: &str) -> ProgressBar {
+    if QUIET.load(Ordering::Relaxed) {
+        return ProgressBar::hidden();
+    }
+    terminal_bar(total, what)
+}
+
+/// A progress bar for `total` steps of `what`, hidden only when stderr is
+/// not a terminal.
+pub fn terminal_bar(total: usize, what: &str) -> ProgressBar {
     if !std::io::stderr().is_terminal() {
         return ProgressBar::hidden();
     }
@@ -19,7 +41,9 @@ pub fn bar(total: usize, what: &str) -> ProgressBar {
     pb
 }
 
-/// A status line on stderr (always shown; short).
+/// A status line on stderr (short; silent in quiet mode).
 pub fn note(message: impl std::fmt::Display) {
-    eprintln!("{message}");
+    if !QUIET.load(Ordering::Relaxed) {
+        eprintln!("{message}");
+    }
 }

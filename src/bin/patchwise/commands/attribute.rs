@@ -2,6 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
+use patchwise::batch::cache_locks;
 use patchwise::dictionary::{
     atoms_for_channels, select_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM,
 };
@@ -306,25 +307,54 @@ fn dictionary_for_decoder(
     let d_hash = dh.hex();
     hashes.push(("leadfield".to_string(), lf_hash.clone()));
     hashes.push(("dictionary".to_string(), d_hash.clone()));
-    let d_path = entry_path(&cache, "dictionary", &d_hash);
+    // Parallel batch jobs on the same channels wait here for the first one
+    // to build the entry instead of building it again.
+    cache_locks().with_lock(&d_hash, || {
+        cached_dictionary(
+            args,
+            &cache,
+            &lf_hash,
+            &d_hash,
+            (&montage, &sources, &head),
+            orientation,
+        )
+    })
+}
+
+/// The dictionary entry `d_hash` from the cache, built (with its lead field
+/// `lf_hash`, itself cached) when missing or unreadable.
+fn cached_dictionary(
+    args: &Args,
+    cache: &Path,
+    lf_hash: &str,
+    d_hash: &str,
+    (montage, sources, head): (
+        &Montage,
+        &patchwise::geometry::SourceSpace,
+        &patchwise::head::SphereHead,
+    ),
+    orientation: Orientation,
+) -> Result<DictionaryFile, CliError> {
+    let d_path = entry_path(cache, "dictionary", d_hash);
     if d_path.is_file() {
         if let Ok(d) = read_dictionary(&d_path) {
             note(format!("using cached dictionary {}", d_path.display()));
             return Ok(d);
         }
     }
-    let lf_path = entry_path(&cache, "leadfield", &lf_hash);
-    let lf: LeadFieldFile = match read_leadfield(&lf_path) {
-        Ok(lf) if lf_path.is_file() => {
-            note(format!("using cached lead field {}", lf_path.display()));
-            lf
-        }
-        _ => {
-            let lf = compute_leadfield(&montage, &sources, &head, orientation)?;
-            write_leadfield(&lf_path, &lf).compute(format!("caching {}", lf_path.display()))?;
-            lf
-        }
-    };
+    let lf_path = entry_path(cache, "leadfield", lf_hash);
+    let lf: LeadFieldFile =
+        cache_locks().with_lock(lf_hash, || match read_leadfield(&lf_path) {
+            Ok(lf) if lf_path.is_file() => {
+                note(format!("using cached lead field {}", lf_path.display()));
+                Ok(lf)
+            }
+            _ => {
+                let lf = compute_leadfield(montage, sources, head, orientation)?;
+                write_leadfield(&lf_path, &lf).compute(format!("caching {}", lf_path.display()))?;
+                Ok::<_, CliError>(lf)
+            }
+        })?;
     let (d, _info) = super::dictionary::build(&lf, &args.dictionary_options)?;
     write_dictionary(&d_path, &lf, &d, &args.dictionary_options.to_json())
         .compute(format!("caching {}", d_path.display()))?;

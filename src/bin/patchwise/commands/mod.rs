@@ -1,7 +1,9 @@
 //! One file per subcommand: its arguments and an `exec` that calls the library.
 
 pub mod attribute;
+pub mod batch;
 pub mod check;
+pub mod compare;
 pub mod demo;
 pub mod dictionary;
 pub mod dipole;

@@ -1,0 +1,39 @@
+//! Job scripts for many attributions at once: parsing, validation, glob
+//! expansion, shards and the input hash that makes reruns resumable.
+//!
+//! A job script is a TOML file with an optional `[defaults]` table, one
+//! `[[job]]` table per job and an optional `[compare]` table:
+//!
+//! ```toml
+//! [defaults]
+//! sources = "template-5k"
+//! montage = "10-10"
+//! resamples = 100
+//!
+//! [[job]]
+//! name = "sub-01"
+//! decoder = "decoders/sub-01.npz"
+//!
+//! [[job]]
+//! name = "patients"
+//! decoder = "patients/*.npz"   # one job per file: patients-<file stem>
+//! lambda_ratio = 0.1
+//! ```
+//!
+//! Keys have the meaning of `patchwise attribute`'s flags with `_` for `-`;
+//! a job's key overrides the same key of `[defaults]`; unknown keys are
+//! rejected with their line. Relative paths are relative to the script's
+//! folder. This module reads the script and hashes input files but runs
+//! nothing: executing the jobs is the binary's part.
+
+mod error;
+mod keyed_lock;
+mod plan;
+mod script;
+mod shard;
+
+pub use error::BatchError;
+pub use keyed_lock::{cache_locks, KeyedLocks};
+pub use plan::{input_hash, load_script, parse_script, CompareSpec, Job, Script};
+pub use script::JobOptions;
+pub use shard::Shard;

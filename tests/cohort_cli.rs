@@ -1,0 +1,268 @@
+//! `patchwise compare` end to end: subjects made by `attribute` on
+//! perturbed copies of the demo decoder (template-5k), the group test, the
+//! paired comparison, an index map, and bad input (exit 2, nothing written).
+#![allow(clippy::unwrap_used)]
+
+mod common;
+
+use std::path::{Path, PathBuf};
+
+use common::cli::patchwise;
+use patchwise::attribution::rng::SplitMix64;
+use patchwise::io::table::read_table;
+use patchwise::io::{Array, Dataset, Store};
+
+/// The demo's decoder (three components, 64 channels) in `dir`.
+fn demo_decoder(dir: &Path) -> PathBuf {
+    let out = patchwise(
+        &[
+            "demo",
+            "--sources",
+            "template-5k",
+            "--resamples",
+            "0",
+            "--out",
+            "demo",
+            "--cache",
+            "cache",
+        ],
+        dir,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    dir.join("demo").join("decoder.h5")
+}
+
+/// A subject: the demo decoder's weights plus seeded Gaussian noise of
+/// `noise` times each weight column's RMS, keeping the first `k` components,
+/// attributed with 10 bootstrap resamples into `dir/name`.
+fn subject(dir: &Path, decoder: &Path, name: &str, seed: u64, noise: f64, k: usize) {
+    let mut store = Store::read(decoder).unwrap();
+    let (w, shape) = store.f64_array(decoder, "/weights").unwrap();
+    let (n_ch, k0) = (shape[0], shape[1]);
+    let mut rng = SplitMix64::new(seed, 0);
+    let rms: Vec<f64> = (0..k0)
+        .map(|c| ((0..n_ch).map(|i| w[i * k0 + c].powi(2)).sum::<f64>() / n_ch as f64).sqrt())
+        .collect();
+    let mut out = Vec::with_capacity(n_ch * k);
+    for i in 0..n_ch {
+        for c in 0..k {
+            out.push(w[i * k0 + c] + noise * rms[c] * rng.normal());
+        }
+    }
+    store.insert("/weights", Dataset::f64(vec![n_ch, k], out));
+    let names = store.strings(decoder, "/component_names", None).unwrap();
+    store.insert("/component_names", Dataset::strings(names[..k].to_vec()));
+    let path = dir.join(format!("{name}.h5"));
+    store.write_atomic(&path).unwrap();
+    let out = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            path.to_str().unwrap(),
+            "--montage",
+            "10-10",
+            "--sources",
+            "template-5k",
+            "--resamples",
+            "10",
+            "--cache",
+            "cache",
+            "--out",
+            name,
+        ],
+        dir,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+fn column(table: &patchwise::io::table::Table, name: &str) -> usize {
+    table.column(&[name]).unwrap()
+}
+
+#[test]
+fn compare_finds_the_shared_region_pairs_decoders_and_rejects_bad_input() {
+    let dir = common::python::scratch_dir("cohort_cli");
+    let decoder = demo_decoder(&dir);
+    let names: Vec<String> = (0..6).map(|i| format!("s{i}-A")).collect();
+    for (i, n) in names.iter().enumerate() {
+        subject(&dir, &decoder, n, 100 + i as u64, 0.05, 3);
+    }
+    for i in 0..3 {
+        subject(&dir, &decoder, &format!("s{i}-B"), 200 + i, 0.3, 3);
+    }
+    let mut args: Vec<&str> = vec!["compare"];
+    args.extend(names.iter().map(|s| s.as_str()));
+    args.extend(["--out", "group", "--bootstrap", "500"]);
+    let out = patchwise(&args, &dir);
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(stdout.contains("left-precentral"), "{stdout}");
+
+    // The demo's right-hand component (attribute names it "component 0")
+    // is generated in the left precentral
+    // region (src/demo); with six subjects the sign-flip test enumerates 64
+    // sign vectors and can reach p = 2/64 < 0.05 (Nichols & Holmes 2002).
+    let regions = read_table(&dir.join("group/regions.csv")).unwrap();
+    let (ci, ri, pi) = (
+        column(&regions, "component"),
+        column(&regions, "region"),
+        column(&regions, "p_corrected"),
+    );
+    let row = regions
+        .rows
+        .iter()
+        .find(|r| r.fields[ci] == "component 0" && r.fields[ri] == "left-precentral")
+        .unwrap();
+    let p: f64 = row.fields[pi].parse().unwrap();
+    assert!(p < 0.05, "corrected p {p}");
+    let sim = read_table(&dir.join("group/similarity.csv")).unwrap();
+    assert_eq!(sim.rows.len(), 3 * 15);
+    let cos = column(&sim, "cosine");
+    for r in &sim.rows {
+        let c: f64 = r.fields[cos].parse().unwrap();
+        assert!(c > 0.8, "cosine {c} in {:?}", r.fields);
+    }
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("group/summary.json")).unwrap())
+            .unwrap();
+    assert_eq!(summary["subjects"].as_array().unwrap().len(), 6);
+    assert!(summary["caution"]
+        .as_str()
+        .unwrap()
+        .contains("not a medical device"));
+    let h5 = Store::read(&dir.join("group/compare.h5")).unwrap();
+    assert_eq!(h5.datasets["/group/share"].shape[..2], [3, 6]);
+    assert_eq!(h5.datasets["/similarity/cosine"].shape, vec![3, 6, 6]);
+    // h5py 3.16 reads the layout of docs/cohort.md (interoperability, no
+    // numerical tolerance: the p-values must equal regions.csv's to 1e-6,
+    // the CSV's printed precision).
+    if let Some(py) = common::python::python() {
+        let script = r#"
+import sys, csv, h5py, numpy as np
+f = h5py.File(sys.argv[1], "r")
+assert "not a medical device" in f.attrs["caution"]
+p = f["/group/p_corrected"][()]
+names = [n.decode() if isinstance(n, bytes) else n for n in f["/regions/names"][()]]
+assert p.shape == (3, len(names))
+assert f["/group/share"].shape[:2] == (3, 6)
+assert abs(f["/similarity"].attrs["smoothing_sigma_mm"] - 10.0) < 1e-12
+rows = list(csv.DictReader(open(sys.argv[2])))
+for r in rows:
+    c = int(r["component"].split()[-1]); j = names.index(r["region"])
+    assert abs(float(r["p_corrected"]) - p[c, j]) <= 1e-6
+"#;
+        common::python::run(
+            &py,
+            script,
+            &[
+                &dir.join("group/compare.h5"),
+                &dir.join("group/regions.csv"),
+            ],
+        );
+    }
+
+    // Paired comparison: A (5 % noise) against B (30 % noise), three subjects.
+    let out = patchwise(
+        &[
+            "compare", "s0-A", "s1-A", "s2-A", "s0-B", "s1-B", "s2-B", "--pair", "A", "B", "--out",
+            "paired",
+        ],
+        &dir,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let paired = read_table(&dir.join("paired/paired.csv")).unwrap();
+    assert_eq!(paired.rows.len(), 3 * regions.rows.len() / 3);
+
+    // A result on a shifted cortex: refused without a map, accepted with an
+    // identity index map.
+    copy_dir(&dir.join("s1-A"), &dir.join("shifted"));
+    let result = dir.join("shifted/result.h5");
+    let mut store = Store::read(&result).unwrap();
+    if let Array::F64(v) = &mut store
+        .datasets
+        .get_mut("/sources/positions_mm")
+        .unwrap()
+        .data
+    {
+        v.iter_mut().for_each(|x| *x += 1.0);
+    }
+    store.write_atomic(&result).unwrap();
+    let bad = patchwise(&["compare", "s0-A", "shifted", "--out", "x1"], &dir);
+    assert_eq!(bad.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&bad.stderr);
+    assert!(err.contains("shifted") && err.contains("--map"), "{err}");
+    assert!(!dir.join("x1").exists());
+    let n_src = store.datasets["/sources/positions_mm"].shape[0];
+    let map: String = (0..n_src).map(|v| format!("{v}\n")).collect();
+    std::fs::write(dir.join("identity.txt"), map).unwrap();
+    let ok = patchwise(
+        &[
+            "compare",
+            "s0-A",
+            "shifted",
+            "--map",
+            "shifted=identity.txt",
+            "--out",
+            "x2",
+        ],
+        &dir,
+    );
+    assert!(
+        ok.status.success(),
+        "{}",
+        String::from_utf8_lossy(&ok.stderr)
+    );
+
+    // Bad input: one result; a folder without result.h5; another region
+    // set; another number of components.
+    let one = patchwise(&["compare", "s0-A", "--out", "x3"], &dir);
+    assert_eq!(one.status.code(), Some(2));
+    std::fs::create_dir_all(dir.join("empty")).unwrap();
+    let empty = patchwise(&["compare", "s0-A", "empty", "--out", "x4"], &dir);
+    assert_eq!(empty.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&empty.stderr).contains("empty"));
+    copy_dir(&dir.join("s1-A"), &dir.join("renamed"));
+    let result = dir.join("renamed/result.h5");
+    let mut store = Store::read(&result).unwrap();
+    for ds in ["/attribution/region_names", "/sources/region_names"] {
+        if let Array::Str(v) = &mut store.datasets.get_mut(ds).unwrap().data {
+            v[0] = "somewhere-else".to_string();
+        }
+    }
+    store.write_atomic(&result).unwrap();
+    let regions_bad = patchwise(&["compare", "s0-A", "renamed", "--out", "x5"], &dir);
+    assert_eq!(regions_bad.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&regions_bad.stderr).contains("renamed"));
+    subject(&dir, &decoder, "two", 300, 0.05, 2);
+    let k_bad = patchwise(&["compare", "s0-A", "two", "--out", "x6"], &dir);
+    assert_eq!(k_bad.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&k_bad.stderr);
+    assert!(err.contains("two") && err.contains("components"), "{err}");
+    for x in ["x3", "x4", "x5", "x6"] {
+        assert!(!dir.join(x).exists(), "{x} was written");
+    }
+}
+
+fn copy_dir(from: &Path, to: &Path) {
+    std::fs::create_dir_all(to).unwrap();
+    for e in std::fs::read_dir(from).unwrap() {
+        let e = e.unwrap();
+        std::fs::copy(e.path(), to.join(e.file_name())).unwrap();
+    }
+}
