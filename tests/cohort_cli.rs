@@ -228,6 +228,47 @@ for r in rows:
         "{}",
         String::from_utf8_lossy(&ok.stderr)
     );
+    // The same through nearest neighbour between "registered spheres": here
+    // one GIFTI file for both sides (the template's own vertex positions),
+    // so every subject vertex finds its own position at distance zero and
+    // the similarities equal those of the identity index map.
+    let t = patchwise::geometry::template(patchwise::geometry::TemplateResolution::Low);
+    patchwise::io::gifti::write_gifti_surface(
+        &dir.join("sphere.gii"),
+        &t.mesh,
+        patchwise::io::gifti::GiftiEncoding::Base64Binary,
+    )
+    .unwrap();
+    let nn = patchwise(
+        &[
+            "compare",
+            "s0-A",
+            "shifted",
+            "--map",
+            "shifted=sphere.gii,sphere.gii",
+            "--out",
+            "x7",
+        ],
+        &dir,
+    );
+    assert!(
+        nn.status.success(),
+        "{}",
+        String::from_utf8_lossy(&nn.stderr)
+    );
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("x7/summary.json")).unwrap())
+            .unwrap();
+    assert!(summary["mapping"][1]
+        .as_str()
+        .unwrap()
+        .starts_with("nearest neighbour"));
+    let by_sphere = read_table(&dir.join("x7/similarity.csv")).unwrap();
+    let by_index = read_table(&dir.join("x2/similarity.csv")).unwrap();
+    let cos = column(&by_sphere, "cosine");
+    for (x, y) in by_sphere.rows.iter().zip(&by_index.rows) {
+        assert_eq!(x.fields[cos], y.fields[cos]);
+    }
 
     // Bad input: one result; a folder without result.h5; another region
     // set; another number of components.

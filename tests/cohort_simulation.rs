@@ -17,7 +17,13 @@ struct Setup {
     areas: Vec<f64>,
 }
 
-fn setup() -> Setup {
+/// Built once and shared by the tests of this file.
+fn setup() -> &'static Setup {
+    static SETUP: std::sync::OnceLock<Setup> = std::sync::OnceLock::new();
+    SETUP.get_or_init(build_setup)
+}
+
+fn build_setup() -> Setup {
     let t = template(TemplateResolution::Low);
     let solver = GeodesicSolver::new(&t.mesh).unwrap();
     let kernel = SmoothingKernel::new(&solver, 0.010, 3.0).unwrap();
@@ -116,7 +122,7 @@ fn a_shared_generating_region_is_found_and_maps_are_similar() {
             .unwrap();
     let mut rng = SplitMix64::new(2024, 0);
     let subjects: Vec<SubjectResult> = (0..12)
-        .map(|i| subject(&s, &format!("s{i}"), target, &mut rng))
+        .map(|i| subject(s, &format!("s{i}"), target, &mut rng))
         .collect();
     let out = compare(&subjects, &s.kernel, &s.t.region, Some(&s.costs), &params()).unwrap();
     let comp = &out.components[0];
@@ -151,7 +157,7 @@ fn a_shared_generating_region_is_found_and_maps_are_similar() {
             .iter()
             .position(|n| n == "right-medial-occipital")
             .unwrap();
-    let far = vec![subjects[0].clone(), subject(&s, "far", other, &mut rng)];
+    let far = vec![subjects[0].clone(), subject(s, "far", other, &mut rng)];
     let out = compare(&far, &s.kernel, &s.t.region, Some(&s.costs), &params()).unwrap();
     println!("cosine across regions {}", out.components[0].cosine[1]);
     assert!(
@@ -179,7 +185,7 @@ fn random_generators_rarely_give_family_wise_false_positives() {
         let subjects: Vec<SubjectResult> = (0..12)
             .map(|i| {
                 let r = ((rng.uniform() * n_r as f64) as usize).min(n_r - 1);
-                subject(&s, &format!("s{i}"), r, &mut rng)
+                subject(s, &format!("s{i}"), r, &mut rng)
             })
             .collect();
         let p = CompareParams {
@@ -209,7 +215,7 @@ fn results_do_not_depend_on_the_thread_count() {
     let mut rng = SplitMix64::new(99, 0);
     let n_r = s.t.region_names.len();
     let subjects: Vec<SubjectResult> = (0..9)
-        .map(|i| subject(&s, &format!("s{i}"), i % n_r, &mut rng))
+        .map(|i| subject(s, &format!("s{i}"), i % n_r, &mut rng))
         .collect();
     let run = |threads: usize| {
         rayon::ThreadPoolBuilder::new()
@@ -246,7 +252,7 @@ fn paired_comparison_finds_a_shifted_share() {
     let mut a = Vec::new();
     let mut b = Vec::new();
     for i in 0..8 {
-        let base = subject(&s, &format!("s{i}"), i % 5 + 10, &mut rng);
+        let base = subject(s, &format!("s{i}"), i % 5 + 10, &mut rng);
         let mut other = base.clone();
         other.share = base.share.iter().map(|x| x + 0.03 * rng.normal()).collect();
         let mut with = base.clone();

@@ -131,7 +131,7 @@ impl Default for SinkhornParams {
     fn default() -> Self {
         SinkhornParams {
             epsilon: 1e-3,
-            max_iterations: 2000,
+            max_iterations: 500,
             tolerance: 1e-6,
         }
     }

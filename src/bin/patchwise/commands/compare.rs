@@ -108,7 +108,9 @@ fn parse_maps(maps: &[String]) -> Result<BTreeMap<PathBuf, MapSpec>, CliError> {
 
 /// A folder path without a trailing separator or `./`, for matching --map.
 fn normalise(p: &Path) -> PathBuf {
-    p.components().collect()
+    p.components()
+        .filter(|c| !matches!(c, std::path::Component::CurDir))
+        .collect()
 }
 
 fn folder_name(dir: &Path) -> String {
