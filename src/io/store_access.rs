@@ -76,11 +76,7 @@ impl Store {
         expected_rows: Option<usize>,
         expected_cols: Option<usize>,
     ) -> Result<(Vec<f64>, usize, usize), IoError> {
-        let ds = self.dataset(file, name)?;
-        let values = numeric_as_f64(ds, file, name)?;
-        let (values, rows, cols) = as_matrix(ds, values, file, name, expected_rows, expected_cols)?;
-        check_finite(&values, file, name)?;
-        Ok((values, rows, cols))
+        self.matrix_checked(file, name, expected_rows, expected_cols, false)
     }
 
     /// Like [`Store::f64_matrix`] but NaN is allowed (our own files mark
@@ -93,14 +89,21 @@ impl Store {
         expected_rows: Option<usize>,
         expected_cols: Option<usize>,
     ) -> Result<(Vec<f64>, usize, usize), IoError> {
+        self.matrix_checked(file, name, expected_rows, expected_cols, true)
+    }
+
+    fn matrix_checked(
+        &self,
+        file: &Path,
+        name: &str,
+        expected_rows: Option<usize>,
+        expected_cols: Option<usize>,
+        allow_nan: bool,
+    ) -> Result<(Vec<f64>, usize, usize), IoError> {
         let ds = self.dataset(file, name)?;
         let values = numeric_as_f64(ds, file, name)?;
         let (values, rows, cols) = as_matrix(ds, values, file, name, expected_rows, expected_cols)?;
-        let masked: Vec<f64> = values
-            .iter()
-            .map(|v| if v.is_nan() { 0.0 } else { *v })
-            .collect();
-        check_finite(&masked, file, name)?;
+        check_values(&values, file, name, allow_nan)?;
         Ok((values, rows, cols))
     }
 
@@ -112,11 +115,7 @@ impl Store {
         name: &str,
         expected_len: Option<usize>,
     ) -> Result<Vec<f64>, IoError> {
-        let ds = self.dataset(file, name)?;
-        vector_shape(ds, file, name, expected_len)?;
-        let values = numeric_as_f64(ds, file, name)?;
-        check_finite(&values, file, name)?;
-        Ok(values)
+        self.vector_checked(file, name, expected_len, false)
     }
 
     /// Like [`Store::f64s`] but NaN is allowed (our own "no value" mark);
@@ -127,14 +126,20 @@ impl Store {
         name: &str,
         expected_len: Option<usize>,
     ) -> Result<Vec<f64>, IoError> {
+        self.vector_checked(file, name, expected_len, true)
+    }
+
+    fn vector_checked(
+        &self,
+        file: &Path,
+        name: &str,
+        expected_len: Option<usize>,
+        allow_nan: bool,
+    ) -> Result<Vec<f64>, IoError> {
         let ds = self.dataset(file, name)?;
         vector_shape(ds, file, name, expected_len)?;
         let values = numeric_as_f64(ds, file, name)?;
-        let masked: Vec<f64> = values
-            .iter()
-            .map(|v| if v.is_nan() { 0.0 } else { *v })
-            .collect();
-        check_finite(&masked, file, name)?;
+        check_values(&values, file, name, allow_nan)?;
         Ok(values)
     }
 
@@ -345,8 +350,12 @@ fn integers(ds: &Dataset, file: &Path, name: &str) -> Result<Vec<i64>, IoError> 
     }
 }
 
-fn check_finite(values: &[f64], file: &Path, name: &str) -> Result<(), IoError> {
-    match values.iter().position(|v| !v.is_finite()) {
+/// Every value finite (or NaN, when `allow_nan`).
+fn check_values(values: &[f64], file: &Path, name: &str, allow_nan: bool) -> Result<(), IoError> {
+    match values
+        .iter()
+        .position(|v| !(v.is_finite() || (allow_nan && v.is_nan())))
+    {
         None => Ok(()),
         Some(i) => Err(IoError::Value {
             path: file.to_path_buf(),
@@ -354,6 +363,10 @@ fn check_finite(values: &[f64], file: &Path, name: &str) -> Result<(), IoError> 
             message: format!("{} is not finite, expected a finite number", values[i]),
         }),
     }
+}
+
+fn check_finite(values: &[f64], file: &Path, name: &str) -> Result<(), IoError> {
+    check_values(values, file, name, false)
 }
 
 /// `values` holds a row-major `rows × cols` matrix; return its transpose,
