@@ -97,7 +97,13 @@ fn killed_runs_resume_to_the_uninterrupted_numbers() {
             );
             for job in job_folders(&dir.join("killed")) {
                 let d = dir.join("killed").join(&job);
-                for f in ["job.json", "result.h5", "regions.csv", "summary.json"] {
+                for f in [
+                    "job.json",
+                    "result.h5",
+                    "regions.csv",
+                    "summary.json",
+                    "report.html",
+                ] {
                     assert!(
                         d.join(f).is_file(),
                         "{job}/{f} missing after the kill at {delay:.2} s"

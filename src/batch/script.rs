@@ -49,6 +49,8 @@ pub struct JobOptions {
     pub profile: Option<String>,
     /// `--atom-orientation`: `normal` or `free`.
     pub atom_orientation: Option<String>,
+    /// `--no-report`: no report.html in the job's folder.
+    pub no_report: Option<bool>,
 }
 
 impl JobOptions {
@@ -76,7 +78,8 @@ impl JobOptions {
             radii_mm,
             spacing_mm,
             profile,
-            atom_orientation
+            atom_orientation,
+            no_report
         )
     }
 }
@@ -106,6 +109,7 @@ pub(crate) struct RawJob {
     pub spacing_mm: Option<f64>,
     pub profile: Option<String>,
     pub atom_orientation: Option<String>,
+    pub no_report: Option<bool>,
 }
 
 impl RawJob {
@@ -131,6 +135,7 @@ impl RawJob {
             spacing_mm: self.spacing_mm,
             profile: self.profile.clone(),
             atom_orientation: self.atom_orientation.clone(),
+            no_report: self.no_report,
         }
     }
 }

@@ -113,6 +113,17 @@ pub fn write_report(
     out: Option<&Path>,
     job: Vec<(String, String)>,
 ) -> Result<PathBuf, CliError> {
+    write_report_as(dir, out, job, None)
+}
+
+/// [`write_report`] for a folder still being staged: the page names
+/// `shown` (the folder the result will have) instead of `dir`.
+pub fn write_report_as(
+    dir: &Path,
+    out: Option<&Path>,
+    job: Vec<(String, String)>,
+    shown: Option<&Path>,
+) -> Result<PathBuf, CliError> {
     if !dir.is_dir() {
         return Err(bad(format!(
             "{}: no such folder (expected a result folder written by `patchwise attribute` or `patchwise demo`)",
@@ -126,8 +137,11 @@ pub fn write_report(
             result_path.display()
         )));
     }
-    let result = read_result(&result_path)
+    let mut result = read_result(&result_path)
         .map_err(|e| CliError::bad_input(anyhow::Error::new(e).context("reading the result")))?;
+    if let Some(shown) = shown {
+        result.path = shown.join("result.h5");
+    }
     let summary_path = dir.join("summary.json");
     let summary: Option<serde_json::Value> = if summary_path.is_file() {
         let text = std::fs::read_to_string(&summary_path)

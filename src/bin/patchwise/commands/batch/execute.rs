@@ -8,6 +8,7 @@ use std::path::{Path, PathBuf};
 use clap::{Parser, ValueEnum};
 use patchwise::batch::Job;
 
+use super::super::report::{job_of, write_report_as};
 use crate::commands::attribute::{self, Args as AttributeArgs};
 use crate::commands::dictionary::{AtomOrientationArg, ProfileArg};
 use crate::outputs::write_files;
@@ -69,6 +70,7 @@ pub fn attribute_args(
     }
     a.seed = o.seed.unwrap_or(a.seed);
     a.no_refit = o.no_refit.unwrap_or(a.no_refit);
+    a.no_report = o.no_report.unwrap_or(a.no_report);
     if let Some(r) = &o.radii_mm {
         a.dictionary_options.radii_mm = r.clone();
     }
@@ -127,6 +129,18 @@ fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<()
     let result = attribute::run(&args, None)?;
     let stage = Staging::new(&target).map_err(CliError::compute)?;
     write_files(&stage, &result)?;
+    if !args.no_report {
+        // Inside the staged folder, before the marker: a job's folder has
+        // its report exactly when `attribute` would have written one.
+        let staged = stage.file("result.h5");
+        let dir = staged.parent().unwrap_or(out);
+        write_report_as(
+            dir,
+            Some(&stage.file("report.html")),
+            job_of(&args),
+            Some(&target),
+        )?;
+    }
     let marker = serde_json::json!({
         "job": job.name,
         "group": job.group,
