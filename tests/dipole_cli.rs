@@ -176,6 +176,18 @@ fn dipoles_of_the_demo_decoder_lie_near_its_generators() {
     };
     assert_eq!(d.len(), 6);
     assert!(d.iter().all(|v| v.is_finite()));
+    // read_result returns the same rows, and the attribution's report was
+    // rewritten with the dipole table beside the patch shares.
+    let r = patchwise::io::result_file::read_result(&dir.join("demo/result.h5")).unwrap();
+    let dipoles = r.dipoles.expect("/dipole read back");
+    assert_eq!(dipoles.component, vec![0, 0, 1, 1, 2, 2]);
+    assert_eq!(
+        dipoles.distance_to_patch_peak_mm.as_deref(),
+        Some(d.as_slice())
+    );
+    let html = std::fs::read_to_string(dir.join("demo/report.html")).unwrap();
+    assert!(html.contains("Equivalent dipoles"));
+    assert!(html.contains(&dipoles.nearest_region[4]));
 }
 
 #[test]

@@ -10,7 +10,9 @@ use super::leadfield_file::{insert_montage, insert_sources, LeadFieldFile};
 use super::store::{Attr, Dataset, Store};
 use crate::pipeline::FitOutcome;
 
-pub use super::result_read::{read_result, ResultAttribution, ResultFile, ResultFit, ResultPath};
+pub use super::result_read::{
+    read_result, ResultAttribution, ResultDipoles, ResultFile, ResultFit, ResultPath,
+};
 
 /// What goes into `result.h5` besides the fit outcome.
 pub struct ResultRecord<'a> {

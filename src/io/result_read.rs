@@ -43,6 +43,79 @@ pub struct ResultFile {
     pub fit: ResultFit,
     /// The attribution.
     pub attribution: ResultAttribution,
+    /// The equivalent dipoles `patchwise dipole` added, if any.
+    pub dipoles: Option<ResultDipoles>,
+}
+
+/// The `/dipole` group: one row per dipole (two per component for a
+/// symmetric pair), positions in mm.
+#[derive(Debug, Clone)]
+pub struct ResultDipoles {
+    /// `single` or `pair`.
+    pub model: String,
+    /// Component of each row.
+    pub component: Vec<i64>,
+    /// Dipole index within its component (0, or 0/1 for a pair).
+    pub dipole: Vec<i64>,
+    /// Positions (mm).
+    pub positions_mm: Vec<[f64; 3]>,
+    /// Moments (A·m when the patterns are in V).
+    pub moments: Vec<[f64; 3]>,
+    /// Radius of the 95 % confidence sphere of equal volume (mm).
+    pub ci95_radius_mm: Vec<f64>,
+    /// Region of the nearest cortex vertex.
+    pub nearest_region: Vec<String>,
+    /// Distance to the nearest cortex vertex (mm).
+    pub distance_to_cortex_mm: Vec<f64>,
+    /// Distance to the patch fit's peak of the same component (mm), when
+    /// the dipoles were fitted into an attribution folder.
+    pub distance_to_patch_peak_mm: Option<Vec<f64>>,
+    /// Residual variance per component.
+    pub residual_variance: Vec<f64>,
+}
+
+fn triples(v: Vec<f64>) -> Vec<[f64; 3]> {
+    v.chunks_exact(3).map(|c| [c[0], c[1], c[2]]).collect()
+}
+
+/// The `/dipole` group, when present.
+fn dipoles_from_store(
+    store: &Store,
+    path: &Path,
+    k: usize,
+) -> Result<Option<ResultDipoles>, IoError> {
+    if !store.contains("/dipole/positions_mm") {
+        return Ok(None);
+    }
+    let (pos, n, _) = store.f64_matrix(path, "/dipole/positions_mm", None, Some(3))?;
+    let (mom, _, _) = store.f64_matrix(path, "/dipole/moments", Some(n), Some(3))?;
+    let component = store.i64s(path, "/dipole/component", Some(n))?;
+    if let Some(c) = component.iter().find(|&&c| c < 0 || c as usize >= k) {
+        return Err(IoError::Value {
+            path: path.to_path_buf(),
+            object: "/dipole/component".to_string(),
+            message: format!("component {c}, expected 0..{k}"),
+        });
+    }
+    let distance_to_patch_peak_mm = if store.contains("/dipole/distance_to_patch_peak_mm") {
+        Some(store.f64s_nan(path, "/dipole/distance_to_patch_peak_mm", Some(n))?)
+    } else {
+        None
+    };
+    Ok(Some(ResultDipoles {
+        model: store
+            .attr_str(path, "/dipole", "model")
+            .unwrap_or_else(|_| "single".to_string()),
+        dipole: store.i64s(path, "/dipole/dipole", Some(n))?,
+        component,
+        positions_mm: triples(pos),
+        moments: triples(mom),
+        ci95_radius_mm: store.f64s_nan(path, "/dipole/ci95_radius_mm", Some(n))?,
+        nearest_region: store.strings(path, "/dipole/nearest_region", Some(n))?,
+        distance_to_cortex_mm: store.f64s_nan(path, "/dipole/distance_to_cortex_mm", Some(n))?,
+        distance_to_patch_peak_mm,
+        residual_variance: store.f64s_nan(path, "/dipole/residual_variance", Some(k))?,
+    }))
 }
 
 /// The `/fit` group.
@@ -258,7 +331,9 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
         unassigned_share,
         noise_sd,
     };
+    let dipoles = dipoles_from_store(store, path, k)?;
     Ok(ResultFile {
+        dipoles,
         path: path.to_path_buf(),
         hashes,
         caution: root_str(store, path, "caution"),

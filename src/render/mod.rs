@@ -13,6 +13,7 @@ mod figure_error;
 pub mod image;
 pub mod raster;
 pub mod report;
+pub mod report_dipoles;
 pub mod report_figures;
 pub mod report_html;
 pub mod report_style;

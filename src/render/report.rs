@@ -119,6 +119,7 @@ pub fn build_report(
     // patterns), then the evidence per component, then how it was made.
     glance(&mut h, result, &facts, &figures);
     fit_quality(&mut h, &facts);
+    super::report_dipoles::dipole_section(&mut h, result);
     for (c, figs) in figures.iter().enumerate() {
         component_section(&mut h, result, &facts[c], figs, c);
     }
@@ -852,6 +853,7 @@ mod tests {
     /// A two-channel, one-component, two-region result without pictures.
     fn tiny() -> ResultFile {
         ResultFile {
+            dipoles: None,
             path: "tiny/result.h5".into(),
             hashes: vec![("decoder".into(), "ab".into())],
             caution: CAUTION.to_string(),

@@ -191,6 +191,7 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
         "atoms": a.dictionary.n_atoms,
         "hashes": a.hashes.iter().map(|(k, v)| (k.clone(), serde_json::Value::String(v.clone()))).collect::<serde_json::Map<_, _>>(),
         "notes": a.notes,
+        "job": a.job.iter().map(|(k, v)| (k.clone(), serde_json::Value::String(v.clone()))).collect::<serde_json::Map<_, _>>(),
         "units": {"patterns": "as given (V for patterns from a forward model)", "positions": "mm"},
     })
 }

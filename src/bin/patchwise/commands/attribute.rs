@@ -106,6 +106,8 @@ pub struct Attribution {
     pub whitened: bool,
     /// The fitted patterns D X in the units of `patterns` (n_ch x k).
     pub reconstruction: Vec<f64>,
+    /// What was asked (name, value), for summary.json and the report.
+    pub job: Vec<(String, String)>,
 }
 
 fn bad(message: String) -> CliError {
@@ -656,6 +658,7 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         k,
     );
     Ok(Attribution {
+        job: super::report::job_of(args),
         reconstruction,
         labels: decoder.channels.clone(),
         patterns,

@@ -43,6 +43,9 @@ pub struct Args {
     /// Output folder (an existing attribution's result.h5 there gains a /dipole group).
     #[arg(long)]
     pub out: PathBuf,
+    /// Beside an attribution, do not rewrite its report.html with the dipole table.
+    #[arg(long)]
+    pub no_report: bool,
 }
 
 fn bad(message: String) -> CliError {
@@ -225,5 +228,10 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         }
     );
     println!("caution: {CAUTION}");
+    // Beside an attribution the report gains the dipole table; its job
+    // comes from the attribution's summary.json.
+    if existing.as_ref().is_some_and(|e| e.peaks_mm.is_some()) && !args.no_report {
+        super::report::report_after_outputs(&dir, Vec::new())?;
+    }
     Ok(())
 }
