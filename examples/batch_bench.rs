@@ -6,6 +6,10 @@
 //!     cargo run --release --example batch_bench -- /tmp/batch-bench
 //!     /usr/bin/time -v target/release/patchwise batch /tmp/batch-bench/jobs.toml \
 //!         --out /tmp/batch-bench/out --cache /tmp/batch-bench/cache --jobs 2
+//!
+//! `-- DIR N` makes N subjects instead of 50; `-- DIR N --compare` also
+//! adds a `[compare]` table (paired: motor against visual decoders), the
+//! README's cohort example.
 
 use std::path::PathBuf;
 
@@ -32,6 +36,11 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
             .nth(1)
             .unwrap_or_else(|| "/tmp/batch-bench".to_string()),
     );
+    let subjects: usize = match std::env::args().nth(2) {
+        Some(n) => n.parse()?,
+        None => 50,
+    };
+    let with_compare = std::env::args().any(|a| a == "--compare");
     std::fs::create_dir_all(dir.join("decoders"))?;
     let full = standard("10-10", 0.1)?;
     let labels: Vec<String> = patchwise::demo::CHANNELS_64
@@ -39,7 +48,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         .map(|s| s.to_string())
         .collect();
     let montage = full.subset(&full.select(&labels)?);
-    for s in 1..=50 {
+    for s in 1..=subjects {
         let t = s as f64 * 0.37;
         let decoders = [
             (
@@ -64,13 +73,16 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
                 "/patterns",
                 Dataset::f64(vec![64, 2], patterns(&montage.positions, &centres)),
             );
-            store.write_atomic(&dir.join(format!("decoders/sub-{s:02}_{kind}.h5")))?;
+            store.write_atomic(&dir.join(format!("decoders/{s:02}-{kind}.h5")))?;
         }
     }
-    std::fs::write(
-        dir.join("jobs.toml"),
-        "[defaults]\nsources = \"template-5k\"\nmontage = \"10-10\"\n\n[[job]]\nname = \"bench\"\ndecoder = \"decoders/*.h5\"\n",
-    )?;
+    // Jobs are named sub-<NN>-motor and sub-<NN>-visual (the glob rule
+    // `<name>-<file stem>`), so the paired comparison can match them.
+    let mut script = "[defaults]\nsources = \"template-5k\"\nmontage = \"10-10\"\n\n[[job]]\nname = \"sub\"\ndecoder = \"decoders/*.h5\"\n".to_string();
+    if with_compare {
+        script.push_str("\n[compare]\nout = \"group\"\npair = [\"motor\", \"visual\"]\n");
+    }
+    std::fs::write(dir.join("jobs.toml"), script)?;
     println!(
         "/usr/bin/time -v target/release/patchwise batch {0}/jobs.toml --out {0}/out --cache {0}/cache --jobs 2",
         dir.display()
