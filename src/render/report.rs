@@ -57,7 +57,7 @@ pub struct ReportOptions {
 
 /// The page's content security policy (W3C Content Security Policy Level 3):
 /// no fetches of any kind except inline styles and `data:` images.
-const CONTENT_SECURITY_POLICY: &str = "<meta http-equiv=\"Content-Security-Policy\" \
+pub(crate) const CONTENT_SECURITY_POLICY: &str = "<meta http-equiv=\"Content-Security-Policy\" \
      content=\"default-src 'none'; img-src data:; style-src 'unsafe-inline'; base-uri 'none'; form-action 'none'\"/>\n";
 
 /// Share at or above which a region always gets its own row in a region
@@ -376,7 +376,7 @@ fn region_numbers(r: &ResultFile, reg: usize, c: usize) -> (f64, f64, f64, f64) 
     )
 }
 
-fn interval(low: f64, high: f64) -> String {
+pub(crate) fn interval(low: f64, high: f64) -> String {
     if low.is_finite() && high.is_finite() {
         format!("{} \u{2013} {}", percent(low, 1), percent(high, 1))
     } else {
@@ -524,7 +524,7 @@ fn lambda_rule(r: &ResultFile) -> String {
     }
 }
 
-fn fact(h: &mut Html, name: &str, value: &str) {
+pub(crate) fn fact(h: &mut Html, name: &str, value: &str) {
     h.element("dt", "", name);
     h.element("dd", "", value);
 }
