@@ -1,4 +1,6 @@
 //! Helpers shared by the integration tests.
+pub mod browser;
 pub mod cli;
+pub mod page;
 pub mod python;
 pub mod report;

@@ -1,8 +1,11 @@
-//! `patchwise report`: one self-contained HTML page for a result folder.
+//! `patchwise report`: one self-contained HTML page for a result folder
+//! (result.h5) or a comparison folder (compare.h5).
 
 use std::path::{Path, PathBuf};
 
+use patchwise::io::compare_read::read_compare;
 use patchwise::io::result_file::read_result;
+use patchwise::render::compare_report::{build_compare_report, CompareReportOptions};
 use patchwise::render::report::{build_report, ReportError, ReportOptions};
 
 use super::attribute::Args as AttributeArgs;
@@ -11,7 +14,9 @@ use crate::CliError;
 /// Arguments of `patchwise report`.
 #[derive(clap::Args, Debug)]
 pub struct Args {
-    /// Result folder written by `attribute` or `demo` (holds result.h5; summary.json is used when present).
+    /// Result folder written by `attribute` or `demo` (holds result.h5;
+    /// summary.json is used when present), or a comparison folder written
+    /// by `compare` (holds compare.h5).
     pub result_dir: PathBuf,
     /// Output file (default: RESULT_DIR/report.html).
     #[arg(long)]
@@ -171,9 +176,63 @@ pub fn report_after_outputs(dir: &Path, job: Vec<(String, String)>) -> Result<()
     }
 }
 
-/// Run `patchwise report`.
+/// Read `dir`/compare.h5, build the comparison page and write it
+/// atomically to `out` (default `dir`/report.html). A bad or missing
+/// compare.h5 exits 2; a failure to draw or write exits 1.
+pub fn write_compare_report(dir: &Path, out: Option<&Path>) -> Result<PathBuf, CliError> {
+    let path = dir.join("compare.h5");
+    if !path.is_file() {
+        return Err(bad(format!(
+            "{}: not found (a comparison folder holds the compare.h5 that `patchwise compare` writes)",
+            path.display()
+        )));
+    }
+    let file = read_compare(&path).map_err(|e| {
+        CliError::bad_input(anyhow::Error::new(e).context("reading the comparison"))
+    })?;
+    let html =
+        build_compare_report(&file, &CompareReportOptions::default()).map_err(|e| match e {
+            ReportError::Shape { .. } => CliError::bad_input(anyhow::Error::new(e)),
+            other => CliError::compute(anyhow::Error::new(other).context("building the report")),
+        })?;
+    let out = out.map_or_else(|| dir.join("report.html"), Path::to_path_buf);
+    patchwise::io::atomic::write_atomic(&out, html.as_bytes())
+        .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", out.display())))?;
+    Ok(out)
+}
+
+/// The report step of `compare`: the outputs are already written, so any
+/// failure here exits 1 and leaves them in place.
+pub fn compare_report_after_outputs(dir: &Path) -> Result<(), CliError> {
+    match write_compare_report(dir, None) {
+        Ok(path) => {
+            println!("report in {}", path.display());
+            Ok(())
+        }
+        Err(e) => Err(CliError::compute(e.error.context(format!(
+            "the comparison in {} is written, but the report failed",
+            dir.display()
+        )))),
+    }
+}
+
+/// Run `patchwise report`: a folder with result.h5 gets the result report,
+/// one with compare.h5 the comparison report.
 pub fn exec(args: Args) -> Result<(), CliError> {
-    let out = write_report(&args.result_dir, args.out.as_deref(), Vec::new())?;
+    let dir = &args.result_dir;
+    let is_result = dir.join("result.h5").is_file();
+    let is_compare = dir.join("compare.h5").is_file();
+    if dir.is_dir() && !is_result && !is_compare {
+        return Err(bad(format!(
+            "{}: holds neither result.h5 (a result folder written by `patchwise attribute` or `patchwise demo`) nor compare.h5 (a comparison folder written by `patchwise compare`)",
+            dir.display()
+        )));
+    }
+    let out = if is_compare && !is_result {
+        write_compare_report(dir, args.out.as_deref())?
+    } else {
+        write_report(dir, args.out.as_deref(), Vec::new())?
+    };
     println!("report in {}", out.display());
     Ok(())
 }

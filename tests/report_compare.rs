@@ -1,0 +1,307 @@
+//! The comparison report end to end: six subjects made by `attribute` on
+//! noisy copies of the demo decoder (template-5k, one component), `compare`
+//! writing report.html, `report` on the comparison folder, compare.h5 read
+//! back and by h5py, and the page opened in headless Chromium.
+#![allow(clippy::unwrap_used)]
+
+mod common;
+
+use std::path::{Path, PathBuf};
+use std::sync::OnceLock;
+
+use common::cli::patchwise;
+use patchwise::attribution::rng::SplitMix64;
+use patchwise::io::compare_read::read_compare;
+use patchwise::io::result_file::CAUTION;
+use patchwise::io::{Dataset, Store};
+
+/// The demo's decoder in `dir`.
+fn demo_decoder(dir: &Path) -> PathBuf {
+    let out = patchwise(
+        &[
+            "demo",
+            "--sources",
+            "template-5k",
+            "--resamples",
+            "0",
+            "--no-report",
+            "--out",
+            "demo",
+            "--cache",
+            "cache",
+        ],
+        dir,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    dir.join("demo").join("decoder.h5")
+}
+
+/// A subject: the demo decoder's first component plus seeded Gaussian
+/// noise of `noise` times its RMS, attributed with 10 resamples into
+/// `dir/name` (no report, to keep the test quick).
+fn subject(dir: &Path, decoder: &Path, name: &str, seed: u64, noise: f64) {
+    let mut store = Store::read(decoder).unwrap();
+    let (w, shape) = store.f64_array(decoder, "/weights").unwrap();
+    let (n_ch, k0) = (shape[0], shape[1]);
+    let mut rng = SplitMix64::new(seed, 0);
+    let rms = ((0..n_ch).map(|i| w[i * k0].powi(2)).sum::<f64>() / n_ch as f64).sqrt();
+    let out: Vec<f64> = (0..n_ch)
+        .map(|i| w[i * k0] + noise * rms * rng.normal())
+        .collect();
+    store.insert("/weights", Dataset::f64(vec![n_ch, 1], out));
+    let names = store.strings(decoder, "/component_names", None).unwrap();
+    store.insert("/component_names", Dataset::strings(names[..1].to_vec()));
+    let path = dir.join(format!("{name}.h5"));
+    store.write_atomic(&path).unwrap();
+    let out = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            path.to_str().unwrap(),
+            "--montage",
+            "10-10",
+            "--sources",
+            "template-5k",
+            "--resamples",
+            "10",
+            "--no-report",
+            "--cache",
+            "cache",
+            "--out",
+            name,
+        ],
+        dir,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
+
+/// The scratch folder with six subjects and `group`, the comparison
+/// (made once for all tests of this file).
+fn cohort() -> &'static PathBuf {
+    static DIR: OnceLock<PathBuf> = OnceLock::new();
+    DIR.get_or_init(|| {
+        let dir = common::python::scratch_dir("report_compare");
+        let decoder = demo_decoder(&dir);
+        let names: Vec<String> = (0..6).map(|i| format!("s{i}")).collect();
+        for (i, n) in names.iter().enumerate() {
+            subject(&dir, &decoder, n, 300 + i as u64, 0.05);
+        }
+        let mut args: Vec<&str> = vec!["compare"];
+        args.extend(names.iter().map(|s| s.as_str()));
+        args.extend(["--out", "group", "--bootstrap", "200"]);
+        let started = std::time::Instant::now();
+        let out = patchwise(&args, &dir);
+        println!("compare with report: {:.2?}", started.elapsed());
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let stdout = String::from_utf8_lossy(&out.stdout);
+        assert!(stdout.contains("report in"), "{stdout}");
+        dir
+    })
+}
+
+fn read(path: &Path) -> String {
+    std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+}
+
+/// The text of the page's at-a-glance section.
+fn glance(html: &str) -> &str {
+    let start = html.find("<section id=\"glance\">").unwrap();
+    let end = start + html[start..].find("</section>").unwrap();
+    &html[start..end]
+}
+
+#[test]
+fn compare_writes_a_self_contained_report_naming_the_shared_region() {
+    let dir = cohort();
+    let page_path = dir.join("group/report.html");
+    let html = read(&page_path);
+    println!("report.html: {} bytes", html.len());
+    let page = common::page::parse(&html);
+    let (n_png, n_svg) = common::page::check_pictures(&page);
+    // One component: the group mean chart and two heatmaps (each an inline
+    // SVG; a heatmap of at most 2500 cells draws rectangles, no PNG).
+    assert!(n_svg >= 3, "only {n_svg} inline SVGs ({n_png} PNGs)");
+    // Self-contained (common practice, no source): no outside URL in any
+    // attribute, no script or link element, the fetch-forbidding policy.
+    for v in page.attribute_values.iter().map(|v| v.to_lowercase()) {
+        assert!(
+            !v.starts_with("http:")
+                && !v.starts_with("https:")
+                && !v.starts_with("file:")
+                && !v.starts_with("//"),
+            "attribute value {v:?} points outside the page"
+        );
+    }
+    for el in ["script", "link", "iframe", "object", "embed", "base"] {
+        assert!(
+            !page.elements.iter().any(|e| e == el),
+            "page has a <{el}> element"
+        );
+    }
+    assert!(html.contains("default-src 'none'"));
+    assert!(page.text.contains(CAUTION), "the caution is missing");
+    // The demo's first component is generated in the left precentral
+    // region (src/demo); six subjects give 64 sign vectors, so the
+    // smallest corrected p is 2/64 < 0.05 (Nichols & Holmes 2002), and
+    // summary.json must list it as surviving, as must the page.
+    let summary: serde_json::Value =
+        serde_json::from_str(&read(&dir.join("group/summary.json"))).unwrap();
+    let surviving: Vec<String> = summary["components"][0]["regions_surviving_correction"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|r| r["region"].as_str().unwrap().to_string())
+        .collect();
+    assert!(
+        surviving.iter().any(|r| r == "left-precentral"),
+        "summary.json: {surviving:?}"
+    );
+    let glance = glance(&html);
+    for r in &surviving {
+        assert!(glance.contains(r.as_str()), "{r} missing from at a glance");
+    }
+    // Every subject's SHA-256 (summary.json) is on the page.
+    for input in summary["inputs"].as_array().unwrap() {
+        assert!(html.contains(input["sha256"].as_str().unwrap()));
+    }
+}
+
+#[test]
+fn report_command_detects_the_folder_kind() {
+    let dir = cohort();
+    let out = patchwise(&["report", "group", "--out", "again.html"], dir);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    // The page is built from compare.h5 alone, so both runs agree byte for byte.
+    assert_eq!(
+        read(&dir.join("again.html")),
+        read(&dir.join("group/report.html"))
+    );
+    // A result folder still gets the result report.
+    let out = patchwise(&["report", "s0", "--out", "s0.html"], dir);
+    assert!(out.status.success());
+    assert!(read(&dir.join("s0.html")).contains("Region attribution"));
+    // Neither file: exit 2 naming both.
+    std::fs::create_dir_all(dir.join("empty")).unwrap();
+    let out = patchwise(&["report", "empty"], dir);
+    assert_eq!(out.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        err.contains("result.h5") && err.contains("compare.h5"),
+        "{err}"
+    );
+    // --no-report leaves report.html out.
+    let out = patchwise(
+        &[
+            "compare",
+            "s0",
+            "s1",
+            "--out",
+            "pair",
+            "--bootstrap",
+            "20",
+            "--no-report",
+        ],
+        dir,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(dir.join("pair/compare.h5").is_file());
+    assert!(!dir.join("pair/report.html").exists());
+}
+
+#[test]
+fn compare_h5_reads_back_and_agrees_with_h5py() {
+    let dir = cohort();
+    let path = dir.join("group/compare.h5");
+    let f = read_compare(&path).unwrap();
+    assert_eq!(f.subjects.len(), 6);
+    assert_eq!(f.components.len(), 1);
+    let Some(python) = common::python::python() else {
+        return;
+    };
+    // h5py 3.16.0 (tests/reference/requirements.txt) reads /group/mean_share
+    // and /subjects; the values must match read_compare bit for bit (both
+    // read the same IEEE-754 doubles, no tolerance). Python's repr is the
+    // shortest string that round-trips and Rust's parse rounds correctly,
+    // so the text passes the bits unchanged.
+    let script = format!(
+        "import h5py, json\nf = h5py.File({:?}, 'r')\nprint(json.dumps({{'mean': [repr(float(x)) for x in f['/group/mean_share'][0]], 'subjects': [s.decode() if isinstance(s, bytes) else s for s in f['/subjects'][()]], 'sigma': float(f['/similarity'].attrs['smoothing_sigma_mm'])}}))\n",
+        path.to_str().unwrap()
+    );
+    let out = std::process::Command::new(python)
+        .args(["-c", &script])
+        .output()
+        .unwrap();
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let mean: Vec<f64> = v["mean"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|x| x.as_str().unwrap().parse::<f64>().unwrap())
+        .collect();
+    assert_eq!(mean.len(), f.region_names.len());
+    for (a, b) in mean.iter().zip(&f.components[0].mean_share) {
+        assert!(
+            a.to_bits() == b.to_bits() || (a.is_nan() && b.is_nan()),
+            "{a} vs {b}"
+        );
+    }
+    let subjects: Vec<String> = serde_json::from_value(v["subjects"].clone()).unwrap();
+    assert_eq!(subjects, f.subjects);
+    assert_eq!(v["sigma"].as_f64().unwrap(), f.smoothing_sigma_mm);
+}
+
+#[test]
+fn compare_report_renders_in_a_headless_browser() {
+    let Some(browser) = common::browser::chromium() else {
+        if std::env::var("CI").is_ok_and(|v| v == "true") {
+            panic!("compare report browser test: chromium not found (CI=true requires it)");
+        }
+        println!("compare report browser test did not run: chromium not found");
+        return;
+    };
+    let dir = cohort();
+    let page = dir.join("group/report.html");
+    let (log, dom) = common::browser::run_browser(
+        &browser,
+        &page,
+        &dir.join("profile-compare"),
+        &["--dump-dom".to_string()],
+    );
+    let found = common::browser::faults(&log, &page);
+    assert!(found.is_empty(), "browser faults:\n{}", found.join("\n"));
+    assert!(
+        log.contains("FileURLLoader::Start: file://"),
+        "the browser log shows no page load:\n{log}"
+    );
+    let dom = String::from_utf8_lossy(&dom);
+    assert!(
+        dom.contains("presurgical planning"),
+        "the loaded page lacks the caution"
+    );
+    assert!(dom.contains("</footer>"), "the loaded page ends early");
+}
