@@ -131,8 +131,10 @@ fn compare_writes_a_self_contained_report_naming_the_shared_region() {
     let page = common::page::parse(&html);
     let (n_png, n_svg) = common::page::check_pictures(&page);
     // One component: the group mean chart and two heatmaps (each an inline
-    // SVG; a heatmap of at most 2500 cells draws rectangles, no PNG).
-    assert!(n_svg >= 3, "only {n_svg} inline SVGs ({n_png} PNGs)");
+    // SVG; a heatmap of at most 2500 cells draws rectangles, no PNG) and six
+    // cortex views of the group mean on template-5k (PNGs).
+    assert!(n_svg >= 3, "only {n_svg} inline SVGs");
+    assert!(n_png >= 6, "only {n_png} embedded PNGs");
     // Self-contained (common practice, no source): no outside URL in any
     // attribute, no script or link element, the fetch-forbidding policy.
     for v in page.attribute_values.iter().map(|v| v.to_lowercase()) {

@@ -10,12 +10,15 @@
 
 use rayon::prelude::*;
 
+use super::camera::View;
 use super::charts::{
     heatmap_svg, region_shares_svg, HeatmapOptions, HeatmapScale, RegionBar, RegionSharesOptions,
 };
+use super::cortex::{render_views, ColourSpec, ViewOptions};
 use super::report::{fact, interval, ReportError, CONTENT_SECURITY_POLICY};
-use super::report_html::{escape, fixed, percent, Html};
+use super::report_html::{escape, fixed, percent, png_img, Html};
 use super::report_style::STYLE;
+use crate::geometry::{template, Template, TemplateResolution};
 use crate::io::compare_read::{CompareComponent, CompareFile};
 use crate::io::result_file::CAUTION;
 
@@ -25,6 +28,8 @@ const SHOWN_SHARE: f64 = 0.005;
 const SHOWN_TOP: usize = 3;
 /// Width of the group-mean chart (px).
 const CHART_WIDTH: u32 = 640;
+/// Size of one cortex view (px).
+const VIEW_SIZE: (u32, u32) = (240, 170);
 
 /// Choices for the comparison report.
 #[derive(Debug, Clone, Default)]
@@ -44,6 +49,63 @@ struct ComponentCharts {
     shares: Option<String>,
     /// Subject × subject cosine similarity.
     similarity: Option<String>,
+    /// Cortex views of the group mean share (`<img>` elements with captions).
+    cortex: Vec<(String, String)>,
+}
+
+/// The template cortex the comparison was made on, found by its vertex
+/// count, when its regions are the comparison's regions.
+fn find_template(f: &CompareFile) -> Option<Template> {
+    TemplateResolution::ALL
+        .into_iter()
+        .map(template)
+        .find(|t| t.mesh.n_vertices() as i64 == f.template_vertices)
+        .filter(|t| t.region_names == f.region_names)
+}
+
+/// Views of the group mean share of component `c` painted per region on
+/// the template cortex (one colour per region, white background).
+fn cortex_views(
+    f: &CompareFile,
+    c: &CompareComponent,
+    t: &Template,
+) -> Result<Vec<(String, String)>, ReportError> {
+    let values: Vec<f64> = t
+        .region
+        .iter()
+        .map(|&r| {
+            usize::try_from(r)
+                .ok()
+                .and_then(|r| c.mean_share.get(r).copied())
+                .filter(|v| v.is_finite())
+                .map_or(0.0, |v| v.max(0.0))
+        })
+        .collect();
+    let largest = values.iter().copied().fold(0.0, f64::max);
+    if largest <= 0.0 {
+        return Ok(Vec::new());
+    }
+    let mut options = ViewOptions::new(View::Left, VIEW_SIZE.0, VIEW_SIZE.1);
+    options.background = [255, 255, 255, 255];
+    options.regions = Some(&t.region);
+    options.hemisphere = Some(&t.hemisphere);
+    options.colour = ColourSpec::Positive {
+        max: Some(largest),
+        threshold: SHOWN_SHARE,
+    };
+    let what = || format!("the cortex views of {}", c.name);
+    let views = render_views(&t.mesh, &values, &View::PANEL, &options)
+        .map_err(|e| figure_error(f, what(), e))?;
+    views
+        .iter()
+        .map(|(view, image)| {
+            let png = image.encode_png().map_err(|e| figure_error(f, what(), e))?;
+            Ok((
+                png_img(&png, image.width, image.height, view.caption()),
+                view.caption().to_string(),
+            ))
+        })
+        .collect()
 }
 
 fn figure_error(f: &CompareFile, figure: String, e: impl std::fmt::Display) -> ReportError {
@@ -161,7 +223,11 @@ fn surviving(f: &CompareFile, c: &CompareComponent, reg: usize) -> bool {
     c.p_corrected[reg] < alpha
 }
 
-fn charts(f: &CompareFile, ci: usize) -> Result<ComponentCharts, ReportError> {
+fn charts(
+    f: &CompareFile,
+    ci: usize,
+    cortex: Option<&Template>,
+) -> Result<ComponentCharts, ReportError> {
     let c = &f.components[ci];
     let n_s = f.subjects.len();
     let n_r = f.region_names.len();
@@ -236,10 +302,15 @@ fn charts(f: &CompareFile, ci: usize) -> Result<ComponentCharts, ReportError> {
                 .svg,
         )
     };
+    let cortex = match cortex {
+        Some(t) => cortex_views(f, c, t)?,
+        None => Vec::new(),
+    };
     Ok(ComponentCharts {
         means,
         shares,
         similarity,
+        cortex,
     })
 }
 
@@ -255,9 +326,10 @@ pub fn build_compare_report(
             .map(|_| ComponentCharts::default())
             .collect()
     } else {
+        let cortex = find_template(f);
         (0..f.components.len())
             .into_par_iter()
-            .map(|c| charts(f, c))
+            .map(|c| charts(f, c, cortex.as_ref()))
             .collect::<Result<_, _>>()?
     };
     let title = options.title.clone().unwrap_or_else(|| {
@@ -460,6 +532,33 @@ fn component_section(h: &mut Html, f: &CompareFile, ci: usize, figs: &ComponentC
              dots: mean selection frequency.",
         );
         h.raw("</figure>\n</div>\n");
+    }
+    if !figs.cortex.is_empty() {
+        h.element("h3", "", "Group mean share on the template cortex");
+        h.raw("<div class=\"figures\">\n");
+        for (img, caption) in &figs.cortex {
+            h.raw("<figure>").raw(img);
+            h.element("figcaption", "", caption);
+            h.raw("</figure>\n");
+        }
+        h.raw("</div>\n");
+        h.element(
+            "p",
+            "note",
+            &format!(
+                "Each region painted with its group mean share (darker is larger, up to the largest \
+                 region's {}); regions below {} are left grey; lines: region borders.",
+                percent(
+                    c.mean_share
+                        .iter()
+                        .copied()
+                        .filter(|v| v.is_finite())
+                        .fold(0.0, f64::max),
+                    1
+                ),
+                percent(SHOWN_SHARE, 1)
+            ),
+        );
     }
     region_table(h, f, c);
     if figs.shares.is_some() || figs.similarity.is_some() {
