@@ -90,9 +90,13 @@ fn cohort() -> &'static PathBuf {
     DIR.get_or_init(|| {
         let dir = common::python::scratch_dir("report_compare");
         let decoder = demo_decoder(&dir);
-        let names: Vec<String> = (0..6).map(|i| format!("s{i}")).collect();
+        let names: Vec<String> = (0..6).map(|i| format!("s{i}-A")).collect();
         for (i, n) in names.iter().enumerate() {
             subject(&dir, &decoder, n, 300 + i as u64, 0.05);
+        }
+        // A second, noisier decoder for two subjects (the paired test).
+        for i in 0..2 {
+            subject(&dir, &decoder, &format!("s{i}-B"), 400 + i, 0.3);
         }
         let mut args: Vec<&str> = vec!["compare"];
         args.extend(names.iter().map(|s| s.as_str()));
@@ -195,7 +199,7 @@ fn report_command_detects_the_folder_kind() {
         read(&dir.join("group/report.html"))
     );
     // A result folder still gets the result report.
-    let out = patchwise(&["report", "s0", "--out", "s0.html"], dir);
+    let out = patchwise(&["report", "s0-A", "--out", "s0.html"], dir);
     assert!(out.status.success());
     assert!(read(&dir.join("s0.html")).contains("Region attribution"));
     // Neither file: exit 2 naming both.
@@ -211,10 +215,10 @@ fn report_command_detects_the_folder_kind() {
     let out = patchwise(
         &[
             "compare",
-            "s0",
-            "s1",
+            "s0-A",
+            "s1-A",
             "--out",
-            "pair",
+            "two",
             "--bootstrap",
             "20",
             "--no-report",
@@ -226,8 +230,66 @@ fn report_command_detects_the_folder_kind() {
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
-    assert!(dir.join("pair/compare.h5").is_file());
-    assert!(!dir.join("pair/report.html").exists());
+    assert!(dir.join("two/compare.h5").is_file());
+    assert!(!dir.join("two/report.html").exists());
+}
+
+#[test]
+fn paired_comparison_has_its_section() {
+    let dir = cohort();
+    let out = patchwise(
+        &[
+            "compare",
+            "s0-A",
+            "s0-B",
+            "s1-A",
+            "s1-B",
+            "--pair",
+            "A",
+            "B",
+            "--out",
+            "paired",
+            "--bootstrap",
+            "20",
+        ],
+        dir,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let html = read(&dir.join("paired/report.html"));
+    let page = common::page::parse(&html);
+    common::page::check_pictures(&page);
+    let start = html
+        .find("<section id=\"paired\">")
+        .expect("no paired section");
+    let section = &html[start..start + html[start..].find("</section>").unwrap()];
+    // Both pairs are named, and the region with the largest |mean
+    // difference| in paired.csv heads the table.
+    assert!(section.contains("s0, s1"), "{section}");
+    let table = patchwise::io::table::read_table(&dir.join("paired/paired.csv")).unwrap();
+    let (ri, di) = (
+        table.column(&["region"]).unwrap(),
+        table.column(&["mean_difference"]).unwrap(),
+    );
+    let top = table
+        .rows
+        .iter()
+        .max_by(|a, b| {
+            let x: f64 = a.fields[di].parse().unwrap_or(0.0);
+            let y: f64 = b.fields[di].parse().unwrap_or(0.0);
+            x.abs().total_cmp(&y.abs())
+        })
+        .unwrap();
+    let first_row = &section[section.find("<tbody>").unwrap()..];
+    let first_row = &first_row[..first_row.find("</tr>").unwrap()];
+    assert!(
+        first_row.contains(top.fields[ri].as_str()),
+        "{first_row} vs {}",
+        top.fields[ri]
+    );
 }
 
 #[test]
