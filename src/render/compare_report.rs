@@ -811,3 +811,74 @@ fn footer(h: &mut Html, f: &CompareFile) {
     h.element("p", "", CAUTION);
     h.raw("</footer>\n");
 }
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used)]
+    use super::*;
+
+    /// Two subjects, two regions, one component; region "b" survives.
+    fn tiny() -> CompareFile {
+        CompareFile {
+            path: "grp/compare.h5".into(),
+            caution: CAUTION.to_string(),
+            software: "patchwise test".into(),
+            warnings: vec!["note <b>".into()],
+            subjects: vec!["s<1>".into(), "s&2".into()],
+            region_names: vec!["a".into(), "b\"x".into()],
+            input_results: vec!["s1/result.h5".into(), "s2/result.h5".into()],
+            input_sha256: vec!["ab".into(), "cd".into()],
+            input_mapping: vec!["same mesh".into(); 2],
+            components: vec![CompareComponent {
+                name: "c<0>".into(),
+                share: vec![0.2, 0.8, 0.1, 0.9],
+                consistency: vec![0.5, 1.0],
+                mean_selection_frequency: vec![f64::NAN, 1.0],
+                mean_share: vec![0.15, 0.85],
+                mean_low: vec![0.1, 0.8],
+                mean_high: vec![0.2, 0.9],
+                t: vec![3.0, 17.0],
+                p_raw: vec![0.5, 0.01],
+                p_corrected: vec![0.5, 0.01],
+                sign_flips: 4,
+                cosine: vec![1.0, 0.9, 0.9, 1.0],
+                transport_mm: vec![f64::NAN; 4],
+            }],
+            group_null: "share = 0".into(),
+            bootstrap_resamples: 10,
+            level: 0.95,
+            alpha: 0.05,
+            seed: 1,
+            smoothing_sigma_mm: 10.0,
+            smoothing_cutoff_mm: 30.0,
+            transport_epsilon_mm: f64::NAN,
+            template_vertices: 7,
+            paired: None,
+        }
+    }
+
+    #[test]
+    fn file_strings_are_escaped_and_the_survivor_is_at_a_glance() {
+        let html = build_compare_report(&tiny(), &CompareReportOptions::default()).unwrap();
+        for raw in ["s<1>", "c<0>", "note <b>", "b\"x"] {
+            assert!(!html.contains(raw), "{raw} is not escaped");
+        }
+        assert!(html.contains("s&amp;2") && html.contains("c&lt;0&gt;"));
+        let glance =
+            &html[html.find("id=\"glance\"").unwrap()..html.find("id=\"component-0\"").unwrap()];
+        assert!(glance.contains("b&quot;x") && !glance.contains("<p class=\"region\">a</p>"));
+        assert!(html.contains("not computed"), "transport was skipped");
+    }
+
+    #[test]
+    fn inconsistent_sizes_are_an_error_naming_the_dataset() {
+        let mut f = tiny();
+        f.components[0].cosine.pop();
+        let err = build_compare_report(&f, &CompareReportOptions::default()).unwrap_err();
+        let text = err.to_string();
+        assert!(
+            text.contains("grp/compare.h5") && text.contains("/similarity/cosine"),
+            "{text}"
+        );
+    }
+}
