@@ -11,9 +11,10 @@ use std::sync::OnceLock;
 use base64::Engine;
 use patchwise::io::result_file::CAUTION;
 use patchwise::io::{Dataset, Store};
-use quick_xml::events::{BytesStart, Event};
+use quick_xml::events::Event;
 
 use common::cli::patchwise;
+use common::page::{attr, number, parse};
 
 /// One demo result shared by the tests of this file (made once).
 fn demo() -> &'static PathBuf {
@@ -21,126 +22,8 @@ fn demo() -> &'static PathBuf {
     DIR.get_or_init(|| common::report::demo_result(&common::python::scratch_dir("report_html")))
 }
 
-fn attr(e: &BytesStart<'_>, name: &str) -> Option<String> {
-    e.attributes()
-        .map(|a| a.unwrap())
-        .find(|a| a.key.as_ref() == name.as_bytes())
-        .map(|a| a.unescape_value().unwrap().into_owned())
-}
-
-/// What the test reads off a page.
-#[derive(Default)]
-struct Page {
-    /// (src, width, height) of every `<img>`.
-    images: Vec<(String, String, String)>,
-    /// Source text of every outermost `<svg>` element.
-    svgs: Vec<String>,
-    /// Every element name.
-    elements: Vec<String>,
-    /// Every attribute value.
-    attribute_values: Vec<String>,
-    /// Every `id` attribute.
-    ids: Vec<String>,
-    /// All text content, unescaped.
-    text: String,
-}
-
-/// Parse the page as XML (it is written as well-formed XML; a parse error
-/// fails the test) and collect images, inline SVGs and text.
-fn parse(html: &str) -> Page {
-    let mut reader = quick_xml::Reader::from_str(html);
-    let mut page = Page::default();
-    let mut svg_depth = 0usize;
-    let mut svg_start = 0usize;
-    loop {
-        let before = reader.buffer_position() as usize;
-        let event = reader
-            .read_event()
-            .unwrap_or_else(|e| panic!("page is not well-formed at byte {before}: {e}"));
-        match &event {
-            Event::Start(e) | Event::Empty(e) => {
-                let name = String::from_utf8(e.name().as_ref().to_vec()).unwrap();
-                for a in e.attributes().map(|a| a.unwrap()) {
-                    // A namespace name (xmlns) identifies, it is never fetched
-                    // (Namespaces in XML 1.0, W3C 2009, section 2.2).
-                    if !a.key.as_ref().starts_with(b"xmlns") {
-                        page.attribute_values
-                            .push(a.unescape_value().unwrap().into_owned());
-                    }
-                }
-                if let Some(id) = attr(e, "id") {
-                    page.ids.push(id);
-                }
-                // <image> inside an inline SVG states its size the same way.
-                if name == "image" {
-                    page.images.push((
-                        attr(e, "href").unwrap_or_default(),
-                        attr(e, "width").unwrap_or_default(),
-                        attr(e, "height").unwrap_or_default(),
-                    ));
-                }
-                if name == "img" {
-                    page.images.push((
-                        attr(e, "src").unwrap_or_default(),
-                        attr(e, "width").unwrap_or_default(),
-                        attr(e, "height").unwrap_or_default(),
-                    ));
-                }
-                if name == "svg" && matches!(event, Event::Start(_)) {
-                    if svg_depth == 0 {
-                        svg_start = before;
-                    }
-                    svg_depth += 1;
-                }
-                page.elements.push(name);
-            }
-            Event::End(e) if e.name().as_ref() == b"svg" => {
-                svg_depth -= 1;
-                if svg_depth == 0 {
-                    let end = reader.buffer_position() as usize;
-                    page.svgs.push(html[svg_start..end].to_string());
-                }
-            }
-            Event::Text(t) => page.text.push_str(&t.decode().unwrap()),
-            Event::GeneralRef(r) => {
-                // Character and predefined entity references inside text.
-                let name = r.decode().unwrap();
-                let ch = match name.as_ref() {
-                    "amp" => "&".to_string(),
-                    "lt" => "<".to_string(),
-                    "gt" => ">".to_string(),
-                    "quot" => "\"".to_string(),
-                    "apos" => "'".to_string(),
-                    other => other
-                        .strip_prefix('#')
-                        .and_then(|n| n.parse::<u32>().ok())
-                        .and_then(char::from_u32)
-                        .map(|c| c.to_string())
-                        .unwrap_or_else(|| panic!("unknown entity &{other};")),
-                };
-                page.text.push_str(&ch);
-            }
-            Event::Eof => break,
-            _ => {}
-        }
-    }
-    page
-}
-
 fn read(path: &Path) -> String {
     std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
-}
-
-fn number(text: &str, what: &str) -> f64 {
-    let v: f64 = text
-        .trim_end_matches("px")
-        .parse()
-        .unwrap_or_else(|_| panic!("{what} = {text:?}: expected a number"));
-    assert!(
-        v.is_finite() && v > 0.0,
-        "{what} = {v}: expected a positive size"
-    );
-    v
 }
 
 // PNG (ISO/IEC 15948:2004): the IHDR chunk states width and height; the

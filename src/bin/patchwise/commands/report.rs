@@ -224,8 +224,9 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let is_compare = dir.join("compare.h5").is_file();
     if dir.is_dir() && !is_result && !is_compare {
         return Err(bad(format!(
-            "{}: holds neither result.h5 (a result folder written by `patchwise attribute` or `patchwise demo`) nor compare.h5 (a comparison folder written by `patchwise compare`)",
-            dir.display()
+            "{} and {}: neither found (a result folder holds the result.h5 that `patchwise attribute` or `patchwise demo` writes, a comparison folder the compare.h5 that `patchwise compare` writes)",
+            dir.join("result.h5").display(),
+            dir.join("compare.h5").display()
         )));
     }
     let out = if is_compare && !is_result {
