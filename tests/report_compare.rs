@@ -139,24 +139,7 @@ fn compare_writes_a_self_contained_report_naming_the_shared_region() {
     // cortex views of the group mean on template-5k (PNGs).
     assert!(n_svg >= 3, "only {n_svg} inline SVGs");
     assert!(n_png >= 6, "only {n_png} embedded PNGs");
-    // Self-contained (common practice, no source): no outside URL in any
-    // attribute, no script or link element, the fetch-forbidding policy.
-    for v in page.attribute_values.iter().map(|v| v.to_lowercase()) {
-        assert!(
-            !v.starts_with("http:")
-                && !v.starts_with("https:")
-                && !v.starts_with("file:")
-                && !v.starts_with("//"),
-            "attribute value {v:?} points outside the page"
-        );
-    }
-    for el in ["script", "link", "iframe", "object", "embed", "base"] {
-        assert!(
-            !page.elements.iter().any(|e| e == el),
-            "page has a <{el}> element"
-        );
-    }
-    assert!(html.contains("default-src 'none'"));
+    common::page::assert_self_contained(&html);
     assert!(page.text.contains(CAUTION), "the caution is missing");
     // The demo's first component is generated in the left precentral
     // region (src/demo); six subjects give 64 sign vectors, so the

@@ -8,13 +8,11 @@ mod common;
 use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 
-use base64::Engine;
 use patchwise::io::result_file::CAUTION;
 use patchwise::io::{Dataset, Store};
-use quick_xml::events::Event;
 
 use common::cli::patchwise;
-use common::page::{attr, number, parse};
+use common::page::parse;
 
 /// One demo result shared by the tests of this file (made once).
 fn demo() -> &'static PathBuf {
@@ -34,29 +32,7 @@ fn read(path: &Path) -> String {
 #[test]
 fn embedded_pictures_decode_at_their_stated_size() {
     let page = parse(&read(&demo().join("report.html")));
-    for (i, (src, width, height)) in page.images.iter().enumerate() {
-        let data = src
-            .strip_prefix("data:image/png;base64,")
-            .unwrap_or_else(|| panic!("image {i}: src is not a PNG data URI"));
-        let bytes = base64::engine::general_purpose::STANDARD
-            .decode(data)
-            .unwrap_or_else(|e| panic!("image {i}: base64: {e}"));
-        let decoder = png::Decoder::new(std::io::Cursor::new(bytes));
-        let mut reader = decoder.read_info().unwrap();
-        let mut buf = vec![0u8; reader.output_buffer_size().unwrap()];
-        let frame = reader.next_frame(&mut buf).unwrap();
-        // SVG writes sizes as numbers that may carry a decimal point.
-        assert_eq!(
-            f64::from(frame.width),
-            number(width, "image width"),
-            "image {i}: width"
-        );
-        assert_eq!(
-            f64::from(frame.height),
-            number(height, "image height"),
-            "image {i}: height"
-        );
-    }
+    common::page::check_pictures(&page);
     // The demo has 3 components, each with 6 cortex views, plus one card
     // thumbnail each, and 3 topographic maps (each a PNG inside its SVG).
     let n_img = page
@@ -79,38 +55,6 @@ fn embedded_pictures_decode_at_their_stated_size() {
     ids.dedup();
     assert_eq!(ids.len(), before, "an id appears twice on the page");
     assert!(!page.svgs.is_empty(), "the page has no inline SVG figure");
-    for (i, svg) in page.svgs.iter().enumerate() {
-        let mut reader = quick_xml::Reader::from_str(svg);
-        let mut root = None;
-        loop {
-            match reader
-                .read_event()
-                .unwrap_or_else(|e| panic!("svg {i} does not parse: {e}"))
-            {
-                Event::Start(e) if root.is_none() => {
-                    root = Some((
-                        attr(&e, "width").unwrap_or_default(),
-                        attr(&e, "height").unwrap_or_default(),
-                        attr(&e, "viewBox").unwrap_or_default(),
-                    ))
-                }
-                Event::Eof => break,
-                _ => {}
-            }
-        }
-        let (w, h, view_box) = root.unwrap();
-        let (w, h) = (number(&w, "svg width"), number(&h, "svg height"));
-        let vb: Vec<f64> = view_box
-            .split([' ', ','])
-            .filter(|s| !s.is_empty())
-            .map(|s| s.parse().unwrap())
-            .collect();
-        assert_eq!(vb.len(), 4, "svg {i}: viewBox {view_box:?}");
-        assert!(
-            (vb[2] - w).abs() <= 1e-9 && (vb[3] - h).abs() <= 1e-9,
-            "svg {i}: viewBox {view_box:?} vs {w} x {h}"
-        );
-    }
 }
 
 // Self-contained (the task's rule, common practice, no source): no
@@ -118,49 +62,7 @@ fn embedded_pictures_decode_at_their_stated_size() {
 // no url() in the style except data: or a fragment.
 #[test]
 fn page_fetches_nothing_from_outside() {
-    let html = read(&demo().join("report.html"));
-    let lower = html.to_lowercase();
-    for bad in [
-        "src=\"http",
-        "href=\"http",
-        "url(http",
-        "src='http",
-        "href='http",
-        "@import",
-    ] {
-        assert!(!lower.contains(bad), "page contains {bad:?}");
-    }
-    let page = parse(&html);
-    for el in ["script", "link", "iframe", "object", "embed", "base"] {
-        assert!(
-            !page.elements.iter().any(|e| e == el),
-            "page has a <{el}> element"
-        );
-    }
-    for v in page.attribute_values.iter().map(|v| v.to_lowercase()) {
-        assert!(
-            !v.starts_with("http:")
-                && !v.starts_with("https:")
-                && !v.starts_with("file:")
-                && !v.starts_with("//"),
-            "attribute value {v:?} points outside the page"
-        );
-    }
-    for (i, (src, _, _)) in page.images.iter().enumerate() {
-        assert!(src.starts_with("data:"), "image {i} is not embedded");
-    }
-    for (i, part) in lower.split("url(").enumerate().skip(1) {
-        assert!(
-            part.starts_with('#')
-                || part.starts_with("data:")
-                || part.starts_with("'#")
-                || part.starts_with("\"#"),
-            "url( number {i} is not a fragment or data URI"
-        );
-    }
-    // The page also forbids fetches to the browser itself.
-    assert!(html.contains("Content-Security-Policy"));
-    assert!(html.contains("default-src 'none'"));
+    common::page::assert_self_contained(&read(&demo().join("report.html")));
 }
 
 // The caution of src/io/result_file.rs must be on every page.

@@ -186,3 +186,52 @@ pub fn check_pictures(page: &Page) -> (usize, usize) {
     }
     (page.images.len(), page.svgs.len())
 }
+
+/// Assert that `html` is self-contained (common practice, no source): no
+/// attribute points outside the page, no script, no external style sheet,
+/// no url() in the style except data: or a fragment, and the content
+/// security policy that forbids fetches.
+pub fn assert_self_contained(html: &str) {
+    let lower = html.to_lowercase();
+    for bad in [
+        "src=\"http",
+        "href=\"http",
+        "url(http",
+        "src='http",
+        "href='http",
+        "@import",
+    ] {
+        assert!(!lower.contains(bad), "page contains {bad:?}");
+    }
+    let page = parse(html);
+    for el in ["script", "link", "iframe", "object", "embed", "base"] {
+        assert!(
+            !page.elements.iter().any(|e| e == el),
+            "page has a <{el}> element"
+        );
+    }
+    for v in page.attribute_values.iter().map(|v| v.to_lowercase()) {
+        assert!(
+            !v.starts_with("http:")
+                && !v.starts_with("https:")
+                && !v.starts_with("file:")
+                && !v.starts_with("//"),
+            "attribute value {v:?} points outside the page"
+        );
+    }
+    for (i, (src, _, _)) in page.images.iter().enumerate() {
+        assert!(src.starts_with("data:"), "image {i} is not embedded");
+    }
+    for (i, part) in lower.split("url(").enumerate().skip(1) {
+        assert!(
+            part.starts_with('#')
+                || part.starts_with("data:")
+                || part.starts_with("'#")
+                || part.starts_with("\"#"),
+            "url( number {i} is not a fragment or data URI"
+        );
+    }
+    // The page also forbids fetches to the browser itself.
+    assert!(html.contains("Content-Security-Policy"));
+    assert!(html.contains("default-src 'none'"));
+}
