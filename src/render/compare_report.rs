@@ -15,9 +15,8 @@ use super::charts::{
     heatmap_svg, region_shares_svg, HeatmapOptions, HeatmapScale, RegionBar, RegionSharesOptions,
 };
 use super::cortex::{render_views, ColourSpec, ViewOptions};
-use super::report::{fact, interval, ReportError, CONTENT_SECURITY_POLICY};
+use super::report::{fact, interval, page_start, ReportError};
 use super::report_html::{escape, fixed, percent, png_img, Html};
-use super::report_style::STYLE;
 use crate::geometry::{template, Template, TemplateResolution};
 use crate::io::compare_read::{CompareComponent, CompareFile};
 use crate::io::result_file::CAUTION;
@@ -342,13 +341,7 @@ pub fn build_compare_report(
         format!("Cohort comparison \u{2014} {folder}")
     });
     let mut h = Html::new();
-    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
-    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
-    h.raw(CONTENT_SECURITY_POLICY);
-    h.element("title", "", &title);
-    h.raw("<style>")
-        .raw(STYLE)
-        .raw("</style>\n</head>\n<body>\n<main>\n");
+    page_start(&mut h, &title);
     masthead(&mut h, f, &title);
     caution(&mut h, f);
     glance(&mut h, f);

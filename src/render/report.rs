@@ -57,7 +57,7 @@ pub struct ReportOptions {
 
 /// The page's content security policy (W3C Content Security Policy Level 3):
 /// no fetches of any kind except inline styles and `data:` images.
-pub(crate) const CONTENT_SECURITY_POLICY: &str = "<meta http-equiv=\"Content-Security-Policy\" \
+const CONTENT_SECURITY_POLICY: &str = "<meta http-equiv=\"Content-Security-Policy\" \
      content=\"default-src 'none'; img-src data:; style-src 'unsafe-inline'; base-uri 'none'; form-action 'none'\"/>\n";
 
 /// Share at or above which a region always gets its own row in a region
@@ -103,16 +103,7 @@ pub fn build_report(
     });
 
     let mut h = Html::new();
-    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
-    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
-    // The page declares that it loads nothing: pictures are data URIs or
-    // inline SVG and the style sheet is inline, so a browser blocks (and
-    // reports on its console) anything else, whatever a file string held.
-    h.raw(CONTENT_SECURITY_POLICY);
-    h.element("title", "", &title);
-    h.raw("<style>")
-        .raw(STYLE)
-        .raw("</style>\n</head>\n<body>\n<main>\n");
+    page_start(&mut h, &title);
     masthead(&mut h, result, &title);
     caution(&mut h, result);
     // Answer first (the leading regions and how well the fit explains the
@@ -129,6 +120,21 @@ pub fn build_report(
     footer(&mut h, result);
     h.raw("</main>\n</body>\n</html>\n");
     Ok(h.finish())
+}
+
+/// The page's head (character set, viewport, content security policy,
+/// title, inline style sheet) and the opening of its body and main element.
+pub(crate) fn page_start(h: &mut Html, title: &str) {
+    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
+    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
+    // The page declares that it loads nothing: pictures are data URIs or
+    // inline SVG and the style sheet is inline, so a browser blocks (and
+    // reports on its console) anything else, whatever a file string held.
+    h.raw(CONTENT_SECURITY_POLICY);
+    h.element("title", "", title);
+    h.raw("<style>")
+        .raw(STYLE)
+        .raw("</style>\n</head>\n<body>\n<main>\n");
 }
 
 /// Check that every per-component and per-region array has the size the
