@@ -164,13 +164,23 @@ pub fn write_report(
 /// written, so any failure here is a failure while computing (exit 1) and
 /// leaves them in place.
 pub fn report_after_outputs(dir: &Path, job: Vec<(String, String)>) -> Result<(), CliError> {
-    match write_report(dir, None, job) {
+    after_outputs(dir, "results", write_report(dir, None, job))
+}
+
+/// Say where the report went, or turn its failure into exit 1 with a note
+/// that the `what` in `dir` are written.
+fn after_outputs(
+    dir: &Path,
+    what: &str,
+    written: Result<PathBuf, CliError>,
+) -> Result<(), CliError> {
+    match written {
         Ok(path) => {
             println!("report in {}", path.display());
             Ok(())
         }
         Err(e) => Err(CliError::compute(e.error.context(format!(
-            "the results in {} are written, but the report failed",
+            "the {what} in {} are written, but the report failed",
             dir.display()
         )))),
     }
@@ -204,16 +214,7 @@ pub fn write_compare_report(dir: &Path, out: Option<&Path>) -> Result<PathBuf, C
 /// The report step of `compare`: the outputs are already written, so any
 /// failure here exits 1 and leaves them in place.
 pub fn compare_report_after_outputs(dir: &Path) -> Result<(), CliError> {
-    match write_compare_report(dir, None) {
-        Ok(path) => {
-            println!("report in {}", path.display());
-            Ok(())
-        }
-        Err(e) => Err(CliError::compute(e.error.context(format!(
-            "the comparison in {} is written, but the report failed",
-            dir.display()
-        )))),
-    }
+    after_outputs(dir, "comparison outputs", write_compare_report(dir, None))
 }
 
 /// Run `patchwise report`: a folder with result.h5 gets the result report,
