@@ -10,78 +10,9 @@ use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 
 use common::cli::patchwise;
-use patchwise::attribution::rng::SplitMix64;
+use common::cohort::{demo_decoder, subject};
 use patchwise::io::compare_read::read_compare;
 use patchwise::io::result_file::CAUTION;
-use patchwise::io::{Dataset, Store};
-
-/// The demo's decoder in `dir`.
-fn demo_decoder(dir: &Path) -> PathBuf {
-    let out = patchwise(
-        &[
-            "demo",
-            "--sources",
-            "template-5k",
-            "--resamples",
-            "0",
-            "--no-report",
-            "--out",
-            "demo",
-            "--cache",
-            "cache",
-        ],
-        dir,
-    );
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-    dir.join("demo").join("decoder.h5")
-}
-
-/// A subject: the demo decoder's first component plus seeded Gaussian
-/// noise of `noise` times its RMS, attributed with 10 resamples into
-/// `dir/name` (no report, to keep the test quick).
-fn subject(dir: &Path, decoder: &Path, name: &str, seed: u64, noise: f64) {
-    let mut store = Store::read(decoder).unwrap();
-    let (w, shape) = store.f64_array(decoder, "/weights").unwrap();
-    let (n_ch, k0) = (shape[0], shape[1]);
-    let mut rng = SplitMix64::new(seed, 0);
-    let rms = ((0..n_ch).map(|i| w[i * k0].powi(2)).sum::<f64>() / n_ch as f64).sqrt();
-    let out: Vec<f64> = (0..n_ch)
-        .map(|i| w[i * k0] + noise * rms * rng.normal())
-        .collect();
-    store.insert("/weights", Dataset::f64(vec![n_ch, 1], out));
-    let names = store.strings(decoder, "/component_names", None).unwrap();
-    store.insert("/component_names", Dataset::strings(names[..1].to_vec()));
-    let path = dir.join(format!("{name}.h5"));
-    store.write_atomic(&path).unwrap();
-    let out = patchwise(
-        &[
-            "attribute",
-            "--decoder",
-            path.to_str().unwrap(),
-            "--montage",
-            "10-10",
-            "--sources",
-            "template-5k",
-            "--resamples",
-            "10",
-            "--no-report",
-            "--cache",
-            "cache",
-            "--out",
-            name,
-        ],
-        dir,
-    );
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stderr)
-    );
-}
 
 /// The scratch folder with six subjects and `group`, the comparison
 /// (made once for all tests of this file).
@@ -92,11 +23,11 @@ fn cohort() -> &'static PathBuf {
         let decoder = demo_decoder(&dir);
         let names: Vec<String> = (0..6).map(|i| format!("s{i}-A")).collect();
         for (i, n) in names.iter().enumerate() {
-            subject(&dir, &decoder, n, 300 + i as u64, 0.05);
+            subject(&dir, &decoder, n, 300 + i as u64, 0.05, 1);
         }
         // A second, noisier decoder for two subjects (the paired test).
         for i in 0..2 {
-            subject(&dir, &decoder, &format!("s{i}-B"), 400 + i, 0.3);
+            subject(&dir, &decoder, &format!("s{i}-B"), 400 + i, 0.3, 1);
         }
         let mut args: Vec<&str> = vec!["compare"];
         args.extend(names.iter().map(|s| s.as_str()));
