@@ -110,6 +110,23 @@ pub fn job_of(args: &AttributeArgs) -> Vec<(String, String)> {
     job
 }
 
+/// A report error as the command line reports it: inconsistent sizes in
+/// the file are bad input (exit 2), a picture that fails is exit 1.
+fn building(e: ReportError) -> CliError {
+    match e {
+        ReportError::Shape { .. } => CliError::bad_input(anyhow::Error::new(e)),
+        other => CliError::compute(anyhow::Error::new(other).context("building the report")),
+    }
+}
+
+/// Write the page atomically to `out` (default `dir`/report.html).
+fn write_page(dir: &Path, out: Option<&Path>, html: &str) -> Result<PathBuf, CliError> {
+    let out = out.map_or_else(|| dir.join("report.html"), Path::to_path_buf);
+    patchwise::io::atomic::write_atomic(&out, html.as_bytes())
+        .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", out.display())))?;
+    Ok(out)
+}
+
 /// Read `dir`/result.h5 (and summary.json when present), build the page and
 /// write it atomically to `out` (default `dir`/report.html). Bad or missing
 /// input files exit 2; a failure to draw or write exits 1.
@@ -150,14 +167,8 @@ pub fn write_report(
         job,
         ..ReportOptions::default()
     };
-    let html = build_report(&result, summary.as_ref(), &options).map_err(|e| match e {
-        ReportError::Shape { .. } => CliError::bad_input(anyhow::Error::new(e)),
-        other => CliError::compute(anyhow::Error::new(other).context("building the report")),
-    })?;
-    let out = out.map_or_else(|| dir.join("report.html"), Path::to_path_buf);
-    patchwise::io::atomic::write_atomic(&out, html.as_bytes())
-        .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", out.display())))?;
-    Ok(out)
+    let html = build_report(&result, summary.as_ref(), &options).map_err(building)?;
+    write_page(dir, out, &html)
 }
 
 /// The report step of `attribute` and `demo`: the results are already
@@ -200,15 +211,8 @@ pub fn write_compare_report(dir: &Path, out: Option<&Path>) -> Result<PathBuf, C
     let file = read_compare(&path).map_err(|e| {
         CliError::bad_input(anyhow::Error::new(e).context("reading the comparison"))
     })?;
-    let html =
-        build_compare_report(&file, &CompareReportOptions::default()).map_err(|e| match e {
-            ReportError::Shape { .. } => CliError::bad_input(anyhow::Error::new(e)),
-            other => CliError::compute(anyhow::Error::new(other).context("building the report")),
-        })?;
-    let out = out.map_or_else(|| dir.join("report.html"), Path::to_path_buf);
-    patchwise::io::atomic::write_atomic(&out, html.as_bytes())
-        .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", out.display())))?;
-    Ok(out)
+    let html = build_compare_report(&file, &CompareReportOptions::default()).map_err(building)?;
+    write_page(dir, out, &html)
 }
 
 /// The report step of `compare`: the outputs are already written, so any
