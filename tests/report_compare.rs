@@ -148,6 +148,35 @@ fn report_command_detects_the_folder_kind() {
     assert!(!dir.join("two/report.html").exists());
 }
 
+// The brief's rule: outputs identical whatever the rayon thread count
+// (the page is built from the file alone, so byte for byte).
+#[test]
+fn page_is_the_same_on_one_and_two_threads() {
+    let dir = cohort();
+    let mut pages = Vec::new();
+    for threads in ["1", "2"] {
+        let out = dir.join(format!("threads-{threads}.html"));
+        let started = std::time::Instant::now();
+        let run = std::process::Command::new(env!("CARGO_BIN_EXE_patchwise"))
+            .args(["report", "group", "--out", out.to_str().unwrap()])
+            .current_dir(dir)
+            .env("RAYON_NUM_THREADS", threads)
+            .output()
+            .unwrap();
+        println!("report on {threads} thread(s): {:.2?}", started.elapsed());
+        assert!(
+            run.status.success(),
+            "{}",
+            String::from_utf8_lossy(&run.stderr)
+        );
+        pages.push(std::fs::read(&out).unwrap());
+    }
+    assert!(
+        pages[0] == pages[1],
+        "the page differs between 1 and 2 threads"
+    );
+}
+
 #[test]
 fn paired_comparison_has_its_section() {
     let dir = cohort();
