@@ -6,6 +6,7 @@ mod axes;
 pub mod camera;
 pub mod charts;
 pub mod colormap;
+pub mod compare_report;
 mod contour;
 pub mod cortex;
 pub mod error;

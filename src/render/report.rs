@@ -103,16 +103,7 @@ pub fn build_report(
     });
 
     let mut h = Html::new();
-    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
-    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
-    // The page declares that it loads nothing: pictures are data URIs or
-    // inline SVG and the style sheet is inline, so a browser blocks (and
-    // reports on its console) anything else, whatever a file string held.
-    h.raw(CONTENT_SECURITY_POLICY);
-    h.element("title", "", &title);
-    h.raw("<style>")
-        .raw(STYLE)
-        .raw("</style>\n</head>\n<body>\n<main>\n");
+    page_start(&mut h, &title);
     masthead(&mut h, result, &title);
     caution(&mut h, result);
     // Answer first (the leading regions and how well the fit explains the
@@ -130,6 +121,21 @@ pub fn build_report(
     footer(&mut h, result);
     h.raw("</main>\n</body>\n</html>\n");
     Ok(h.finish())
+}
+
+/// The page's head (character set, viewport, content security policy,
+/// title, inline style sheet) and the opening of its body and main element.
+pub(crate) fn page_start(h: &mut Html, title: &str) {
+    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
+    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
+    // The page declares that it loads nothing: pictures are data URIs or
+    // inline SVG and the style sheet is inline, so a browser blocks (and
+    // reports on its console) anything else, whatever a file string held.
+    h.raw(CONTENT_SECURITY_POLICY);
+    h.element("title", "", title);
+    h.raw("<style>")
+        .raw(STYLE)
+        .raw("</style>\n</head>\n<body>\n<main>\n");
 }
 
 /// Check that every per-component and per-region array has the size the
@@ -377,7 +383,7 @@ fn region_numbers(r: &ResultFile, reg: usize, c: usize) -> (f64, f64, f64, f64) 
     )
 }
 
-fn interval(low: f64, high: f64) -> String {
+pub(crate) fn interval(low: f64, high: f64) -> String {
     if low.is_finite() && high.is_finite() {
         format!("{} \u{2013} {}", percent(low, 1), percent(high, 1))
     } else {
@@ -525,7 +531,7 @@ fn lambda_rule(r: &ResultFile) -> String {
     }
 }
 
-fn fact(h: &mut Html, name: &str, value: &str) {
+pub(crate) fn fact(h: &mut Html, name: &str, value: &str) {
     h.element("dt", "", name);
     h.element("dd", "", value);
 }

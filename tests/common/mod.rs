@@ -1,4 +1,7 @@
 //! Helpers shared by the integration tests.
+pub mod browser;
 pub mod cli;
+pub mod cohort;
+pub mod page;
 pub mod python;
 pub mod report;

@@ -71,6 +71,9 @@ pub struct Args {
     /// Skip the transport distance.
     #[arg(long)]
     pub no_transport: bool,
+    /// Do not write report.html into the output folder.
+    #[arg(long)]
+    pub no_report: bool,
 }
 
 fn bad(message: String) -> CliError {
@@ -535,5 +538,8 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         if paired.is_some() { ", paired.csv" } else { "" }
     );
     println!("caution: {CAUTION}");
+    if !args.no_report {
+        super::report::compare_report_after_outputs(&dir)?;
+    }
     Ok(())
 }

@@ -1,8 +1,11 @@
-//! `patchwise report`: one self-contained HTML page for a result folder.
+//! `patchwise report`: one self-contained HTML page for a result folder
+//! (result.h5) or a comparison folder (compare.h5).
 
 use std::path::{Path, PathBuf};
 
+use patchwise::io::compare_read::read_compare;
 use patchwise::io::result_file::read_result;
+use patchwise::render::compare_report::{build_compare_report, CompareReportOptions};
 use patchwise::render::report::{build_report, ReportError, ReportOptions};
 
 use super::attribute::Args as AttributeArgs;
@@ -11,7 +14,9 @@ use crate::CliError;
 /// Arguments of `patchwise report`.
 #[derive(clap::Args, Debug)]
 pub struct Args {
-    /// Result folder written by `attribute` or `demo` (holds result.h5; summary.json is used when present).
+    /// Result folder written by `attribute` or `demo` (holds result.h5;
+    /// summary.json is used when present), or a comparison folder written
+    /// by `compare` (holds compare.h5).
     pub result_dir: PathBuf,
     /// Output file (default: RESULT_DIR/report.html).
     #[arg(long)]
@@ -105,6 +110,23 @@ pub fn job_of(args: &AttributeArgs) -> Vec<(String, String)> {
     job
 }
 
+/// A report error as the command line reports it: inconsistent sizes in
+/// the file are bad input (exit 2), a picture that fails is exit 1.
+fn building(e: ReportError) -> CliError {
+    match e {
+        ReportError::Shape { .. } => CliError::bad_input(anyhow::Error::new(e)),
+        other => CliError::compute(anyhow::Error::new(other).context("building the report")),
+    }
+}
+
+/// Write the page atomically to `out` (default `dir`/report.html).
+fn write_page(dir: &Path, out: Option<&Path>, html: &str) -> Result<PathBuf, CliError> {
+    let out = out.map_or_else(|| dir.join("report.html"), Path::to_path_buf);
+    patchwise::io::atomic::write_atomic(&out, html.as_bytes())
+        .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", out.display())))?;
+    Ok(out)
+}
+
 /// Read `dir`/result.h5 (and summary.json when present), build the page and
 /// write it atomically to `out` (default `dir`/report.html). Bad or missing
 /// input files exit 2; a failure to draw or write exits 1.
@@ -159,35 +181,78 @@ pub fn write_report_as(
         job,
         ..ReportOptions::default()
     };
-    let html = build_report(&result, summary.as_ref(), &options).map_err(|e| match e {
-        ReportError::Shape { .. } => CliError::bad_input(anyhow::Error::new(e)),
-        other => CliError::compute(anyhow::Error::new(other).context("building the report")),
-    })?;
-    let out = out.map_or_else(|| dir.join("report.html"), Path::to_path_buf);
-    patchwise::io::atomic::write_atomic(&out, html.as_bytes())
-        .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", out.display())))?;
-    Ok(out)
+    let html = build_report(&result, summary.as_ref(), &options).map_err(building)?;
+    write_page(dir, out, &html)
 }
 
 /// The report step of `attribute` and `demo`: the results are already
 /// written, so any failure here is a failure while computing (exit 1) and
 /// leaves them in place.
 pub fn report_after_outputs(dir: &Path, job: Vec<(String, String)>) -> Result<(), CliError> {
-    match write_report(dir, None, job) {
+    after_outputs(dir, "results", write_report(dir, None, job))
+}
+
+/// Say where the report went, or turn its failure into exit 1 with a note
+/// that the `what` in `dir` are written.
+fn after_outputs(
+    dir: &Path,
+    what: &str,
+    written: Result<PathBuf, CliError>,
+) -> Result<(), CliError> {
+    match written {
         Ok(path) => {
             println!("report in {}", path.display());
             Ok(())
         }
         Err(e) => Err(CliError::compute(e.error.context(format!(
-            "the results in {} are written, but the report failed",
+            "the {what} in {} are written, but the report failed",
             dir.display()
         )))),
     }
 }
 
-/// Run `patchwise report`.
+/// Read `dir`/compare.h5, build the comparison page and write it
+/// atomically to `out` (default `dir`/report.html). A bad or missing
+/// compare.h5 exits 2; a failure to draw or write exits 1.
+pub fn write_compare_report(dir: &Path, out: Option<&Path>) -> Result<PathBuf, CliError> {
+    let path = dir.join("compare.h5");
+    if !path.is_file() {
+        return Err(bad(format!(
+            "{}: not found (a comparison folder holds the compare.h5 that `patchwise compare` writes)",
+            path.display()
+        )));
+    }
+    let file = read_compare(&path).map_err(|e| {
+        CliError::bad_input(anyhow::Error::new(e).context("reading the comparison"))
+    })?;
+    let html = build_compare_report(&file, &CompareReportOptions::default()).map_err(building)?;
+    write_page(dir, out, &html)
+}
+
+/// The report step of `compare`: the outputs are already written, so any
+/// failure here exits 1 and leaves them in place.
+pub fn compare_report_after_outputs(dir: &Path) -> Result<(), CliError> {
+    after_outputs(dir, "comparison outputs", write_compare_report(dir, None))
+}
+
+/// Run `patchwise report`: a folder with result.h5 gets the result report,
+/// one with compare.h5 the comparison report.
 pub fn exec(args: Args) -> Result<(), CliError> {
-    let out = write_report(&args.result_dir, args.out.as_deref(), Vec::new())?;
+    let dir = &args.result_dir;
+    let is_result = dir.join("result.h5").is_file();
+    let is_compare = dir.join("compare.h5").is_file();
+    if dir.is_dir() && !is_result && !is_compare {
+        return Err(bad(format!(
+            "{} and {}: neither found (a result folder holds the result.h5 that `patchwise attribute` or `patchwise demo` writes, a comparison folder the compare.h5 that `patchwise compare` writes)",
+            dir.join("result.h5").display(),
+            dir.join("compare.h5").display()
+        )));
+    }
+    let out = if is_compare && !is_result {
+        write_compare_report(dir, args.out.as_deref())?
+    } else {
+        write_report(dir, args.out.as_deref(), Vec::new())?
+    };
     println!("report in {}", out.display());
     Ok(())
 }

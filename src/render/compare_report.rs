@@ -1,0 +1,877 @@
+//! The self-contained HTML report of a cohort comparison (`compare.h5`):
+//! the caution, the regions that survive the group test's correction, per
+//! component a region table, heatmaps of the subjects' shares and of their
+//! map similarity, the group mean chart, the paired comparison, and the
+//! inputs with their hashes, in one page that needs no other file.
+//!
+//! It has the look of the result report ([`super::report`]): the same style
+//! sheet, the same escaping and number formats, the same content security
+//! policy that forbids any fetch.
+
+use rayon::prelude::*;
+
+use super::camera::View;
+use super::charts::{
+    heatmap_svg, region_shares_svg, HeatmapOptions, HeatmapScale, RegionBar, RegionSharesOptions,
+};
+use super::cortex::{render_views, ColourSpec, ViewOptions};
+use super::report::{fact, interval, page_start, ReportError};
+use super::report_html::{escape, fixed, percent, png_img, Html};
+use crate::geometry::{template, Template, TemplateResolution};
+use crate::io::compare_read::{CompareComponent, CompareFile};
+use crate::io::result_file::CAUTION;
+
+/// Mean share at or above which a region gets its own row.
+const SHOWN_SHARE: f64 = 0.005;
+/// Regions always listed, whatever their share.
+const SHOWN_TOP: usize = 3;
+/// Width of the group-mean chart (px).
+const CHART_WIDTH: u32 = 640;
+/// Size of one cortex view (px).
+const VIEW_SIZE: (u32, u32) = (240, 170);
+
+/// Choices for the comparison report.
+#[derive(Debug, Clone, Default)]
+pub struct CompareReportOptions {
+    /// Page title; default "Cohort comparison" followed by the folder name.
+    pub title: Option<String>,
+    /// Leave the pictures out (tables only).
+    pub no_figures: bool,
+}
+
+/// The pictures of one component.
+#[derive(Debug, Default)]
+struct ComponentCharts {
+    /// Group mean shares with their intervals.
+    means: Option<String>,
+    /// Subject × region shares.
+    shares: Option<String>,
+    /// Subject × subject cosine similarity.
+    similarity: Option<String>,
+    /// Cortex views of the group mean share (`<img>` elements with captions).
+    cortex: Vec<(String, String)>,
+}
+
+/// The template cortex the comparison was made on, found by its vertex
+/// count, when its regions are the comparison's regions.
+fn find_template(f: &CompareFile) -> Option<Template> {
+    TemplateResolution::ALL
+        .into_iter()
+        .map(template)
+        .find(|t| t.mesh.n_vertices() as i64 == f.template_vertices)
+        .filter(|t| t.region_names == f.region_names)
+}
+
+/// Views of the group mean share of component `c` painted per region on
+/// the template cortex (one colour per region, white background).
+fn cortex_views(
+    f: &CompareFile,
+    c: &CompareComponent,
+    t: &Template,
+) -> Result<Vec<(String, String)>, ReportError> {
+    let values: Vec<f64> = t
+        .region
+        .iter()
+        .map(|&r| {
+            usize::try_from(r)
+                .ok()
+                .and_then(|r| c.mean_share.get(r).copied())
+                .filter(|v| v.is_finite())
+                .map_or(0.0, |v| v.max(0.0))
+        })
+        .collect();
+    let largest = values.iter().copied().fold(0.0, f64::max);
+    if largest <= 0.0 {
+        return Ok(Vec::new());
+    }
+    let mut options = ViewOptions::new(View::Left, VIEW_SIZE.0, VIEW_SIZE.1);
+    options.background = [255, 255, 255, 255];
+    options.regions = Some(&t.region);
+    options.hemisphere = Some(&t.hemisphere);
+    options.colour = ColourSpec::Positive {
+        max: Some(largest),
+        threshold: SHOWN_SHARE,
+    };
+    let what = || format!("the cortex views of {}", c.name);
+    let views = render_views(&t.mesh, &values, &View::PANEL, &options)
+        .map_err(|e| figure_error(f, what(), e))?;
+    views
+        .iter()
+        .map(|(view, image)| {
+            let png = image.encode_png().map_err(|e| figure_error(f, what(), e))?;
+            Ok((
+                png_img(&png, image.width, image.height, view.caption()),
+                view.caption().to_string(),
+            ))
+        })
+        .collect()
+}
+
+fn figure_error(f: &CompareFile, figure: String, e: impl std::fmt::Display) -> ReportError {
+    ReportError::Figure {
+        path: f.path.clone(),
+        figure,
+        message: e.to_string(),
+    }
+}
+
+/// Check every array against the subject and region counts, so the page
+/// never indexes out of range.
+fn check_shapes(f: &CompareFile) -> Result<(), ReportError> {
+    let n_s = f.subjects.len();
+    let n_r = f.region_names.len();
+    let mut checks: Vec<(&'static str, usize, usize, String)> = Vec::new();
+    let per_region = format!("n_regions = {n_r}");
+    for c in &f.components {
+        let fields: [(&'static str, &Vec<f64>); 8] = [
+            ("/group/consistency", &c.consistency),
+            (
+                "/group/mean_selection_frequency",
+                &c.mean_selection_frequency,
+            ),
+            ("/group/mean_share", &c.mean_share),
+            ("/group/mean_low", &c.mean_low),
+            ("/group/mean_high", &c.mean_high),
+            ("/group/t", &c.t),
+            ("/group/p_raw", &c.p_raw),
+            ("/group/p_corrected", &c.p_corrected),
+        ];
+        for (field, v) in fields {
+            checks.push((field, v.len(), n_r, per_region.clone()));
+        }
+        let square = format!("n_subjects x n_subjects = {n_s} x {n_s}");
+        checks.push((
+            "/group/share",
+            c.share.len(),
+            n_s * n_r,
+            format!("n_subjects x n_regions = {n_s} x {n_r}"),
+        ));
+        checks.push((
+            "/similarity/cosine",
+            c.cosine.len(),
+            n_s * n_s,
+            square.clone(),
+        ));
+        checks.push((
+            "/similarity/transport_mm",
+            c.transport_mm.len(),
+            n_s * n_s,
+            square,
+        ));
+    }
+    if let Some(p) = &f.paired {
+        let n_p = p.subjects.len();
+        for c in &p.components {
+            checks.push((
+                "/paired/difference",
+                c.difference.len(),
+                n_p * n_r,
+                format!("n_pairs x n_regions = {n_p} x {n_r}"),
+            ));
+            for (field, v) in [
+                ("/paired/mean_difference", &c.mean_difference),
+                ("/paired/mean_low", &c.mean_low),
+                ("/paired/mean_high", &c.mean_high),
+                ("/paired/p_raw", &c.p_raw),
+                ("/paired/p_corrected", &c.p_corrected),
+            ] {
+                checks.push((field, v.len(), n_r, per_region.clone()));
+            }
+        }
+    }
+    for (field, found, expected_len, expected) in checks {
+        if found != expected_len {
+            return Err(ReportError::Shape {
+                path: f.path.clone(),
+                field,
+                found,
+                expected,
+            });
+        }
+    }
+    Ok(())
+}
+
+/// Region indices by decreasing group mean share (NaN last), ties by name.
+fn order(f: &CompareFile, c: &CompareComponent) -> Vec<usize> {
+    let key = |r: usize| {
+        let v = c.mean_share[r];
+        if v.is_nan() {
+            f64::NEG_INFINITY
+        } else {
+            v
+        }
+    };
+    let mut order: Vec<usize> = (0..f.region_names.len()).collect();
+    order.sort_by(|&x, &y| {
+        key(y)
+            .total_cmp(&key(x))
+            .then(f.region_names[x].cmp(&f.region_names[y]))
+    });
+    order
+}
+
+/// Whether region `reg` (of rank `rank`) gets its own row and bar.
+fn is_shown(f: &CompareFile, c: &CompareComponent, rank: usize, reg: usize) -> bool {
+    rank < SHOWN_TOP || c.mean_share[reg].abs() >= SHOWN_SHARE || surviving(f, c, reg)
+}
+
+/// Whether region `reg` survives the max-statistic correction at α.
+fn surviving(f: &CompareFile, c: &CompareComponent, reg: usize) -> bool {
+    let alpha = if f.alpha.is_finite() { f.alpha } else { 0.05 };
+    c.p_corrected[reg] < alpha
+}
+
+fn charts(
+    f: &CompareFile,
+    ci: usize,
+    cortex: Option<&Template>,
+) -> Result<ComponentCharts, ReportError> {
+    let c = &f.components[ci];
+    let n_s = f.subjects.len();
+    let n_r = f.region_names.len();
+    let shown: Vec<usize> = order(f, c)
+        .into_iter()
+        .enumerate()
+        .filter(|&(rank, reg)| is_shown(f, c, rank, reg) && c.mean_share[reg].is_finite())
+        .map(|(_, reg)| reg)
+        .collect();
+    let bars: Vec<RegionBar> = shown
+        .iter()
+        .map(|&reg| {
+            let (low, high) = (c.mean_low[reg], c.mean_high[reg]);
+            let freq = c.mean_selection_frequency[reg];
+            RegionBar {
+                name: f.region_names[reg].clone(),
+                share: c.mean_share[reg],
+                interval: (low.is_finite() && high.is_finite() && low <= high)
+                    .then_some([low, high]),
+                selection_frequency: (freq.is_finite() && (0.0..=1.0).contains(&freq))
+                    .then_some(freq),
+            }
+        })
+        .collect();
+    let means = if bars.is_empty() {
+        None
+    } else {
+        let options = RegionSharesOptions {
+            width: CHART_WIDTH,
+            title: "Group mean share".to_string(),
+            axis_label: "mean share over subjects (%)".to_string(),
+            percent: true,
+        };
+        Some(
+            region_shares_svg(&bars, &options)
+                .map_err(|e| figure_error(f, format!("the group mean chart of {}", c.name), e))?
+                .svg,
+        )
+    };
+    let shares = if n_s == 0 || n_r == 0 {
+        None
+    } else {
+        let options = HeatmapOptions {
+            title: "Share per subject and region".to_string(),
+            unit: "share".to_string(),
+            row_labels: f.subjects.clone(),
+            column_labels: f.region_names.clone(),
+            scale: None,
+            cell_px: None,
+        };
+        Some(
+            heatmap_svg(&c.share, n_s, n_r, &options)
+                .map_err(|e| figure_error(f, format!("the share heatmap of {}", c.name), e))?
+                .svg,
+        )
+    };
+    let similarity = if n_s == 0 {
+        None
+    } else {
+        // The cosine of two non-negative smoothed maps lies in [0, 1].
+        let options = HeatmapOptions {
+            title: "Cosine similarity of the smoothed maps".to_string(),
+            unit: "cosine".to_string(),
+            row_labels: f.subjects.clone(),
+            column_labels: f.subjects.clone(),
+            scale: Some(HeatmapScale::Sequential { lo: 0.0, hi: 1.0 }),
+            cell_px: None,
+        };
+        Some(
+            heatmap_svg(&c.cosine, n_s, n_s, &options)
+                .map_err(|e| figure_error(f, format!("the similarity heatmap of {}", c.name), e))?
+                .svg,
+        )
+    };
+    let cortex = match cortex {
+        Some(t) => cortex_views(f, c, t)?,
+        None => Vec::new(),
+    };
+    Ok(ComponentCharts {
+        means,
+        shares,
+        similarity,
+        cortex,
+    })
+}
+
+/// Build the report page of the comparison `f` as one HTML string.
+pub fn build_compare_report(
+    f: &CompareFile,
+    options: &CompareReportOptions,
+) -> Result<String, ReportError> {
+    check_shapes(f)?;
+    let figures: Vec<ComponentCharts> = if options.no_figures {
+        f.components
+            .iter()
+            .map(|_| ComponentCharts::default())
+            .collect()
+    } else {
+        let cortex = find_template(f);
+        (0..f.components.len())
+            .into_par_iter()
+            .map(|c| charts(f, c, cortex.as_ref()))
+            .collect::<Result<_, _>>()?
+    };
+    let title = options.title.clone().unwrap_or_else(|| {
+        let folder = f
+            .path
+            .parent()
+            .and_then(|p| p.file_name())
+            .map(|n| n.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "comparison".to_string());
+        format!("Cohort comparison \u{2014} {folder}")
+    });
+    let mut h = Html::new();
+    page_start(&mut h, &title);
+    masthead(&mut h, f, &title);
+    caution(&mut h, f);
+    glance(&mut h, f);
+    for (ci, figs) in figures.iter().enumerate() {
+        component_section(&mut h, f, ci, figs);
+    }
+    if f.paired.is_some() {
+        paired_section(&mut h, f);
+    }
+    h.raw("<div class=\"columns provenance\">\n");
+    settings(&mut h, f);
+    inputs(&mut h, f);
+    h.raw("</div>\n");
+    footer(&mut h, f);
+    h.raw("</main>\n</body>\n</html>\n");
+    Ok(h.finish())
+}
+
+fn masthead(h: &mut Html, f: &CompareFile, title: &str) {
+    h.raw("<header class=\"masthead\">\n");
+    h.element(
+        "p",
+        "kicker",
+        "patchwise \u{00b7} which cortical regions a cohort's decoders rely on",
+    );
+    h.element("h1", "", title);
+    let k = f.components.len();
+    h.element(
+        "p",
+        "sub",
+        &format!(
+            "{} \u{00b7} {} subjects \u{00b7} {} component{} \u{00b7} {} regions \u{00b7} {}",
+            f.path.display(),
+            f.subjects.len(),
+            k,
+            if k == 1 { "" } else { "s" },
+            f.region_names.len(),
+            f.software
+        ),
+    );
+    h.raw("</header>\n");
+}
+
+fn caution(h: &mut Html, f: &CompareFile) {
+    h.raw("<aside class=\"caution\" role=\"note\"><strong>Caution.</strong>");
+    h.text(CAUTION);
+    if !f.caution.is_empty() && f.caution != CAUTION {
+        h.raw(" <em>The comparison file adds:</em> ");
+        h.text(&f.caution);
+    }
+    h.raw("</aside>\n");
+}
+
+fn alpha_text(f: &CompareFile) -> String {
+    if f.alpha.is_finite() {
+        fixed(f.alpha, 2)
+    } else {
+        "0.05".to_string()
+    }
+}
+
+fn glance(h: &mut Html, f: &CompareFile) {
+    h.raw("<section id=\"glance\">\n");
+    h.element("h2", "", "At a glance");
+    h.raw("<div class=\"glance\">\n");
+    for c in &f.components {
+        h.raw("<div class=\"card\">");
+        h.element("p", "name", &c.name);
+        let survivors: Vec<usize> = order(f, c)
+            .into_iter()
+            .filter(|&reg| surviving(f, c, reg))
+            .collect();
+        match survivors.first() {
+            Some(&reg) => {
+                h.raw(&format!(
+                    "<p class=\"lead\">{}</p>",
+                    percent(c.mean_share[reg], 0)
+                ));
+                h.element("p", "region", &f.region_names[reg]);
+                h.element(
+                    "p",
+                    "small",
+                    &format!(
+                        "corrected p = {} \u{00b7} interval {}",
+                        fixed(c.p_corrected[reg], 3),
+                        interval(c.mean_low[reg], c.mean_high[reg])
+                    ),
+                );
+                for &other in &survivors[1..] {
+                    h.element(
+                        "p",
+                        "small",
+                        &format!(
+                            "also {} ({}, corrected p = {})",
+                            f.region_names[other],
+                            percent(c.mean_share[other], 1),
+                            fixed(c.p_corrected[other], 3)
+                        ),
+                    );
+                }
+            }
+            None => {
+                h.element(
+                    "p",
+                    "region",
+                    &format!(
+                        "no region survives the correction at \u{03b1} = {}",
+                        alpha_text(f)
+                    ),
+                );
+            }
+        }
+        h.raw("</div>\n");
+    }
+    h.raw("</div>\n");
+    h.element(
+        "p",
+        "note",
+        &format!(
+            "Regions listed here have a corrected p-value below \u{03b1} = {}: a sign-flip \
+             permutation test of the one-sample t statistic per region (null: {}), corrected over \
+             regions by the maximum statistic (Nichols & Holmes 2002).",
+            alpha_text(f),
+            if f.group_null.is_empty() {
+                "share = 0"
+            } else {
+                &f.group_null
+            }
+        ),
+    );
+    h.raw("</section>\n");
+}
+
+/// Mean and minimum of the off-diagonal finite entries of a square matrix.
+fn off_diagonal(m: &[f64], n: usize) -> Option<(f64, f64)> {
+    let vals: Vec<f64> = (0..n * n)
+        .filter(|i| i / n < i % n)
+        .map(|i| m[i])
+        .filter(|x| x.is_finite())
+        .collect();
+    if vals.is_empty() {
+        return None;
+    }
+    let mean = vals.iter().sum::<f64>() / vals.len() as f64;
+    let min = vals.iter().copied().fold(f64::INFINITY, f64::min);
+    Some((mean, min))
+}
+
+fn component_section(h: &mut Html, f: &CompareFile, ci: usize, figs: &ComponentCharts) {
+    let c = &f.components[ci];
+    h.raw(&format!(
+        "<section class=\"component\" id=\"component-{ci}\">\n"
+    ));
+    h.element("h2", "", &c.name);
+    let n_s = f.subjects.len();
+    let mut headline = match off_diagonal(&c.cosine, n_s) {
+        Some((mean, min)) => format!(
+            "map similarity: mean cosine {}, lowest {}",
+            fixed(mean, 2),
+            fixed(min, 2)
+        ),
+        None => "map similarity: not available".to_string(),
+    };
+    if let Some((mean, _)) = off_diagonal(&c.transport_mm, n_s) {
+        headline.push_str(&format!(
+            " \u{00b7} mean transport distance {} mm",
+            fixed(mean, 1)
+        ));
+    }
+    if c.sign_flips > 0 {
+        headline.push_str(&format!(" \u{00b7} {} sign vectors", c.sign_flips));
+    }
+    h.element("p", "headline", &headline);
+    if let Some(svg) = &figs.means {
+        h.element("h3", "", "Group mean");
+        h.raw("<div class=\"figures\">\n<figure>").raw(svg);
+        h.element(
+            "figcaption",
+            "",
+            "Bars: mean share over subjects; whiskers: percentile bootstrap interval over subjects; \
+             dots: mean selection frequency.",
+        );
+        h.raw("</figure>\n</div>\n");
+    }
+    if !figs.cortex.is_empty() {
+        h.element("h3", "", "Group mean share on the template cortex");
+        h.raw("<div class=\"figures\">\n");
+        for (img, caption) in &figs.cortex {
+            h.raw("<figure>").raw(img);
+            h.element("figcaption", "", caption);
+            h.raw("</figure>\n");
+        }
+        h.raw("</div>\n");
+        h.element(
+            "p",
+            "note",
+            &format!(
+                "Each region painted with its group mean share (darker is larger, up to the largest \
+                 region's {}); regions below {} are left grey; lines: region borders.",
+                percent(
+                    c.mean_share
+                        .iter()
+                        .copied()
+                        .filter(|v| v.is_finite())
+                        .fold(0.0, f64::max),
+                    1
+                ),
+                percent(SHOWN_SHARE, 1)
+            ),
+        );
+    }
+    region_table(h, f, c);
+    if figs.shares.is_some() || figs.similarity.is_some() {
+        h.element("h3", "", "Subjects");
+        h.raw("<div class=\"figures\">\n");
+        for (svg, caption) in [
+            (
+                &figs.shares,
+                "Share of each region in each subject's fitted pattern.",
+            ),
+            (
+                &figs.similarity,
+                "Cosine similarity of the subjects' source maps after geodesic Gaussian smoothing.",
+            ),
+        ] {
+            if let Some(svg) = svg {
+                h.raw("<figure>").raw(svg);
+                h.element("figcaption", "", caption);
+                h.raw("</figure>\n");
+            }
+        }
+        h.raw("</div>\n");
+    }
+    h.raw("</section>\n");
+}
+
+fn region_table(h: &mut Html, f: &CompareFile, c: &CompareComponent) {
+    h.element("h3", "", "Regions");
+    h.raw("<table>\n");
+    h.head_row(&[
+        ("region", ""),
+        ("mean share", "num"),
+        ("interval", "num"),
+        ("consistency", "num"),
+        ("mean selection frequency", "num"),
+        ("p", "num"),
+        ("p corrected", "num"),
+    ]);
+    h.raw("<tbody>\n");
+    let mut hidden = 0usize;
+    let mut hidden_sum = 0.0;
+    for (rank, reg) in order(f, c).into_iter().enumerate() {
+        if !is_shown(f, c, rank, reg) {
+            hidden += 1;
+            if c.mean_share[reg].is_finite() {
+                hidden_sum += c.mean_share[reg];
+            }
+            continue;
+        }
+        let class = if surviving(f, c, reg) { "lead-row" } else { "" };
+        h.raw(&format!("<tr class=\"{class}\">"));
+        h.element("th", "", &f.region_names[reg]);
+        h.raw(&format!(
+            "<td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>\
+             <td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
+            percent(c.mean_share[reg], 1),
+            interval(c.mean_low[reg], c.mean_high[reg]),
+            percent(c.consistency[reg], 0),
+            percent(c.mean_selection_frequency[reg], 0),
+            fixed(c.p_raw[reg], 4),
+            fixed(c.p_corrected[reg], 4)
+        ));
+    }
+    if hidden > 0 {
+        h.raw("<tr class=\"faint\">");
+        h.element(
+            "th",
+            "",
+            &format!(
+                "{hidden} more region{}, each below {} and not surviving the correction",
+                if hidden == 1 { "" } else { "s" },
+                percent(SHOWN_SHARE, 1)
+            ),
+        );
+        h.raw(&format!(
+            "<td class=\"num\">{}</td><td class=\"num\"></td><td class=\"num\"></td>\
+             <td class=\"num\"></td><td class=\"num\"></td><td class=\"num\"></td></tr>\n",
+            percent(hidden_sum, 1)
+        ));
+    }
+    h.raw("</tbody></table>\n");
+    h.element(
+        "p",
+        "note",
+        "Interval: percentile bootstrap over subjects of the group mean. Consistency: the fraction \
+         of subjects whose own interval excludes zero. Highlighted rows survive the max-statistic \
+         correction.",
+    );
+}
+
+fn paired_section(h: &mut Html, f: &CompareFile) {
+    let Some(p) = &f.paired else {
+        return;
+    };
+    h.raw("<section id=\"paired\">\n");
+    h.element("h2", "", "Paired comparison of two decoders");
+    h.element(
+        "p",
+        "headline",
+        &format!(
+            "{} subjects with both results: {}",
+            p.subjects.len(),
+            p.subjects.join(", ")
+        ),
+    );
+    for (ci, pc) in p.components.iter().enumerate() {
+        let name = f
+            .components
+            .get(ci)
+            .map_or_else(|| format!("component {ci}"), |c| c.name.clone());
+        h.element("h3", "", &name);
+        let mut order: Vec<usize> = (0..f.region_names.len()).collect();
+        let key = |r: usize| {
+            let v = pc.mean_difference[r].abs();
+            if v.is_nan() {
+                f64::NEG_INFINITY
+            } else {
+                v
+            }
+        };
+        order.sort_by(|&x, &y| key(y).total_cmp(&key(x)).then(x.cmp(&y)));
+        h.raw("<table>\n");
+        h.head_row(&[
+            ("region", ""),
+            ("mean difference A \u{2212} B", "num"),
+            ("interval", "num"),
+            ("p", "num"),
+            ("p corrected", "num"),
+        ]);
+        h.raw("<tbody>\n");
+        for (rank, reg) in order.into_iter().enumerate() {
+            let survives = pc.p_corrected[reg] < if f.alpha.is_finite() { f.alpha } else { 0.05 };
+            if rank >= SHOWN_TOP && !survives && pc.mean_difference[reg].abs() < SHOWN_SHARE {
+                continue;
+            }
+            let class = if survives { "lead-row" } else { "" };
+            h.raw(&format!("<tr class=\"{class}\">"));
+            h.element("th", "", &f.region_names[reg]);
+            h.raw(&format!(
+                "<td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
+                percent(pc.mean_difference[reg], 1),
+                interval(pc.mean_low[reg], pc.mean_high[reg]),
+                fixed(pc.p_raw[reg], 4),
+                fixed(pc.p_corrected[reg], 4)
+            ));
+        }
+        h.raw("</tbody></table>\n");
+    }
+    if !p.null.is_empty() {
+        h.element("p", "note", &format!("Null hypothesis: {}.", p.null));
+    }
+    h.raw("</section>\n");
+}
+
+fn settings(h: &mut Html, f: &CompareFile) {
+    h.raw("<section id=\"settings\">\n");
+    h.element("h2", "", "How it was compared");
+    h.raw("<dl class=\"facts\">\n");
+    fact(h, "subjects", &f.subjects.len().to_string());
+    fact(h, "regions", &f.region_names.len().to_string());
+    if f.template_vertices > 0 {
+        fact(h, "template vertices", &f.template_vertices.to_string());
+    }
+    if f.bootstrap_resamples >= 0 {
+        fact(
+            h,
+            "interval",
+            &format!(
+                "{} percentile bootstrap over subjects, {} resamples",
+                percent(f.level, 0),
+                f.bootstrap_resamples
+            ),
+        );
+    }
+    fact(h, "family-wise error level \u{03b1}", &alpha_text(f));
+    if f.seed >= 0 {
+        fact(h, "seed", &f.seed.to_string());
+    }
+    fact(
+        h,
+        "smoothing",
+        &format!(
+            "geodesic Gaussian, \u{03c3} = {} mm, cut at {} mm",
+            fixed(f.smoothing_sigma_mm, 1),
+            fixed(f.smoothing_cutoff_mm, 1)
+        ),
+    );
+    fact(
+        h,
+        "transport",
+        &if f.transport_epsilon_mm.is_finite() {
+            format!(
+                "entropic, \u{03b5} = {} mm (Cuturi 2013)",
+                fixed(f.transport_epsilon_mm, 2)
+            )
+        } else {
+            "not computed".to_string()
+        },
+    );
+    h.raw("</dl>\n");
+    h.raw("</section>\n");
+}
+
+fn inputs(h: &mut Html, f: &CompareFile) {
+    h.raw("<section id=\"inputs\">\n");
+    h.element("h2", "", "Inputs");
+    h.raw("<table>\n");
+    h.head_row(&[
+        ("subject", ""),
+        ("result", ""),
+        ("map", ""),
+        ("SHA-256", ""),
+    ]);
+    h.raw("<tbody>\n");
+    let get = |v: &[String], i: usize| v.get(i).cloned().unwrap_or_default();
+    for (i, s) in f.subjects.iter().enumerate() {
+        h.row(
+            &[
+                (escape(s), ""),
+                (escape(&get(&f.input_results, i)), ""),
+                (escape(&get(&f.input_mapping, i)), ""),
+                (escape(&get(&f.input_sha256, i)), "hash"),
+            ],
+            true,
+        );
+    }
+    h.raw("</tbody></table>\n");
+    if !f.warnings.is_empty() {
+        h.element("h3", "", "Notes");
+        h.raw("<ul class=\"notes\">");
+        for w in &f.warnings {
+            h.element("li", "", w);
+        }
+        h.raw("</ul>\n");
+    }
+    h.raw("</section>\n");
+}
+
+fn footer(h: &mut Html, f: &CompareFile) {
+    h.raw("<footer>\n");
+    h.element(
+        "p",
+        "",
+        &format!(
+            "Made by {} from {}. The page is self-contained: pictures are embedded and nothing is fetched.",
+            f.software,
+            f.path.display()
+        ),
+    );
+    h.element("p", "", CAUTION);
+    h.raw("</footer>\n");
+}
+
+#[cfg(test)]
+mod tests {
+    #![allow(clippy::unwrap_used)]
+    use super::*;
+
+    /// Two subjects, two regions, one component; region "b" survives.
+    fn tiny() -> CompareFile {
+        CompareFile {
+            path: "grp/compare.h5".into(),
+            caution: CAUTION.to_string(),
+            software: "patchwise test".into(),
+            warnings: vec!["note <b>".into()],
+            subjects: vec!["s<1>".into(), "s&2".into()],
+            region_names: vec!["a".into(), "b\"x".into()],
+            input_results: vec!["s1/result.h5".into(), "s2/result.h5".into()],
+            input_sha256: vec!["ab".into(), "cd".into()],
+            input_mapping: vec!["same mesh".into(); 2],
+            components: vec![CompareComponent {
+                name: "c<0>".into(),
+                share: vec![0.2, 0.8, 0.1, 0.9],
+                consistency: vec![0.5, 1.0],
+                mean_selection_frequency: vec![f64::NAN, 1.0],
+                mean_share: vec![0.15, 0.85],
+                mean_low: vec![0.1, 0.8],
+                mean_high: vec![0.2, 0.9],
+                t: vec![3.0, 17.0],
+                p_raw: vec![0.5, 0.01],
+                p_corrected: vec![0.5, 0.01],
+                sign_flips: 4,
+                cosine: vec![1.0, 0.9, 0.9, 1.0],
+                transport_mm: vec![f64::NAN; 4],
+            }],
+            group_null: "share = 0".into(),
+            bootstrap_resamples: 10,
+            level: 0.95,
+            alpha: 0.05,
+            seed: 1,
+            smoothing_sigma_mm: 10.0,
+            smoothing_cutoff_mm: 30.0,
+            transport_epsilon_mm: f64::NAN,
+            template_vertices: 7,
+            paired: None,
+        }
+    }
+
+    #[test]
+    fn file_strings_are_escaped_and_the_survivor_is_at_a_glance() {
+        let html = build_compare_report(&tiny(), &CompareReportOptions::default()).unwrap();
+        for raw in ["s<1>", "c<0>", "note <b>", "b\"x"] {
+            assert!(!html.contains(raw), "{raw} is not escaped");
+        }
+        assert!(html.contains("s&amp;2") && html.contains("c&lt;0&gt;"));
+        let glance =
+            &html[html.find("id=\"glance\"").unwrap()..html.find("id=\"component-0\"").unwrap()];
+        assert!(glance.contains("b&quot;x") && !glance.contains("<p class=\"region\">a</p>"));
+        assert!(html.contains("not computed"), "transport was skipped");
+    }
+
+    #[test]
+    fn inconsistent_sizes_are_an_error_naming_the_dataset() {
+        let mut f = tiny();
+        f.components[0].cosine.pop();
+        let err = build_compare_report(&f, &CompareReportOptions::default()).unwrap_err();
+        let text = err.to_string();
+        assert!(
+            text.contains("grp/compare.h5") && text.contains("/similarity/cosine"),
+            "{text}"
+        );
+    }
+}
