@@ -712,7 +712,15 @@ pub(crate) fn heatmap_with(
     } else {
         label_size + 10.0
     };
-    let grid_x = MARGIN + row_width + if rows.is_empty() { 0.0 } else { 8.0 };
+    // Turned column labels reach down and left of their cell by
+    // col_width / sqrt 2: the grid starts far enough right for the first one.
+    let turned_reach = if rotate {
+        col_width * std::f64::consts::FRAC_1_SQRT_2 - 0.5 * cell
+    } else {
+        0.0
+    };
+    let grid_x = (MARGIN + row_width + if rows.is_empty() { 0.0 } else { 8.0 })
+        .max(MARGIN + turned_reach);
     let grid_y = TITLE_BASELINE + 30.0;
     let grid_w = cell * n_cols as f64;
     let grid_h = cell * n_rows as f64;

@@ -403,6 +403,9 @@ fn alpha_text(f: &CompareFile) -> String {
     }
 }
 
+/// Smallest mean share a surviving region needs to be named on a card.
+const GLANCE_MIN_SHARE: f64 = 0.01;
+
 fn glance(h: &mut Html, f: &CompareFile) {
     h.raw("<section id=\"glance\">\n");
     h.element("h2", "", "At a glance");
@@ -430,7 +433,13 @@ fn glance(h: &mut Html, f: &CompareFile) {
                         interval(c.mean_low[reg], c.mean_high[reg])
                     ),
                 );
-                for &other in &survivors[1..] {
+                // The card names the regions the cohort relies on: a
+                // consistently tiny (or negative) share can survive the test
+                // but is listed only in the region table.
+                let (listed, small): (Vec<usize>, Vec<usize>) = survivors[1..]
+                    .iter()
+                    .partition(|&&r| c.mean_share[r] >= GLANCE_MIN_SHARE);
+                for &other in &listed {
                     h.element(
                         "p",
                         "small",
@@ -439,6 +448,18 @@ fn glance(h: &mut Html, f: &CompareFile) {
                             f.region_names[other],
                             percent(c.mean_share[other], 1),
                             fixed(c.p_corrected[other], 3)
+                        ),
+                    );
+                }
+                if !small.is_empty() {
+                    h.element(
+                        "p",
+                        "small",
+                        &format!(
+                            "{} more surviving region{} with a mean share below {} (see the table)",
+                            small.len(),
+                            if small.len() == 1 { "" } else { "s" },
+                            percent(GLANCE_MIN_SHARE, 0)
                         ),
                     );
                 }
