@@ -719,8 +719,8 @@ pub(crate) fn heatmap_with(
     } else {
         0.0
     };
-    let grid_x = (MARGIN + row_width + if rows.is_empty() { 0.0 } else { 8.0 })
-        .max(MARGIN + turned_reach);
+    let grid_x =
+        (MARGIN + row_width + if rows.is_empty() { 0.0 } else { 8.0 }).max(MARGIN + turned_reach);
     let grid_y = TITLE_BASELINE + 30.0;
     let grid_w = cell * n_cols as f64;
     let grid_h = cell * n_rows as f64;
