@@ -328,6 +328,9 @@ pub fn regularisation_path_svg(
         .iter()
         .map(|s| s.explained_variance)
         .fold(0.0, f64::min);
+    // Rounding leaves the empty fit at λ_max a hair below 0; that must not
+    // stretch the axis down by a whole tick step.
+    let ev_min = if ev_min > -1e-6 { 0.0 } else { ev_min };
     let ev_max = sorted
         .iter()
         .map(|s| s.explained_variance)
