@@ -332,13 +332,7 @@ pub fn build_compare_report(
             .collect::<Result<_, _>>()?
     };
     let title = options.title.clone().unwrap_or_else(|| {
-        let folder = f
-            .path
-            .parent()
-            .and_then(|p| p.file_name())
-            .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_else(|| "comparison".to_string());
-        format!("Cohort comparison \u{2014} {folder}")
+        super::report_html::folder_title(&f.path, "Cohort comparison", "comparison")
     });
     let mut h = Html::new();
     page_start(&mut h, &title);

@@ -93,13 +93,7 @@ pub fn build_report(
             .collect::<Result<_, _>>()?
     };
     let title = options.title.clone().unwrap_or_else(|| {
-        let folder = result
-            .path
-            .parent()
-            .and_then(|p| p.file_name())
-            .map(|n| n.to_string_lossy().into_owned())
-            .unwrap_or_else(|| "result".to_string());
-        format!("Region attribution \u{2014} {folder}")
+        super::report_html::folder_title(&result.path, "Region attribution", "result")
     });
 
     let mut h = Html::new();

@@ -182,6 +182,17 @@ impl Html {
     }
 }
 
+/// "KIND — FOLDER" for the file at `path` (the folder holding it), or
+/// "KIND — FALLBACK" when the path has no folder name.
+pub fn folder_title(path: &std::path::Path, kind: &str, fallback: &str) -> String {
+    let folder = path
+        .parent()
+        .and_then(|p| p.file_name())
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| fallback.to_string());
+    format!("{kind} \u{2014} {folder}")
+}
+
 #[cfg(test)]
 mod tests {
     #![allow(clippy::unwrap_used)]
