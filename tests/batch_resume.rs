@@ -112,6 +112,15 @@ fn killed_runs_resume_to_the_uninterrupted_numbers() {
             }
         }
     }
+    // A kill can also land while the summary's temporary file is open: the
+    // rerun removes such a file of a process that no longer exists (a pid
+    // above any kernel's pid_max stands for one).
+    std::fs::create_dir_all(dir.join("killed")).unwrap();
+    std::fs::write(
+        dir.join("killed/.batch-summary.csv.999999999.0.tmp"),
+        "partial",
+    )
+    .unwrap();
     let rerun = batch(&dir, &["jobs.toml", "--out", "killed"]);
     assert!(rerun.status.success(), "{}", text(&rerun));
     assert_eq!(job_folders(&dir.join("killed")), names(8));
