@@ -355,17 +355,11 @@ pub fn build_compare_report(
 }
 
 fn masthead(h: &mut Html, f: &CompareFile, title: &str) {
-    h.raw("<header class=\"masthead\">\n");
-    h.element(
-        "p",
-        "kicker",
-        "patchwise \u{00b7} which cortical regions a cohort's decoders rely on",
-    );
-    h.element("h1", "", title);
     let k = f.components.len();
-    h.element(
-        "p",
-        "sub",
+    super::report_html::masthead(
+        h,
+        "patchwise \u{00b7} which cortical regions a cohort's decoders rely on",
+        title,
         &format!(
             "{} \u{00b7} {} subjects \u{00b7} {} component{} \u{00b7} {} regions \u{00b7} {}",
             f.path.display(),
@@ -376,17 +370,10 @@ fn masthead(h: &mut Html, f: &CompareFile, title: &str) {
             f.software
         ),
     );
-    h.raw("</header>\n");
 }
 
 fn caution(h: &mut Html, f: &CompareFile) {
-    h.raw("<aside class=\"caution\" role=\"note\"><strong>Caution.</strong>");
-    h.text(CAUTION);
-    if !f.caution.is_empty() && f.caution != CAUTION {
-        h.raw(" <em>The comparison file adds:</em> ");
-        h.text(&f.caution);
-    }
-    h.raw("</aside>\n");
+    super::report_html::caution_box(h, &f.caution, "comparison file");
 }
 
 fn alpha_text(f: &CompareFile) -> String {

@@ -386,21 +386,15 @@ pub(crate) fn interval(low: f64, high: f64) -> String {
 }
 
 fn masthead(h: &mut Html, r: &ResultFile, title: &str) {
-    h.raw("<header class=\"masthead\">\n");
-    h.element(
-        "p",
-        "kicker",
-        "patchwise \u{00b7} which cortical regions a decoder relies on",
-    );
-    h.element("h1", "", title);
     let components = if r.k == 1 {
         "1 component".to_string()
     } else {
         format!("{} components", r.k)
     };
-    h.element(
-        "p",
-        "sub",
+    super::report_html::masthead(
+        h,
+        "patchwise \u{00b7} which cortical regions a decoder relies on",
+        title,
         &format!(
             "{} \u{00b7} {} channels \u{00b7} {} \u{00b7} {}",
             r.path.display(),
@@ -409,17 +403,10 @@ fn masthead(h: &mut Html, r: &ResultFile, title: &str) {
             r.software
         ),
     );
-    h.raw("</header>\n");
 }
 
 fn caution(h: &mut Html, r: &ResultFile) {
-    h.raw("<aside class=\"caution\" role=\"note\"><strong>Caution.</strong>");
-    h.text(CAUTION);
-    if !r.caution.is_empty() && r.caution != CAUTION {
-        h.raw(" <em>The result file adds:</em> ");
-        h.text(&r.caution);
-    }
-    h.raw("</aside>\n");
+    super::report_html::caution_box(h, &r.caution, "result file");
 }
 
 fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[ComponentFigures]) {
