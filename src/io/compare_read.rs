@@ -64,7 +64,8 @@ pub struct CompareComponent {
     pub name: String,
     /// Shares, n_subjects × n_regions row-major.
     pub share: Vec<f64>,
-    /// Per region: fraction of subjects with a share of at least 5 %.
+    /// Per region: fraction of subjects (with intervals) whose interval
+    /// [share_low, share_high] excludes zero; NaN when no subject has one.
     pub consistency: Vec<f64>,
     /// Per region: mean selection frequency over subjects.
     pub mean_selection_frequency: Vec<f64>,
