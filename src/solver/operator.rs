@@ -196,6 +196,37 @@ impl DenseDictionary {
         }
     }
 
+    /// `out = Dᵀ r` on the atoms with `keep[j]` only; the other rows of
+    /// `out` are set to zero. Same fixed chunking and per-atom sums as
+    /// [`Self::adjoint_into`], so the kept rows equal its rows bit for bit
+    /// and the result does not depend on the number of threads.
+    pub(crate) fn adjoint_kept_into(&self, r: &[f64], k: usize, keep: &[bool], out: &mut [f64]) {
+        let n = self.n_channels;
+        let atoms = &self.atoms;
+        let work = |(chunk, out_chunk): (usize, &mut [f64])| {
+            let j0 = chunk * ATOM_CHUNK;
+            for (jj, out_row) in out_chunk.chunks_exact_mut(k).enumerate() {
+                let j = j0 + jj;
+                if !keep[j] {
+                    out_row.fill(0.0);
+                    continue;
+                }
+                let atom = &atoms[j * n..(j + 1) * n];
+                for (c, o) in out_row.iter_mut().enumerate() {
+                    *o = dot(atom, &r[c * n..(c + 1) * n]);
+                }
+            }
+        };
+        let kept = keep.iter().filter(|&&b| b).count();
+        if kept * n * k >= PARALLEL_MIN_WORK {
+            out.par_chunks_mut(ATOM_CHUNK * k)
+                .enumerate()
+                .for_each(work);
+        } else {
+            out.chunks_mut(ATOM_CHUNK * k).enumerate().for_each(work);
+        }
+    }
+
     /// `out = D x` without shape checks; skips zero rows of `x`.
     pub(crate) fn apply_into(&self, x: &[f64], k: usize, out: &mut [f64]) {
         let n = self.n_channels;

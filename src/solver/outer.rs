@@ -66,15 +66,17 @@ pub(crate) fn solve(
     }
     let mut cert = Certificate::new(n_ch, n_atoms, n_groups, k);
     let mut screened = vec![false; n_groups];
+    let mut atom_kept = vec![true; n_atoms];
     let mut ws_size = params.initial_working_set.min(n_groups);
     let mut iterations = 0;
     let mut outer = 0;
     let mut last_ws = 0;
     loop {
-        cert.compute(
+        cert.compute_unscreened(
             dict,
             n_groups,
             |g| groups.atoms(g),
+            Some((&screened, &atom_kept)),
             &y.cols,
             y.half_sq,
             k,
@@ -127,16 +129,17 @@ pub(crate) fn solve(
                     // The optimum is zero on this group, whatever the iterate holds.
                     for &j in groups.atoms(g) {
                         x[j * k..(j + 1) * k].fill(0.0);
+                        atom_kept[j] = false;
                     }
                 }
             }
         }
-        let ws = choose_working_set(prep, &cert, &screened, x, k, params.working_set, ws_size);
+        let (ws, n_active) =
+            choose_working_set(prep, &cert, &screened, x, k, params.working_set, ws_size);
         last_ws = ws.len();
         // Next size: twice the active groups, so the set stays small while
         // the support is small; after a few passes at one λ it doubles each
         // pass, which guarantees that it reaches the whole problem if needed.
-        let (n_active, _) = count_active(prep, x, k);
         ws_size = if outer > 3 {
             (2 * ws_size).min(n_groups)
         } else {
@@ -177,7 +180,8 @@ pub(crate) fn count_active(prep: &Prepared, x: &[f64], k: usize) -> (usize, usiz
 
 /// The groups of the next working set, increasing: every active unscreened
 /// group, then the best-priority others up to `size` groups in all (all
-/// unscreened groups when working sets are off).
+/// unscreened groups when working sets are off); and the number of active
+/// groups (screened groups are zero, so all of them are counted).
 fn choose_working_set(
     prep: &Prepared,
     cert: &Certificate,
@@ -186,7 +190,7 @@ fn choose_working_set(
     k: usize,
     use_working_set: bool,
     size: usize,
-) -> Vec<usize> {
+) -> (Vec<usize>, usize) {
     let n_groups = prep.groups.n_groups();
     let active = |g: usize| {
         prep.groups
@@ -196,8 +200,11 @@ fn choose_working_set(
     };
     let mut chosen: Vec<usize> = Vec::new();
     let mut others: Vec<(f64, usize)> = Vec::new();
+    let mut n_active = 0;
     for g in (0..n_groups).filter(|&g| !screened[g]) {
-        if !use_working_set || active(g) {
+        let is_active = active(g);
+        n_active += usize::from(is_active);
+        if !use_working_set || is_active {
             chosen.push(g);
         } else {
             let norm = prep.group_norm[g];
@@ -219,7 +226,7 @@ fn choose_working_set(
     }
     chosen.extend(others.iter().map(|&(_, g)| g));
     chosen.sort_unstable();
-    chosen
+    (chosen, n_active)
 }
 
 /// The sub-problem on the groups `ws`, and the global index of each of its atoms.
