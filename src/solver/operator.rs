@@ -175,39 +175,27 @@ impl DenseDictionary {
 
     /// `out = Dᵀ r` without shape checks (the hot loop of the solver).
     pub(crate) fn adjoint_into(&self, r: &[f64], k: usize, out: &mut [f64]) {
-        let n = self.n_channels;
-        let atoms = &self.atoms;
-        let work = |(chunk, out_chunk): (usize, &mut [f64])| {
-            let j0 = chunk * ATOM_CHUNK;
-            for (jj, out_row) in out_chunk.chunks_exact_mut(k).enumerate() {
-                let j = j0 + jj;
-                let atom = &atoms[j * n..(j + 1) * n];
-                for (c, o) in out_row.iter_mut().enumerate() {
-                    *o = dot(atom, &r[c * n..(c + 1) * n]);
-                }
-            }
-        };
-        if atoms.len() * k >= PARALLEL_MIN_WORK {
-            out.par_chunks_mut(ATOM_CHUNK * k)
-                .enumerate()
-                .for_each(work);
-        } else {
-            out.chunks_mut(ATOM_CHUNK * k).enumerate().for_each(work);
-        }
+        self.adjoint_rows(r, k, None, out);
     }
 
     /// `out = Dᵀ r` on the atoms with `keep[j]` only; the other rows of
-    /// `out` are set to zero. Same fixed chunking and per-atom sums as
-    /// [`Self::adjoint_into`], so the kept rows equal its rows bit for bit
-    /// and the result does not depend on the number of threads.
+    /// `out` are set to zero. The kept rows equal [`Self::adjoint_into`]'s
+    /// bit for bit.
     pub(crate) fn adjoint_kept_into(&self, r: &[f64], k: usize, keep: &[bool], out: &mut [f64]) {
+        self.adjoint_rows(r, k, Some(keep), out);
+    }
+
+    /// Both adjoints: every output is one atom's own dot product and the
+    /// chunking is fixed, so the result does not depend on the number of
+    /// threads. Atoms outside `keep` (when given) get zero rows.
+    fn adjoint_rows(&self, r: &[f64], k: usize, keep: Option<&[bool]>, out: &mut [f64]) {
         let n = self.n_channels;
         let atoms = &self.atoms;
         let work = |(chunk, out_chunk): (usize, &mut [f64])| {
             let j0 = chunk * ATOM_CHUNK;
             for (jj, out_row) in out_chunk.chunks_exact_mut(k).enumerate() {
                 let j = j0 + jj;
-                if !keep[j] {
+                if keep.is_some_and(|m| !m[j]) {
                     out_row.fill(0.0);
                     continue;
                 }
@@ -217,7 +205,7 @@ impl DenseDictionary {
                 }
             }
         };
-        let kept = keep.iter().filter(|&&b| b).count();
+        let kept = keep.map_or(self.n_atoms, |m| m.iter().filter(|&&b| b).count());
         if kept * n * k >= PARALLEL_MIN_WORK {
             out.par_chunks_mut(ATOM_CHUNK * k)
                 .enumerate()
