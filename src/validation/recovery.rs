@@ -70,6 +70,15 @@ pub struct CaseResult {
     pub top1_amplitude_correct: bool,
     /// Area under the ROC curve of |source map| against the true active set.
     pub auc: f64,
+    /// The truth's pattern share of its leading region minus that of its
+    /// second region: how clear the winner the top-1 score asks for is.
+    pub truth_margin: f64,
+    /// This method's share of the pattern in the truth's leading region
+    /// minus its share in the method's own leading region (0 when right).
+    pub share_deficit: f64,
+    /// The rank (1 = first) of the truth's leading region among this
+    /// method's region shares.
+    pub truth_rank: Option<usize>,
 }
 
 /// Simulate, fit and score one case for both methods.
@@ -131,7 +140,20 @@ pub fn run_case(
             .map(|v| lf.gain[i * n_src + v] * amplitude[v])
             .sum();
     }
-    let truth_region = top_pattern_share(&lf.gain, n_ch, &amplitude, &s.region, n_regions);
+    let truth_shares = pattern_shares(&lf.gain, n_ch, &amplitude, &s.region, n_regions);
+    let truth_region = top_region(&truth_shares);
+    let truth_margin = {
+        let mut sorted = truth_shares.clone();
+        sorted.sort_by(|a, b| b.total_cmp(a));
+        sorted.first().copied().unwrap_or(0.0) - sorted.get(1).copied().unwrap_or(0.0)
+    };
+    let rank = |shares: &[f64]| {
+        truth_region.map(|t| 1 + shares.iter().filter(|&&v| v > shares[t]).count())
+    };
+    let deficit = |shares: &[f64]| match (top_region(shares), truth_region) {
+        (Some(top), Some(truth)) => shares[truth] - shares[top],
+        _ => f64::NAN,
+    };
     let mut noise: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
     let mean = noise.iter().sum::<f64>() / n_ch as f64;
     noise.iter_mut().for_each(|e| *e -= mean);
@@ -202,6 +224,9 @@ pub fn run_case(
             &comp.source_map.iter().map(|v| v.abs()).collect::<Vec<_>>(),
             &active,
         ),
+        truth_margin,
+        share_deficit: deficit(&comp.region_share),
+        truth_rank: rank(&comp.region_share),
     };
     // Minimum norm on the fit's lead field.
     let x = minimum_norm(setup.fit_gain, n_ch, &y, 1, MinimumNormParams::default())
@@ -209,7 +234,8 @@ pub fn run_case(
     let abs_x: Vec<f64> = x.iter().map(|v| v.abs()).collect();
     let peak = (0..n_src).max_by(|&a, &b| abs_x[a].total_cmp(&abs_x[b]));
     let mn_top_amplitude = region_top1(&abs_x, &s.region, n_regions);
-    let mn_top = top_pattern_share(setup.fit_gain, n_ch, &x, &s.region, n_regions);
+    let mn_shares = pattern_shares(setup.fit_gain, n_ch, &x, &s.region, n_regions);
+    let mn_top = top_region(&mn_shares);
     let mn = CaseResult {
         method: Method::MinimumNorm,
         localization_error_mm: peak.map_or(f64::NAN, |p| nearest_seed_mm(s.positions[p])),
@@ -217,21 +243,24 @@ pub fn run_case(
         top1_amplitude_correct: mn_top_amplitude.is_some()
             && mn_top_amplitude == truth_amplitude_region,
         auc: roc_auc(&abs_x, &active),
+        truth_margin,
+        share_deficit: deficit(&mn_shares),
+        truth_rank: rank(&mn_shares),
     };
     Ok(vec![patch, mn])
 }
 
-/// The region whose sources contribute most to the scalp pattern of
-/// `amplitude` through `gain` (n_ch × n_src): share_r = ⟨G x_r, G x⟩ / ‖G x‖²
-/// with x_r the amplitudes of region r, the same additive decomposition the
-/// attribution reports for fitted patches.
-fn top_pattern_share(
+/// The share of the scalp pattern of `amplitude` (through `gain`, n_ch ×
+/// n_src) that each region's sources contribute: share_r = ⟨G x_r, G x⟩ /
+/// ‖G x‖² with x_r the amplitudes of region r, the same additive
+/// decomposition the attribution reports for fitted patches.
+fn pattern_shares(
     gain: &[f64],
     n_ch: usize,
     amplitude: &[f64],
     region: &[i32],
     n_regions: usize,
-) -> Option<usize> {
+) -> Vec<f64> {
     let n_src = amplitude.len();
     let mut per_region = vec![vec![0.0; n_ch]; n_regions];
     let mut total = vec![0.0; n_ch];
@@ -247,10 +276,17 @@ fn top_pattern_share(
             }
         }
     }
-    let shares: Vec<f64> = per_region
+    let power: f64 = total.iter().map(|t| t * t).sum();
+    per_region
         .iter()
-        .map(|y_r| y_r.iter().zip(&total).map(|(a, b)| a * b).sum())
-        .collect();
+        .map(|y_r| {
+            y_r.iter().zip(&total).map(|(a, b)| a * b).sum::<f64>() / power.max(f64::MIN_POSITIVE)
+        })
+        .collect()
+}
+
+/// The region with the largest positive share, if any.
+fn top_region(shares: &[f64]) -> Option<usize> {
     let mut best = None;
     let mut best_value = 0.0;
     for (r, &v) in shares.iter().enumerate() {
