@@ -117,7 +117,10 @@ fn killed_runs_resume_to_the_uninterrupted_numbers() {
     // above any kernel's pid_max stands for one).
     std::fs::create_dir_all(dir.join("killed")).unwrap();
     std::fs::write(
-        dir.join("killed/.batch-summary.csv.999999999.0.tmp"),
+        dir.join(format!(
+            "killed/.batch-summary.csv.{}.999999999.0.tmp",
+            patchwise::io::atomic::host_tag()
+        )),
         "partial",
     )
     .unwrap();

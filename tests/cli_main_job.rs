@@ -73,6 +73,21 @@ fn demo_finds_its_generators_and_writes_a_consistent_table() {
         .unwrap();
     assert!((0.0..=1e-8).contains(&gap), "gap {gap}");
 
+    // A run killed while writing a cache entry leaves its temporary file;
+    // the next run removes it when its writer (a pid above any kernel's
+    // pid_max) is gone, and keeps those of a live writer (this test) and of
+    // another machine sharing the folder.
+    let host = patchwise::io::atomic::host_tag();
+    let dead = dir.join(format!("cache/.dictionary-0a.h5.{host}.999999999.0.tmp"));
+    let live = dir.join(format!(
+        "cache/.dictionary-0b.h5.{host}.{}.0.tmp",
+        std::process::id()
+    ));
+    let remote = dir.join("cache/.dictionary-0c.h5.elsewhere.999999999.0.tmp");
+    for f in [&dead, &live, &remote] {
+        std::fs::write(f, "partial").unwrap();
+    }
+
     // The decoder the demo wrote, attributed again: the lead field and
     // dictionary now come from the cache.
     let again = patchwise(
@@ -100,6 +115,8 @@ fn demo_finds_its_generators_and_writes_a_consistent_table() {
         stderr(&again)
     );
     assert!(stdout(&again).contains("left-precentral"));
+    assert!(!dead.exists(), "{}", stderr(&again));
+    assert!(live.exists() && remote.exists());
 }
 
 fn write_npz_decoder(python: &Path, path: &Path, script_body: &str) {

@@ -303,6 +303,15 @@ fn dictionary_for_decoder(
     std::fs::create_dir_all(&cache).map_err(|e| {
         CliError::compute(anyhow::anyhow!("creating cache {}: {e}", cache.display()))
     })?;
+    // An entry's temporary file from a run killed while writing it (up to a
+    // few hundred MB for a 20k dictionary) is of no use to anyone.
+    let removed = patchwise::io::atomic::remove_dead_temporaries(&cache, None);
+    if removed > 0 {
+        note(format!(
+            "removed {removed} temporary file(s) left in {} by a killed run",
+            cache.display()
+        ));
+    }
     let lf_hash = leadfield_hash(&montage, &sources, &head.head_model_json(), orientation);
     let mut dh = ContentHash::new("dictionary-v1");
     dh.str(&lf_hash).str(&args.dictionary_options.to_json());

@@ -119,35 +119,8 @@ pub fn clean_stale<'a>(out: &Path, names: impl Iterator<Item = &'a str>) {
             let _ = std::fs::remove_dir_all(entry.path());
         }
     }
-    remove_dead_summary_temporaries(out);
-}
-
-/// Remove `.batch-summary.csv.<pid>.<n>.tmp` files (see
-/// `io::atomic::temporary_path`) whose writer is gone: a run killed while
-/// writing the summary. A live writer (another shard) is left alone; where
-/// processes cannot be looked up (no `/proc`), nothing is removed.
-fn remove_dead_summary_temporaries(out: &Path) {
-    let proc = Path::new("/proc");
-    if !proc.join("self").exists() {
-        return;
-    }
-    let Ok(entries) = std::fs::read_dir(out) else {
-        return;
-    };
-    let prefix = format!(".{}.", super::report::SUMMARY);
-    for entry in entries.flatten() {
-        let file_name = entry.file_name().to_string_lossy().into_owned();
-        let Some(rest) = file_name
-            .strip_prefix(&prefix)
-            .and_then(|r| r.strip_suffix(".tmp"))
-        else {
-            continue;
-        };
-        let pid = rest.split('.').next().unwrap_or("");
-        if !pid.is_empty() && pid.bytes().all(|b| b.is_ascii_digit()) && !proc.join(pid).exists() {
-            let _ = std::fs::remove_file(entry.path());
-        }
-    }
+    // The summary's temporary file of a run killed while writing it.
+    patchwise::io::atomic::remove_dead_temporaries(out, Some(super::report::SUMMARY));
 }
 
 /// Run one job and stage its folder: result files, then the marker, then
