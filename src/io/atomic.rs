@@ -111,6 +111,7 @@ pub fn remove_dead_temporaries(dir: &Path, target: Option<&str>) -> usize {
 
 #[cfg(test)]
 mod tests {
+    #![allow(clippy::unwrap_used)]
     use super::*;
 
     #[test]
