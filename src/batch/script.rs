@@ -4,140 +4,90 @@
 use serde::{Deserialize, Serialize};
 use toml::Spanned;
 
-/// The options a job may set, each with the meaning of the `patchwise
-/// attribute` flag of the same name (`_` for `-`). `None` means "the
-/// default of `attribute`". Path-valued options are resolved relative to
-/// the job script's folder by [`crate::batch::load_script`].
-#[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub struct JobOptions {
+/// Declares [`JobOptions`] and [`RawJob`] from one list of option fields,
+/// so that a `[[job]]` table accepts exactly the keys `[defaults]` does.
+macro_rules! job_options {
+    ($($(#[doc = $doc:literal])* $field:ident: $ty:ty,)*) => {
+        /// The options a job may set, each with the meaning of the `patchwise
+        /// attribute` flag of the same name (`_` for `-`). `None` means "the
+        /// default of `attribute`". Path-valued options are resolved relative to
+        /// the job script's folder by [`crate::batch::load_script`].
+        #[derive(Debug, Clone, Default, PartialEq, Serialize, Deserialize)]
+        #[serde(deny_unknown_fields)]
+        pub struct JobOptions {
+            $($(#[doc = $doc])* pub $field: Option<$ty>,)*
+        }
+
+        impl JobOptions {
+            /// These options with every unset one taken from `defaults`.
+            pub fn or(&self, defaults: &JobOptions) -> JobOptions {
+                JobOptions {
+                    $($field: self.$field.clone().or_else(|| defaults.$field.clone()),)*
+                }
+            }
+        }
+
+        /// One `[[job]]` table as written: a name, a decoder and the options.
+        #[derive(Debug, Clone, Deserialize)]
+        #[serde(deny_unknown_fields)]
+        pub(crate) struct RawJob {
+            pub name: Spanned<String>,
+            pub decoder: Spanned<String>,
+            $(pub $field: Option<$ty>,)*
+        }
+
+        impl RawJob {
+            /// The options part (everything but `name` and `decoder`).
+            pub fn options(&self) -> JobOptions {
+                JobOptions {
+                    $($field: self.$field.clone(),)*
+                }
+            }
+        }
+    };
+}
+
+job_options! {
     /// `--montage`: a standard layout name or an electrodes file.
-    pub montage: Option<String>,
+    montage: String,
     /// `--sources`: `template`, `template-5k` or a surface/table file.
-    pub sources: Option<String>,
+    sources: String,
     /// `--head`: `default` or a head TOML file.
-    pub head: Option<String>,
+    head: String,
     /// `--regions`: a region label file.
-    pub regions: Option<String>,
+    regions: String,
     /// `--channels`: channel labels of a bare matrix decoder.
-    pub channels: Option<String>,
+    channels: String,
     /// `--dictionary`: a dictionary file (skips the forward model).
-    pub dictionary: Option<String>,
+    dictionary: String,
     /// `--noise-covariance`: a noise covariance matrix file.
-    pub noise_covariance: Option<String>,
+    noise_covariance: String,
     /// `--reference`: `average` or `none`.
-    pub reference: Option<String>,
+    reference: String,
     /// `--joint`: one shared support for all components.
-    pub joint: Option<bool>,
+    joint: bool,
     /// `--lambda-ratio`: lambda / lambda_max, in (0, 1].
-    pub lambda_ratio: Option<f64>,
+    lambda_ratio: f64,
     /// `--lambda`: an absolute lambda.
-    pub lambda: Option<f64>,
+    lambda: f64,
     /// `--tol`: relative duality-gap tolerance, in (0, 1).
-    pub tol: Option<f64>,
+    tol: f64,
     /// `--resamples`: bootstrap resamples (0 = none).
-    pub resamples: Option<u64>,
+    resamples: u64,
     /// `--seed`: seed of the resampling.
-    pub seed: Option<u64>,
+    seed: u64,
     /// `--no-refit`: skip the debiased refit.
-    pub no_refit: Option<bool>,
+    no_refit: bool,
     /// `--radii-mm`: geodesic patch radii in mm.
-    pub radii_mm: Option<Vec<f64>>,
+    radii_mm: Vec<f64>,
     /// `--spacing-mm`: seed spacing in mm.
-    pub spacing_mm: Option<f64>,
+    spacing_mm: f64,
     /// `--profile`: `gaussian` or `flat`.
-    pub profile: Option<String>,
+    profile: String,
     /// `--atom-orientation`: `normal` or `free`.
-    pub atom_orientation: Option<String>,
+    atom_orientation: String,
     /// `--no-report`: no report.html in the job's folder.
-    pub no_report: Option<bool>,
-}
-
-impl JobOptions {
-    /// These options with every unset one taken from `defaults`.
-    pub fn or(&self, defaults: &JobOptions) -> JobOptions {
-        macro_rules! pick {
-            ($($f:ident),*) => { JobOptions { $($f: self.$f.clone().or_else(|| defaults.$f.clone()),)* } };
-        }
-        pick!(
-            montage,
-            sources,
-            head,
-            regions,
-            channels,
-            dictionary,
-            noise_covariance,
-            reference,
-            joint,
-            lambda_ratio,
-            lambda,
-            tol,
-            resamples,
-            seed,
-            no_refit,
-            radii_mm,
-            spacing_mm,
-            profile,
-            atom_orientation,
-            no_report
-        )
-    }
-}
-
-/// One `[[job]]` table as written.
-#[derive(Debug, Clone, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub(crate) struct RawJob {
-    pub name: Spanned<String>,
-    pub decoder: Spanned<String>,
-    pub montage: Option<String>,
-    pub sources: Option<String>,
-    pub head: Option<String>,
-    pub regions: Option<String>,
-    pub channels: Option<String>,
-    pub dictionary: Option<String>,
-    pub noise_covariance: Option<String>,
-    pub reference: Option<String>,
-    pub joint: Option<bool>,
-    pub lambda_ratio: Option<f64>,
-    pub lambda: Option<f64>,
-    pub tol: Option<f64>,
-    pub resamples: Option<u64>,
-    pub seed: Option<u64>,
-    pub no_refit: Option<bool>,
-    pub radii_mm: Option<Vec<f64>>,
-    pub spacing_mm: Option<f64>,
-    pub profile: Option<String>,
-    pub atom_orientation: Option<String>,
-    pub no_report: Option<bool>,
-}
-
-impl RawJob {
-    /// The options part (everything but `name` and `decoder`).
-    pub fn options(&self) -> JobOptions {
-        JobOptions {
-            montage: self.montage.clone(),
-            sources: self.sources.clone(),
-            head: self.head.clone(),
-            regions: self.regions.clone(),
-            channels: self.channels.clone(),
-            dictionary: self.dictionary.clone(),
-            noise_covariance: self.noise_covariance.clone(),
-            reference: self.reference.clone(),
-            joint: self.joint,
-            lambda_ratio: self.lambda_ratio,
-            lambda: self.lambda,
-            tol: self.tol,
-            resamples: self.resamples,
-            seed: self.seed,
-            no_refit: self.no_refit,
-            radii_mm: self.radii_mm.clone(),
-            spacing_mm: self.spacing_mm,
-            profile: self.profile.clone(),
-            atom_orientation: self.atom_orientation.clone(),
-            no_report: self.no_report,
-        }
-    }
+    no_report: bool,
 }
 
 /// The `[compare]` table as written.
