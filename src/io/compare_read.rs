@@ -120,6 +120,25 @@ pub struct PairedComponentFile {
 /// A float dataset of exactly `shape`, row-major, NaN allowed, infinities
 /// rejected.
 fn block(store: &Store, path: &Path, name: &str, shape: &[usize]) -> Result<Vec<f64>, IoError> {
+    let values = block_with_infinities(store, path, name, shape)?;
+    if let Some(i) = values.iter().position(|v| v.is_infinite()) {
+        return Err(IoError::Value {
+            path: path.to_path_buf(),
+            object: format!("{} element {i}", normalise_path(name)),
+            message: format!("{} is infinite, expected a number or NaN", values[i]),
+        });
+    }
+    Ok(values)
+}
+
+/// [`block`] that also accepts ±∞ (the t statistic of identical nonzero
+/// shares).
+fn block_with_infinities(
+    store: &Store,
+    path: &Path,
+    name: &str,
+    shape: &[usize],
+) -> Result<Vec<f64>, IoError> {
     let ds = store.dataset(path, name)?;
     if ds.shape != shape {
         return Err(IoError::Shape {
@@ -141,13 +160,6 @@ fn block(store: &Store, path: &Path, name: &str, shape: &[usize]) -> Result<Vec<
             })
         }
     };
-    if let Some(i) = values.iter().position(|v| v.is_infinite()) {
-        return Err(IoError::Value {
-            path: path.to_path_buf(),
-            object: format!("{} element {i}", normalise_path(name)),
-            message: format!("{} is infinite, expected a number or NaN", values[i]),
-        });
-    }
     Ok(values)
 }
 
@@ -191,7 +203,11 @@ pub fn compare_from_store(store: &Store, path: &Path) -> Result<CompareFile, IoE
     let mean_share = per_region("/group/mean_share")?;
     let mean_low = per_region("/group/mean_low")?;
     let mean_high = per_region("/group/mean_high")?;
-    let t = per_region("/group/t")?;
+    // ±∞ where every subject has the same nonzero share (see cohort::stats).
+    let t = split(
+        block_with_infinities(store, path, "/group/t", &[k, n_r])?,
+        k,
+    );
     let p_raw = per_region("/group/p_raw")?;
     let p_corrected = per_region("/group/p_corrected")?;
     let cosine = split(block(store, path, "/similarity/cosine", &[k, n_s, n_s])?, k);
@@ -349,7 +365,11 @@ mod tests {
     // (HDF5 stores IEEE-754 doubles; no tolerance), NaN kept as NaN.
     #[test]
     fn read_compare_returns_what_write_compare_wrote() {
-        let c = comparison();
+        let mut c = comparison();
+        // Identical nonzero shares in every subject give t = ±∞; it must
+        // come back (a comparison of two runs of one decoder has it).
+        c.components[0].test.statistic[0] = f64::INFINITY;
+        c.components[1].test.statistic[1] = f64::NEG_INFINITY;
         let paired = PairedComparison {
             pairs: vec!["s0".into(), "s1".into()],
             region_names: c.region_names.clone(),
