@@ -117,6 +117,44 @@ for r in rows:
     );
     let paired = read_table(&dir.join("paired/paired.csv")).unwrap();
     assert_eq!(paired.rows.len(), 3 * regions.rows.len() / 3);
+    // The same pairs laid out as <subject>/A and <subject>_B give the same
+    // paired table.
+    for i in 0..3 {
+        copy_dir(
+            &dir.join(format!("s{i}-A")),
+            &dir.join(format!("nested/s{i}/A")),
+        );
+        copy_dir(
+            &dir.join(format!("s{i}-B")),
+            &dir.join(format!("nested/s{i}_B")),
+        );
+    }
+    let out = patchwise(
+        &[
+            "compare",
+            "nested/s0/A",
+            "nested/s1/A",
+            "nested/s2/A",
+            "nested/s0_B",
+            "nested/s1_B",
+            "nested/s2_B",
+            "--pair",
+            "A",
+            "B",
+            "--out",
+            "paired2",
+        ],
+        &dir,
+    );
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert_eq!(
+        std::fs::read(dir.join("paired/paired.csv")).unwrap(),
+        std::fs::read(dir.join("paired2/paired.csv")).unwrap()
+    );
 
     // A result on a shifted cortex: refused without a map, accepted with an
     // identity index map.

@@ -34,7 +34,8 @@ pub struct Args {
     #[arg(long)]
     pub out: PathBuf,
     /// Paired comparison of decoders A and B: the folders must be named
-    /// `<subject>-A` and `<subject>-B`; the group statistics use the A results.
+    /// `<subject>-A` and `<subject>-B` (or with `_` or `.` for `-`), or be
+    /// `<subject>/A` and `<subject>/B`; the group statistics use the A results.
     #[arg(long, num_args = 2, value_names = ["A", "B"])]
     pub pair: Option<Vec<String>>,
     /// How a result on another cortex reaches the template:
@@ -120,6 +121,31 @@ fn folder_name(dir: &Path) -> String {
     dir.file_name()
         .map(|n| n.to_string_lossy().into_owned())
         .unwrap_or_else(|| dir.display().to_string())
+}
+
+/// The name each result folder goes by in the tables: its folder name, or
+/// `<parent>/<folder>` for folders whose names repeat (as in
+/// `sub-01/A sub-02/A`).
+fn subject_names(results: &[PathBuf]) -> Vec<String> {
+    let names: Vec<String> = results.iter().map(|d| folder_name(d)).collect();
+    names
+        .iter()
+        .zip(results)
+        .map(|(n, dir)| {
+            if names.iter().filter(|m| *m == n).count() < 2 {
+                return n.clone();
+            }
+            let parent = std::fs::canonicalize(dir).ok().and_then(|d| {
+                d.parent()
+                    .and_then(|p| p.file_name())
+                    .map(|p| p.to_string_lossy().into_owned())
+            });
+            match parent {
+                Some(p) => format!("{p}/{n}"),
+                None => n.clone(),
+            }
+        })
+        .collect()
 }
 
 fn read_one(dir: &Path) -> Result<(ResultFile, String), CliError> {
@@ -234,18 +260,36 @@ fn subject_result(name: String, r: &ResultFile, source_map: Vec<f64>) -> Subject
     }
 }
 
-/// The A and B folders of each subject under the `<subject>-A` rule.
+/// The subject of a result folder for decoder `label`: the folder is named
+/// `<subject>-<label>`, `<subject>_<label>` or `<subject>.<label>`, or it is
+/// named `<label>` and sits in the subject's folder (`<subject>/<label>`).
+fn subject_of(dir: &Path, label: &str) -> Option<String> {
+    let n = folder_name(dir);
+    if n == label {
+        let parent = std::fs::canonicalize(dir)
+            .ok()
+            .and_then(|d| d.parent().map(Path::to_path_buf))?;
+        return parent.file_name().map(|p| p.to_string_lossy().into_owned());
+    }
+    ['-', '_', '.'].iter().find_map(|sep| {
+        n.strip_suffix(&format!("{sep}{label}"))
+            .filter(|s| !s.is_empty())
+            .map(str::to_string)
+    })
+}
+
+/// The A and B folders of each subject (see [`subject_of`]).
 fn pairs(results: &[PathBuf], a: &str, b: &str) -> Result<Vec<(String, usize, usize)>, CliError> {
     let mut found: BTreeMap<String, (Option<usize>, Option<usize>)> = BTreeMap::new();
     for (i, dir) in results.iter().enumerate() {
-        let n = folder_name(dir);
-        let (subject, is_a) = if let Some(s) = n.strip_suffix(&format!("-{a}")) {
-            (s.to_string(), true)
-        } else if let Some(s) = n.strip_suffix(&format!("-{b}")) {
-            (s.to_string(), false)
+        let (subject, is_a) = if let Some(s) = subject_of(dir, a) {
+            (s, true)
+        } else if let Some(s) = subject_of(dir, b) {
+            (s, false)
         } else {
             return Err(bad(format!(
-                "{}: with --pair {a} {b} every folder must be named <subject>-{a} or <subject>-{b}",
+                "{}: with --pair {a} {b} every folder must be named <subject>-{a} or \
+                 <subject>-{b} (or with _ or . for -), or be <subject>/{a} or <subject>/{b}",
                 dir.display()
             )));
         };
@@ -265,7 +309,7 @@ fn pairs(results: &[PathBuf], a: &str, b: &str) -> Result<Vec<(String, usize, us
             (Some(x), Some(y)) => out.push((subject, x, y)),
             (Some(x), None) | (None, Some(x)) => {
                 return Err(bad(format!(
-                    "{}: subject {subject:?} has no matching -{} folder",
+                    "{}: subject {subject:?} has no matching {} folder",
                     results[x].display(),
                     if ia.is_some() { b } else { a }
                 )))
@@ -424,7 +468,8 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let mut subjects = Vec::with_capacity(read.len());
     let mut mapping = Vec::with_capacity(read.len());
     let mut inputs = Vec::with_capacity(read.len());
-    for (dir, (r, hash)) in args.results.iter().zip(&read) {
+    let names = subject_names(&args.results);
+    for ((dir, (r, hash)), name) in args.results.iter().zip(&read).zip(names) {
         let (map, how) = to_template(dir, r, &template_space, maps.get(&normalise(dir)))?;
         if r.attribution.region_names.is_empty() {
             return Err(bad(format!(
@@ -440,7 +485,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
                 template_space.sources.region_names.len()
             )));
         }
-        subjects.push(subject_result(folder_name(dir), r, map));
+        subjects.push(subject_result(name, r, map));
         mapping.push(how);
         inputs.push((dir.join("result.h5").display().to_string(), hash.clone()));
     }
