@@ -181,46 +181,34 @@ fn decode_binary(bytes: &[u8], data_type: GiftiDataType, big_endian: bool) -> Ve
 
 /// Reorder values stored with the first index fastest into row-major order.
 fn column_to_row_major(values: &[f64], shape: &[usize]) -> Vec<f64> {
-    let n = values.len();
-    let mut out = vec![0.0; n];
-    let rank = shape.len();
-    let mut idx = vec![0usize; rank];
-    for v in values {
-        // `idx` walks the column-major order: the first index moves fastest.
-        let mut row_major = 0;
-        for d in 0..rank {
-            row_major = row_major * shape[d] + idx[d];
-        }
-        out[row_major] = *v;
-        for d in 0..rank {
-            idx[d] += 1;
-            if idx[d] < shape[d] {
-                break;
-            }
-            idx[d] = 0;
-        }
+    let mut out = vec![0.0; values.len()];
+    for (v, at) in values.iter().zip(column_major_offsets(shape)) {
+        out[at] = *v;
     }
     out
 }
 
 pub(super) fn row_to_column_major(values: &[f64], shape: &[usize]) -> Vec<f64> {
-    let n = values.len();
-    let mut out = vec![0.0; n];
-    let rank = shape.len();
-    let mut idx = vec![0usize; rank];
-    for slot in out.iter_mut() {
-        let mut row_major = 0;
-        for d in 0..rank {
-            row_major = row_major * shape[d] + idx[d];
-        }
-        *slot = values[row_major];
-        for d in 0..rank {
-            idx[d] += 1;
-            if idx[d] < shape[d] {
+    column_major_offsets(shape)
+        .take(values.len())
+        .map(|at| values[at])
+        .collect()
+}
+
+/// The row-major offset of each element of an array of `shape`, taken in
+/// column-major order (the first index moves fastest).
+fn column_major_offsets(shape: &[usize]) -> impl Iterator<Item = usize> + '_ {
+    let n: usize = shape.iter().product();
+    let mut idx = vec![0usize; shape.len()];
+    (0..n).map(move |_| {
+        let at = idx.iter().zip(shape).fold(0, |acc, (&i, &s)| acc * s + i);
+        for (i, &s) in idx.iter_mut().zip(shape) {
+            *i += 1;
+            if *i < s {
                 break;
             }
-            idx[d] = 0;
+            *i = 0;
         }
-    }
-    out
+        at
+    })
 }

@@ -91,23 +91,11 @@ pub(super) fn parse(path: &Path, text: &str) -> Result<Gifti, IoError> {
             }
             Event::Text(t) => {
                 let s = t.decode().map_err(|e| xml_err(pos, &e))?;
-                if in_data {
-                    if let Some(a) = raw_arrays.last_mut() {
-                        a.data.push_str(&s);
-                    }
-                } else if in_label {
-                    label_text.push_str(&s);
-                }
+                append_text(&s, in_data, in_label, &mut raw_arrays, &mut label_text);
             }
             Event::CData(t) => {
                 let s = t.decode().map_err(|e| xml_err(pos, &e))?;
-                if in_data {
-                    if let Some(a) = raw_arrays.last_mut() {
-                        a.data.push_str(&s);
-                    }
-                } else if in_label {
-                    label_text.push_str(&s);
-                }
+                append_text(&s, in_data, in_label, &mut raw_arrays, &mut label_text);
             }
             Event::GeneralRef(r) => {
                 let resolved = match r.resolve_char_ref().map_err(|e| xml_err(pos, &e))? {
@@ -201,4 +189,21 @@ fn handle_open(
         _ => {}
     }
     Ok(())
+}
+
+/// Character data goes to the open DataArray's text or to the open label.
+fn append_text(
+    s: &str,
+    in_data: bool,
+    in_label: bool,
+    raw_arrays: &mut [RawArray],
+    label_text: &mut String,
+) {
+    if in_data {
+        if let Some(a) = raw_arrays.last_mut() {
+            a.data.push_str(s);
+        }
+    } else if in_label {
+        label_text.push_str(s);
+    }
 }
