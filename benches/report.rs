@@ -150,6 +150,7 @@ fn result_20k() -> ResultFile {
                     .map(|&s| if s >= 0.05 { 1.0 } else { 0.0 })
                     .collect(),
             ),
+            lead_frequency: None,
             share,
             source_map,
             peak_mm,

@@ -72,6 +72,26 @@ fn demo_finds_its_generators_and_writes_a_consistent_table() {
         .as_f64()
         .unwrap();
     assert!((0.0..=1e-8).contains(&gap), "gap {gap}");
+    // The lead frequencies of a component are fractions of the 8 resamples
+    // that sum to at most 1; the right-hand component's generator region
+    // (left precentral, src/demo) leads its table.
+    for comp in summary["components"].as_array().unwrap() {
+        let leads: Vec<f64> = comp["top_regions"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|r| r["lead_frequency"].as_f64().unwrap())
+            .collect();
+        let total: f64 = leads.iter().sum();
+        assert!(total <= 1.0 + 1e-12, "{leads:?}");
+        for l in &leads {
+            assert!((l * 8.0 - (l * 8.0).round()).abs() < 1e-9, "{leads:?}");
+        }
+    }
+    let first = &summary["components"][0]["top_regions"][0];
+    assert_eq!(first["region"], "left-precentral");
+    assert!(first["lead_frequency"].as_f64().unwrap() >= 0.75, "{first}");
+    assert!(text.contains("leading region in the resamples:"), "{text}");
 
     // A run killed while writing a cache entry leaves its temporary file;
     // the next run removes it when its writer (a pid above any kernel's

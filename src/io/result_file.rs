@@ -241,12 +241,14 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
         let mut low = vec![0.0; n_regions * k];
         let mut high = vec![0.0; n_regions * k];
         let mut freq = vec![0.0; n_regions * k];
+        let mut lead = vec![0.0; n_regions * k];
         for c in 0..k {
             for reg in 0..n_regions {
                 let iv = rs.intervals[c][reg];
                 low[reg * k + c] = iv.low;
                 high[reg * k + c] = iv.high;
                 freq[reg * k + c] = iv.selection_frequency;
+                lead[reg * k + c] = iv.lead_frequency;
             }
         }
         s.insert(
@@ -260,6 +262,10 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
         s.insert(
             "/attribution/selection_frequency",
             Dataset::f64(vec![n_regions, k], freq),
+        );
+        s.insert(
+            "/attribution/lead_frequency",
+            Dataset::f64(vec![n_regions, k], lead),
         );
         s.insert(
             "/attribution/noise_sd",

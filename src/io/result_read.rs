@@ -172,6 +172,9 @@ pub struct ResultAttribution {
     pub share_high: Option<Vec<f64>>,
     /// Selection frequencies, n_regions × k.
     pub selection_frequency: Option<Vec<f64>>,
+    /// Fraction of resamples in which each region leads, n_regions × k
+    /// (absent in results written before it existed).
+    pub lead_frequency: Option<Vec<f64>>,
     /// Source map, n_src × k (A·m per source).
     pub source_map: Vec<f64>,
     /// Peak positions (mm) per component; NaN when nothing is active.
@@ -323,6 +326,7 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
             n_regions,
             k,
         )?,
+        lead_frequency: optional(store, path, "/attribution/lead_frequency", n_regions, k)?,
         region_names,
         share,
         source_map,

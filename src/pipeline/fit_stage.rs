@@ -5,8 +5,8 @@ use sprs::CsMat;
 
 use crate::attribution::rng::SplitMix64;
 use crate::attribution::{
-    attribute, component_shares, percentile, Attribution, AttributionInput, RegionInterval,
-    RegionMass,
+    attribute, component_shares, lead_frequencies, percentile, Attribution, AttributionInput,
+    RegionInterval, RegionMass,
 };
 use crate::geometry::Vec3;
 use crate::solver::{
@@ -445,9 +445,11 @@ fn resample(
     let intervals = shares
         .iter()
         .map(|per_region| {
+            let lead = lead_frequencies(per_region);
             per_region
                 .iter()
-                .map(|v| RegionInterval {
+                .zip(lead)
+                .map(|(v, lead_frequency)| RegionInterval {
                     low: percentile(v, 0.025),
                     high: percentile(v, 0.975),
                     selection_frequency: v
@@ -455,6 +457,7 @@ fn resample(
                         .filter(|&&s| s >= opts.selection_threshold)
                         .count() as f64
                         / v.len().max(1) as f64,
+                    lead_frequency,
                 })
                 .collect()
         })

@@ -209,6 +209,7 @@ fn check_shapes(r: &ResultFile) -> Result<(), ReportError> {
         ("/attribution/share_low", &a.share_low),
         ("/attribution/share_high", &a.share_high),
         ("/attribution/selection_frequency", &a.selection_frequency),
+        ("/attribution/lead_frequency", &a.lead_frequency),
     ];
     for (field, values) in region_arrays {
         if let Some(v) = values {
@@ -759,6 +760,7 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
         ("share", "num"),
         ("95 % interval", "num"),
         ("selected in", "num"),
+        ("leads in", "num"),
     ]);
     h.raw("<tbody>\n");
     let mut hidden = 0usize;
@@ -770,20 +772,26 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
             hidden_sum += share;
             continue;
         }
+        let lead = r
+            .attribution
+            .lead_frequency
+            .as_ref()
+            .map_or(f64::NAN, |v| v[reg * r.k + c]);
         let class = if rank == 0 { "lead-row" } else { "" };
         h.raw(&format!("<tr class=\"{class}\">"));
         h.element("th", "", &r.attribution.region_names[reg]);
         h.raw(&format!(
-            "<td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
+            "<td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
             percent(share, 1),
             interval(low, high),
-            percent(freq, 0)
+            percent(freq, 0),
+            percent(lead, 0)
         ));
     }
     if f.unassigned.abs() >= SHOWN_SHARE {
         h.raw("<tr class=\"faint\"><th>sources outside every region</th>");
         h.raw(&format!(
-            "<td class=\"num\">{}</td><td class=\"num\">\u{2013}</td><td class=\"num\">\u{2013}</td></tr>\n",
+            "<td class=\"num\">{}</td><td class=\"num\">\u{2013}</td><td class=\"num\">\u{2013}</td><td class=\"num\">\u{2013}</td></tr>\n",
             percent(f.unassigned, 1)
         ));
     }
@@ -800,7 +808,7 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
             ),
         );
         h.raw(&format!(
-            "<td class=\"num\">{}</td><td class=\"num\"></td><td class=\"num\"></td></tr>\n",
+            "<td class=\"num\">{}</td><td class=\"num\"></td><td class=\"num\"></td><td class=\"num\"></td></tr>\n",
             percent(hidden_sum, 1)
         ));
     }
@@ -811,7 +819,9 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
             "note",
             "Interval: 2.5\u{2013}97.5 % percentiles of the share over a parametric bootstrap (the fit plus \
              resampled noise at the residual's level, refitted at the same \u{03bb}). Selected in: the fraction \
-             of resamples in which the region's share reached 5 %.",
+             of resamples in which the region's share reached 5 %. Leads in: the fraction of resamples in which \
+             the region had the largest share; support split between regions means the data do not decide \
+             which of them leads.",
         );
     }
 }
@@ -871,6 +881,7 @@ mod tests {
                 share_low: None,
                 share_high: None,
                 selection_frequency: None,
+                lead_frequency: None,
                 source_map: vec![],
                 peak_mm: vec![[f64::NAN; 3]],
                 peak_region: vec![-1],

@@ -24,6 +24,9 @@ pub struct RegionRow {
     pub high: f64,
     /// Selection frequency (NaN without resampling).
     pub frequency: f64,
+    /// Fraction of resamples in which the region leads (NaN without
+    /// resampling).
+    pub lead: f64,
     /// Peak of the source map inside the region (mm).
     pub peak_mm: [f64; 3],
 }
@@ -67,6 +70,7 @@ pub fn region_rows(a: &Attribution) -> Vec<Vec<RegionRow>> {
                     low: iv.map_or(f64::NAN, |i| i.low),
                     high: iv.map_or(f64::NAN, |i| i.high),
                     frequency: iv.map_or(f64::NAN, |i| i.selection_frequency),
+                    lead: iv.map_or(f64::NAN, |i| i.lead_frequency),
                     peak_mm: best[r]
                         .1
                         .map_or([f64::NAN; 3], |v| positions[v].map(|x| x * 1e3)),
@@ -129,6 +133,21 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
                 }
             );
         }
+        // How sure the resamples are of the leading region: a near-tie
+        // between two regions shows as support split between them.
+        let mut leaders: Vec<&RegionRow> = comp_rows
+            .iter()
+            .filter(|r| r.lead.is_finite() && r.lead > 0.0)
+            .collect();
+        leaders.sort_by(|x, y| y.lead.total_cmp(&x.lead).then(x.region.cmp(&y.region)));
+        if !leaders.is_empty() {
+            let list: Vec<String> = leaders
+                .iter()
+                .take(3)
+                .map(|r| format!("{} {:.0} %", r.region, 100.0 * r.lead))
+                .collect();
+            println!("  leading region in the resamples: {}", list.join(", "));
+        }
     }
 }
 
@@ -149,6 +168,7 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
                     "share_low": if r.low.is_finite() { Some(r.low) } else { None },
                     "share_high": if r.high.is_finite() { Some(r.high) } else { None },
                     "selection_frequency": if r.frequency.is_finite() { Some(r.frequency) } else { None },
+                    "lead_frequency": if r.lead.is_finite() { Some(r.lead) } else { None },
                 })
             })
             .collect();
