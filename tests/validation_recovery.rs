@@ -37,6 +37,7 @@ fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
             jitter_m: 0.005,
             sim_head: head.clone(),
             lambda: LambdaRule::Bic,
+            resamples: 0,
         };
         for r in run_case(&setup, &spec).unwrap() {
             match r.method {

@@ -42,6 +42,9 @@ pub struct CaseSpec {
     pub sim_head: SphereHead,
     /// The λ rule of the patch fit.
     pub lambda: LambdaRule,
+    /// Bootstrap resamples of the patch fit (0 = none; then
+    /// `lead_support` is NaN).
+    pub resamples: usize,
 }
 
 /// Which method a result is for.
@@ -79,6 +82,9 @@ pub struct CaseResult {
     /// The rank (1 = first) of the truth's leading region among this
     /// method's region shares.
     pub truth_rank: Option<usize>,
+    /// Patch fit with resampling: the lead frequency of the fit's leading
+    /// region (the fraction of resamples in which it leads); NaN otherwise.
+    pub lead_support: f64,
 }
 
 /// Simulate, fit and score one case for both methods.
@@ -186,7 +192,7 @@ pub fn run_case(
         lambda: spec.lambda,
         refit: false,
         resample: ResampleOptions {
-            n_resamples: 0,
+            n_resamples: spec.resamples,
             ..ResampleOptions::default()
         },
         tol: 1e-6,
@@ -227,6 +233,10 @@ pub fn run_case(
         truth_margin,
         share_deficit: deficit(&comp.region_share),
         truth_rank: rank(&comp.region_share),
+        lead_support: match (&outcome.resample, patch_top) {
+            (Some(rs), Some(top)) => rs.intervals[0][top].lead_frequency,
+            _ => f64::NAN,
+        },
     };
     // Minimum norm on the fit's lead field.
     let x = minimum_norm(setup.fit_gain, n_ch, &y, 1, MinimumNormParams::default())
@@ -246,6 +256,7 @@ pub fn run_case(
         truth_margin,
         share_deficit: deficit(&mn_shares),
         truth_rank: rank(&mn_shares),
+        lead_support: f64::NAN,
     };
     Ok(vec![patch, mn])
 }
