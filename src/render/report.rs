@@ -378,6 +378,15 @@ fn region_numbers(r: &ResultFile, reg: usize, c: usize) -> (f64, f64, f64, f64) 
     )
 }
 
+/// The fraction of resamples in which region `reg` leads component `c`
+/// (NaN when the result has none).
+fn lead_frequency(r: &ResultFile, reg: usize, c: usize) -> f64 {
+    r.attribution
+        .lead_frequency
+        .as_ref()
+        .map_or(f64::NAN, |v| v[reg * r.k + c])
+}
+
 pub(crate) fn interval(low: f64, high: f64) -> String {
     if low.is_finite() && high.is_finite() {
         format!("{} \u{2013} {}", percent(low, 1), percent(high, 1))
@@ -436,6 +445,13 @@ fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[Com
                         detail.push_str(" \u{00b7} ");
                     }
                     detail.push_str(&format!("selected in {}", percent(freq, 0)));
+                }
+                let lead = lead_frequency(r, reg, c);
+                if lead.is_finite() {
+                    if !detail.is_empty() {
+                        detail.push_str(" \u{00b7} ");
+                    }
+                    detail.push_str(&format!("leads in {}", percent(lead, 0)));
                 }
                 if !detail.is_empty() {
                     h.element("p", "small", &detail);
@@ -772,11 +788,7 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
             hidden_sum += share;
             continue;
         }
-        let lead = r
-            .attribution
-            .lead_frequency
-            .as_ref()
-            .map_or(f64::NAN, |v| v[reg * r.k + c]);
+        let lead = lead_frequency(r, reg, c);
         let class = if rank == 0 { "lead-row" } else { "" };
         h.raw(&format!("<tr class=\"{class}\">"));
         h.element("th", "", &r.attribution.region_names[reg]);
