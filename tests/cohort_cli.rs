@@ -56,6 +56,28 @@ fn compare_finds_the_shared_region_pairs_decoders_and_rejects_bad_input() {
         .unwrap();
     let p: f64 = row.fields[pi].parse().unwrap();
     assert!(p < 0.05, "corrected p {p}");
+    // All six subjects are the demo decoder with noise, so the generator
+    // region leads the right-hand component in (nearly) every subject.
+    assert!(
+        stdout.contains("leading region of the subjects: left-precentral ("),
+        "{stdout}"
+    );
+    let summary: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("group/summary.json")).unwrap())
+            .unwrap();
+    let leading = &summary["components"][0]["leading_regions"];
+    assert_eq!(leading[0]["region"], "left-precentral", "{leading}");
+    let fractions: Vec<f64> = leading
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|l| l["fraction"].as_f64().unwrap())
+        .collect();
+    assert!(fractions[0] >= 5.0 / 6.0 - 1e-12, "{leading}");
+    assert!(fractions.iter().sum::<f64>() <= 1.0 + 1e-12, "{leading}");
+    for f in &fractions {
+        assert!((f * 6.0 - (f * 6.0).round()).abs() < 1e-9, "{leading}");
+    }
     let sim = read_table(&dir.join("group/similarity.csv")).unwrap();
     assert_eq!(sim.rows.len(), 3 * 15);
     let cos = column(&sim, "cosine");

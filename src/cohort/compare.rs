@@ -7,6 +7,7 @@ use super::error::CohortError;
 use super::similarity::{cosine, SmoothingKernel};
 use super::stats::{bootstrap_mean_interval, sign_flip_max_test, SignFlipTest};
 use super::transport::{first_non_finite, region_mass, sinkhorn, SinkhornParams, TransportCosts};
+use crate::attribution::lead_frequencies;
 
 /// One subject's attribution, with its source map on the template.
 #[derive(Debug, Clone, PartialEq)]
@@ -80,6 +81,9 @@ pub struct ComponentComparison {
     /// Per region, the mean selection frequency over subjects that have one
     /// (NaN when none does).
     pub mean_selection_frequency: Vec<f64>,
+    /// Per region, the fraction of subjects whose largest share is in the
+    /// region (subjects without a positive share count for none).
+    pub lead_fraction: Vec<f64>,
     /// Per region, the group mean share.
     pub mean_share: Vec<f64>,
     /// Per region, the bootstrap interval of the group mean.
@@ -337,6 +341,10 @@ pub fn compare(
             .flat_map(|s| column(&s.share, k, c))
             .collect();
         let (cons, mean_freq) = consistency(subjects, c, n_r);
+        let per_region: Vec<Vec<f64>> = (0..n_r)
+            .map(|r| (0..n_s).map(|s| share[s * n_r + r]).collect())
+            .collect();
+        let lead_fraction = lead_frequencies(&per_region);
         let (mean_share, mean_low, mean_high) = bootstrap_mean_interval(
             &share,
             n_s,
@@ -420,6 +428,7 @@ pub fn compare(
             share,
             consistency: cons,
             mean_selection_frequency: mean_freq,
+            lead_fraction,
             mean_share,
             mean_low,
             mean_high,

@@ -88,6 +88,7 @@ pub fn write_compare(path: &Path, r: &CompareRecord<'_>) -> Result<(), IoError> 
         "/group/mean_selection_frequency",
         comp(|x| &x.mean_selection_frequency),
     );
+    s.insert("/group/lead_fraction", comp(|x| &x.lead_fraction));
     s.insert("/group/mean_share", comp(|x| &x.mean_share));
     s.insert("/group/mean_low", comp(|x| &x.mean_low));
     s.insert("/group/mean_high", comp(|x| &x.mean_high));
@@ -301,6 +302,7 @@ pub fn summary_json(r: &CompareRecord<'_>) -> serde_json::Value {
                         "mean_low": finite(comp.mean_low[reg]),
                         "mean_high": finite(comp.mean_high[reg]),
                         "consistency": finite(comp.consistency[reg]),
+                        "lead_fraction": finite(comp.lead_fraction[reg]),
                         "p_value": comp.test.p_raw[reg],
                         "p_corrected": comp.test.p_corrected[reg],
                     })
@@ -312,6 +314,7 @@ pub fn summary_json(r: &CompareRecord<'_>) -> serde_json::Value {
                 "sign_flips": comp.test.n_flips,
                 "exact_enumeration": comp.test.exact,
                 "regions_surviving_correction": surviving,
+                "leading_regions": leading_regions(&c.region_names, &comp.lead_fraction),
                 "mean_cosine": finite(mean_off(&comp.cosine)),
                 "mean_transport_mm": finite(mean_off(&comp.transport_m) * 1e3),
             })
@@ -357,4 +360,21 @@ pub fn summary_json(r: &CompareRecord<'_>) -> serde_json::Value {
         "paired": paired,
         "warnings": c.warnings,
     })
+}
+
+/// The regions that lead some subject, most often first: `{region,
+/// fraction}` (the fraction of subjects whose largest share is there).
+fn leading_regions(names: &[String], lead_fraction: &[f64]) -> Vec<serde_json::Value> {
+    let mut order: Vec<usize> = (0..names.len())
+        .filter(|&r| lead_fraction[r] > 0.0)
+        .collect();
+    order.sort_by(|&a, &b| {
+        lead_fraction[b]
+            .total_cmp(&lead_fraction[a])
+            .then(a.cmp(&b))
+    });
+    order
+        .iter()
+        .map(|&r| serde_json::json!({"region": names[r], "fraction": lead_fraction[r]}))
+        .collect()
 }

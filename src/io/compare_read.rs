@@ -69,6 +69,9 @@ pub struct CompareComponent {
     pub consistency: Vec<f64>,
     /// Per region: mean selection frequency over subjects.
     pub mean_selection_frequency: Vec<f64>,
+    /// Per region: fraction of subjects whose largest share is there
+    /// (absent in files written before it existed).
+    pub lead_fraction: Option<Vec<f64>>,
     /// Per region: group mean share.
     pub mean_share: Vec<f64>,
     /// Per region: lower end of the bootstrap interval of the mean.
@@ -200,6 +203,11 @@ pub fn compare_from_store(store: &Store, path: &Path) -> Result<CompareFile, IoE
     let share = split(block(store, path, "/group/share", &[k, n_s, n_r])?, k);
     let consistency = per_region("/group/consistency")?;
     let frequency = per_region("/group/mean_selection_frequency")?;
+    let lead_fraction = if store.contains("/group/lead_fraction") {
+        Some(per_region("/group/lead_fraction")?)
+    } else {
+        None
+    };
     let mean_share = per_region("/group/mean_share")?;
     let mean_low = per_region("/group/mean_low")?;
     let mean_high = per_region("/group/mean_high")?;
@@ -225,6 +233,7 @@ pub fn compare_from_store(store: &Store, path: &Path) -> Result<CompareFile, IoE
             share: share[c].clone(),
             consistency: consistency[c].clone(),
             mean_selection_frequency: frequency[c].clone(),
+            lead_fraction: lead_fraction.as_ref().map(|l| l[c].clone()),
             mean_share: mean_share[c].clone(),
             mean_low: mean_low[c].clone(),
             mean_high: mean_high[c].clone(),
@@ -338,6 +347,7 @@ mod tests {
             share: (0..n_s * n_r).map(|i| 0.1 * i as f64 + c as f64).collect(),
             consistency: vec![1.0, 0.5],
             mean_selection_frequency: vec![f64::NAN, 0.25],
+            lead_fraction: vec![1.0 / 3.0, 2.0 / 3.0],
             mean_share: vec![0.6, 0.1 + c as f64],
             mean_low: vec![0.5, 0.0],
             mean_high: vec![0.7, 0.2],
@@ -426,6 +436,10 @@ mod tests {
             assert_eq!(got.sign_flips, 8);
             assert!(same(&got.share, &want.share));
             assert!(same(&got.consistency, &want.consistency));
+            assert!(same(
+                got.lead_fraction.as_ref().unwrap(),
+                &want.lead_fraction
+            ));
             assert!(same(
                 &got.mean_selection_frequency,
                 &want.mean_selection_frequency

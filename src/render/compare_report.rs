@@ -829,6 +829,7 @@ mod tests {
                 share: vec![0.2, 0.8, 0.1, 0.9],
                 consistency: vec![0.5, 1.0],
                 mean_selection_frequency: vec![f64::NAN, 1.0],
+                lead_fraction: None,
                 mean_share: vec![0.15, 0.85],
                 mean_low: vec![0.1, 0.8],
                 mean_high: vec![0.2, 0.9],

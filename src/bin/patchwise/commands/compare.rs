@@ -338,6 +338,30 @@ fn print_table(c: &Comparison, alpha: f64) {
             comp.test.n_flips,
             if comp.test.exact { " (exact)" } else { "" }
         );
+        // Where each subject's largest share lies, most common first.
+        let n_s = c.subjects.len();
+        let mut leaders: Vec<usize> = (0..c.region_names.len())
+            .filter(|&r| comp.lead_fraction[r] > 0.0)
+            .collect();
+        leaders.sort_by(|&x, &y| {
+            comp.lead_fraction[y]
+                .total_cmp(&comp.lead_fraction[x])
+                .then(x.cmp(&y))
+        });
+        if !leaders.is_empty() {
+            let list: Vec<String> = leaders
+                .iter()
+                .take(3)
+                .map(|&r| {
+                    format!(
+                        "{} ({} of {n_s})",
+                        c.region_names[r],
+                        (comp.lead_fraction[r] * n_s as f64).round()
+                    )
+                })
+                .collect();
+            println!("  leading region of the subjects: {}", list.join(", "));
+        }
         let mut rows: Vec<usize> = (0..c.region_names.len())
             .filter(|&r| comp.test.p_corrected[r] < alpha)
             .collect();
