@@ -16,4 +16,4 @@ pub use shares::{
     attribute, attribute_with, component_shares, Attribution, AttributionError, AttributionInput,
     ComponentAttribution, ComponentShares, RegionMass,
 };
-pub use uncertainty::{lead_frequencies, percentile, RegionInterval};
+pub use uncertainty::{lead_frequencies, leaders, percentile, RegionInterval};

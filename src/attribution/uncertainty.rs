@@ -43,6 +43,14 @@ pub fn lead_frequencies(shares: &[Vec<f64>]) -> Vec<f64> {
         .collect()
 }
 
+/// The regions with a positive lead frequency (or fraction), most often
+/// first, ties in index order.
+pub fn leaders(lead: &[f64]) -> Vec<usize> {
+    let mut order: Vec<usize> = (0..lead.len()).filter(|&r| lead[r] > 0.0).collect();
+    order.sort_by(|&a, &b| lead[b].total_cmp(&lead[a]).then(a.cmp(&b)));
+    order
+}
+
 /// The `q`-quantile (0 ≤ q ≤ 1) of `values` by linear interpolation between
 /// order statistics (NumPy's default "linear" method); NaN for no values.
 pub fn percentile(values: &[f64], q: f64) -> f64 {

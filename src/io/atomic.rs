@@ -12,8 +12,13 @@ static NEXT_TEMPORARY: AtomicU64 = AtomicU64::new(0);
 /// host name with every character other than an ASCII letter, digit or `-`
 /// replaced by `-` (so it holds no dot), or `host` where it cannot be read.
 /// Folders shared between machines (a cluster's cache) thereby keep each
-/// machine's temporaries apart.
+/// machine's temporaries apart. Read once per process.
 pub fn host_tag() -> String {
+    static TAG: std::sync::OnceLock<String> = std::sync::OnceLock::new();
+    TAG.get_or_init(read_host_tag).clone()
+}
+
+fn read_host_tag() -> String {
     let name = fs::read_to_string("/proc/sys/kernel/hostname").unwrap_or_default();
     let tag: String = name
         .trim()

@@ -365,15 +365,7 @@ pub fn summary_json(r: &CompareRecord<'_>) -> serde_json::Value {
 /// The regions that lead some subject, most often first: `{region,
 /// fraction}` (the fraction of subjects whose largest share is there).
 fn leading_regions(names: &[String], lead_fraction: &[f64]) -> Vec<serde_json::Value> {
-    let mut order: Vec<usize> = (0..names.len())
-        .filter(|&r| lead_fraction[r] > 0.0)
-        .collect();
-    order.sort_by(|&a, &b| {
-        lead_fraction[b]
-            .total_cmp(&lead_fraction[a])
-            .then(a.cmp(&b))
-    });
-    order
+    crate::attribution::leaders(lead_fraction)
         .iter()
         .map(|&r| serde_json::json!({"region": names[r], "fraction": lead_fraction[r]}))
         .collect()

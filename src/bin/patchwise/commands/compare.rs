@@ -123,6 +123,14 @@ fn folder_name(dir: &Path) -> String {
         .unwrap_or_else(|| dir.display().to_string())
 }
 
+/// The name of the folder that holds `dir` (after resolving `dir`).
+fn parent_folder_name(dir: &Path) -> Option<String> {
+    let dir = std::fs::canonicalize(dir).ok()?;
+    dir.parent()?
+        .file_name()
+        .map(|p| p.to_string_lossy().into_owned())
+}
+
 /// The name each result folder goes by in the tables: its folder name, or
 /// `<parent>/<folder>` for folders whose names repeat (as in
 /// `sub-01/A sub-02/A`).
@@ -135,12 +143,7 @@ fn subject_names(results: &[PathBuf]) -> Vec<String> {
             if names.iter().filter(|m| *m == n).count() < 2 {
                 return n.clone();
             }
-            let parent = std::fs::canonicalize(dir).ok().and_then(|d| {
-                d.parent()
-                    .and_then(|p| p.file_name())
-                    .map(|p| p.to_string_lossy().into_owned())
-            });
-            match parent {
+            match parent_folder_name(dir) {
                 Some(p) => format!("{p}/{n}"),
                 None => n.clone(),
             }
@@ -266,10 +269,7 @@ fn subject_result(name: String, r: &ResultFile, source_map: Vec<f64>) -> Subject
 fn subject_of(dir: &Path, label: &str) -> Option<String> {
     let n = folder_name(dir);
     if n == label {
-        let parent = std::fs::canonicalize(dir)
-            .ok()
-            .and_then(|d| d.parent().map(Path::to_path_buf))?;
-        return parent.file_name().map(|p| p.to_string_lossy().into_owned());
+        return parent_folder_name(dir);
     }
     ['-', '_', '.'].iter().find_map(|sep| {
         n.strip_suffix(&format!("{sep}{label}"))
@@ -340,14 +340,7 @@ fn print_table(c: &Comparison, alpha: f64) {
         );
         // Where each subject's largest share lies, most common first.
         let n_s = c.subjects.len();
-        let mut leaders: Vec<usize> = (0..c.region_names.len())
-            .filter(|&r| comp.lead_fraction[r] > 0.0)
-            .collect();
-        leaders.sort_by(|&x, &y| {
-            comp.lead_fraction[y]
-                .total_cmp(&comp.lead_fraction[x])
-                .then(x.cmp(&y))
-        });
+        let leaders = patchwise::attribution::leaders(&comp.lead_fraction);
         if !leaders.is_empty() {
             let list: Vec<String> = leaders
                 .iter()
