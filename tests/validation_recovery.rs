@@ -29,6 +29,7 @@ fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
     let mut patch_err = Vec::new();
     let mut mn_err = Vec::new();
     let mut patch_top1 = 0;
+    let mut patch_split_top1 = 0;
     for c in 0..6u64 {
         let spec = CaseSpec {
             seed: 1000 + c,
@@ -44,6 +45,7 @@ fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
                 Method::Patches => {
                     patch_err.push(r.localization_error_mm);
                     patch_top1 += usize::from(r.top1_correct);
+                    patch_split_top1 += usize::from(r.top1_patch_split_correct);
                 }
                 Method::MinimumNorm => mn_err.push(r.localization_error_mm),
             }
@@ -55,8 +57,12 @@ fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
         0.5 * (patch_err[2] + patch_err[3]),
         0.5 * (mn_err[2] + mn_err[3]),
     );
-    eprintln!("median localisation error: patches {pm:.1} mm, minimum norm {mm:.1} mm; patch top-1 {patch_top1}/6");
+    eprintln!("median localisation error: patches {pm:.1} mm, minimum norm {mm:.1} mm; patch top-1 {patch_top1}/6 (patch split {patch_split_top1}/6)");
     assert!(pm <= 15.0, "patch median error {pm} mm");
     assert!(pm < mm, "patches {pm} mm vs minimum norm {mm} mm");
     assert!(patch_top1 >= 3, "top-1 {patch_top1}/6");
+    assert!(
+        patch_split_top1 >= 3,
+        "top-1 (patch split) {patch_split_top1}/6"
+    );
 }

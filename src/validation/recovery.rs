@@ -68,6 +68,11 @@ pub struct CaseResult {
     /// `region_share`; minimum norm: ⟨G_r x_r, ŷ⟩/‖ŷ‖²) is the region whose
     /// true sources contribute most to the clean scalp pattern.
     pub top1_correct: bool,
+    /// Whether the same leading region as in `top1_correct` is the truth's
+    /// leading region by the attribution's own definition applied to the true
+    /// patches: each patch's share ⟨G x_p, G x⟩/‖G x‖² spread over regions by
+    /// its |amplitude| mass (like with like for the patch fit).
+    pub top1_patch_split_correct: bool,
     /// Whether the region with the largest summed |source map| is the
     /// region holding most true source amplitude (A·m).
     pub top1_amplitude_correct: bool,
@@ -101,16 +106,22 @@ pub fn run_case(
     let mut amplitude = vec![0.0; n_src];
     let mut active = vec![false; n_src];
     let mut seeds = Vec::new();
+    // Each true patch's sources and amplitudes (A·m), for the patch split.
+    let mut patches: Vec<Vec<(usize, f64)>> = Vec::new();
     for _ in 0..spec.n_patches.clamp(1, 3) {
         let seed = ((rng.uniform() * n_src as f64) as usize).min(n_src - 1);
         let radius = 0.005 + 0.025 * rng.uniform();
         let density = 0.5e-3 * (0.5 + rng.uniform());
+        let mut patch = Vec::new();
         for (v, d) in setup.geodesic.distances_within(seed, radius) {
             let v = v as usize;
-            amplitude[v] += density * s.areas[v] * (-0.5 * (2.0 * d / radius).powi(2)).exp();
+            let a = density * s.areas[v] * (-0.5 * (2.0 * d / radius).powi(2)).exp();
+            amplitude[v] += a;
             active[v] = true;
+            patch.push((v, a));
         }
         seeds.push(seed);
+        patches.push(patch);
     }
     let truth_amplitude_region = region_top1(
         &amplitude.iter().map(|a| a.abs()).collect::<Vec<_>>(),
@@ -148,6 +159,9 @@ pub fn run_case(
     }
     let truth_shares = pattern_shares(&lf.gain, n_ch, &amplitude, &s.region, n_regions);
     let truth_region = top_region(&truth_shares);
+    let split_region = top_region(&patch_split_shares(
+        &lf.gain, n_ch, &patches, &s.region, n_regions,
+    ));
     let truth_margin = {
         let mut sorted = truth_shares.clone();
         sorted.sort_by(|a, b| b.total_cmp(a));
@@ -221,6 +235,7 @@ pub fn run_case(
         method: Method::Patches,
         localization_error_mm: strongest_seed.map_or(f64::NAN, |v| nearest_seed_mm(s.positions[v])),
         top1_correct: patch_top.is_some() && patch_top == truth_region,
+        top1_patch_split_correct: patch_top.is_some() && patch_top == split_region,
         top1_amplitude_correct: {
             let abs_map: Vec<f64> = comp.source_map.iter().map(|v| v.abs()).collect();
             let top = region_top1(&abs_map, &s.region, n_regions);
@@ -250,6 +265,7 @@ pub fn run_case(
         method: Method::MinimumNorm,
         localization_error_mm: peak.map_or(f64::NAN, |p| nearest_seed_mm(s.positions[p])),
         top1_correct: mn_top.is_some() && mn_top == truth_region,
+        top1_patch_split_correct: mn_top.is_some() && mn_top == split_region,
         top1_amplitude_correct: mn_top_amplitude.is_some()
             && mn_top_amplitude == truth_amplitude_region,
         auc: roc_auc(&abs_x, &active),
@@ -294,6 +310,53 @@ fn pattern_shares(
             y_r.iter().zip(&total).map(|(a, b)| a * b).sum::<f64>() / power.max(f64::MIN_POSITIVE)
         })
         .collect()
+}
+
+/// The attribution's split applied to the true patches: patch p's share of
+/// the clean pattern, ⟨G x_p, G x⟩ / ‖G x‖² (x = Σ_p x_p), spread over
+/// regions in proportion to its |amplitude| in each (the profile-mass split
+/// of the attribution, with the true patch as the profile).
+fn patch_split_shares(
+    gain: &[f64],
+    n_ch: usize,
+    patches: &[Vec<(usize, f64)>],
+    region: &[i32],
+    n_regions: usize,
+) -> Vec<f64> {
+    let n_src = region.len();
+    let per_patch: Vec<Vec<f64>> = patches
+        .iter()
+        .map(|p| {
+            (0..n_ch)
+                .map(|i| p.iter().map(|&(v, a)| gain[i * n_src + v] * a).sum())
+                .collect()
+        })
+        .collect();
+    let mut total = vec![0.0; n_ch];
+    for y_p in &per_patch {
+        for (t, v) in total.iter_mut().zip(y_p) {
+            *t += v;
+        }
+    }
+    let power = total
+        .iter()
+        .map(|t| t * t)
+        .sum::<f64>()
+        .max(f64::MIN_POSITIVE);
+    let mut shares = vec![0.0; n_regions];
+    for (p, y_p) in patches.iter().zip(&per_patch) {
+        let share = y_p.iter().zip(&total).map(|(a, b)| a * b).sum::<f64>() / power;
+        let mass: f64 = p.iter().map(|&(_, a)| a.abs()).sum();
+        if mass <= 0.0 {
+            continue;
+        }
+        for &(v, a) in p {
+            if region[v] >= 0 {
+                shares[region[v] as usize] += share * a.abs() / mass;
+            }
+        }
+    }
+    shares
 }
 
 /// The region with the largest positive share, if any.
@@ -372,5 +435,34 @@ impl RecoveryFixture {
             geodesic: &self.geodesic,
             electrodes: &self.electrodes,
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::{patch_split_shares, pattern_shares};
+
+    // Two channels, three sources, G = [[1, 0, 1], [0, 1, 1]]; sources 0 → region 0,
+    // 1 and 2 → region 1. Patch A = {0: 1, 2: 1}, patch B = {1: 2}. Hand-computed:
+    // y_A = [2, 1], y_B = [0, 2], y = [2, 3], ‖y‖² = 13.
+    const GAIN: [f64; 6] = [1.0, 0.0, 1.0, 0.0, 1.0, 1.0];
+    const REGION: [i32; 3] = [0, 1, 1];
+
+    #[test]
+    fn patch_split_spreads_each_patch_share_by_its_mass() {
+        // share_A = ⟨y_A, y⟩/‖y‖² = 7/13, half of A's mass in each region;
+        // share_B = 6/13, all in region 1.
+        let patches = vec![vec![(0, 1.0), (2, 1.0)], vec![(1, 2.0)]];
+        let s = patch_split_shares(&GAIN, 2, &patches, &REGION, 2);
+        assert!((s[0] - 3.5 / 13.0).abs() < 1e-12, "{s:?}");
+        assert!((s[1] - 9.5 / 13.0).abs() < 1e-12, "{s:?}");
+    }
+
+    #[test]
+    fn pattern_split_decomposes_the_pattern_by_region() {
+        // Region 0 holds x = [1, 0, 0] → G x_0 = [1, 0], ⟨[1, 0], y⟩ = 2 → 2/13.
+        let s = pattern_shares(&GAIN, 2, &[1.0, 2.0, 1.0], &REGION, 2);
+        assert!((s[0] - 2.0 / 13.0).abs() < 1e-12, "{s:?}");
+        assert!((s[1] - 11.0 / 13.0).abs() < 1e-12, "{s:?}");
     }
 }
