@@ -38,6 +38,41 @@ fn compare_finds_the_shared_region_pairs_decoders_and_rejects_bad_input() {
         String::from_utf8_lossy(&out.stderr)
     );
     assert!(stdout.contains("left-precentral"), "{stdout}");
+    // The smoothing kernel is cached (keyed by the mesh, σ and the cut-off):
+    // a second run reads it and writes the same tables; a damaged entry is
+    // rebuilt, again with the same tables.
+    let kernels: Vec<_> = std::fs::read_dir(dir.join("cache"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| {
+            p.file_name()
+                .is_some_and(|n| n.to_string_lossy().starts_with("kernel-"))
+        })
+        .collect();
+    assert_eq!(kernels.len(), 1, "{kernels:?}");
+    for (run, damage) in [("group-cached", false), ("group-rebuilt", true)] {
+        if damage {
+            std::fs::write(&kernels[0], b"not an HDF5 file").unwrap();
+        }
+        let mut again = args.clone();
+        let n = again.len();
+        again[n - 3] = run;
+        let out = patchwise(&again, &dir);
+        let stderr = String::from_utf8_lossy(&out.stderr);
+        assert!(out.status.success(), "{stderr}");
+        assert_eq!(
+            stderr.contains("using cached smoothing kernel"),
+            !damage,
+            "{stderr}"
+        );
+        for table in ["regions.csv", "similarity.csv"] {
+            assert_eq!(
+                std::fs::read(dir.join("group").join(table)).unwrap(),
+                std::fs::read(dir.join(run).join(table)).unwrap(),
+                "{run}/{table}"
+            );
+        }
+    }
 
     // The demo's right-hand component (attribute names it "component 0")
     // is generated in the left precentral

@@ -31,7 +31,7 @@ pub struct Args {
     /// Run only shard I of N (1-based): with the jobs sorted by name, job j (0-based) is in shard (j mod N) + 1.
     #[arg(long)]
     pub shard: Option<String>,
-    /// Cache folder for lead fields and dictionaries (default: $PATCHWISE_CACHE, else the user cache folder).
+    /// Cache folder for lead fields, dictionaries and the [compare] smoothing kernel (default: $PATCHWISE_CACHE, else the user cache folder).
     #[arg(long)]
     pub cache: Option<PathBuf>,
 }
@@ -195,14 +195,16 @@ pub fn exec(args: Args) -> Result<(), CliError> {
                 "every job is done; comparing them ([compare], line {})",
                 spec.line
             );
-            cohort::run_compare(spec, &args.out, &script.jobs).map_err(|e| CliError {
-                code: e.code,
-                error: e.error.context(format!(
-                    "{}:{}: the [compare] table",
-                    script.path.display(),
-                    spec.line
-                )),
-            })?;
+            cohort::run_compare(spec, &args.out, &script.jobs, args.cache.as_deref()).map_err(
+                |e| CliError {
+                    code: e.code,
+                    error: e.error.context(format!(
+                        "{}:{}: the [compare] table",
+                        script.path.display(),
+                        spec.line
+                    )),
+                },
+            )?;
         }
     }
     Ok(())

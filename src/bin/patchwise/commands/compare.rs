@@ -11,16 +11,18 @@ use patchwise::cohort::{
     SmoothingKernel, SubjectResult,
 };
 use patchwise::geometry::{template, GeodesicSolver, SourceSpace, TemplateResolution};
-use patchwise::io::cache::file_sha256;
+use patchwise::io::cache::{default_cache_dir, entry_path, file_sha256, ContentHash};
 use patchwise::io::compare_file::{
     summary_json, write_compare, write_paired_csv, write_regions_csv, write_similarity_csv,
     CompareRecord,
 };
 use patchwise::io::gifti::read_gifti_surface;
+use patchwise::io::kernel_file::{read_kernel, write_kernel};
 use patchwise::io::mapping_file::read_vertex_map;
 use patchwise::io::result_file::{read_result, ResultFile, CAUTION};
 
 use crate::cli_error::OrExit;
+use crate::progress::note;
 use crate::staging::Staging;
 use crate::CliError;
 
@@ -75,6 +77,52 @@ pub struct Args {
     /// Do not write report.html into the output folder.
     #[arg(long)]
     pub no_report: bool,
+    /// Cache folder for the smoothing kernel (default: $PATCHWISE_CACHE, else
+    /// the user cache folder; the same folder as `attribute`'s).
+    #[arg(long)]
+    pub cache: Option<PathBuf>,
+}
+
+/// The smoothing kernel of the template from the cache (keyed by the mesh's
+/// vertices and triangles, σ and the cut-off), built and cached when missing
+/// or unreadable. A cache that cannot be written costs a note, not the run.
+fn cached_kernel(
+    args: &Args,
+    sources: &SourceSpace,
+    solver: &GeodesicSolver,
+) -> Result<SmoothingKernel, CliError> {
+    let sigma_m = args.smoothing_mm * 1e-3;
+    let mut h = ContentHash::new("smoothing-kernel-v1");
+    let flat: Vec<f64> = sources.positions.iter().flatten().copied().collect();
+    let tri: Vec<u64> = sources
+        .triangles
+        .iter()
+        .flatten()
+        .map(|&v| u64::from(v))
+        .collect();
+    h.f64s(&flat)
+        .u64s(&tri)
+        .f64s(&[sigma_m, args.smoothing_cutoff]);
+    let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
+    let path = entry_path(&cache, "kernel", &h.hex());
+    if path.is_file() {
+        if let Ok(k) = read_kernel(&path, sources.len()) {
+            note(format!("using cached smoothing kernel {}", path.display()));
+            return Ok(k);
+        }
+    }
+    let kernel = SmoothingKernel::new(solver, sigma_m, args.smoothing_cutoff)
+        .bad_input("the smoothing kernel")?;
+    let written = std::fs::create_dir_all(&cache)
+        .map_err(|e| e.to_string())
+        .and_then(|()| write_kernel(&path, &kernel).map_err(|e| e.to_string()));
+    if let Err(e) = written {
+        note(format!(
+            "could not cache the smoothing kernel in {}: {e}",
+            cache.display()
+        ));
+    }
+    Ok(kernel)
 }
 
 fn bad(message: String) -> CliError {
@@ -535,8 +583,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     };
     let mesh = template_space.sources.mesh();
     let solver = GeodesicSolver::new(&mesh).bad_input("the template mesh")?;
-    let kernel = SmoothingKernel::new(&solver, args.smoothing_mm * 1e-3, args.smoothing_cutoff)
-        .bad_input("the smoothing kernel")?;
+    let kernel = cached_kernel(&args, &template_space.sources, &solver)?;
     let costs = if args.no_transport {
         None
     } else {

@@ -18,8 +18,13 @@ struct CompareDefaults {
 }
 
 /// Run `patchwise compare DIR/<job>... --out OUT [--pair A B]` with the
-/// defaults of `compare`.
-pub fn run_compare(spec: &CompareSpec, out: &Path, jobs: &[Job]) -> Result<(), CliError> {
+/// defaults of `compare` and the batch's cache folder.
+pub fn run_compare(
+    spec: &CompareSpec,
+    out: &Path,
+    jobs: &[Job],
+    cache: Option<&Path>,
+) -> Result<(), CliError> {
     let mut argv: Vec<OsString> = vec!["compare".into()];
     argv.extend(jobs.iter().map(|j| out.join(&j.name).into_os_string()));
     argv.push("--out".into());
@@ -27,8 +32,9 @@ pub fn run_compare(spec: &CompareSpec, out: &Path, jobs: &[Job]) -> Result<(), C
     if let Some([a, b]) = &spec.pair {
         argv.extend(["--pair".into(), a.into(), b.into()]);
     }
-    let args = CompareDefaults::try_parse_from(argv)
+    let mut args = CompareDefaults::try_parse_from(argv)
         .map_err(|e| CliError::bad_input(anyhow::anyhow!("[compare]: {e}")))?
         .args;
+    args.cache = cache.map(Path::to_path_buf);
     compare::exec(args)
 }
