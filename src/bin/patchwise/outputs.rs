@@ -135,16 +135,17 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
         }
         // How sure the resamples are of the leading region: a near-tie
         // between two regions shows as support split between them.
-        let mut leaders: Vec<&RegionRow> = comp_rows
-            .iter()
-            .filter(|r| r.lead.is_finite() && r.lead > 0.0)
-            .collect();
-        leaders.sort_by(|x, y| y.lead.total_cmp(&x.lead).then(x.region.cmp(&y.region)));
-        if !leaders.is_empty() {
+        // Ties in region order, as in `compare` (one `leaders` serves both).
+        let names = region_names(a);
+        let lead: Vec<f64> = a.outcome.resample.as_ref().map_or(Vec::new(), |s| {
+            s.intervals[c].iter().map(|i| i.lead_frequency).collect()
+        });
+        let leaders = patchwise::attribution::leaders(&lead);
+        if !leaders.is_empty() && names.len() == lead.len() {
             let list: Vec<String> = leaders
                 .iter()
                 .take(3)
-                .map(|r| format!("{} {:.0} %", r.region, 100.0 * r.lead))
+                .map(|&r| format!("{} {:.0} %", names[r], 100.0 * lead[r]))
                 .collect();
             println!("  leading region in the resamples: {}", list.join(", "));
         }
