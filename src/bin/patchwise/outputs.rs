@@ -93,6 +93,7 @@ fn fmt(v: f64, digits: usize) -> String {
 
 /// Print the leading regions of each component.
 pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
+    let names = region_names(a);
     for (c, comp_rows) in rows.iter().enumerate() {
         let comp = &a.outcome.attribution.components[c];
         println!();
@@ -136,7 +137,6 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
         // How sure the resamples are of the leading region: a near-tie
         // between two regions shows as support split between them.
         // Ties in region order, as in `compare` (one `leaders` serves both).
-        let names = region_names(a);
         let lead: Vec<f64> = a.outcome.resample.as_ref().map_or(Vec::new(), |s| {
             s.intervals[c].iter().map(|i| i.lead_frequency).collect()
         });
