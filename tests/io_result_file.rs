@@ -48,10 +48,23 @@ fn result_file_round_trip_and_reconstruction() {
     assert_eq!(r.attribution.source_map.len(), 5124 * k);
     assert_eq!(r.electrode_positions.as_ref().unwrap().len(), n_ch);
     assert_eq!(r.attribution.region_names, sources.region_names);
-    // The demo fits each component by the BIC rule: a 15-point path per component.
+    // The demo fits each component by the noise rule: the path walks down
+    // from λ_max until it brackets the chosen λ, so every component's
+    // chosen ratio lies strictly inside its searched range.
     let path = r.fit.path.as_ref().unwrap();
-    assert_eq!(path.n_points, 15);
-    assert!(path.ratio.iter().all(|v| v.is_finite()));
+    assert!(path.n_points >= 2);
+    for c in 0..k {
+        let ratios: Vec<f64> = (0..path.n_points)
+            .map(|i| path.ratio[i * k + c])
+            .filter(|v| v.is_finite())
+            .collect();
+        let chosen = r.fit.lambda[c] / r.fit.lambda_max[c];
+        let lowest = ratios.iter().copied().fold(f64::INFINITY, f64::min);
+        assert!(
+            chosen > lowest && chosen < 1.0,
+            "component {c}: {chosen} in {ratios:?}"
+        );
+    }
     // Definition: reconstruction = patterns - residual when nothing is whitened (to rounding).
     let rec = r.fit.reconstruction.as_ref().unwrap();
     let scale = r.patterns.iter().fold(0.0f64, |m, v| m.max(v.abs()));
@@ -70,12 +83,13 @@ import sys, h5py, numpy as np
 f = h5py.File(sys.argv[1], "r")
 assert f["/sources/triangles"].shape == ({tri}, 3), f["/sources/triangles"].shape
 assert f["/montage/positions_mm"].shape == ({n_ch}, 3)
-assert f["/fit/path/ratio"].shape == (15, {k})
+assert f["/fit/path/ratio"].shape == ({n_path}, {k})
 assert f["/fit/reconstruction"].shape == ({n_ch}, {k})
 np.testing.assert_allclose(f["/fit/reconstruction"][()][5, 1], {rec51:.17e}, rtol=0, atol=0)
 np.testing.assert_allclose(f["/sources/positions_mm"][()][7, 2], {pos72:.17e}, rtol=1e-15)
 "#,
             tri = sources.triangles.len(),
+            n_path = path.n_points,
             rec51 = rec[5 * k + 1],
             pos72 = sources.positions[7][2] * 1e3,
         );

@@ -74,7 +74,7 @@ fn compare_writes_a_self_contained_report_naming_the_shared_region() {
     assert!(page.text.contains(CAUTION), "the caution is missing");
     // The demo's first component is generated in the left precentral
     // region (src/demo); six subjects give 64 sign vectors, so the
-    // smallest corrected p is 2/64 < 0.05 (Nichols & Holmes 2002), and
+    // smallest one-sided corrected p is 1/64 < 0.05 (Nichols & Holmes 2002), and
     // summary.json must list it as surviving, as must the page.
     let summary: serde_json::Value =
         serde_json::from_str(&read(&dir.join("group/summary.json"))).unwrap();

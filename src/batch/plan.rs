@@ -297,6 +297,18 @@ fn check_values(o: &JobOptions) -> Result<(), String> {
     one_of("reference", &o.reference, &["average", "none"])?;
     one_of("profile", &o.profile, &["gaussian", "flat"])?;
     one_of("atom_orientation", &o.atom_orientation, &["normal", "free"])?;
+    one_of(
+        "lambda_rule",
+        &o.lambda_rule,
+        &["noise", "bic", "aic", "gcv"],
+    )?;
+    if let Some(sd) = o.noise_sd {
+        if !(sd.is_finite() && sd > 0.0) {
+            return Err(format!(
+                "noise_sd = {sd}; expected a positive standard deviation in the patterns' units"
+            ));
+        }
+    }
     if let Some(r) = o.lambda_ratio {
         if !(r.is_finite() && r > 0.0 && r <= 1.0) {
             return Err(format!("lambda_ratio = {r}; expected 0 < R <= 1"));

@@ -66,6 +66,10 @@ job_options! {
     reference: String,
     /// `--joint`: one shared support for all components.
     joint: bool,
+    /// `--lambda-rule`: `noise`, `bic`, `aic` or `gcv`.
+    lambda_rule: String,
+    /// `--noise-sd`: the patterns' noise standard deviation per channel.
+    noise_sd: f64,
     /// `--lambda-ratio`: lambda / lambda_max, in (0, 1].
     lambda_ratio: f64,
     /// `--lambda`: an absolute lambda.

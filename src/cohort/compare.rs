@@ -5,7 +5,13 @@ use rayon::prelude::*;
 
 use super::error::CohortError;
 use super::similarity::{cosine, SmoothingKernel};
-use super::stats::{bootstrap_mean_interval, sign_flip_max_test, SignFlipTest};
+use super::stats::{bootstrap_mean_interval, sign_flip_max_test_greater, SignFlipTest};
+
+/// The group test asks whether a region's share exceeds this (one-sided
+/// sign-flip test on share − δ): a share is a signed projection, and a
+/// consistently tiny or negative share is not something the cohort relies on.
+/// One per cent of the fitted pattern is our convention (no source).
+pub const MIN_GROUP_SHARE: f64 = 0.01;
 use super::transport::{first_non_finite, region_mass, sinkhorn, SinkhornParams, TransportCosts};
 use crate::attribution::lead_frequencies;
 
@@ -90,7 +96,7 @@ pub struct ComponentComparison {
     pub mean_low: Vec<f64>,
     /// Upper end of the bootstrap interval.
     pub mean_high: Vec<f64>,
-    /// The sign-flip group test (null: share = 0, two-sided).
+    /// The sign-flip group test (one-sided: share > MIN_GROUP_SHARE).
     pub test: SignFlipTest,
     /// Cosine similarity of the smoothed |source maps|, n_subjects ×
     /// n_subjects (1 on the diagonal, NaN for an empty map).
@@ -353,12 +359,15 @@ pub fn compare(
             params.level,
             params.seed ^ (c as u64).wrapping_mul(0x5851_F42D_4C95_7F2D),
         );
-        let test = sign_flip_max_test(
+        // A region is an effect only when its share is positive and more
+        // than a trivial part of the pattern: one-sided, against δ.
+        let test = sign_flip_max_test_greater(
             &share,
             n_s,
             n_r,
             params.sign_flips,
             params.seed.wrapping_add(1 + c as u64),
+            MIN_GROUP_SHARE,
         );
         let magnitudes: Vec<Vec<f64>> = subjects
             .iter()

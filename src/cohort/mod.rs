@@ -13,7 +13,7 @@
 //!   (Efron B, Tibshirani RJ 1993, *An Introduction to the Bootstrap*,
 //!   Chapman & Hall, ch. 13).
 //! - Group test per region: sign-flip permutation test of the one-sample t
-//!   statistic under the null "share = 0" (two-sided), with the
+//!   statistic of share − 0.01, one-sided (the share must exceed it), with the
 //!   max-statistic correction over regions for the family-wise error
 //!   (Nichols TE, Holmes AP 2002, Hum Brain Mapp 15:1).
 //! - Similarity of source maps: cosine after geodesic Gaussian smoothing, and
@@ -28,11 +28,16 @@ mod similarity;
 mod stats;
 mod transport;
 
-pub use compare::{compare, CompareParams, Comparison, ComponentComparison, SubjectResult};
+pub use compare::{
+    compare, CompareParams, Comparison, ComponentComparison, SubjectResult, MIN_GROUP_SHARE,
+};
 pub use error::CohortError;
 pub use paired::{compare_paired, PairedComparison, PairedComponent};
 pub use similarity::{cosine, SmoothingKernel};
-pub use stats::{bootstrap_draw, bootstrap_mean_interval, sign_flip_max_test, SignFlipTest};
+pub use stats::{
+    bootstrap_draw, bootstrap_mean_interval, sign_flip_max_test, sign_flip_max_test_greater,
+    SignFlipTest,
+};
 pub use transport::{
     region_transport_costs, sinkhorn, SinkhornParams, SinkhornResult, TransportCosts,
 };

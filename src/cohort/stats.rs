@@ -118,10 +118,13 @@ fn t_from_sums(sum: f64, sum_sq: f64, n: usize) -> f64 {
 /// 1e-10 absorbs rounding, so that the observed signs and their mirror image
 /// count as reaching themselves).
 fn reaches(flipped: f64, observed: f64) -> bool {
-    if observed.is_infinite() {
+    if observed == f64::NEG_INFINITY {
+        // One-sided: identical negative values; every flip reaches them.
+        true
+    } else if observed.is_infinite() {
         // Identical nonzero values: only sign vectors that keep them equal
         // (all kept or all flipped) reach an infinite |t|.
-        flipped.is_infinite()
+        flipped == f64::INFINITY
     } else {
         flipped >= observed - 1e-10 * observed.abs()
     }
@@ -145,6 +148,35 @@ pub fn sign_flip_max_test(
     flips: usize,
     seed: u64,
 ) -> SignFlipTest {
+    sign_flip(values, n_subjects, n_regions, flips, seed, false)
+}
+
+/// [`sign_flip_max_test`] one-sided, for "the value exceeds `delta`": the
+/// test runs on value − delta with the signed t (large positive t is the
+/// evidence), and the max statistic is the largest signed t over regions.
+/// A region whose mean is at or below `delta` can never reach a small p
+/// (Nichols & Holmes 2002 describe the one-sided form beside the two-sided).
+pub fn sign_flip_max_test_greater(
+    values: &[f64],
+    n_subjects: usize,
+    n_regions: usize,
+    flips: usize,
+    seed: u64,
+    delta: f64,
+) -> SignFlipTest {
+    let shifted: Vec<f64> = values.iter().map(|v| v - delta).collect();
+    sign_flip(&shifted, n_subjects, n_regions, flips, seed, true)
+}
+
+fn sign_flip(
+    values: &[f64],
+    n_subjects: usize,
+    n_regions: usize,
+    flips: usize,
+    seed: u64,
+    one_sided: bool,
+) -> SignFlipTest {
+    let side = |t: f64| if one_sided { t } else { t.abs() };
     let columns: Vec<Vec<f64>> = (0..n_regions)
         .map(|r| (0..n_subjects).map(|i| values[i * n_regions + r]).collect())
         .collect();
@@ -159,7 +191,7 @@ pub fn sign_flip_max_test(
         .zip(&sum_sq)
         .map(|(c, &s)| t_statistic(c, s, &zero))
         .collect();
-    let observed: Vec<f64> = statistic.iter().map(|t| t.abs()).collect();
+    let observed: Vec<f64> = statistic.iter().map(|&t| side(t)).collect();
     let exact = n_subjects < 31 && (1usize << n_subjects) <= flips.max(1);
     let n_draws = if exact { 1usize << n_subjects } else { flips };
     let signs_of = |b: usize| -> Vec<u64> {
@@ -184,9 +216,9 @@ pub fn sign_flip_max_test(
             let mut t = vec![0.0; n_regions];
             for b in chunk * CHUNK..((chunk + 1) * CHUNK).min(n_draws) {
                 let signs = signs_of(b);
-                let mut t_max = 0.0f64;
+                let mut t_max = f64::NEG_INFINITY;
                 for r in 0..n_regions {
-                    t[r] = t_statistic(&columns[r], sum_sq[r], &signs).abs();
+                    t[r] = side(t_statistic(&columns[r], sum_sq[r], &signs));
                     t_max = t_max.max(t[r]);
                 }
                 for r in 0..n_regions {
@@ -247,6 +279,24 @@ mod tests {
     fn identical_values_give_two_over_two_to_the_n() {
         let test = sign_flip_max_test(&[0.5; 4], 4, 1, 10_000, 1);
         assert!((test.p_raw[0] - 0.125).abs() < 1e-15);
+    }
+
+    // One-sided, hand-worked (common practice, no source): values
+    // (1, 2, 3) against δ = 0 reach t* ≥ t only with the observed signs, so
+    // p = 1/8; the mirror values (−1, −2, −3) are evidence of nothing,
+    // p = 1; and with δ = 2.5 two of the three values fall below δ, so the
+    // shifted values (−1.5, −0.5, 0.5) have a negative t and p ≥ 1/2.
+    #[test]
+    fn one_sided_test_counts_only_positive_evidence() {
+        let up = sign_flip_max_test_greater(&[1.0, 2.0, 3.0], 3, 1, 10_000, 1, 0.0);
+        assert!((up.p_raw[0] - 0.125).abs() < 1e-15);
+        let down = sign_flip_max_test_greater(&[-1.0, -2.0, -3.0], 3, 1, 10_000, 1, 0.0);
+        assert!((down.p_raw[0] - 1.0).abs() < 1e-15);
+        let shifted = sign_flip_max_test_greater(&[1.0, 2.0, 3.0], 3, 1, 10_000, 1, 2.5);
+        assert!(shifted.p_raw[0] >= 0.5);
+        // Identical values above δ: only the all-kept signs reach +∞.
+        let same = sign_flip_max_test_greater(&[0.5; 4], 4, 1, 10_000, 1, 0.0);
+        assert!((same.p_raw[0] - 1.0 / 16.0).abs() < 1e-15);
     }
 
     #[test]

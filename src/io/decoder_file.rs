@@ -11,6 +11,8 @@
 use std::collections::BTreeMap;
 use std::path::Path;
 
+pub use super::decoder_extras::DecoderExtras;
+use super::decoder_extras::{extras_from_npz, extras_from_store};
 use super::electrodes::read_channel_list;
 use super::npy::{read_npy, read_npz, NpyArray, NpyData};
 use super::sources_file::InputError;
@@ -39,6 +41,8 @@ pub struct DecoderFile {
     pub k: usize,
     /// Patterns, or weights and covariance.
     pub content: DecoderContent,
+    /// Component names, sample count and fold decoders, when the file has them.
+    pub extras: DecoderExtras,
 }
 
 impl DecoderFile {
@@ -94,6 +98,7 @@ pub fn read_decoder(path: &Path, channels_file: Option<&Path>) -> Result<Decoder
                 channels,
                 k: cols,
                 content: DecoderContent::Patterns(values),
+                extras: DecoderExtras::default(),
             }
         }
         other => {
@@ -174,10 +179,12 @@ fn read_npz_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     if let Some(p) = get("patterns") {
         let (values, rows, k) = matrix_of(path, "entry patterns", p)?;
         check_rows(path, "patterns", rows, n)?;
+        let extras = extras_from_npz(path, &arrays, n, k, None)?;
         return Ok(DecoderFile {
             channels,
             k,
             content: DecoderContent::Patterns(values),
+            extras,
         });
     }
     let (Some(w), Some(c)) = (get("weights"), get("covariance")) else {
@@ -190,6 +197,7 @@ fn read_npz_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     check_rows(path, "weights", rows, n)?;
     let (covariance, cr, cc) = matrix_of(path, "entry covariance", c)?;
     check_square(path, cr, cc, n)?;
+    let extras = extras_from_npz(path, &arrays, n, k, Some(&covariance))?;
     Ok(DecoderFile {
         channels,
         k,
@@ -197,6 +205,7 @@ fn read_npz_decoder(path: &Path) -> Result<DecoderFile, InputError> {
             weights,
             covariance,
         },
+        extras,
     })
 }
 
@@ -233,10 +242,12 @@ fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     let n = channels.len();
     if store.contains(&name("patterns")) {
         let (values, _, k) = store.f64_matrix_or_vector(path, &name("patterns"), n)?;
+        let extras = extras_from_store(path, &store, n, k, None)?;
         return Ok(DecoderFile {
             channels,
             k,
             content: DecoderContent::Patterns(values),
+            extras,
         });
     }
     if !(store.contains(&name("weights")) && store.contains(&name("covariance"))) {
@@ -247,6 +258,7 @@ fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     }
     let (weights, _, k) = store.f64_matrix_or_vector(path, &name("weights"), n)?;
     let (covariance, _, _) = store.f64_matrix(path, &name("covariance"), Some(n), Some(n))?;
+    let extras = extras_from_store(path, &store, n, k, Some(&covariance))?;
     Ok(DecoderFile {
         channels,
         k,
@@ -254,6 +266,7 @@ fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
             weights,
             covariance,
         },
+        extras,
     })
 }
 

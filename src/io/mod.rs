@@ -7,6 +7,7 @@ pub mod atomic;
 pub mod cache;
 pub mod compare_file;
 pub mod compare_read;
+pub mod decoder_extras;
 pub mod decoder_file;
 pub mod dictionary_file;
 pub mod dipole_file;

@@ -110,4 +110,7 @@ pub enum PatternsError {
         /// The value given.
         value: f64,
     },
+    /// Noise inputs (folds, sample count) that cannot be used.
+    #[error("{0}")]
+    Invalid(String),
 }

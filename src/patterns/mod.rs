@@ -9,11 +9,13 @@ mod covariance;
 pub(crate) mod eigen;
 mod error;
 mod haufe;
+mod noise;
 mod reference;
 mod whiten;
 
 pub use covariance::{PSD_TOLERANCE, SYMMETRY_TOLERANCE};
 pub use error::PatternsError;
 pub use haufe::{activation_patterns, PatternsInfo, CONDITION_LIMIT};
+pub use noise::{fold_noise, sample_count_variance, FoldNoise};
 pub use reference::average_reference;
 pub use whiten::{Whitener, DEFAULT_EIGENVALUE_FLOOR};

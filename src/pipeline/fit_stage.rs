@@ -11,10 +11,11 @@ use crate::attribution::{
 use crate::geometry::Vec3;
 use crate::solver::{
     fit, fit_warm, path, refit, DenseDictionary, Fit, Groups, Lambda, NoObserver, Params, PathSpec,
-    ValidParams,
+    StopReason, ValidParams,
 };
 
 use super::lambda_rule::{bic, LambdaRule, BIC_MIN_RATIO, BIC_PATH_POINTS};
+use super::noise_rule::{fit_block_noise, null_quantile, PatternNoise, NULL_QUANTILE};
 use super::resample::{ResampleOptions, ResampleSummary};
 use super::PipelineError;
 
@@ -79,17 +80,21 @@ pub struct FitOptions {
     pub resample: ResampleOptions,
     /// The patterns and atoms were whitened (changes the resampling noise).
     pub whitened: bool,
+    /// What is known of the noise in the patterns (the noise rule's σ and
+    /// the resamples' noise shape).
+    pub noise: PatternNoise,
 }
 
 impl Default for FitOptions {
     fn default() -> Self {
         FitOptions {
-            lambda: LambdaRule::Bic,
+            lambda: LambdaRule::Noise,
             joint: false,
             tol: 1e-8,
             refit: true,
             resample: ResampleOptions::default(),
             whitened: false,
+            noise: PatternNoise::default(),
         }
     }
 }
@@ -111,6 +116,15 @@ pub struct FittedComponent {
     pub n_active_groups: usize,
     /// The path searched: (ratio, explained variance, active groups, BIC).
     pub path: Vec<(f64, f64, usize, f64)>,
+    /// Why the solver stopped (a budget stop is reported, not an error).
+    pub stop_reason: StopReason,
+    /// The noise standard deviation per channel the λ rule used (fit space;
+    /// NaN for rules that use none).
+    pub noise_sd: f64,
+    /// The chosen λ is the last point the rule could search (the end of the
+    /// criterion's path, or the noise rule's floor): λ is set by the range,
+    /// not by the data.
+    pub at_range_end: bool,
 }
 
 /// Everything the fit produced.
@@ -130,6 +144,12 @@ pub struct FitOutcome {
 
 /// Relative duality-gap tolerance of the resampled fits.
 const RESAMPLE_TOL: f64 = 1e-4;
+/// Iteration and time budget of one fit of the main estimate.
+const FIT_MAX_ITER: usize = 50_000;
+const FIT_MAX_SECONDS: f64 = 60.0;
+/// Iteration and time budget of one resampled fit.
+const RESAMPLE_MAX_ITER: usize = 5_000;
+const RESAMPLE_MAX_SECONDS: f64 = 10.0;
 
 fn column_block(y: &[f64], k: usize, cols: &[usize]) -> Vec<f64> {
     let n = y.len() / k.max(1);
@@ -142,9 +162,18 @@ fn column_block(y: &[f64], k: usize, cols: &[usize]) -> Vec<f64> {
     out
 }
 
-struct BlockFit {
-    coefficients: Vec<f64>,
-    info: FittedComponent,
+pub(crate) struct BlockFit {
+    pub(crate) coefficients: Vec<f64>,
+    pub(crate) info: FittedComponent,
+}
+
+/// How one block's λ is set: the rule, plus the noise rule's quantile and
+/// the block's given noise level.
+#[derive(Clone, Copy)]
+struct BlockRule {
+    rule: LambdaRule,
+    quantile: f64,
+    noise_sd: Option<f64>,
 }
 
 fn fit_block(
@@ -152,13 +181,23 @@ fn fit_block(
     groups: &Groups,
     y: &[f64],
     cols: &[usize],
-    rule: LambdaRule,
+    block_rule: BlockRule,
     params: &ValidParams,
     warm: Option<&[f64]>,
 ) -> Result<BlockFit, PipelineError> {
     let kb = cols.len();
     let n_ch = dict.n_channels();
+    let rule = block_rule.rule;
     match rule {
+        LambdaRule::Noise => fit_block_noise(
+            dict,
+            groups,
+            y,
+            cols,
+            block_rule.quantile,
+            block_rule.noise_sd,
+            params,
+        ),
         LambdaRule::Ratio(_) | LambdaRule::Absolute(_) => {
             let lambda = match rule {
                 LambdaRule::Absolute(l) => Lambda::Absolute(l),
@@ -180,6 +219,9 @@ fn fit_block(
                     iterations: info.iterations,
                     n_active_groups: info.n_active_groups,
                     path: Vec::new(),
+                    stop_reason: info.stop_reason,
+                    noise_sd: f64::NAN,
+                    at_range_end: false,
                 },
             })
         }
@@ -218,6 +260,7 @@ fn fit_block(
                 }
             }
             let chosen = &points[best];
+            let at_range_end = best + 1 == points.len();
             Ok(BlockFit {
                 coefficients: chosen.coefficients.to_dense(),
                 info: FittedComponent {
@@ -228,6 +271,9 @@ fn fit_block(
                     iterations: chosen.info.iterations,
                     n_active_groups: chosen.info.n_active_groups,
                     path: summary,
+                    stop_reason: chosen.info.stop_reason,
+                    noise_sd: f64::NAN,
+                    at_range_end,
                 },
             })
         }
@@ -241,7 +287,7 @@ fn fit_all(
     y: &[f64],
     k: usize,
     blocks: &[Vec<usize>],
-    rules: &[LambdaRule],
+    rules: &[BlockRule],
     params: &ValidParams,
     warm: Option<&[f64]>,
 ) -> Result<(Vec<f64>, Vec<FittedComponent>), PipelineError> {
@@ -293,6 +339,9 @@ pub fn fit_patterns(
     let groups = Groups::from_assignment(&assignment)?;
     let params = Params {
         tol: options.tol,
+        max_iter: FIT_MAX_ITER,
+        max_seconds: Some(FIT_MAX_SECONDS),
+        stop_on_budget: true,
         ..Params::default()
     }
     .validate()?;
@@ -301,7 +350,38 @@ pub fn fit_patterns(
     } else {
         (0..k).map(|c| vec![c]).collect()
     };
-    let rules = vec![options.lambda; blocks.len()];
+    if let Some(sd) = &options.noise.sd {
+        if sd.len() != k || sd.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
+            return Err(PipelineError::Inconsistent(format!(
+                "noise level: {} values, expected {k} finite positive values (one per component)",
+                sd.len()
+            )));
+        }
+    }
+    // The null quantile depends on the block width only.
+    let quantile = if options.lambda == LambdaRule::Noise {
+        let mut by_width = std::collections::BTreeMap::new();
+        for b in &blocks {
+            if let std::collections::btree_map::Entry::Vacant(e) = by_width.entry(b.len()) {
+                e.insert(null_quantile(&dict, &groups, b.len(), NULL_QUANTILE)?);
+            }
+        }
+        by_width
+    } else {
+        Default::default()
+    };
+    let rules: Vec<BlockRule> =
+        blocks
+            .iter()
+            .map(|b| BlockRule {
+                rule: options.lambda,
+                quantile: quantile.get(&b.len()).copied().unwrap_or(f64::NAN),
+                // A joint block's level: the root mean square of its components'.
+                noise_sd: options.noise.sd.as_ref().map(|sd| {
+                    (b.iter().map(|&c| sd[c] * sd[c]).sum::<f64>() / b.len() as f64).sqrt()
+                }),
+            })
+            .collect();
     let (coefficients, infos) =
         fit_all(&dict, &groups, patterns, k, &blocks, &rules, &params, None)?;
     let full_fit = Fit::evaluate(&dict, patterns, k, coefficients.clone())?;
@@ -323,6 +403,7 @@ pub fn fit_patterns(
             &infos,
             k,
             options,
+            &attribution,
             progress,
         )?)
     } else {
@@ -349,14 +430,20 @@ fn resample(
     infos: &[FittedComponent],
     k: usize,
     options: &FitOptions,
+    attribution: &Attribution,
     progress: &(dyn Fn(usize) + Sync),
 ) -> Result<ResampleSummary, PipelineError> {
     let n_ch = problem.n_channels;
     let n_atoms = problem.group.len();
     let opts = options.resample;
     // Noise level per component from the residual and the active set.
+    // A level the user gave (folds, a sample count, a number) wins over the
+    // residual's.
     let noise_sd: Vec<f64> = (0..k)
         .map(|c| {
+            if let Some(sd) = &options.noise.sd {
+                return sd[c];
+            }
             let rss: f64 = (0..n_ch).map(|i| full.residual[i * k + c].powi(2)).sum();
             let df = (0..n_atoms)
                 .filter(|&j| coefficients[j * k + c] != 0.0)
@@ -371,9 +458,18 @@ fn resample(
         .zip(&full.residual)
         .map(|(y, r)| y - r)
         .collect();
-    let rules: Vec<LambdaRule> = infos
+    let rules: Vec<BlockRule> = infos
         .iter()
-        .map(|b| LambdaRule::Absolute(b.lambda))
+        .map(|b| BlockRule {
+            // λ = 0 (a block fitted to zero) means λ_max of the resample.
+            rule: if b.lambda > 0.0 {
+                LambdaRule::Absolute(b.lambda)
+            } else {
+                LambdaRule::Ratio(1.0)
+            },
+            quantile: f64::NAN,
+            noise_sd: None,
+        })
         .collect();
     // Resampled fits only feed percentiles of shares, which need no 1e-8
     // certificate: on the batch benchmark a relative gap of 1e-4 moves the
@@ -381,6 +477,9 @@ fn resample(
     // (docs/benchmarks.md, Batch), and costs 17 % less CPU than 1e-5.
     let resample_params = Params {
         tol: RESAMPLE_TOL.max(options.tol),
+        max_iter: RESAMPLE_MAX_ITER,
+        max_seconds: Some(RESAMPLE_MAX_SECONDS),
+        stop_on_budget: true,
         ..Params::default()
     }
     .validate()?;
@@ -393,23 +492,42 @@ fn resample(
         problem.n_regions,
     );
     let done = std::sync::atomic::AtomicUsize::new(0);
+    let budget_stops = std::sync::atomic::AtomicUsize::new(0);
     let runs: Vec<Result<Vec<Vec<f64>>, PipelineError>> = (0..opts.n_resamples)
         .into_par_iter()
         .map(|b| {
             let mut rng = SplitMix64::new(opts.seed, b as u64);
-            let mut y_star = vec![0.0; n_ch * k];
-            for c in 0..k {
-                let mut e: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
-                if !options.whitened {
-                    let mean = e.iter().sum::<f64>() / n_ch as f64;
-                    e.iter_mut().for_each(|v| *v -= mean);
+            let y_star = match &options.noise.fold_deviations {
+                // Noise of the folds' own shape: Σ_f g_f d_f has the
+                // jackknife covariance of the pattern (a Gaussian multiplier
+                // bootstrap; Wu 1986, Ann Stat 14:1261, from memory).
+                Some(deviations) => {
+                    let mut y_star = y_hat.clone();
+                    for d in deviations {
+                        let g = rng.normal();
+                        for (v, dv) in y_star.iter_mut().zip(d) {
+                            *v += g * dv;
+                        }
+                    }
+                    y_star
                 }
-                for i in 0..n_ch {
-                    y_star[i * k + c] = y_hat[i * k + c] + noise_sd[c] * e[i];
+                None => {
+                    let mut y_star = vec![0.0; n_ch * k];
+                    for c in 0..k {
+                        let mut e: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
+                        if !options.whitened {
+                            let mean = e.iter().sum::<f64>() / n_ch as f64;
+                            e.iter_mut().for_each(|v| *v -= mean);
+                        }
+                        for i in 0..n_ch {
+                            y_star[i * k + c] = y_hat[i * k + c] + noise_sd[c] * e[i];
+                        }
+                    }
+                    y_star
                 }
-            }
+            };
             // Warm-started from the fit itself: the resampled problem is close.
-            let (coef, _) = fit_all(
+            let (coef, fitted) = fit_all(
                 dict,
                 groups,
                 &y_star,
@@ -426,6 +544,8 @@ fn resample(
                     component_shares(problem.atoms, n_ch, problem.group, &x, &mass).region_share
                 })
                 .collect();
+            let stops = fitted.iter().filter(|f| f.stop_reason.on_budget()).count();
+            budget_stops.fetch_add(stops, std::sync::atomic::Ordering::Relaxed);
             let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
             if n % 4 == 3 {
                 progress(4);
@@ -442,29 +562,61 @@ fn resample(
             }
         }
     }
+    let estimate = |c: usize, r: usize| {
+        attribution.components[c]
+            .region_share
+            .get(r)
+            .copied()
+            .unwrap_or(0.0)
+    };
     let intervals = shares
         .iter()
-        .map(|per_region| {
+        .enumerate()
+        .map(|(c, per_region)| {
             let lead = lead_frequencies(per_region);
             per_region
                 .iter()
                 .zip(lead)
-                .map(|(v, lead_frequency)| RegionInterval {
-                    low: percentile(v, 0.025),
-                    high: percentile(v, 0.975),
-                    selection_frequency: v
-                        .iter()
-                        .filter(|&&s| s >= opts.selection_threshold)
-                        .count() as f64
-                        / v.len().max(1) as f64,
-                    lead_frequency,
+                .enumerate()
+                .map(|(r, (v, lead_frequency))| {
+                    let (low, high) = centred_interval(estimate(c, r), v);
+                    RegionInterval {
+                        low,
+                        high,
+                        selection_frequency: v
+                            .iter()
+                            .filter(|&&s| s >= opts.selection_threshold)
+                            .count() as f64
+                            / v.len().max(1) as f64,
+                        lead_frequency,
+                    }
                 })
                 .collect()
         })
         .collect();
     Ok(ResampleSummary {
+        budget_stops: budget_stops.into_inner(),
         intervals,
         noise_sd,
         n_resamples: opts.n_resamples,
     })
+}
+
+/// The 95 % interval of a share from its resampled values, centred on the
+/// estimate: [ŝ + (q₀.₀₂₅ − m), ŝ + (q₀.₉₇₅ − m)] with m the median of the
+/// resampled shares. The spread comes from the resamples, the centre from
+/// the fit, so the interval always holds its estimate (a percentile interval
+/// of the resamples need not: penalised fits of resampled patterns are
+/// shrunk again, which shifts their distribution away from the estimate).
+/// This is the percentile interval of the bootstrap deviations from their
+/// median, added to the estimate (cf. Davison & Hinkley 1997, "Bootstrap
+/// Methods and their Application", §5.2, for the family of such intervals).
+pub(crate) fn centred_interval(estimate: f64, resampled: &[f64]) -> (f64, f64) {
+    if resampled.is_empty() {
+        return (f64::NAN, f64::NAN);
+    }
+    let m = percentile(resampled, 0.5);
+    let low = estimate + (percentile(resampled, 0.025) - m);
+    let high = estimate + (percentile(resampled, 0.975) - m);
+    (low.min(estimate), high.max(estimate))
 }

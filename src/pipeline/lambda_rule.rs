@@ -14,8 +14,10 @@
 /// The rule that sets λ.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub enum LambdaRule {
-    /// Minimum BIC along the path (the default).
+    /// λ = q σ from the noise in the pattern (the default; `noise_rule`).
     #[default]
+    Noise,
+    /// Minimum BIC along the path.
     Bic,
     /// Minimum generalised cross-validation score along the path.
     Gcv,
@@ -30,7 +32,22 @@ pub enum LambdaRule {
 impl LambdaRule {
     /// True for the rules that search the path.
     pub fn searches_path(&self) -> bool {
-        matches!(self, LambdaRule::Bic | LambdaRule::Gcv | LambdaRule::Aic)
+        matches!(
+            self,
+            LambdaRule::Noise | LambdaRule::Bic | LambdaRule::Gcv | LambdaRule::Aic
+        )
+    }
+
+    /// The rule's name as users write it (`--lambda-rule`), or the fixed value.
+    pub fn name(&self) -> String {
+        match self {
+            LambdaRule::Noise => "noise".to_string(),
+            LambdaRule::Bic => "bic".to_string(),
+            LambdaRule::Gcv => "gcv".to_string(),
+            LambdaRule::Aic => "aic".to_string(),
+            LambdaRule::Ratio(r) => format!("ratio {r}"),
+            LambdaRule::Absolute(l) => format!("absolute {l}"),
+        }
     }
 
     /// The score this rule minimises along the path (infinite where
@@ -40,7 +57,7 @@ impl LambdaRule {
             LambdaRule::Bic => Some(bic(rss, n, df)),
             LambdaRule::Gcv => Some(gcv(rss, n, df)),
             LambdaRule::Aic => Some(aic(rss, n, df)),
-            LambdaRule::Ratio(_) | LambdaRule::Absolute(_) => None,
+            LambdaRule::Noise | LambdaRule::Ratio(_) | LambdaRule::Absolute(_) => None,
         }
     }
 }

@@ -6,10 +6,14 @@ mod error;
 mod fit_stage;
 mod forward_stage;
 mod lambda_rule;
+mod noise_rule;
+mod quality;
 mod resample;
 
 pub use error::PipelineError;
 pub use fit_stage::{fit_patterns, FitOptions, FitOutcome, FittedComponent, Problem};
 pub use forward_stage::{dictionary_for, leadfield_for, DistanceKind};
 pub use lambda_rule::LambdaRule;
+pub use noise_rule::{PatternNoise, NULL_QUANTILE, RATIO_FLOOR};
+pub use quality::{component_flags, is_poorly_explained, POORLY_EXPLAINED_EV};
 pub use resample::{ResampleOptions, ResampleSummary};

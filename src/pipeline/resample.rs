@@ -41,4 +41,7 @@ pub struct ResampleSummary {
     pub noise_sd: Vec<f64>,
     /// Number of resamples used.
     pub n_resamples: usize,
+    /// Resampled block fits that stopped on their iteration or time budget
+    /// (their shares are used as they are, with the gap they reached).
+    pub budget_stops: usize,
 }

@@ -479,7 +479,9 @@ fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[Com
             "note",
             "Share: the part of the fitted pattern that the patches of a region explain (patch \
          contributions projected on the fitted pattern, split over regions by the patch \
-         profiles); shares and the unassigned part sum to 100 %.",
+         profiles); shares and the unassigned part sum to 100 %. A negative share means the \
+         region's patches cancel part of the fitted pattern. Intervals are 95 % bootstrap \
+         intervals centred on the share.",
         );
     }
     h.raw("</section>\n");

@@ -149,8 +149,8 @@ fn gram_residual_gradient(
 }
 
 /// Runs FISTA from `x` (row-major `m x k`) until the sub-problem's relative
-/// gap is at most `tol` (checked every few iterations, at least one check) or
-/// `max_iter` iterations are spent.
+/// gap is at most `tol` (checked every few iterations, at least one check),
+/// `max_iter` iterations are spent, or `deadline` passes (checked with the gap).
 #[allow(clippy::too_many_arguments)]
 pub(crate) fn solve_sub(
     sub: &SubProblem,
@@ -161,6 +161,7 @@ pub(crate) fn solve_sub(
     x: &mut [f64],
     tol: f64,
     max_iter: usize,
+    deadline: Option<std::time::Instant>,
 ) -> SubResult {
     let n = sub.dict.n_channels();
     let m = sub.dict.n_atoms();
@@ -256,7 +257,8 @@ pub(crate) fn solve_sub(
                 lambda,
                 x,
             );
-            if cert.relative_gap <= tol {
+            if cert.relative_gap <= tol || deadline.is_some_and(|d| std::time::Instant::now() >= d)
+            {
                 break;
             }
         }

@@ -54,4 +54,5 @@ pub use observer::{NoObserver, Observer, Recorder};
 pub use operator::{DenseDictionary, LinearOperator};
 pub use params::{Info, Lambda, Params, StopReason, ValidParams};
 pub use path::{path, PathPoint, PathSpec, SparseRows};
+pub use problem::null_lambda_max;
 pub use refit::{refit, Refit};

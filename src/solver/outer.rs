@@ -64,6 +64,9 @@ pub(crate) fn solve(
         observer.observe_final(&[("iterations", 0.0), ("gap", 0.0), ("n_active_groups", 0.0)]);
         return Ok(info);
     }
+    let deadline = params
+        .max_seconds
+        .map(|t| std::time::Instant::now() + std::time::Duration::from_secs_f64(t));
     let mut cert = Certificate::new(n_ch, n_atoms, n_groups, k);
     let mut screened = vec![false; n_groups];
     let mut atom_kept = vec![true; n_atoms];
@@ -115,10 +118,37 @@ pub(crate) fn solve(
                 working_set_size: last_ws,
             });
         }
-        if iterations >= params.max_iter {
-            return Err(SolverError::NotConverged {
-                gap: cert.relative_gap,
+        let out_of_time = deadline.is_some_and(|d| std::time::Instant::now() >= d);
+        if iterations >= params.max_iter || out_of_time {
+            if !params.stop_on_budget {
+                return Err(SolverError::NotConverged {
+                    gap: cert.relative_gap,
+                    iterations,
+                });
+            }
+            let (n_active_groups, n_active_atoms) = count_active(prep, x, k);
+            observer.observe_final(&[
+                ("iterations", iterations as f64),
+                ("gap", cert.relative_gap),
+                ("n_active_groups", n_active_groups as f64),
+            ]);
+            return Ok(Info {
                 iterations,
+                outer_iterations: outer,
+                duality_gap: cert.relative_gap,
+                primal: cert.primal,
+                dual: cert.dual,
+                lambda,
+                lambda_max,
+                stop_reason: if out_of_time {
+                    StopReason::TimeBudget
+                } else {
+                    StopReason::IterationBudget
+                },
+                n_active_groups,
+                n_active_atoms,
+                n_screened_groups: n_screened,
+                working_set_size: last_ws,
             });
         }
         if params.screening {
@@ -160,6 +190,7 @@ pub(crate) fn solve(
             &mut x_ws,
             inner_tol,
             params.max_iter - iterations,
+            deadline,
         );
         iterations += result.iterations;
         for (i, &j) in atoms.iter().enumerate() {

@@ -55,6 +55,14 @@ pub struct Params {
     pub working_set: bool,
     /// Groups in the first working set (≥ 1; doubled each outer pass).
     pub initial_working_set: usize,
+    /// Wall-clock budget of one fit in seconds (finite and > 0), or none.
+    /// Checked between FISTA iterations; a fit stopped by it depends on the
+    /// machine's speed, which [`StopReason::TimeBudget`] says.
+    pub max_seconds: Option<f64>,
+    /// On reaching `max_iter` or `max_seconds`, return the iterate with its
+    /// duality gap and [`StopReason::IterationBudget`] or
+    /// [`StopReason::TimeBudget`] instead of [`SolverError::NotConverged`].
+    pub stop_on_budget: bool,
 }
 
 impl Default for Params {
@@ -66,6 +74,8 @@ impl Default for Params {
             screening: true,
             working_set: true,
             initial_working_set: 16,
+            max_seconds: None,
+            stop_on_budget: false,
         }
     }
 }
@@ -79,6 +89,8 @@ pub struct ValidParams {
     pub(crate) screening: bool,
     pub(crate) working_set: bool,
     pub(crate) initial_working_set: usize,
+    pub(crate) max_seconds: Option<f64>,
+    pub(crate) stop_on_budget: bool,
 }
 
 impl ValidParams {
@@ -98,7 +110,7 @@ impl ValidParams {
 
 impl Params {
     /// Checks every field: λ in range, `tol > 0` finite, `max_iter ≥ 1`,
-    /// `initial_working_set ≥ 1`.
+    /// `initial_working_set ≥ 1`, `max_seconds` finite and > 0 when given.
     pub fn validate(&self) -> Result<ValidParams, SolverError> {
         let lambda = self.lambda.validate()?;
         if !(self.tol.is_finite() && self.tol > 0.0) {
@@ -122,6 +134,15 @@ impl Params {
                 expected: ">= 1",
             });
         }
+        if let Some(t) = self.max_seconds {
+            if !(t.is_finite() && t > 0.0) {
+                return Err(SolverError::InvalidParameter {
+                    name: "max_seconds",
+                    value: t,
+                    expected: "finite and > 0",
+                });
+            }
+        }
         Ok(ValidParams {
             lambda,
             tol: self.tol,
@@ -129,6 +150,8 @@ impl Params {
             screening: self.screening,
             working_set: self.working_set,
             initial_working_set: self.initial_working_set,
+            max_seconds: self.max_seconds,
+            stop_on_budget: self.stop_on_budget,
         })
     }
 }
@@ -141,6 +164,20 @@ pub enum StopReason {
     Converged,
     /// λ ≥ λ_max: the solution is exactly zero, returned without iterating.
     ZeroSolution,
+    /// `max_iter` iterations were spent before the gap reached the
+    /// tolerance (only with `stop_on_budget`); `duality_gap` says how far
+    /// from optimal the returned iterate is.
+    IterationBudget,
+    /// `max_seconds` passed before the gap reached the tolerance (only with
+    /// `stop_on_budget`).
+    TimeBudget,
+}
+
+impl StopReason {
+    /// True when the fit stopped on a budget rather than on its certificate.
+    pub fn on_budget(self) -> bool {
+        matches!(self, StopReason::IterationBudget | StopReason::TimeBudget)
+    }
 }
 
 /// What a fit did.

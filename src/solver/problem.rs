@@ -123,3 +123,58 @@ pub(crate) fn columns_to_row_major(cols: &[f64], n: usize, k: usize) -> Vec<f64>
     }
     out
 }
+
+/// λ_max of each of `n_draws` pattern blocks: for draw d, the `kb` columns
+/// `e[(d·kb + c)·n_ch ..][..n_ch]` (column-major, as [`Targets`] holds them),
+/// max_g ‖D_gᵀE_d‖_F. With E white Gaussian this samples the null
+/// distribution of the largest group correlation of pure noise, whose
+/// quantile sets λ in the quantile universal threshold (Giacobino, Sardy,
+/// Diaz-Rodriguez & Hengartner 2017, Electron J Stat 11:4701; page numbers
+/// from memory).
+///
+/// # Errors
+/// Shape errors when `e` does not hold `n_draws · kb` columns of `n_ch`, or
+/// the groups do not match the dictionary.
+pub fn null_lambda_max(
+    dict: &DenseDictionary,
+    groups: &Groups,
+    e: &[f64],
+    kb: usize,
+    n_draws: usize,
+) -> Result<Vec<f64>, SolverError> {
+    let prep = Prepared::new(dict, groups)?;
+    let n = dict.n_channels();
+    if kb == 0 {
+        return Err(SolverError::EmptyDimension { what: "kb" });
+    }
+    check_len(
+        "noise draws (n_ch x kb per draw, column-major)",
+        || format!("{n} x {} ", kb * n_draws),
+        n * kb * n_draws,
+        e.len(),
+    )?;
+    // A few draws at a time keep Dᵀ E small (n_atoms × the chunk's columns).
+    const CHUNK: usize = 16;
+    let mut out = Vec::with_capacity(n_draws);
+    let mut norms = vec![0.0; groups.n_groups()];
+    for first in (0..n_draws).step_by(CHUNK) {
+        let draws = CHUNK.min(n_draws - first);
+        let cols = draws * kb;
+        let block = &e[first * kb * n..(first * kb + cols) * n];
+        let mut corr = vec![0.0; dict.n_atoms() * cols];
+        dict.adjoint_into(block, cols, &mut corr);
+        for d in 0..draws {
+            // The kb columns of draw d, as a row-major n_atoms × kb block.
+            let sub: Vec<f64> = (0..dict.n_atoms())
+                .flat_map(|j| {
+                    corr[j * cols + d * kb..j * cols + (d + 1) * kb]
+                        .iter()
+                        .copied()
+                })
+                .collect();
+            prep.group_frobenius(&sub, kb, &mut norms);
+            out.push(norms.iter().copied().fold(0.0, f64::max));
+        }
+    }
+    Ok(out)
+}

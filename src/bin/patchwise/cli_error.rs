@@ -28,6 +28,14 @@ impl CliError {
         }
     }
 
+    /// The same error with `context` in front (same exit code).
+    pub fn prefix(self, context: impl fmt::Display + Send + Sync + 'static) -> Self {
+        CliError {
+            code: self.code,
+            error: self.error.context(context),
+        }
+    }
+
     /// The process exit code.
     pub fn exit_code(&self) -> i32 {
         self.code

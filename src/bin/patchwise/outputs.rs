@@ -7,6 +7,9 @@ use patchwise::io::result_file::{write_result, ResultRecord, CAUTION};
 use patchwise::io::table::{write_table, Delimiter};
 
 use crate::commands::attribute::Attribution;
+
+/// What a share is, for summary.json (the README and the report say the same).
+pub const SHARE_DEFINITION: &str = "share of a region = the projection of its patches' part of the fitted pattern onto the whole fitted pattern, <D_g x_g, D x> / ||D x||^2, spread over regions by each patch's source amplitude; shares sum to 1 with the unassigned share; a negative share means the region's patches cancel part of the fitted pattern";
 use crate::staging::Staging;
 use crate::CliError;
 
@@ -110,6 +113,9 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
                 ))
                 .unwrap_or_default()
         );
+        for flag in patchwise::pipeline::component_flags(&a.outcome, c) {
+            println!("  ! {flag}");
+        }
         println!(
             "  {:<28} {:>7} {:>17} {:>9}",
             "region", "share", "95 % interval", "selected"
@@ -183,10 +189,16 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
         } else {
             None
         };
+        let flags = patchwise::pipeline::component_flags(o, c);
         comps.push(serde_json::json!({
             "index": c,
             "name": a.component_names[c],
             "explained_variance": o.fit.explained_variance[c],
+            "poorly_explained": patchwise::pipeline::is_poorly_explained(&flags),
+            "flags": flags,
+            "lambda_at_range_end": block.map(|b| b.at_range_end),
+            "stopped_on_budget": block.map(|b| b.stop_reason.on_budget()),
+            "noise_sd_lambda_rule": block.and_then(|b| b.noise_sd.is_finite().then_some(b.noise_sd)),
             "lambda": block.map(|b| b.lambda),
             "lambda_max": block.map(|b| b.lambda_max),
             "lambda_ratio": block.map(|b| b.lambda / b.lambda_max),
@@ -209,6 +221,10 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
         "whitened": a.whitened,
         "joint_fit": o.blocks.len() == 1 && a.k > 1,
         "resamples": o.resample.as_ref().map_or(0, |r| r.n_resamples),
+        "resampled_fits_stopped_on_budget": o.resample.as_ref().map_or(0, |r| r.budget_stops),
+        "lambda_rule": a.lambda_rule,
+        "noise_level": a.noise_level,
+        "share_definition": SHARE_DEFINITION,
         "atoms": a.dictionary.n_atoms,
         "hashes": a.hashes.iter().map(|(k, v)| (k.clone(), serde_json::Value::String(v.clone()))).collect::<serde_json::Map<_, _>>(),
         "notes": a.notes,
@@ -263,6 +279,7 @@ pub fn write_files(stage: &Staging, a: &Attribution) -> Result<Vec<Vec<RegionRow
         "peak_x_mm",
         "peak_y_mm",
         "peak_z_mm",
+        "component_name",
     ];
     let csv: Vec<Vec<String>> = rows
         .iter()
@@ -278,6 +295,10 @@ pub fn write_files(stage: &Staging, a: &Attribution) -> Result<Vec<Vec<RegionRow
                 fmt(r.peak_mm[0], 2),
                 fmt(r.peak_mm[1], 2),
                 fmt(r.peak_mm[2], 2),
+                a.component_names
+                    .get(r.component)
+                    .cloned()
+                    .unwrap_or_default(),
             ]
         })
         .collect();

@@ -14,8 +14,10 @@ use patchwise::io::leadfield_file::{read_leadfield, write_leadfield, LeadFieldFi
 use patchwise::montage::Montage;
 use patchwise::patterns::{activation_patterns, average_reference, Whitener};
 use patchwise::pipeline::{
-    fit_patterns, FitOptions, FitOutcome, LambdaRule, Problem, ResampleOptions,
+    fit_patterns, FitOptions, FitOutcome, LambdaRule, PatternNoise, Problem, ResampleOptions,
 };
+
+use super::attribute_noise::{pattern_noise, NoiseInputs};
 
 use super::dictionary::{AtomOrientationArg, DictionaryOptions};
 use crate::cli_error::OrExit;
@@ -53,7 +55,16 @@ pub struct Args {
     /// Fit all components with one shared support instead of one by one.
     #[arg(long)]
     pub joint: bool,
-    /// lambda = R * lambda_max (0 < R <= 1) instead of the default rule (minimum BIC along the path).
+    /// How lambda is chosen: noise (lambda = q * sigma, q the 95 % quantile of the largest patch
+    /// correlation of pure noise, sigma the pattern's noise: from --noise-sd, the decoder's folds or
+    /// n_samples, else estimated with the fit), or the minimum of bic, aic or gcv along the path.
+    #[arg(long, value_parser = ["noise", "bic", "aic", "gcv"], default_value = "noise")]
+    pub lambda_rule: String,
+    /// Noise standard deviation per channel of the patterns, in their units (after average
+    /// referencing); used by the noise rule and the resamples instead of an estimate.
+    #[arg(long)]
+    pub noise_sd: Option<f64>,
+    /// lambda = R * lambda_max (0 < R <= 1) instead of the lambda rule.
     #[arg(long, conflicts_with = "lambda")]
     pub lambda_ratio: Option<f64>,
     /// An absolute lambda (units of the whitened patterns).
@@ -108,6 +119,10 @@ pub struct Attribution {
     pub reconstruction: Vec<f64>,
     /// What was asked (name, value), for summary.json and the report.
     pub job: Vec<(String, String)>,
+    /// The λ rule in words (`noise`, `bic`, ..., or the fixed value).
+    pub lambda_rule: String,
+    /// Where the noise level came from, in words.
+    pub noise_level: String,
 }
 
 fn bad(message: String) -> CliError {
@@ -125,8 +140,20 @@ impl Args {
                 return Err(bad(format!("--lambda {l}: expected a positive number")))
             }
             (None, Some(l)) => LambdaRule::Absolute(l),
-            (None, None) => LambdaRule::Bic,
+            (None, None) => match self.lambda_rule.as_str() {
+                "bic" => LambdaRule::Bic,
+                "aic" => LambdaRule::Aic,
+                "gcv" => LambdaRule::Gcv,
+                _ => LambdaRule::Noise,
+            },
         };
+        if let Some(sd) = self.noise_sd {
+            if !(sd.is_finite() && sd > 0.0) {
+                return Err(bad(format!(
+                    "--noise-sd {sd}: expected a positive noise standard deviation in the patterns' units"
+                )));
+            }
+        }
         if !(self.tol.is_finite() && self.tol > 0.0 && self.tol < 1.0) {
             return Err(bad(format!("--tol {}: expected 0 < tol < 1", self.tol)));
         }
@@ -141,6 +168,7 @@ impl Args {
                 ..ResampleOptions::default()
             },
             whitened: self.noise_covariance.is_some(),
+            noise: PatternNoise::default(),
         })
     }
 }
@@ -445,7 +473,7 @@ fn whiten(
     patterns: &[f64],
     k: usize,
     path: &Path,
-) -> Result<(Vec<f64>, Vec<f64>), CliError> {
+) -> Result<(Vec<f64>, Vec<f64>, Whitener), CliError> {
     let n = dict.n_channels;
     let (cov, r, c) = read_matrix(path)?;
     if r != n || c != n {
@@ -484,7 +512,7 @@ fn whiten(
     }
     dict.atoms = atoms;
     dict.atom_norms = Some(norms);
-    Ok((yw, scales))
+    Ok((yw, scales, w))
 }
 
 /// The fitted patterns in the units of the (unwhitened) patterns: the fit's
@@ -554,6 +582,7 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
                     channels: labels,
                     k,
                     content: DecoderContent::Patterns(values),
+                    extras: Default::default(),
                 },
                 p.clone(),
             )
@@ -606,6 +635,7 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         notes.push("reference none: patterns and atoms used as given".to_string());
     }
     let mut unwhitened = None;
+    let mut whitener = None;
     let fit_y = match &args.noise_covariance {
         Some(p) => {
             hashes.push((
@@ -613,8 +643,9 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
                 file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
             ));
             let before = dict.atoms.clone();
-            let (yw, scales) = whiten(&mut dict, &patterns, k, p)?;
+            let (yw, scales, w) = whiten(&mut dict, &patterns, k, p)?;
             unwhitened = Some((before, scales));
+            whitener = Some(w);
             yw
         }
         None => {
@@ -651,12 +682,54 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         n_regions: names.len(),
         source_positions: &positions,
     };
+    let mut options = options;
+    options.noise = pattern_noise(&NoiseInputs {
+        decoder: &decoder,
+        path: &input_path,
+        patterns: &patterns,
+        average,
+        whitener: whitener.as_ref(),
+        noise_sd: args.noise_sd,
+    })?;
+    if options.lambda == LambdaRule::Noise {
+        notes.push(format!(
+            "lambda by the noise rule; noise level {}",
+            options.noise.describe()
+        ));
+    }
     let pb = bar(options.resample.n_resamples, "resampling");
     let outcome =
         fit_patterns(&problem, &fit_y, k, &options, &|n| pb.inc(n as u64)).compute("fitting")?;
     pb.finish_and_clear();
-    let component_names =
-        component_names.unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
+    // Flags reach the report through the notes (and summary.json per component).
+    for c in 0..k {
+        let name = component_names
+            .as_ref()
+            .and_then(|n| n.get(c).cloned())
+            .or_else(|| {
+                decoder
+                    .extras
+                    .component_names
+                    .as_ref()
+                    .and_then(|n| n.get(c).cloned())
+            })
+            .unwrap_or_else(|| format!("component {c}"));
+        for flag in patchwise::pipeline::component_flags(&outcome, c) {
+            notes.push(format!("{name}: {flag}"));
+        }
+    }
+    if let Some(r) = &outcome.resample {
+        if r.budget_stops > 0 {
+            notes.push(format!(
+                "{} resampled fit(s) stopped on their budget; their shares enter the intervals as they were",
+                r.budget_stops
+            ));
+        }
+    }
+    // Names given by the caller (the demo), else the decoder file's, else numbers.
+    let component_names = component_names
+        .or_else(|| decoder.extras.component_names.clone())
+        .unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
     let reconstruction = reconstruction(
         &outcome.fit,
         &fit_y,
@@ -667,6 +740,8 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         k,
     );
     Ok(Attribution {
+        lambda_rule: options.lambda.name(),
+        noise_level: options.noise.describe(),
         job: super::report::job_of(args),
         reconstruction,
         labels: decoder.channels.clone(),

@@ -140,6 +140,8 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         noise_covariance: None,
         reference: "average".to_string(),
         joint: false,
+        lambda_rule: "noise".to_string(),
+        noise_sd: None,
         lambda_ratio: None,
         lambda: None,
         tol: 1e-8,

@@ -1,6 +1,7 @@
 //! One file per subcommand: its arguments and an `exec` that calls the library.
 
 pub mod attribute;
+mod attribute_noise;
 pub mod batch;
 pub mod check;
 pub mod compare;

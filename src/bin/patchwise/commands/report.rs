@@ -76,7 +76,10 @@ pub fn job_of(args: &AttributeArgs) -> Vec<(String, String)> {
         match (args.lambda_ratio, args.lambda) {
             (Some(r), _) => format!("\u{03bb} = {r} \u{00b7} \u{03bb}max"),
             (None, Some(l)) => format!("\u{03bb} = {l}"),
-            (None, None) => "minimum BIC along the path (default)".to_string(),
+            (None, None) => match args.lambda_rule.as_str() {
+                "noise" => "noise rule: \u{03bb} = q\u{00b7}\u{03c3} (default)".to_string(),
+                other => format!("minimum {} along the path", other.to_uppercase()),
+            },
         },
     );
     put(

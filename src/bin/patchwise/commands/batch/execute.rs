@@ -62,6 +62,10 @@ pub fn attribute_args(
         a.reference = v.clone();
     }
     a.joint = o.joint.unwrap_or(a.joint);
+    if let Some(v) = &o.lambda_rule {
+        a.lambda_rule = v.clone();
+    }
+    a.noise_sd = o.noise_sd.or(a.noise_sd);
     a.lambda_ratio = o.lambda_ratio.or(a.lambda_ratio);
     a.lambda = o.lambda.or(a.lambda);
     a.tol = o.tol.unwrap_or(a.tol);
