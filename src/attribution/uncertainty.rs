@@ -7,6 +7,9 @@ pub struct RegionInterval {
     pub low: f64,
     /// Upper end of the interval.
     pub high: f64,
+    /// Median of the resampled shares (the interval's ends are the
+    /// resamples' 2.5 and 97.5 % quantiles shifted by estimate − median).
+    pub median: f64,
     /// Fraction of resamples in which the region's share exceeded the
     /// selection threshold.
     pub selection_frequency: f64,

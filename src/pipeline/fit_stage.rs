@@ -583,6 +583,7 @@ fn resample(
                     RegionInterval {
                         low,
                         high,
+                        median: percentile(v, 0.5),
                         selection_frequency: v
                             .iter()
                             .filter(|&&s| s >= opts.selection_threshold)

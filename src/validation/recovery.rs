@@ -90,6 +90,24 @@ pub struct CaseResult {
     /// Patch fit with resampling: the lead frequency of the fit's leading
     /// region (the fraction of resamples in which it leads); NaN otherwise.
     pub lead_support: f64,
+    /// Whether the method's leading region is within 0.05 of the truth's
+    /// largest pattern share (a tie-tolerant top-1).
+    pub top1_tie_tolerant: bool,
+    /// The truth's pattern share of its leading region.
+    pub truth_share: f64,
+    /// The truth's patch-split share of the same region (the attribution's
+    /// own definition applied to the true patches).
+    pub truth_split_share: f64,
+    /// The method's share of the truth's leading region and its 95 %
+    /// interval (NaN without resampling, and for minimum norm).
+    pub truth_region_interval: (f64, f64, f64),
+    /// The median of the resampled shares of the truth's leading region.
+    pub truth_region_median: f64,
+    /// Patch fit: λ/λ_max chosen (NaN for minimum norm).
+    pub lambda_ratio: f64,
+    /// Patch fit: the chosen λ is at an end of the searched range (the last
+    /// point searched, or λ_max itself).
+    pub lambda_at_range_end: bool,
 }
 
 /// Simulate, fit and score one case for both methods.
@@ -159,9 +177,11 @@ pub fn run_case(
     }
     let truth_shares = pattern_shares(&lf.gain, n_ch, &amplitude, &s.region, n_regions);
     let truth_region = top_region(&truth_shares);
-    let split_region = top_region(&patch_split_shares(
-        &lf.gain, n_ch, &patches, &s.region, n_regions,
-    ));
+    let split_shares = patch_split_shares(&lf.gain, n_ch, &patches, &s.region, n_regions);
+    let split_region = top_region(&split_shares);
+    let truth_best = truth_region.map_or(f64::NAN, |t| truth_shares[t]);
+    let tie_tolerant =
+        |top: Option<usize>| top.is_some_and(|r| truth_shares[r] >= truth_best - 0.05);
     let truth_margin = {
         let mut sorted = truth_shares.clone();
         sorted.sort_by(|a, b| b.total_cmp(a));
@@ -252,6 +272,25 @@ pub fn run_case(
             (Some(rs), Some(top)) => rs.intervals[0][top].lead_frequency,
             _ => f64::NAN,
         },
+        top1_tie_tolerant: tie_tolerant(patch_top),
+        truth_share: truth_best,
+        truth_split_share: truth_region.map_or(f64::NAN, |t| split_shares[t]),
+        truth_region_interval: match (&outcome.resample, truth_region) {
+            (Some(rs), Some(t)) => (
+                comp.region_share[t],
+                rs.intervals[0][t].low,
+                rs.intervals[0][t].high,
+            ),
+            (None, Some(t)) => (comp.region_share[t], f64::NAN, f64::NAN),
+            _ => (f64::NAN, f64::NAN, f64::NAN),
+        },
+        truth_region_median: match (&outcome.resample, truth_region) {
+            (Some(rs), Some(t)) => rs.intervals[0][t].median,
+            _ => f64::NAN,
+        },
+        lambda_ratio: outcome.blocks[0].lambda / outcome.blocks[0].lambda_max,
+        lambda_at_range_end: outcome.blocks[0].at_range_end
+            || outcome.blocks[0].lambda >= outcome.blocks[0].lambda_max,
     };
     // Minimum norm on the fit's lead field.
     let x = minimum_norm(setup.fit_gain, n_ch, &y, 1, MinimumNormParams::default())
@@ -273,6 +312,17 @@ pub fn run_case(
         share_deficit: deficit(&mn_shares),
         truth_rank: rank(&mn_shares),
         lead_support: f64::NAN,
+        top1_tie_tolerant: tie_tolerant(mn_top),
+        truth_share: truth_best,
+        truth_split_share: truth_region.map_or(f64::NAN, |t| split_shares[t]),
+        truth_region_interval: (
+            truth_region.map_or(f64::NAN, |t| mn_shares[t]),
+            f64::NAN,
+            f64::NAN,
+        ),
+        truth_region_median: f64::NAN,
+        lambda_ratio: f64::NAN,
+        lambda_at_range_end: false,
     };
     Ok(vec![patch, mn])
 }
