@@ -682,8 +682,31 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     })
 }
 
+/// The input files and folders of an `attribute` run, as (what, path).
+pub fn input_paths(args: &Args) -> Vec<(&'static str, PathBuf)> {
+    let mut inputs: Vec<(&'static str, PathBuf)> = [
+        ("decoder", &args.decoder),
+        ("patterns", &args.patterns),
+        ("channel list", &args.channels),
+        ("dictionary", &args.dictionary),
+        ("noise covariance", &args.noise_covariance),
+        ("cache folder", &args.cache),
+    ]
+    .into_iter()
+    .filter_map(|(what, p)| p.clone().map(|p| (what, p)))
+    .collect();
+    inputs.extend(args.forward.input_files());
+    inputs
+}
+
 /// Run `patchwise attribute`.
 pub fn exec(args: Args) -> Result<(), CliError> {
+    // The output folder is checked before anything is computed: it must be
+    // new, empty or ours, and hold none of this run's inputs.
+    crate::staging::check_output_folder(&args.out, "--out")?;
+    let inputs = input_paths(&args);
+    let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
+    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
     let result = run(&args, None)?;
     let dir = write_outputs(&args.out, &result)?;
     if !args.no_report {
