@@ -10,7 +10,6 @@ use patchwise::io::dipole_file::{
     DipoleRow, PatternsRecord,
 };
 use patchwise::io::result_file::CAUTION;
-use patchwise::montage::Montage;
 
 use super::attribute::decoder_patterns;
 use crate::cli_error::OrExit;
@@ -158,11 +157,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     // Inputs first: every bad input is found before anything is written.
     let decoder =
         read_decoder(&args.decoder, args.channels.as_deref()).bad_input("reading the decoder")?;
-    Montage::new(
-        decoder.channels.clone(),
-        vec![[0.0, 0.0, 1.0]; decoder.channels.len()],
-    )
-    .bad_input(format!("{}: channel labels", args.decoder.display()))?;
+    super::attribute::check_channels(&decoder.channels, &args.decoder)?;
     let patterns = decoder_patterns(&decoder, &args.decoder, true)?;
     let k = decoder.k;
     let (montage, sources, head) = args.forward.resolve(Some(&decoder.channels))?;
