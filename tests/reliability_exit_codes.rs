@@ -8,36 +8,9 @@
 mod batch_common;
 mod common;
 
-use std::path::Path;
-use std::process::Output;
-
 use batch_common::{batch, scratch, text, write_decoders, write_script, DEFAULTS};
 use common::cli::patchwise;
-
-/// Exit 2 with one `error:` line that mentions `needle`.
-fn assert_refused(o: &Output, needle: &str) {
-    assert_eq!(o.status.code(), Some(2), "{}", text(o));
-    let err = String::from_utf8_lossy(&o.stderr);
-    assert!(err.contains(needle), "stderr should name {needle:?}: {err}");
-    assert_eq!(err.matches("error:").count(), 1, "one message: {err}");
-}
-
-fn attribute(dir: &Path, decoder: &[&str], out: &str, extra: &[&str]) -> Output {
-    let mut args = vec!["attribute", "--decoder"];
-    args.extend_from_slice(decoder);
-    args.extend_from_slice(&[
-        "--montage",
-        "10-10",
-        "--sources",
-        "template-5k",
-        "--resamples",
-        "0",
-        "--out",
-        out,
-    ]);
-    args.extend_from_slice(extra);
-    patchwise(&args, dir)
-}
+use common::refusal::{assert_refused, attribute_5k as attribute};
 
 #[test]
 fn outputs_of_the_wrong_kind_exit_2_before_computing() {

@@ -14,6 +14,12 @@ use std::process::Output;
 
 use batch_common::{batch, hidden_entries, scratch, text, write_decoders, write_script, DEFAULTS};
 use common::cli::patchwise;
+use common::refusal::{assert_refused, attribute_5k};
+
+/// `attribute` of one decoder file (see [`attribute_5k`]).
+fn attribute(dir: &Path, decoder: &str, out: &str, extra: &[&str]) -> Output {
+    attribute_5k(dir, &[decoder], out, extra)
+}
 
 /// Every file under `dir` with its bytes (folders as entries without bytes).
 fn snapshot(dir: &Path) -> BTreeMap<PathBuf, Option<Vec<u8>>> {
@@ -32,38 +38,6 @@ fn snapshot(dir: &Path) -> BTreeMap<PathBuf, Option<Vec<u8>>> {
         }
     }
     out
-}
-
-fn stderr(o: &Output) -> String {
-    String::from_utf8_lossy(&o.stderr).into_owned()
-}
-
-/// Exit 2 with one `error:` line that mentions `needle`.
-fn assert_refused(o: &Output, needle: &str) {
-    assert_eq!(o.status.code(), Some(2), "{}", text(o));
-    let err = stderr(o);
-    assert!(err.contains(needle), "stderr should name {needle:?}: {err}");
-    assert_eq!(err.matches("error:").count(), 1, "one message: {err}");
-}
-
-/// `attribute` on the template-5k with no resamples: a result folder in
-/// well under a second.
-fn attribute(dir: &Path, decoder: &str, out: &str, extra: &[&str]) -> Output {
-    let mut args = vec![
-        "attribute",
-        "--decoder",
-        decoder,
-        "--montage",
-        "10-10",
-        "--sources",
-        "template-5k",
-        "--resamples",
-        "0",
-        "--out",
-        out,
-    ];
-    args.extend_from_slice(extra);
-    patchwise(&args, dir)
 }
 
 #[test]
