@@ -178,3 +178,50 @@ fn degenerate_inputs_exit_2_as_documented() {
     assert!(String::from_utf8_lossy(&o.stderr).contains("radius 3"));
     assert!(!dir.join("huge").exists());
 }
+
+#[test]
+fn a_rank_deficient_noise_covariance_is_refused_with_its_rank() {
+    let dir = scratch("noise-rank");
+    write_decoders(&dir, 1);
+    let n = 64;
+    // C = A Aᵀ with A of 10 columns: rank 10 of 64 channels.
+    let a = |i: usize, m: usize| ((i + 1) as f64 * (m + 1) as f64 * 0.37).sin();
+    let low: Vec<String> = (0..n)
+        .map(|i| {
+            (0..n)
+                .map(|j| format!("{:e}", (0..10).map(|m| a(i, m) * a(j, m)).sum::<f64>()))
+                .collect::<Vec<_>>()
+                .join(",")
+        })
+        .collect();
+    std::fs::write(dir.join("rank10.csv"), low.join("\n")).unwrap();
+    let before = std::fs::read(dir.join("rank10.csv")).unwrap();
+    let o = attribute(
+        &dir,
+        &["decoders/sub-01.h5"],
+        "low",
+        &["--noise-covariance", "rank10.csv"],
+    );
+    assert_refused(&o, "rank10.csv");
+    assert!(String::from_utf8_lossy(&o.stderr).contains("rank 10 of 64"));
+    assert!(!dir.join("low").exists());
+    assert_eq!(std::fs::read(dir.join("rank10.csv")).unwrap(), before);
+
+    // A full-rank one (the identity) is used.
+    let identity: Vec<String> = (0..n)
+        .map(|i| {
+            (0..n)
+                .map(|j| if i == j { "1" } else { "0" })
+                .collect::<Vec<_>>()
+                .join(",")
+        })
+        .collect();
+    std::fs::write(dir.join("identity.csv"), identity.join("\n")).unwrap();
+    let o = attribute(
+        &dir,
+        &["decoders/sub-01.h5"],
+        "full",
+        &["--noise-covariance", "identity.csv", "--no-report"],
+    );
+    assert!(o.status.success(), "{}", text(&o));
+}
