@@ -41,6 +41,12 @@ pub enum BatchError {
         /// What is wrong and what was expected.
         message: String,
     },
+    /// The script holds no job.
+    #[error("{path}: the script holds no [[job]] table; expected at least one job")]
+    NoJobs {
+        /// The script.
+        path: PathBuf,
+    },
     /// Two jobs have the same name (after glob expansion).
     #[error("{path}: job name {name:?} is used twice (lines {first_line} and {second_line}); names must be unique after glob expansion")]
     DuplicateName {

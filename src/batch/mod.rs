@@ -34,6 +34,6 @@ mod shard;
 
 pub use error::BatchError;
 pub use keyed_lock::{cache_locks, KeyedLocks};
-pub use plan::{input_hash, load_script, parse_script, CompareSpec, Job, Script};
+pub use plan::{input_hash, load_script, parse_script, CompareSpec, Job, Script, SUMMARY_FILE};
 pub use script::JobOptions;
 pub use shard::Shard;

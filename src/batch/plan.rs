@@ -29,6 +29,19 @@ pub struct Job {
     pub options: JobOptions,
     /// 1-based line of the job's `[[job]]` table in the script.
     pub line: usize,
+    /// The glob pattern (resolved against the script's folder) the decoder
+    /// came from, when the table's decoder was one.
+    pub pattern: Option<String>,
+}
+
+impl Job {
+    /// The job's input files as (key, path): the decoder and every
+    /// file-valued option (names of standard montages and templates left out).
+    pub fn input_files(&self) -> Vec<(&'static str, PathBuf)> {
+        let mut files = vec![("decoder", self.decoder.clone())];
+        files.extend(input_files(&self.options));
+        files
+    }
 }
 
 /// The `[compare]` table: compare the attributions of all jobs on one
@@ -81,6 +94,11 @@ pub fn parse_script(text: &str, path: &Path, folder: &Path) -> Result<Script, Ba
     for spanned in &raw.job {
         let line = line_column(text, spanned.span().start).0;
         expand(spanned.get_ref(), &defaults, line, path, folder, &mut jobs)?;
+    }
+    if jobs.is_empty() {
+        return Err(BatchError::NoJobs {
+            path: path.to_path_buf(),
+        });
     }
     jobs.sort_by(|a, b| a.name.cmp(&b.name).then(a.line.cmp(&b.line)));
     for pair in jobs.windows(2) {
@@ -344,6 +362,9 @@ fn check_values(o: &JobOptions) -> Result<(), String> {
     Ok(())
 }
 
+/// The batch's summary file in the output folder; no job may take its name.
+pub const SUMMARY_FILE: &str = "batch-summary.csv";
+
 /// Names become folder names: letters, digits, `.`, `_`, `-`, not starting
 /// with `.` (hidden folders are the staging area).
 fn check_name(name: &str) -> Result<(), String> {
@@ -352,6 +373,11 @@ fn check_name(name: &str) -> Result<(), String> {
     }
     if name.starts_with('.') {
         return Err("the name starts with '.'".to_string());
+    }
+    if name == SUMMARY_FILE {
+        return Err(format!(
+            "the name {SUMMARY_FILE:?} is the batch's own summary file; choose another"
+        ));
     }
     if let Some(c) = name
         .chars()
@@ -416,6 +442,7 @@ fn expand(
             decoder: file,
             options,
             line,
+            pattern: None,
         });
         return Ok(());
     }
@@ -453,6 +480,7 @@ fn expand(
             decoder: file,
             options: options.clone(),
             line,
+            pattern: Some(pattern.clone()),
         });
     }
     Ok(())

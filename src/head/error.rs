@@ -48,6 +48,18 @@ pub enum HeadError {
         /// The value given (S/m).
         value: f64,
     },
+    /// A head file's radius lies outside the sizes of a head.
+    #[error("radius {index} is {value_mm} mm: expected {min_mm} to {max_mm} mm (radii_mm are millimetres; the default scalp is 94 mm)")]
+    RadiusImplausible {
+        /// Shell index (0 = innermost).
+        index: usize,
+        /// The value given (mm).
+        value_mm: f64,
+        /// Smallest radius accepted (mm).
+        min_mm: f64,
+        /// Largest radius accepted (mm).
+        max_mm: f64,
+    },
     /// A centre coordinate is not finite.
     #[error("centre coordinate {axis} is {value}: expected a finite number")]
     CenterNotFinite {

@@ -38,6 +38,10 @@ pub struct HeadSpec {
     pub center_mm: Option<[f64; 3]>,
 }
 
+/// The radii (mm) a head file may give: wide enough for any head and its
+/// phantoms, narrow enough to catch metres or micrometres written as mm.
+pub const PLAUSIBLE_RADIUS_MM: (f64, f64) = (1.0, 1000.0);
+
 impl HeadSpec {
     /// Parses and validates a TOML head file; `source_name` (a path or a
     /// label) is put in front of every error message.
@@ -59,10 +63,27 @@ impl HeadSpec {
     }
 
     fn validated(self, source_name: &str) -> Result<Self, HeadError> {
-        self.to_head().map_err(|inner| HeadError::InvalidSpec {
+        let invalid = |inner: HeadError| HeadError::InvalidSpec {
             source_name: source_name.to_string(),
             inner: Box::new(inner),
-        })?;
+        };
+        self.to_head().map_err(invalid)?;
+        // A file's radii are in millimetres; a value far outside a head's
+        // size is a unit slip (metres, micrometres) or a typing error, and
+        // would move every electrode by that much.
+        if let Some((index, &value_mm)) = self
+            .radii_mm
+            .iter()
+            .enumerate()
+            .find(|(_, r)| !(PLAUSIBLE_RADIUS_MM.0..=PLAUSIBLE_RADIUS_MM.1).contains(*r))
+        {
+            return Err(invalid(HeadError::RadiusImplausible {
+                index,
+                value_mm,
+                min_mm: PLAUSIBLE_RADIUS_MM.0,
+                max_mm: PLAUSIBLE_RADIUS_MM.1,
+            }));
+        }
         Ok(self)
     }
 

@@ -84,11 +84,12 @@ fn parse_temporary<'a>(file_name: &'a str, host: &str) -> Option<(&'a str, u32)>
     Some((target, pid.parse().ok()?))
 }
 
-/// Remove the temporary files in `dir` that a killed writer on this machine
-/// left behind (for the target file `target` only, or for any target): a
-/// temporary whose process no longer exists. Temporaries of live processes
-/// and of other machines are left alone, and where processes cannot be
-/// looked up (no `/proc`) nothing is removed. Returns how many were removed.
+/// Remove the temporaries in `dir` that a killed writer on this machine
+/// left behind (for the target `target` only, or for any target): a
+/// temporary file, or a temporary folder (a staged output folder), whose
+/// process no longer exists. Temporaries of live processes and of other
+/// machines are left alone, and where processes cannot be looked up (no
+/// `/proc`) nothing is removed. Returns how many were removed.
 pub fn remove_dead_temporaries(dir: &Path, target: Option<&str>) -> usize {
     let proc = Path::new("/proc");
     if !proc.join("self").exists() {
@@ -107,7 +108,15 @@ pub fn remove_dead_temporaries(dir: &Path, target: Option<&str>) -> usize {
         if target.is_some_and(|t| t != name) || proc.join(pid.to_string()).exists() {
             continue;
         }
-        if fs::remove_file(entry.path()).is_ok() {
+        // A staged folder is a directory; anything else (a file, a link)
+        // is removed as a file, never followed.
+        let is_folder = entry.file_type().is_ok_and(|t| t.is_dir());
+        let gone = if is_folder {
+            fs::remove_dir_all(entry.path())
+        } else {
+            fs::remove_file(entry.path())
+        };
+        if gone.is_ok() {
             removed += 1;
         }
     }

@@ -4,4 +4,5 @@ pub mod cli;
 pub mod cohort;
 pub mod page;
 pub mod python;
+pub mod refusal;
 pub mod report;

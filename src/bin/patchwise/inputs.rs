@@ -35,6 +35,22 @@ pub struct ForwardOptions {
 }
 
 impl ForwardOptions {
+    /// The options that name existing files (montage, sources, head,
+    /// regions), as (what, path), for the checks that outputs never
+    /// replace inputs.
+    pub fn input_files(&self) -> Vec<(&'static str, PathBuf)> {
+        let named = [
+            ("montage", PathBuf::from(&self.montage)),
+            ("sources", PathBuf::from(&self.sources)),
+            ("head", PathBuf::from(&self.head)),
+        ];
+        named
+            .into_iter()
+            .chain(self.regions.clone().map(|r| ("regions", r)))
+            .filter(|(_, p)| p.is_file())
+            .collect()
+    }
+
     /// The montage (restricted to `labels`, in their order, when given),
     /// the sources and the head.
     pub fn resolve(

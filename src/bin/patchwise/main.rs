@@ -1,6 +1,11 @@
 //! The patchwise command line: parses arguments, calls the library, maps
 //! errors to exit codes (0 done, 1 failed while computing, 2 bad input).
 
+// First: its `outln!`/`errln!` macros are visible only in the modules
+// declared after it.
+#[macro_use]
+mod console;
+
 mod cli_error;
 mod commands;
 mod inputs;
@@ -77,7 +82,7 @@ fn main() {
         Command::Compare(args) => commands::compare::exec(*args),
     };
     if let Err(err) = outcome {
-        eprintln!("error: {err}");
+        errln!("error: {err}");
         std::process::exit(err.exit_code());
     }
 }

@@ -99,8 +99,8 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
     let names = region_names(a);
     for (c, comp_rows) in rows.iter().enumerate() {
         let comp = &a.outcome.attribution.components[c];
-        println!();
-        println!(
+        outln!();
+        outln!(
             "{} — explained variance {:.1} %{}",
             a.component_names[c],
             100.0 * a.outcome.fit.explained_variance[c],
@@ -114,17 +114,20 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
                 .unwrap_or_default()
         );
         for flag in patchwise::pipeline::component_flags(&a.outcome, c) {
-            println!("  ! {flag}");
+            outln!("  ! {flag}");
         }
-        println!(
+        outln!(
             "  {:<28} {:>7} {:>17} {:>9}",
-            "region", "share", "95 % interval", "selected"
+            "region",
+            "share",
+            "95 % interval",
+            "selected"
         );
         for r in comp_rows.iter().take(top) {
             if r.share.abs() < 0.005 && r.frequency.is_nan() {
                 continue;
             }
-            println!(
+            outln!(
                 "  {:<28} {:>7} {:>17} {:>9}",
                 r.region,
                 fmt(r.share, 3),
@@ -153,7 +156,7 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
                 .take(3)
                 .map(|&r| format!("{} {:.0} %", names[r], 100.0 * lead[r]))
                 .collect();
-            println!("  leading region in the resamples: {}", list.join(", "));
+            outln!("  leading region in the resamples: {}", list.join(", "));
         }
     }
 }
@@ -238,14 +241,14 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
 pub fn write_outputs(out: &Path, a: &Attribution) -> Result<PathBuf, CliError> {
     let stage = Staging::new(out).map_err(CliError::compute)?;
     let rows = write_files(&stage, a)?;
-    let dir = stage.commit().map_err(CliError::compute)?;
+    let dir = stage.commit()?;
     print_table(a, &rows, 6);
-    println!();
-    println!(
+    outln!();
+    outln!(
         "results in {} (result.h5, regions.csv, summary.json)",
         dir.display()
     );
-    println!("caution: {CAUTION}");
+    outln!("caution: {CAUTION}");
     Ok(dir)
 }
 

@@ -44,6 +44,6 @@ pub fn terminal_bar(total: usize, what: &str) -> ProgressBar {
 /// A status line on stderr (short; silent in quiet mode).
 pub fn note(message: impl std::fmt::Display) {
     if !QUIET.load(Ordering::Relaxed) {
-        eprintln!("{message}");
+        errln!("{message}");
     }
 }

@@ -328,9 +328,13 @@ fn dictionary_for_decoder(
         AtomOrientationArg::Free => Orientation::Free,
     };
     let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
-    std::fs::create_dir_all(&cache).map_err(|e| {
-        CliError::compute(anyhow::anyhow!("creating cache {}: {e}", cache.display()))
-    })?;
+    // A cache that cannot be made or written costs a note, never the run.
+    if let Err(e) = std::fs::create_dir_all(&cache) {
+        note(format!(
+            "note: the cache folder {} cannot be created ({e}); nothing is cached in this run",
+            cache.display()
+        ));
+    }
     // An entry's temporary file from a run killed while writing it (up to a
     // few hundred MB for a 20k dictionary) is of no use to anyone.
     let removed = patchwise::io::atomic::remove_dead_temporaries(&cache, None);
@@ -390,13 +394,33 @@ fn cached_dictionary(
             }
             _ => {
                 let lf = compute_leadfield(montage, sources, head, orientation)?;
-                write_leadfield(&lf_path, &lf).compute(format!("caching {}", lf_path.display()))?;
+                if let Err(e) = write_leadfield(&lf_path, &lf) {
+                    note(format!(
+                        "note: could not cache the lead field in {}: {e}",
+                        cache.display()
+                    ));
+                }
                 Ok::<_, CliError>(lf)
             }
         })?;
     let (d, _info) = super::dictionary::build(&lf, &args.dictionary_options)?;
-    write_dictionary(&d_path, &lf, &d, &args.dictionary_options.to_json())
-        .compute(format!("caching {}", d_path.display()))?;
+    let params = args.dictionary_options.to_json();
+    if let Err(e) = write_dictionary(&d_path, &lf, &d, &params) {
+        // A read-only or full cache: the dictionary goes through a file of
+        // this run's own in the system's temporary folder instead.
+        note(format!(
+            "note: could not cache the dictionary in {}: {e}",
+            cache.display()
+        ));
+        let own = patchwise::io::atomic::temporary_path(
+            &std::env::temp_dir().join(format!("patchwise-dictionary-{d_hash}.h5")),
+        );
+        let read_back = write_dictionary(&own, &lf, &d, &params)
+            .and_then(|()| read_dictionary(&own))
+            .compute("building the dictionary without a cache");
+        let _ = std::fs::remove_file(&own);
+        return read_back;
+    }
     read_dictionary(&d_path).compute(format!("reading back {}", d_path.display()))
 }
 
@@ -495,6 +519,20 @@ fn whiten(
     }
     let w =
         Whitener::new(&centred, n).bad_input(format!("{}: noise covariance", path.display()))?;
+    // Whitening keeps only the covariance's retained directions: with a
+    // rank-deficient covariance the fit would see the patterns in that
+    // subspace alone and report its explained variance there (rank 10 of
+    // 85 made random patterns look 99.8 % explained). The average reference
+    // removes exactly one direction, so n - 1 is full rank here.
+    let full = n.saturating_sub(1);
+    if w.rank() < full {
+        return Err(bad(format!(
+            "{}: the noise covariance has rank {} of {n} channels (expected {full} after the average reference); whitening by it would measure the fit in a {}-dimensional subspace only and overstate the explained variance. Give a full-rank estimate (more samples, or a regularised one such as C + 0.01 * mean(diag C) * I)",
+            path.display(),
+            w.rank(),
+            w.rank()
+        )));
+    }
     let yw = w.apply(patterns, k).bad_input("whitening the patterns")?;
     let m = dict.n_atoms;
     let aw = w
@@ -551,6 +589,25 @@ fn reconstruction(
     }
 }
 
+/// A decoder's channel labels, before anything is computed: unique ignoring
+/// case and aliases, and at least as many as a scalp map needs (with the
+/// average reference, n channels carry n - 1 independent values; fewer than
+/// four cannot be drawn, nor locate anything).
+pub(crate) fn check_channels(labels: &[String], path: &Path) -> Result<(), CliError> {
+    let minimum = patchwise::render::spline::MIN_ELECTRODES;
+    if labels.len() < minimum {
+        return Err(bad(format!(
+            "{}: {} channel(s) ({}); expected at least {minimum}",
+            path.display(),
+            labels.len(),
+            labels.join(", ")
+        )));
+    }
+    Montage::new(labels.to_vec(), vec![[0.0, 0.0, 1.0]; labels.len()])
+        .bad_input(format!("{}: channel labels", path.display()))?;
+    Ok(())
+}
+
 /// Run the whole job for validated arguments; used by `attribute` and `demo`.
 pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribution, CliError> {
     let options = args.fit_options()?;
@@ -598,11 +655,7 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         file_sha256(&input_path).map_err(|e| bad(format!("{}: {e}", input_path.display())))?,
     ));
     // Labels must be unique ignoring case and aliases.
-    Montage::new(
-        decoder.channels.clone(),
-        vec![[0.0, 0.0, 1.0]; decoder.channels.len()],
-    )
-    .bad_input(format!("{}: channel labels", input_path.display()))?;
+    check_channels(&decoder.channels, &input_path)?;
     let average = args.reference == "average";
     let patterns = decoder_patterns(&decoder, &input_path, average)?;
     let k = decoder.k;
@@ -757,8 +810,31 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     })
 }
 
+/// The input files and folders of an `attribute` run, as (what, path).
+pub fn input_paths(args: &Args) -> Vec<(&'static str, PathBuf)> {
+    let mut inputs: Vec<(&'static str, PathBuf)> = [
+        ("decoder", &args.decoder),
+        ("patterns", &args.patterns),
+        ("channel list", &args.channels),
+        ("dictionary", &args.dictionary),
+        ("noise covariance", &args.noise_covariance),
+        ("cache folder", &args.cache),
+    ]
+    .into_iter()
+    .filter_map(|(what, p)| p.clone().map(|p| (what, p)))
+    .collect();
+    inputs.extend(args.forward.input_files());
+    inputs
+}
+
 /// Run `patchwise attribute`.
 pub fn exec(args: Args) -> Result<(), CliError> {
+    // The output folder is checked before anything is computed: it must be
+    // new, empty or ours, and hold none of this run's inputs.
+    crate::staging::check_output_folder(&args.out, "--out")?;
+    let inputs = input_paths(&args);
+    let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
+    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
     let result = run(&args, None)?;
     let dir = write_outputs(&args.out, &result)?;
     if !args.no_report {

@@ -47,7 +47,7 @@ pub struct Failure {
 /// Print a line above the progress bar (or plainly when there is none).
 fn line(pb: &ProgressBar, text: String) {
     if pb.is_hidden() {
-        println!("{text}");
+        outln!("{text}");
     } else {
         pb.println(text);
     }
@@ -128,8 +128,6 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         .iter()
         .map(|j| input_hash(j).bad_input("hashing the job's inputs"))
         .collect::<Result<_, _>>()?;
-    std::fs::create_dir_all(&args.out)
-        .map_err(|e| CliError::compute(anyhow::anyhow!("creating {}: {e}", args.out.display())))?;
     let mine: Vec<(&Job, &str)> = script
         .jobs
         .iter()
@@ -138,11 +136,24 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         .filter(|(j, _)| shard.is_none_or(|s| s.contains(*j)))
         .map(|(_, (job, hash))| (job, hash.as_str()))
         .collect();
-    execute::clean_stale(&args.out, mine.iter().map(|(j, _)| j.name.as_str()));
+    let mine_jobs: Vec<&Job> = mine.iter().map(|(j, _)| *j).collect();
+    execute::check_outputs(
+        &args.out,
+        &script.jobs,
+        &mine_jobs,
+        script.compare.as_ref().map(|c| c.out.as_path()),
+    )
+    .map_err(|e| CliError {
+        code: e.code,
+        error: e.error.context(format!("{}", script.path.display())),
+    })?;
+    std::fs::create_dir_all(&args.out)
+        .map_err(|e| CliError::compute(anyhow::anyhow!("creating {}: {e}", args.out.display())))?;
+    execute::clean_stale(&args.out);
     let (done, todo): (Vec<_>, Vec<_>) = mine
         .iter()
         .partition(|(job, hash)| execute::is_done(&args.out, &job.name, hash));
-    println!(
+    outln!(
         "batch {}: {} jobs{}, {} already done, {} to run, {} at a time",
         script.path.display(),
         mine.len(),
@@ -167,9 +178,9 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         .all(|(job, hash)| execute::is_done(&args.out, &job.name, hash));
     if all_done {
         let path = report::write_summary(&args.out, &script.jobs, &ran)?;
-        println!("every job is done; summary in {}", path.display());
+        outln!("every job is done; summary in {}", path.display());
     } else if failures.is_empty() {
-        println!(
+        outln!(
             "this run's jobs are done; others are missing, so no batch-summary.csv yet (rerun without --shard after all shards)"
         );
     }
@@ -187,11 +198,11 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     }
     if let Some(spec) = &script.compare {
         if !all_done {
-            println!("[compare] waits until every job is done");
+            outln!("[compare] waits until every job is done");
         } else if shard.is_some() {
-            println!("[compare] runs in a plain rerun without --shard");
+            outln!("[compare] runs in a plain rerun without --shard");
         } else {
-            println!(
+            outln!(
                 "every job is done; comparing them ([compare], line {})",
                 spec.line
             );

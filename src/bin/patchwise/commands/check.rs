@@ -29,8 +29,8 @@ fn print_mesh(path: &Path, mesh: &Mesh) -> Result<(), CliError> {
 }
 
 fn print_report(path: &Path, r: &MeshReport) {
-    println!("{}: triangle mesh, sound", path.display());
-    println!(
+    outln!("{}: triangle mesh, sound", path.display());
+    outln!(
         "  {} vertices, {} triangles, {} edges, {} component(s), {}",
         r.n_vertices,
         r.n_triangles,
@@ -42,7 +42,7 @@ fn print_report(path: &Path, r: &MeshReport) {
             format!("open ({} boundary edges)", r.n_boundary_edges)
         }
     );
-    println!(
+    outln!(
         "  area {:.1} cm², Euler characteristic {}{}",
         r.area_m2 * 1e4,
         r.euler_characteristic,
@@ -51,7 +51,7 @@ fn print_report(path: &Path, r: &MeshReport) {
             .unwrap_or_default()
     );
     if r.n_isolated_vertices > 0 {
-        println!(
+        outln!(
             "  note: {} vertices belong to no triangle",
             r.n_isolated_vertices
         );
@@ -67,7 +67,7 @@ fn check_gifti(path: &Path) -> Result<(), CliError> {
     if g.arrays.iter().any(|a| a.intent == "NIFTI_INTENT_LABEL") {
         let (labels, names) = gifti::read_gifti_labels(path).bad_input("reading GIFTI labels")?;
         let unlabelled = labels.iter().filter(|&&l| l < 0).count();
-        println!(
+        outln!(
             "{}: label array, {} vertices, {} named labels, {} unlabelled vertices",
             path.display(),
             labels.len(),
@@ -76,7 +76,7 @@ fn check_gifti(path: &Path) -> Result<(), CliError> {
         );
         return Ok(());
     }
-    println!(
+    outln!(
         "{}: GIFTI with {} data arrays (no surface or label array)",
         path.display(),
         g.arrays.len()
@@ -89,7 +89,7 @@ fn check_table(path: &Path) -> Result<(), CliError> {
     let has = |n: &str| t.header.iter().any(|h| h.eq_ignore_ascii_case(n));
     if has("x") || has("y") || has("z") {
         let m = electrodes::read_electrodes(path).bad_input("reading electrodes")?;
-        println!(
+        outln!(
             "{}: electrodes file, {} electrodes (positions in mm): {}",
             path.display(),
             m.len(),
@@ -97,7 +97,7 @@ fn check_table(path: &Path) -> Result<(), CliError> {
         );
     } else {
         let ch = electrodes::read_channel_list(path).bad_input("reading channel list")?;
-        println!("{}: channel list, {} channels", path.display(), ch.len());
+        outln!("{}: channel list, {} channels", path.display(), ch.len());
     }
     Ok(())
 }
@@ -115,7 +115,7 @@ fn describe_npy(a: &npy::NpyArray) -> String {
 
 fn check_store(path: &Path) -> Result<(), CliError> {
     let store = Store::read(path).bad_input("reading HDF5")?;
-    println!(
+    outln!(
         "{}: HDF5 store, {} datasets",
         path.display(),
         store.datasets.len()
@@ -127,12 +127,12 @@ fn check_store(path: &Path) -> Result<(), CliError> {
             Array::Str(_) => "strings".to_string(),
             Array::Unsupported(t) => format!("unsupported ({t})"),
         };
-        println!("  {name}: {kind} {:?}", ds.shape);
+        outln!("  {name}: {kind} {:?}", ds.shape);
     }
     if store.contains("/leadfield/gain") {
         let lf =
             leadfield_file::leadfield_from_store(&store, path).bad_input("checking lead field")?;
-        println!(
+        outln!(
             "  lead field sound: {} channels x {} sources, reference {}",
             lf.n_channels(),
             lf.n_sources(),
@@ -158,14 +158,14 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         "tsv" | "csv" | "txt" => check_table(path),
         "npy" => {
             let a = npy::read_npy(path).bad_input("reading NumPy file")?;
-            println!("{}: {}", path.display(), describe_npy(&a));
+            outln!("{}: {}", path.display(), describe_npy(&a));
             Ok(())
         }
         "npz" => {
             let arrays = npy::read_npz(path).bad_input("reading NumPy archive")?;
-            println!("{}: NumPy archive, {} arrays", path.display(), arrays.len());
+            outln!("{}: NumPy archive, {} arrays", path.display(), arrays.len());
             for (name, a) in &arrays {
-                println!("  {name}: {}", describe_npy(a));
+                outln!("  {name}: {}", describe_npy(a));
             }
             Ok(())
         }

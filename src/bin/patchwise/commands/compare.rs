@@ -378,8 +378,8 @@ fn fmt(v: f64, digits: usize) -> String {
 
 fn print_table(c: &Comparison, alpha: f64) {
     for comp in &c.components {
-        println!();
-        println!(
+        outln!();
+        outln!(
             "{} — {} subjects, {} sign flips{}",
             comp.name,
             c.subjects.len(),
@@ -401,22 +401,27 @@ fn print_table(c: &Comparison, alpha: f64) {
                     )
                 })
                 .collect();
-            println!("  leading region of the subjects: {}", list.join(", "));
+            outln!("  leading region of the subjects: {}", list.join(", "));
         }
         let mut rows: Vec<usize> = (0..c.region_names.len())
             .filter(|&r| comp.test.p_corrected[r] < alpha)
             .collect();
         if rows.is_empty() {
-            println!("  no region survives the correction at α = {alpha}");
+            outln!("  no region survives the correction at α = {alpha}");
             continue;
         }
         rows.sort_by(|&x, &y| comp.mean_share[y].total_cmp(&comp.mean_share[x]));
-        println!(
+        outln!(
             "  {:<28} {:>10} {:>17} {:>11} {:>9} {:>11}",
-            "region", "mean share", "interval", "consistent", "p", "p corrected"
+            "region",
+            "mean share",
+            "interval",
+            "consistent",
+            "p",
+            "p corrected"
         );
         for r in rows {
-            println!(
+            outln!(
                 "  {:<28} {:>10} {:>17} {:>11} {:>9} {:>11}",
                 c.region_names[r],
                 fmt(comp.mean_share[r], 3),
@@ -439,8 +444,8 @@ fn print_table(c: &Comparison, alpha: f64) {
 
 fn print_paired(p: &PairedComparison, alpha: f64, a: &str, b: &str) {
     for comp in &p.components {
-        println!();
-        println!(
+        outln!();
+        outln!(
             "{} — paired {a} − {b}, {} subjects",
             comp.name,
             p.pairs.len()
@@ -449,10 +454,10 @@ fn print_paired(p: &PairedComparison, alpha: f64, a: &str, b: &str) {
             .filter(|&r| comp.test.p_corrected[r] < alpha)
             .collect();
         if rows.is_empty() {
-            println!("  no region differs after the correction at α = {alpha}");
+            outln!("  no region differs after the correction at α = {alpha}");
         }
         for r in rows {
-            println!(
+            outln!(
                 "  {:<28} {:>8} [{}, {}]  p corrected {}",
                 p.region_names[r],
                 fmt(comp.mean_difference[r], 3),
@@ -483,6 +488,49 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     if !(args.alpha > 0.0 && args.alpha < 1.0) {
         return Err(bad(format!("--alpha {}: must lie in (0, 1)", args.alpha)));
     }
+    if args.sign_flips == 0 {
+        return Err(bad(
+            "--sign-flips 0: expected at least 1 (the group test draws this many sign vectors; 10000 by default)"
+                .to_string(),
+        ));
+    }
+    // Random flips give p >= 1 / (flips + 1): too few and nothing can pass.
+    let exact = args.results.len() < 31 && (1usize << args.results.len()) <= args.sign_flips;
+    if !exact && 1.0 / (args.sign_flips as f64 + 1.0) >= args.alpha {
+        errln!(
+            "warning: --sign-flips {}: the smallest p-value is 1/{} = {:.3}, not below --alpha {}; no region can survive the correction",
+            args.sign_flips,
+            args.sign_flips + 1,
+            1.0 / (args.sign_flips as f64 + 1.0),
+            args.alpha
+        );
+    }
+    // The same folder twice (under any spelling) would count one subject twice.
+    let resolved: Vec<PathBuf> = args
+        .results
+        .iter()
+        .map(|r| crate::staging::resolved(r))
+        .collect();
+    for (i, a) in resolved.iter().enumerate() {
+        if let Some(j) = resolved[..i].iter().position(|b| b == a) {
+            return Err(bad(format!(
+                "{} and {} are the same result folder ({}); give each subject once",
+                args.results[j].display(),
+                args.results[i].display(),
+                a.display()
+            )));
+        }
+    }
+    // The output folder is new, empty or ours, and neither a result folder,
+    // inside one, nor holding one: it is replaced as a whole.
+    crate::staging::check_output_folder(&args.out, "--out")?;
+    let mut inputs: Vec<(&str, &Path)> = args
+        .results
+        .iter()
+        .map(|r| ("result folder", r.as_path()))
+        .collect();
+    inputs.extend(args.cache.as_deref().map(|c| ("cache folder", c)));
+    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
     let maps = parse_maps(&args.maps)?;
     for dir in maps.keys() {
         if !args.results.iter().any(|r| normalise(r) == *dir) {
@@ -611,7 +659,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         .iter()
         .chain(paired.iter().flat_map(|p| &p.warnings))
     {
-        eprintln!("warning: {w}");
+        errln!("warning: {w}");
     }
     let record = CompareRecord {
         comparison: &comparison,
@@ -634,19 +682,19 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let summary = serde_json::to_string_pretty(&summary_json(&record)).unwrap_or_default();
     patchwise::io::atomic::write_atomic(&stage.file("summary.json"), summary.as_bytes())
         .map_err(|e| CliError::compute(anyhow::anyhow!("writing summary.json: {e}")))?;
-    let dir = stage.commit().map_err(CliError::compute)?;
+    let dir = stage.commit()?;
     print_table(&comparison, args.alpha);
     if let (Some(p), Some((a, b, _))) = (&paired, &labels) {
         print_paired(p, args.alpha, a, b);
     }
-    println!();
-    println!(
+    outln!();
+    outln!(
         "comparison of {} results in {} (compare.h5, regions.csv, similarity.csv{}, summary.json)",
         comparison.subjects.len(),
         dir.display(),
         if paired.is_some() { ", paired.csv" } else { "" }
     );
-    println!("caution: {CAUTION}");
+    outln!("caution: {CAUTION}");
     if !args.no_report {
         super::report::compare_report_after_outputs(&dir)?;
     }

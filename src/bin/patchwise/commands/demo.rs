@@ -83,17 +83,26 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             args.sources
         ))
     })?;
-    println!(
+    crate::staging::check_output_folder(&args.out, "--out")?;
+    if let Some(cache) = &args.cache {
+        crate::staging::refuse_replaced_inputs(
+            &args.out,
+            "--out",
+            None,
+            &[("cache folder", cache.as_path())],
+        )?;
+    }
+    outln!(
         "patchwise demo — an invented scenario, simulated on the {} cortex:",
         res.name()
     );
-    println!(
+    outln!(
         "  a two-class imagined-movement decoder (right hand, left hand) and an eye-artefact-like"
     );
-    println!(
+    outln!(
         "  component; 64 channels of the 10-10 system; data simulated with a skull conductivity of"
     );
-    println!("  {SIMULATION_SKULL} S/m, fitted with the default head's 0.02 S/m.");
+    outln!("  {SIMULATION_SKULL} S/m, fitted with the default head's 0.02 S/m.");
     let (scenario, labels) = simulate(res)?;
     let k = scenario.component_names.len();
     let scratch = std::env::temp_dir().join(format!("patchwise-demo-{}", std::process::id()));
@@ -164,8 +173,8 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let _ = std::fs::copy(&decoder_path, dir.join("decoder.h5"));
     let _ = std::fs::remove_dir_all(&scratch);
     // Did the fit find the generators?
-    println!();
-    println!("known generators:");
+    outln!();
+    outln!("known generators:");
     let rows = region_rows(&a);
     let mut found_all = true;
     #[allow(clippy::needless_range_loop)]
@@ -188,7 +197,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
                 .map(|g| norm(sub(p, g.position)) * 1e3)
                 .fold(f64::INFINITY, f64::min)
         });
-        println!(
+        outln!(
             "  {:<20} generated in {:<40} top region {:<26} {}{}",
             scenario.component_names[c],
             truth
@@ -217,7 +226,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     } else {
         "some known generators were not the leading region of their component"
     });
-    println!(
+    outln!(
         "the demo decoder is in {}",
         dir.join("decoder.h5").display()
     );

@@ -125,11 +125,17 @@ pub fn build(
 
 /// Run `patchwise dictionary`.
 pub fn exec(args: Args) -> Result<(), CliError> {
+    crate::staging::check_output_file(&args.out, "--out")?;
+    crate::staging::refuse_input_as_output(
+        &args.out,
+        "--out",
+        &[("lead field", args.leadfield.as_path())],
+    )?;
     let lf = read_leadfield(&args.leadfield).bad_input("reading the lead field")?;
     let (d, info) = build(&lf, &args.options)?;
     write_dictionary(&args.out, &lf, &d, &args.options.to_json())
         .compute(format!("writing {}", args.out.display()))?;
-    println!(
+    outln!(
         "wrote {}: {} atoms in {} groups from {} seeds ({} channels)",
         args.out.display(),
         info.n_atoms,

@@ -1,6 +1,6 @@
 //! `patchwise dipole`: equivalent-dipole fits of a decoder's patterns, beside the patch fit.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 use patchwise::dipole::{nearest_source, DipoleError, DipoleFit, DipoleFitter, DipoleOptions};
 use patchwise::geometry::SourceSpace;
@@ -10,7 +10,6 @@ use patchwise::io::dipole_file::{
     DipoleRow, PatternsRecord,
 };
 use patchwise::io::result_file::CAUTION;
-use patchwise::montage::Montage;
 
 use super::attribute::decoder_patterns;
 use crate::cli_error::OrExit;
@@ -87,8 +86,8 @@ fn rows(fits: &[DipoleFit], sources: &SourceSpace) -> Vec<DipoleRow> {
 
 fn print_table(names: &[String], fits: &[DipoleFit], rows: &[DipoleRow], pairs: bool) {
     for (c, fit) in fits.iter().enumerate() {
-        println!();
-        println!(
+        outln!();
+        outln!(
             "{} — {}, residual variance {:.1} % ({}){}",
             names[c],
             if pairs {
@@ -108,7 +107,7 @@ fn print_table(names: &[String], fits: &[DipoleFit], rows: &[DipoleRow], pairs: 
                 ""
             }
         );
-        println!(
+        outln!(
             "  {:>6} {:>22} {:>10} {:>12} {:<26} {:>10}",
             "dipole",
             "position (mm)",
@@ -119,7 +118,7 @@ fn print_table(names: &[String], fits: &[DipoleFit], rows: &[DipoleRow], pairs: 
         );
         for r in rows.iter().filter(|r| r.component == c) {
             let q = r.moment.iter().map(|v| v * v).sum::<f64>().sqrt();
-            println!(
+            outln!(
                 "  {:>6} {:>22} {:>10.3e} {:>12.1} {:<26} {:>7.1} mm",
                 r.dipole,
                 format!(
@@ -142,14 +141,23 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             return Err(bad(format!("--noise-sd {s}: expected a positive number")));
         }
     }
+    // The output folder is new, empty or ours; it gains dipoles.csv and a
+    // new result.h5 (and report.html), so no input may be one of those.
+    crate::staging::check_output_folder(&args.out, "--out")?;
+    let mut inputs = vec![("decoder", args.decoder.clone())];
+    inputs.extend(args.channels.clone().map(|c| ("channel list", c)));
+    inputs.extend(args.forward.input_files());
+    let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
+    crate::staging::refuse_replaced_inputs(
+        &args.out,
+        "--out",
+        Some(&["result.h5", "dipoles.csv", "report.html"]),
+        &inputs,
+    )?;
     // Inputs first: every bad input is found before anything is written.
     let decoder =
         read_decoder(&args.decoder, args.channels.as_deref()).bad_input("reading the decoder")?;
-    Montage::new(
-        decoder.channels.clone(),
-        vec![[0.0, 0.0, 1.0]; decoder.channels.len()],
-    )
-    .bad_input(format!("{}: channel labels", args.decoder.display()))?;
+    super::attribute::check_channels(&decoder.channels, &args.decoder)?;
     let patterns = decoder_patterns(&decoder, &args.decoder, true)?;
     let k = decoder.k;
     let (montage, sources, head) = args.forward.resolve(Some(&decoder.channels))?;
@@ -215,10 +223,13 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     .compute("writing result.h5")?;
     write_dipoles_csv(&stage.file("dipoles.csv"), &rows, args.pairs)
         .compute("writing dipoles.csv")?;
-    let dir = stage.commit().map_err(CliError::compute)?;
+    // The attribution's other files (regions.csv, summary.json, the demo's
+    // decoder, ...) stay beside the new ones: the folder is swapped whole.
+    stage.keep_existing()?;
+    let dir = stage.commit()?;
     print_table(&names, &fits, &rows, args.pairs);
-    println!();
-    println!(
+    outln!();
+    outln!(
         "results in {} (dipoles.csv, result.h5 /dipole{})",
         dir.display(),
         if existing.as_ref().is_some_and(|e| e.peaks_mm.is_some()) {
@@ -227,7 +238,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             ""
         }
     );
-    println!("caution: {CAUTION}");
+    outln!("caution: {CAUTION}");
     // Beside an attribution the report gains the dipole table; its job
     // comes from the attribution's summary.json.
     if existing.as_ref().is_some_and(|e| e.peaks_mm.is_some()) && !args.no_report {

@@ -99,10 +99,14 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         return import(imp);
     }
     let out = required(&args.out, "--out FILE.h5")?;
+    crate::staging::check_output_file(&out, "--out")?;
+    let inputs = args.forward.input_files();
+    let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
+    crate::staging::refuse_input_as_output(&out, "--out", &inputs)?;
     let (montage, sources, head) = args.forward.resolve(None)?;
     let lf = compute_leadfield(&montage, &sources, &head, args.orientation.into())?;
     write_leadfield(&out, &lf).compute(format!("writing {}", out.display()))?;
-    println!(
+    outln!(
         "wrote {}: {} channels x {} sources, average reference, V/(A·m)",
         out.display(),
         lf.n_channels(),
@@ -136,6 +140,20 @@ fn matrix(
 }
 
 fn import(args: ImportArgs) -> Result<(), CliError> {
+    crate::staging::check_output_file(&args.out, "--out")?;
+    let inputs: Vec<(&str, &Path)> = [
+        ("--from file", &args.from),
+        ("gain", &args.gain),
+        ("positions", &args.positions),
+        ("normals", &args.normals),
+        ("channel list", &args.channels),
+        ("triangles", &args.triangles),
+        ("regions", &args.regions),
+    ]
+    .into_iter()
+    .filter_map(|(w, p)| p.as_deref().map(|p| (w, p)))
+    .collect();
+    crate::staging::refuse_input_as_output(&args.out, "--out", &inputs)?;
     let npz_store;
     let store = match &args.from {
         Some(p) if p.extension().is_some_and(|e| e == "npz") => {
@@ -262,7 +280,7 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
         head_model: "{\"model\":\"imported\"}".to_string(),
     };
     write_leadfield(&args.out, &lf).compute(format!("writing {}", args.out.display()))?;
-    println!(
+    outln!(
         "wrote {}: imported {n_ch} channels x {n_src} sources",
         args.out.display()
     );

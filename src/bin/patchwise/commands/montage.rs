@@ -50,16 +50,16 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         Action::List => {
             for name in standard_names() {
                 let m = standard_on_default_head(name)?;
-                println!("{name:<6} {:>4} electrodes", m.len());
+                outln!("{name:<6} {:>4} electrodes", m.len());
             }
-            println!("positions are computed on a sphere of radius {radius_mm:.0} mm (the default head's scalp)");
+            outln!("positions are computed on a sphere of radius {radius_mm:.0} mm (the default head's scalp)");
             Ok(())
         }
         Action::Show { name } => {
             let m = standard_on_default_head(&name)?;
-            println!("{:<8} {:>9} {:>9} {:>9}", "label", "x_mm", "y_mm", "z_mm");
+            outln!("{:<8} {:>9} {:>9} {:>9}", "label", "x_mm", "y_mm", "z_mm");
             for (label, p) in m.labels.iter().zip(&m.positions) {
-                println!(
+                outln!(
                     "{label:<8} {:>9.2} {:>9.2} {:>9.2}",
                     p[0] * 1e3,
                     p[1] * 1e3,
@@ -69,9 +69,10 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             Ok(())
         }
         Action::Export { name, out } => {
+            crate::staging::check_output_file(&out, "--out")?;
             let m = standard_on_default_head(&name)?;
             write_electrodes_tsv(&out, &m).compute(format!("writing {}", out.display()))?;
-            println!(
+            outln!(
                 "wrote {} electrodes of {name} to {}",
                 m.len(),
                 out.display()

@@ -204,7 +204,7 @@ fn after_outputs(
 ) -> Result<(), CliError> {
     match written {
         Ok(path) => {
-            println!("report in {}", path.display());
+            outln!("report in {}", path.display());
             Ok(())
         }
         Err(e) => Err(CliError::compute(e.error.context(format!(
@@ -242,6 +242,16 @@ pub fn compare_report_after_outputs(dir: &Path) -> Result<(), CliError> {
 /// one with compare.h5 the comparison report.
 pub fn exec(args: Args) -> Result<(), CliError> {
     let dir = &args.result_dir;
+    // The page goes to a file (never a folder or device) and never over
+    // one of the files it is made from.
+    let page = args.out.clone().unwrap_or_else(|| dir.join("report.html"));
+    crate::staging::check_output_file(&page, "--out")?;
+    let sources: Vec<PathBuf> = ["result.h5", "summary.json", "compare.h5"]
+        .iter()
+        .map(|f| dir.join(f))
+        .collect();
+    let inputs: Vec<(&str, &Path)> = sources.iter().map(|p| ("input", p.as_path())).collect();
+    crate::staging::refuse_input_as_output(&page, "--out", &inputs)?;
     let is_result = dir.join("result.h5").is_file();
     let is_compare = dir.join("compare.h5").is_file();
     if dir.is_dir() && !is_result && !is_compare {
@@ -256,6 +266,6 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     } else {
         write_report(dir, args.out.as_deref(), Vec::new())?
     };
-    println!("report in {}", out.display());
+    outln!("report in {}", out.display());
     Ok(())
 }

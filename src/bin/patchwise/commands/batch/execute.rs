@@ -12,7 +12,7 @@ use super::super::report::{job_of, write_report_as};
 use crate::commands::attribute::{self, Args as AttributeArgs};
 use crate::commands::dictionary::{AtomOrientationArg, ProfileArg};
 use crate::outputs::write_files;
-use crate::staging::Staging;
+use crate::staging::{self, Staging};
 use crate::CliError;
 
 /// The completion marker, written last into the staged job folder.
@@ -91,6 +91,123 @@ pub fn attribute_args(
     Ok(a)
 }
 
+/// `out/<name>` may be replaced by this job only when it is missing or is
+/// this job's folder: its marker names the job, and it holds nothing but
+/// files patchwise writes. Anything else is the user's and is refused.
+pub fn check_job_folder(out: &Path, name: &str) -> Result<(), CliError> {
+    let dir = out.join(name);
+    let Ok(meta) = std::fs::symlink_metadata(&dir) else {
+        return Ok(());
+    };
+    let marker = std::fs::read_to_string(dir.join(MARKER))
+        .ok()
+        .and_then(|t| serde_json::from_str::<serde_json::Value>(&t).ok());
+    let ours = meta.is_dir()
+        && marker.is_some_and(|m| m["job"].as_str() == Some(name))
+        && staging::foreign_entries(&dir).is_ok_and(|f| f.is_empty());
+    if ours {
+        return Ok(());
+    }
+    Err(bad(format!(
+        "--out {}: {} exists but is not the folder of job {name} (no {MARKER} naming it, or files patchwise did not write); a batch never replaces what it did not make: move it, rename the job or choose another --out",
+        out.display(),
+        dir.display()
+    )))
+}
+
+/// Check the batch's outputs before any job runs: `--out` can be a folder;
+/// every job folder to be written is missing or the job's own; no job
+/// reads a file the batch writes (a job folder, the summary, the
+/// `[compare]` folder), also not through a glob that would match them on a
+/// rerun; the `[compare]` folder is neither a job folder, nor inside one,
+/// nor `--out` or above it, and is new, empty or ours.
+pub fn check_outputs(
+    out: &Path,
+    jobs: &[Job],
+    mine: &[&Job],
+    compare_out: Option<&Path>,
+) -> Result<(), CliError> {
+    staging::check_folder_path(out, "--out")?;
+    for job in mine {
+        check_job_folder(out, &job.name)?;
+    }
+    let out_resolved = staging::resolved(out);
+    let mut written: Vec<PathBuf> = jobs.iter().map(|j| out.join(&j.name)).collect();
+    written.push(out.join(super::report::SUMMARY));
+    if let Some(c) = compare_out {
+        written.push(c.to_path_buf());
+    }
+    let written: Vec<PathBuf> = written.iter().map(|w| staging::resolved(w)).collect();
+    for job in jobs {
+        for (key, file) in job.input_files() {
+            let file_resolved = staging::resolved(&file);
+            if let Some(w) = written.iter().find(|w| file_resolved.starts_with(w)) {
+                return Err(bad(format!(
+                    "job {} (line {}): {key} {} lies in {}, which this batch writes; keep inputs outside the batch's outputs",
+                    job.name,
+                    job.line,
+                    file.display(),
+                    w.display()
+                )));
+            }
+        }
+        if let Some(pattern) = job.pattern.as_deref().and_then(absolute_pattern) {
+            for j in jobs {
+                for f in staging::OUR_FILES {
+                    let produced = out_resolved.join(&j.name).join(f);
+                    if pattern.matches_path(&produced) {
+                        return Err(bad(format!(
+                            "job {} (line {}): the decoder pattern {} would match {}, a file this batch writes; narrow the pattern or move --out",
+                            job.name,
+                            job.line,
+                            pattern.as_str(),
+                            produced.display()
+                        )));
+                    }
+                }
+            }
+        }
+    }
+    if let Some(c) = compare_out {
+        // Compared by path, before the job folders exist: the comparison is
+        // replaced as a whole, so it may neither hold nor sit inside what
+        // the jobs write.
+        let compare_resolved = staging::resolved(c);
+        let mut folders: Vec<PathBuf> = jobs.iter().map(|j| out_resolved.join(&j.name)).collect();
+        folders.push(out_resolved.clone());
+        for folder in &folders {
+            let inside_job = folder != &out_resolved && compare_resolved.starts_with(folder);
+            if inside_job || folder.starts_with(&compare_resolved) {
+                return Err(bad(format!(
+                    "[compare] out {}: overlaps {}, which the batch writes; give the comparison a folder of its own (e.g. beside the job folders)",
+                    c.display(),
+                    folder.display()
+                )));
+            }
+        }
+        staging::check_output_folder(c, "[compare] out")?;
+    }
+    Ok(())
+}
+
+/// A decoder glob pattern made absolute (against the working folder,
+/// without a leading `./`), to be matched against absolute output paths.
+fn absolute_pattern(pattern: &str) -> Option<glob::Pattern> {
+    if Path::new(pattern).is_absolute() {
+        return glob::Pattern::new(pattern).ok();
+    }
+    let cwd = std::env::current_dir().ok()?;
+    let mut relative = pattern;
+    while let Some(rest) = relative.strip_prefix("./") {
+        relative = rest;
+    }
+    glob::Pattern::new(&format!(
+        "{}/{relative}",
+        glob::Pattern::escape(&cwd.to_string_lossy())
+    ))
+    .ok()
+}
+
 /// Whether `out/<name>` holds a finished job with this input hash.
 pub fn is_done(out: &Path, name: &str, hash: &str) -> bool {
     let dir = out.join(name);
@@ -103,28 +220,12 @@ pub fn is_done(out: &Path, name: &str, hash: &str) -> bool {
     marker["input_hash"].as_str() == Some(hash) && dir.join("result.h5").is_file()
 }
 
-/// Remove the staging folders (`.<name>.partial-<pid>`) that a killed run
-/// left for these jobs. Only this run's jobs are touched: another shard's
-/// jobs may be staging right now.
-pub fn clean_stale<'a>(out: &Path, names: impl Iterator<Item = &'a str>) {
-    let names: std::collections::HashSet<&str> = names.collect();
-    let Ok(entries) = std::fs::read_dir(out) else {
-        return;
-    };
-    for entry in entries.flatten() {
-        let file_name = entry.file_name().to_string_lossy().into_owned();
-        let Some((name, pid)) = file_name
-            .strip_prefix('.')
-            .and_then(|s| s.rsplit_once(".partial-"))
-        else {
-            continue;
-        };
-        if names.contains(name) && !pid.is_empty() && pid.bytes().all(|b| b.is_ascii_digit()) {
-            let _ = std::fs::remove_dir_all(entry.path());
-        }
-    }
-    // The summary's temporary file of a run killed while writing it.
-    patchwise::io::atomic::remove_dead_temporaries(out, Some(super::report::SUMMARY));
+/// Remove what killed runs on this machine left in `out`: the staging
+/// folders of jobs and the summary's temporary file, each of a process that
+/// no longer exists. Those of live processes (another shard staging right
+/// now) are kept.
+pub fn clean_stale(out: &Path) {
+    patchwise::io::atomic::remove_dead_temporaries(out, None);
 }
 
 /// Run one job and stage its folder: result files, then the marker, then
@@ -159,15 +260,10 @@ fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<()
     let text = serde_json::to_string_pretty(&marker).unwrap_or_default();
     patchwise::io::atomic::write_atomic(&stage.file(MARKER), text.as_bytes())
         .map_err(|e| CliError::compute(anyhow::anyhow!("writing {MARKER}: {e}")))?;
-    if target.exists() {
-        std::fs::remove_dir_all(&target).map_err(|e| {
-            CliError::compute(anyhow::anyhow!(
-                "removing the outdated {}: {e}",
-                target.display()
-            ))
-        })?;
-    }
-    stage.commit().map_err(CliError::compute)?;
+    // The commit swaps the folder in whole; an outdated folder is replaced
+    // only when it is this job's (checked before the run, again here).
+    check_job_folder(out, &job.name)?;
+    stage.commit()?;
     Ok(())
 }
 

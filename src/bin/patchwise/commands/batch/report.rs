@@ -10,7 +10,7 @@ use super::Failure;
 use crate::CliError;
 
 /// The summary's file name inside the output folder.
-pub const SUMMARY: &str = "batch-summary.csv";
+pub use patchwise::batch::SUMMARY_FILE as SUMMARY;
 
 fn read_json(path: &Path) -> Result<serde_json::Value, CliError> {
     let text = std::fs::read_to_string(path)
@@ -87,15 +87,15 @@ pub fn print_failures(failures: &[Failure]) {
         .max()
         .unwrap_or(3)
         .max(3);
-    eprintln!();
-    eprintln!("{} failed job(s):", failures.len());
-    eprintln!("  {:<width$}  exit  error", "job");
+    errln!();
+    errln!("{} failed job(s):", failures.len());
+    errln!("  {:<width$}  exit  error", "job");
     for f in failures {
         let kind = if f.error.code == 2 {
             "2 (bad input)"
         } else {
             "1"
         };
-        eprintln!("  {:<width$}  {kind}  {}", f.job, f.error);
+        errln!("  {:<width$}  {kind}  {}", f.job, f.error);
     }
 }
