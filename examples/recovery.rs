@@ -91,6 +91,7 @@ fn main() {
                         sim_head: sim_head.clone(),
                         lambda: rule,
                         resamples,
+                        perturb_model: true,
                     };
                     let r = run_case(&setup, &spec).unwrap();
                     if show_misses {

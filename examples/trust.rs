@@ -2,7 +2,7 @@
 //! top-1 where the truth decides, tie-tolerant top-1, coverage of the true
 //! share by the 95 % interval, and the calibration of the lead frequency.
 //!
-//! `cargo run --release --example trust -- [template|template-5k] [cases per cell] [resamples] [--rules noise,BIC] [--snr DB] [--head matched|mismatched]`
+//! `cargo run --release --example trust -- [template|template-5k] [cases per cell] [resamples] [--rules noise,BIC] [--snr DB] [--head matched|mismatched] [--no-perturb] [--perturb-mm 3] [--perturb-skull 0.35] [--perturb-count 4]`
 //!
 //! Cases as in the recovery benchmark (`examples/recovery.rs`): 1 to 3
 //! Gaussian patches of 5–30 mm geodesic radius, 5 mm electrode jitter, 64
@@ -25,7 +25,7 @@
 
 use patchwise::geometry::TemplateResolution;
 use patchwise::head::SphereHead;
-use patchwise::pipeline::LambdaRule;
+use patchwise::pipeline::{ForwardPerturbation, LambdaRule};
 use patchwise::validation::{run_case, CaseResult, CaseSpec, Method, RecoveryFixture};
 
 fn median(mut v: Vec<f64>) -> f64 {
@@ -103,7 +103,25 @@ fn main() {
         .collect();
     let only_snr: Option<f64> = flag("--snr").map(|s| s.parse().unwrap());
     let only_head = flag("--head").cloned();
-    let fixture = RecoveryFixture::new(res).unwrap();
+    // `--no-perturb`: resamples draw the pattern noise only (no perturbed
+    // forward models), for the comparison in docs/validation.md.
+    let perturb = !args.iter().any(|a| a == "--no-perturb");
+    let mut perturbation = ForwardPerturbation::default();
+    if let Some(v) = flag("--perturb-mm") {
+        perturbation.electrode_sd_m = v.parse::<f64>().unwrap() * 1e-3;
+    }
+    if let Some(v) = flag("--perturb-skull") {
+        perturbation.skull_log_sd = v.parse().unwrap();
+    }
+    if let Some(v) = flag("--perturb-count") {
+        perturbation.count = v.parse().unwrap();
+    }
+    let fixture = RecoveryFixture::with_perturbation(
+        res,
+        &patchwise::dictionary::DictionaryParams::default(),
+        &perturbation,
+    )
+    .unwrap();
     let setup = fixture.setup();
     let head = fixture.head.clone();
     let r = head.radii().to_vec();
@@ -130,6 +148,7 @@ fn main() {
                         sim_head: sim_head.clone(),
                         lambda: *rule,
                         resamples,
+                        perturb_model: perturb,
                     };
                     let r = run_case(&setup, &spec).unwrap();
                     patch.extend(r.into_iter().filter(|m| m.method == Method::Patches));
@@ -147,17 +166,16 @@ fn main() {
                 };
                 // Other interval forms from the same resamples, for the
                 // comparison in docs/validation.md: the plain percentile
-                // interval [q_lo, q_hi], and the basic interval
-                // [2ŝ − q_hi, 2ŝ − q_lo] (Davison & Hinkley 1997, eq. 5.6)
-                // widened to hold ŝ.
-                let other_forms = |basic: bool| {
+                // interval [q_lo, q_hi] (Efron & Tibshirani 1993, ch. 13),
+                // and the resamples' spread around their median added to
+                // the estimate, [ŝ + q_lo − m, ŝ + q_hi − m].
+                let other_forms = |centred: bool| {
                     m.iter()
                         .filter(|r| {
-                            let (e, lo, hi) = r.truth_region_interval;
-                            let shift = r.truth_region_median - e;
-                            let (qlo, qhi) = (lo + shift, hi + shift);
-                            let (a, b) = if basic {
-                                ((2.0 * e - qhi).min(e), (2.0 * e - qlo).max(e))
+                            let (e, _, _) = r.truth_region_interval;
+                            let (med, qlo, qhi) = r.truth_region_resampled;
+                            let (a, b) = if centred {
+                                (e + qlo - med, e + qhi - med)
                             } else {
                                 (qlo, qhi)
                             };
@@ -166,7 +184,7 @@ fn main() {
                         .count()
                 };
                 eprintln!(
-                    "forms {head_name} {snr:.0} dB {rule_name}: coverage of the pattern share: percentile {} %, basic {} %",
+                    "forms {head_name} {snr:.0} dB {rule_name}: coverage of the pattern share: percentile {} %, centred on the estimate {} %",
                     pct(other_forms(false), m.len()),
                     pct(other_forms(true), m.len())
                 );

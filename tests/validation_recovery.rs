@@ -39,6 +39,7 @@ fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
             sim_head: head.clone(),
             lambda: LambdaRule::Bic,
             resamples: 0,
+            perturb_model: false,
         };
         for r in run_case(&setup, &spec).unwrap() {
             match r.method {

@@ -7,9 +7,13 @@ pub struct RegionInterval {
     pub low: f64,
     /// Upper end of the interval.
     pub high: f64,
-    /// Median of the resampled shares (the interval's ends are the
-    /// resamples' 2.5 and 97.5 % quantiles shifted by estimate − median).
+    /// Median of the resampled shares.
     pub median: f64,
+    /// The resampled shares' 2.5 % quantile (the percentile interval's
+    /// lower end, from which `high` is reflected).
+    pub resampled_low: f64,
+    /// The resampled shares' 97.5 % quantile.
+    pub resampled_high: f64,
     /// Fraction of resamples in which the region's share exceeded the
     /// selection threshold.
     pub selection_frequency: f64,

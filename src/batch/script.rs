@@ -80,6 +80,8 @@ job_options! {
     resamples: u64,
     /// `--seed`: seed of the resampling.
     seed: u64,
+    /// `--forward-perturbations`: perturbed forward models for the resamples.
+    forward_perturbations: u64,
     /// `--no-refit`: skip the debiased refit.
     no_refit: bool,
     /// `--radii-mm`: geodesic patch radii in mm.

@@ -38,6 +38,10 @@ pub struct Problem<'a> {
     pub n_regions: usize,
     /// Source positions (m).
     pub source_positions: &'a [Vec3],
+    /// The atoms under perturbed forward models (each n_ch × n_atoms,
+    /// row-major, prepared like `atoms`); resample b draws model b mod P.
+    /// Empty: every resample uses `atoms`.
+    pub perturbed: &'a [Vec<f64>],
 }
 
 impl Problem<'_> {
@@ -491,6 +495,12 @@ fn resample(
         problem.source_region,
         problem.n_regions,
     );
+    // The perturbed forward models, each a dictionary of its own.
+    let perturbed: Vec<DenseDictionary> = problem
+        .perturbed
+        .iter()
+        .map(|a| DenseDictionary::from_row_major(n_ch, n_atoms, a))
+        .collect::<Result<_, _>>()?;
     let done = std::sync::atomic::AtomicUsize::new(0);
     let budget_stops = std::sync::atomic::AtomicUsize::new(0);
     let runs: Vec<Result<Vec<Vec<f64>>, PipelineError>> = (0..opts.n_resamples)
@@ -527,8 +537,14 @@ fn resample(
                 }
             };
             // Warm-started from the fit itself: the resampled problem is close.
+            let (model, atoms) = if perturbed.is_empty() {
+                (dict, problem.atoms)
+            } else {
+                let m = b % perturbed.len();
+                (&perturbed[m], problem.perturbed[m].as_slice())
+            };
             let (coef, fitted) = fit_all(
-                dict,
+                model,
                 groups,
                 &y_star,
                 k,
@@ -541,7 +557,7 @@ fn resample(
             let shares = (0..k)
                 .map(|c| {
                     let x: Vec<f64> = (0..n_atoms).map(|j| coef[j * k + c]).collect();
-                    component_shares(problem.atoms, n_ch, problem.group, &x, &mass).region_share
+                    component_shares(atoms, n_ch, problem.group, &x, &mass).region_share
                 })
                 .collect();
             let stops = fitted.iter().filter(|f| f.stop_reason.on_budget()).count();
@@ -579,11 +595,14 @@ fn resample(
                 .zip(lead)
                 .enumerate()
                 .map(|(r, (v, lead_frequency))| {
-                    let (low, high) = centred_interval(estimate(c, r), v);
+                    let (q_low, q_high) = (percentile(v, 0.025), percentile(v, 0.975));
+                    let (low, high) = basic_interval(estimate(c, r), q_low, q_high);
                     RegionInterval {
                         low,
                         high,
                         median: percentile(v, 0.5),
+                        resampled_low: q_low,
+                        resampled_high: q_high,
                         selection_frequency: v
                             .iter()
                             .filter(|&&s| s >= opts.selection_threshold)
@@ -603,21 +622,20 @@ fn resample(
     })
 }
 
-/// The 95 % interval of a share from its resampled values, centred on the
-/// estimate: [ŝ + (q₀.₀₂₅ − m), ŝ + (q₀.₉₇₅ − m)] with m the median of the
-/// resampled shares. The spread comes from the resamples, the centre from
-/// the fit, so the interval always holds its estimate (a percentile interval
-/// of the resamples need not: penalised fits of resampled patterns are
-/// shrunk again, which shifts their distribution away from the estimate).
-/// This is the percentile interval of the bootstrap deviations from their
-/// median, added to the estimate (cf. Davison & Hinkley 1997, "Bootstrap
-/// Methods and their Application", §5.2, for the family of such intervals).
-pub(crate) fn centred_interval(estimate: f64, resampled: &[f64]) -> (f64, f64) {
-    if resampled.is_empty() {
+/// The 95 % interval of a share ŝ from the 2.5 and 97.5 % quantiles of
+/// its resampled values: the basic bootstrap interval [2ŝ − q₀.₉₇₅,
+/// 2ŝ − q₀.₀₂₅] (Davison & Hinkley 1997, "Bootstrap Methods and their
+/// Application", eq. 5.6), widened to hold ŝ. The resampled fits are
+/// penalised again, so their shares are shrunk around ŝ as ŝ is around the
+/// truth; reflecting the quantiles corrects for that shift (the plain
+/// percentile interval would double it), and the widening keeps the
+/// estimate inside its own interval, which the reflection alone does not
+/// guarantee. docs/validation.md compares the forms' coverage.
+pub(crate) fn basic_interval(estimate: f64, q_low: f64, q_high: f64) -> (f64, f64) {
+    if !(q_low.is_finite() && q_high.is_finite()) {
         return (f64::NAN, f64::NAN);
     }
-    let m = percentile(resampled, 0.5);
-    let low = estimate + (percentile(resampled, 0.025) - m);
-    let high = estimate + (percentile(resampled, 0.975) - m);
+    let low = 2.0 * estimate - q_high;
+    let high = 2.0 * estimate - q_low;
     (low.min(estimate), high.max(estimate))
 }

@@ -7,6 +7,7 @@ mod fit_stage;
 mod forward_stage;
 mod lambda_rule;
 mod noise_rule;
+mod perturb;
 mod quality;
 mod resample;
 
@@ -15,5 +16,6 @@ pub use fit_stage::{fit_patterns, FitOptions, FitOutcome, FittedComponent, Probl
 pub use forward_stage::{dictionary_for, leadfield_for, DistanceKind};
 pub use lambda_rule::LambdaRule;
 pub use noise_rule::{PatternNoise, NULL_QUANTILE, RATIO_FLOOR};
+pub use perturb::{perturbed_atoms, perturbed_model, ForwardPerturbation};
 pub use quality::{component_flags, is_poorly_explained, POORLY_EXPLAINED_EV};
 pub use resample::{ResampleOptions, ResampleSummary};

@@ -25,6 +25,9 @@ pub struct RecoverySetup<'a> {
     pub geodesic: &'a GeodesicSolver,
     /// Nominal electrode positions (m).
     pub electrodes: &'a [Vec3],
+    /// The fit's atoms under perturbed forward models (for resamples that
+    /// also draw the forward model; `pipeline::perturbed_atoms`).
+    pub perturbed: &'a [Vec<f64>],
 }
 
 /// One simulated case.
@@ -45,6 +48,8 @@ pub struct CaseSpec {
     /// Bootstrap resamples of the patch fit (0 = none; then
     /// `lead_support` is NaN).
     pub resamples: usize,
+    /// Resamples also draw the forward model (the setup's perturbed atoms).
+    pub perturb_model: bool,
 }
 
 /// Which method a result is for.
@@ -101,8 +106,9 @@ pub struct CaseResult {
     /// The method's share of the truth's leading region and its 95 %
     /// interval (NaN without resampling, and for minimum norm).
     pub truth_region_interval: (f64, f64, f64),
-    /// The median of the resampled shares of the truth's leading region.
-    pub truth_region_median: f64,
+    /// The median, 2.5 % and 97.5 % quantiles of the resampled shares of
+    /// the truth's leading region (NaN without resampling).
+    pub truth_region_resampled: (f64, f64, f64),
     /// Patch fit: λ/λ_max chosen (NaN for minimum norm).
     pub lambda_ratio: f64,
     /// Patch fit: the chosen λ is at an end of the searched range (the last
@@ -221,6 +227,11 @@ pub fn run_case(
         source_region: &s.region,
         n_regions,
         source_positions: &s.positions,
+        perturbed: if spec.perturb_model {
+            setup.perturbed
+        } else {
+            &[]
+        },
     };
     let options = FitOptions {
         lambda: spec.lambda,
@@ -284,9 +295,12 @@ pub fn run_case(
             (None, Some(t)) => (comp.region_share[t], f64::NAN, f64::NAN),
             _ => (f64::NAN, f64::NAN, f64::NAN),
         },
-        truth_region_median: match (&outcome.resample, truth_region) {
-            (Some(rs), Some(t)) => rs.intervals[0][t].median,
-            _ => f64::NAN,
+        truth_region_resampled: match (&outcome.resample, truth_region) {
+            (Some(rs), Some(t)) => {
+                let i = rs.intervals[0][t];
+                (i.median, i.resampled_low, i.resampled_high)
+            }
+            _ => (f64::NAN, f64::NAN, f64::NAN),
         },
         lambda_ratio: outcome.blocks[0].lambda / outcome.blocks[0].lambda_max,
         lambda_at_range_end: outcome.blocks[0].at_range_end
@@ -320,7 +334,7 @@ pub fn run_case(
             f64::NAN,
             f64::NAN,
         ),
-        truth_region_median: f64::NAN,
+        truth_region_resampled: (f64::NAN, f64::NAN, f64::NAN),
         lambda_ratio: f64::NAN,
         lambda_at_range_end: false,
     };
@@ -431,6 +445,7 @@ pub struct RecoveryFixture {
     dictionary: Dictionary,
     geodesic: GeodesicSolver,
     electrodes: Vec<Vec3>,
+    perturbed: Vec<Vec<f64>>,
     /// The head the fit assumes.
     pub head: SphereHead,
 }
@@ -445,6 +460,20 @@ impl RecoveryFixture {
     pub fn with_dictionary(
         resolution: crate::geometry::TemplateResolution,
         params: &crate::dictionary::DictionaryParams,
+    ) -> Result<Self, PipelineError> {
+        Self::with_perturbation(
+            resolution,
+            params,
+            &crate::pipeline::ForwardPerturbation::default(),
+        )
+    }
+
+    /// Build the fixture with the given dictionary parameters and forward
+    /// perturbations for the resamples.
+    pub fn with_perturbation(
+        resolution: crate::geometry::TemplateResolution,
+        params: &crate::dictionary::DictionaryParams,
+        perturbation: &crate::pipeline::ForwardPerturbation,
     ) -> Result<Self, PipelineError> {
         let t = crate::geometry::template(resolution);
         let mut sources = SourceSpace::from_mesh(&t.mesh);
@@ -466,12 +495,22 @@ impl RecoveryFixture {
         )?;
         let (dictionary, _, _) = crate::pipeline::dictionary_for(&lf, params, None, &|_| {})?;
         let geodesic = GeodesicSolver::new(&t.mesh)?;
+        let perturbed = crate::pipeline::perturbed_atoms(
+            &head,
+            &montage.positions,
+            &sources.positions,
+            &sources.normals,
+            &dictionary.profile,
+            &dictionary.component,
+            perturbation,
+        )?;
         Ok(RecoveryFixture {
             sources,
             gain: lf.gain,
             dictionary,
             geodesic,
             electrodes: montage.positions,
+            perturbed,
             head,
         })
     }
@@ -484,6 +523,7 @@ impl RecoveryFixture {
             dictionary: &self.dictionary,
             geodesic: &self.geodesic,
             electrodes: &self.electrodes,
+            perturbed: &self.perturbed,
         }
     }
 }

@@ -18,6 +18,7 @@ use patchwise::pipeline::{
 };
 
 use super::attribute_noise::{pattern_noise, NoiseInputs};
+use super::attribute_perturb::{perturbed_for_resamples, ForwardModel};
 
 use super::dictionary::{AtomOrientationArg, DictionaryOptions};
 use crate::cli_error::OrExit;
@@ -79,6 +80,11 @@ pub struct Args {
     /// Seed of the resampling.
     #[arg(long, default_value_t = 20141)]
     pub seed: u64,
+    /// Perturbed forward models the resamples cycle through (electrodes moved by 4 mm per
+    /// coordinate, shell conductivities drawn around the head's), so the intervals also carry the
+    /// head model's uncertainty; 0 = resample the pattern noise only.
+    #[arg(long, default_value_t = 4)]
+    pub forward_perturbations: usize,
     /// Skip the debiased least-squares refit.
     #[arg(long)]
     pub no_refit: bool,
@@ -179,7 +185,13 @@ fn read_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), CliError> {
 
 /// Scale column `j` of the row-major n × m `atoms` to unit 2-norm and fold
 /// the scale into `norm` (the atom's removed scale); a zero column stays zero.
-fn rescale_to_unit_norm(atoms: &mut [f64], n: usize, m: usize, j: usize, norm: &mut f64) {
+pub(super) fn rescale_to_unit_norm(
+    atoms: &mut [f64],
+    n: usize,
+    m: usize,
+    j: usize,
+    norm: &mut f64,
+) {
     let s = (0..n).map(|i| atoms[i * m + j].powi(2)).sum::<f64>().sqrt();
     if s > 0.0 {
         for i in 0..n {
@@ -254,7 +266,7 @@ pub(crate) fn decoder_patterns(
     Ok(referenced)
 }
 
-fn leadfield_hash(
+pub(super) fn leadfield_hash(
     montage: &Montage,
     lf_sources: &patchwise::geometry::SourceSpace,
     head_json: &str,
@@ -321,7 +333,7 @@ fn dictionary_for_decoder(
     args: &Args,
     labels: &[String],
     hashes: &mut Vec<(String, String)>,
-) -> Result<DictionaryFile, CliError> {
+) -> Result<(DictionaryFile, ForwardModel), CliError> {
     let (montage, sources, head) = args.forward.resolve(Some(labels))?;
     let orientation = match args.dictionary_options.atom_orientation {
         AtomOrientationArg::Normal => Orientation::Normal,
@@ -352,7 +364,7 @@ fn dictionary_for_decoder(
     hashes.push(("dictionary".to_string(), d_hash.clone()));
     // Parallel batch jobs on the same channels wait here for the first one
     // to build the entry instead of building it again.
-    cache_locks().with_lock(&d_hash, || {
+    let dict = cache_locks().with_lock(&d_hash, || {
         cached_dictionary(
             args,
             &cache,
@@ -361,6 +373,47 @@ fn dictionary_for_decoder(
             (&montage, &sources, &head),
             orientation,
         )
+    })?;
+    Ok((
+        dict,
+        ForwardModel {
+            montage,
+            sources,
+            head,
+            orientation,
+            cache,
+        },
+    ))
+}
+
+/// The lead field entry `lf_hash` from the cache, computed (and cached when
+/// the cache can be written) when missing or unreadable.
+pub(super) fn cached_leadfield(
+    cache: &Path,
+    lf_hash: &str,
+    (montage, sources, head): (
+        &Montage,
+        &patchwise::geometry::SourceSpace,
+        &patchwise::head::SphereHead,
+    ),
+    orientation: Orientation,
+) -> Result<LeadFieldFile, CliError> {
+    let lf_path = entry_path(cache, "leadfield", lf_hash);
+    cache_locks().with_lock(lf_hash, || match read_leadfield(&lf_path) {
+        Ok(lf) if lf_path.is_file() => {
+            note(format!("using cached lead field {}", lf_path.display()));
+            Ok(lf)
+        }
+        _ => {
+            let lf = compute_leadfield(montage, sources, head, orientation)?;
+            if let Err(e) = write_leadfield(&lf_path, &lf) {
+                note(format!(
+                    "note: could not cache the lead field in {}: {e}",
+                    cache.display()
+                ));
+            }
+            Ok::<_, CliError>(lf)
+        }
     })
 }
 
@@ -385,24 +438,7 @@ fn cached_dictionary(
             return Ok(d);
         }
     }
-    let lf_path = entry_path(cache, "leadfield", lf_hash);
-    let lf: LeadFieldFile =
-        cache_locks().with_lock(lf_hash, || match read_leadfield(&lf_path) {
-            Ok(lf) if lf_path.is_file() => {
-                note(format!("using cached lead field {}", lf_path.display()));
-                Ok(lf)
-            }
-            _ => {
-                let lf = compute_leadfield(montage, sources, head, orientation)?;
-                if let Err(e) = write_leadfield(&lf_path, &lf) {
-                    note(format!(
-                        "note: could not cache the lead field in {}: {e}",
-                        cache.display()
-                    ));
-                }
-                Ok::<_, CliError>(lf)
-            }
-        })?;
+    let lf = cached_leadfield(cache, lf_hash, (montage, sources, head), orientation)?;
     let (d, _info) = super::dictionary::build(&lf, &args.dictionary_options)?;
     let params = args.dictionary_options.to_json();
     if let Err(e) = write_dictionary(&d_path, &lf, &d, &params) {
@@ -659,6 +695,7 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     let average = args.reference == "average";
     let patterns = decoder_patterns(&decoder, &input_path, average)?;
     let k = decoder.k;
+    let mut forward = None;
     let mut dict = match &args.dictionary {
         Some(p) => {
             let d = read_dictionary(p).bad_input("reading the dictionary")?;
@@ -680,7 +717,11 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
                 restrict(d, &decoder.channels, p)?
             }
         }
-        None => dictionary_for_decoder(args, &decoder.channels, &mut hashes)?,
+        None => {
+            let (d, f) = dictionary_for_decoder(args, &decoder.channels, &mut hashes)?;
+            forward = Some(f);
+            d
+        }
     };
     if average {
         reference_atoms(&mut dict);
@@ -725,6 +766,14 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         .atom_norms
         .clone()
         .unwrap_or_else(|| vec![1.0; dict.n_atoms]);
+    let perturbed = perturbed_for_resamples(
+        &dict,
+        forward.as_ref(),
+        average,
+        whitener.as_ref(),
+        args,
+        &mut notes,
+    )?;
     let problem = Problem {
         atoms: &dict.atoms,
         n_channels: dict.n_channels,
@@ -734,6 +783,7 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
         source_region: &regions,
         n_regions: names.len(),
         source_positions: &positions,
+        perturbed: &perturbed,
     };
     let mut options = options;
     options.noise = pattern_noise(&NoiseInputs {

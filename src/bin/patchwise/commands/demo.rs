@@ -156,6 +156,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         tol: 1e-8,
         resamples: args.resamples,
         seed: 20141,
+        forward_perturbations: 4,
         no_refit: false,
         cache: args.cache.clone(),
         out: args.out.clone(),

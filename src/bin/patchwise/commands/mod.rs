@@ -2,6 +2,7 @@
 
 pub mod attribute;
 mod attribute_noise;
+mod attribute_perturb;
 pub mod batch;
 pub mod check;
 pub mod compare;

@@ -73,6 +73,12 @@ pub fn attribute_args(
         a.resamples = usize::try_from(r).map_err(|_| bad(format!("resamples = {r}: too many")))?;
     }
     a.seed = o.seed.unwrap_or(a.seed);
+    if let Some(p) = o.forward_perturbations {
+        a.forward_perturbations = usize::try_from(p)
+            .ok()
+            .filter(|&p| p <= 64)
+            .ok_or_else(|| bad(format!("forward_perturbations = {p}: expected at most 64")))?;
+    }
     a.no_refit = o.no_refit.unwrap_or(a.no_refit);
     a.no_report = o.no_report.unwrap_or(a.no_report);
     if let Some(r) = &o.radii_mm {

@@ -1,0 +1,112 @@
+//! The fit's atoms under perturbed forward models, for resamples that also
+//! draw the head model's uncertainty (`pipeline::perturb`). Each perturbed
+//! model is an ordinary lead field of another head, cached like any lead
+//! field by the content hash of its montage, sources and head.
+
+use std::path::PathBuf;
+
+use patchwise::dictionary::{atoms_for_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM};
+use patchwise::forward::Orientation;
+use patchwise::geometry::SourceSpace;
+use patchwise::head::SphereHead;
+use patchwise::io::dictionary_file::DictionaryFile;
+use patchwise::montage::Montage;
+use patchwise::patterns::Whitener;
+use patchwise::pipeline::{perturbed_model, ForwardPerturbation};
+
+use super::attribute::{cached_leadfield, leadfield_hash, rescale_to_unit_norm, Args};
+use crate::cli_error::OrExit;
+use crate::CliError;
+
+/// The forward model a dictionary of this run was built from.
+pub struct ForwardModel {
+    /// Montage of the decoder's channels, in the dictionary's channel order.
+    pub montage: Montage,
+    /// The source space.
+    pub sources: SourceSpace,
+    /// The head.
+    pub head: SphereHead,
+    /// Orientation of the lead field.
+    pub orientation: Orientation,
+    /// The cache folder.
+    pub cache: PathBuf,
+}
+
+/// The fit's atoms under perturbed forward models, prepared like the fit's
+/// own (average-referenced, whitened when the fit is, unit columns), when
+/// resamples run on a dictionary this run built; none otherwise, with a note.
+pub fn perturbed_for_resamples(
+    dict: &DictionaryFile,
+    forward: Option<&ForwardModel>,
+    average: bool,
+    whitener: Option<&Whitener>,
+    args: &Args,
+    notes: &mut Vec<String>,
+) -> Result<Vec<Vec<f64>>, CliError> {
+    if args.resamples == 0 || args.forward_perturbations == 0 {
+        return Ok(Vec::new());
+    }
+    if !average {
+        notes.push("resamples draw the pattern noise only: with --reference none the perturbed atoms would not match the fit's".to_string());
+        return Ok(Vec::new());
+    }
+    let (Some(f), Some(lf), Some(profile)) = (forward, &dict.leadfield, &dict.profile) else {
+        notes.push("resamples draw the pattern noise only: the forward model of a given dictionary is not known, so it is not perturbed".to_string());
+        return Ok(Vec::new());
+    };
+    if lf.labels != f.montage.labels {
+        notes.push("resamples draw the pattern noise only: the dictionary's channels differ from the montage's".to_string());
+        return Ok(Vec::new());
+    }
+    let spec = ForwardPerturbation {
+        count: args.forward_perturbations,
+        ..ForwardPerturbation::default()
+    };
+    let component = dict
+        .component
+        .clone()
+        .unwrap_or_else(|| vec![AtomComponent::Normal; dict.n_atoms]);
+    let (n, m) = (dict.n_channels, dict.n_atoms);
+    let mut models = Vec::with_capacity(spec.count);
+    for i in 0..spec.count {
+        let (head, electrodes) = perturbed_model(&f.head, &f.montage.positions, &spec, i)
+            .compute("perturbing the forward model")?;
+        let montage =
+            Montage::new(f.montage.labels.clone(), electrodes).compute("perturbed montage")?;
+        let hash = leadfield_hash(&montage, &f.sources, &head.head_model_json(), f.orientation);
+        let plf = cached_leadfield(
+            &f.cache,
+            &hash,
+            (&montage, &f.sources, &head),
+            f.orientation,
+        )?;
+        let (mut atoms, _) = atoms_for_channels(
+            profile,
+            &component,
+            &plf.gain,
+            plf.gain_xyz.as_deref(),
+            n,
+            true,
+            DEFAULT_DROP_RELATIVE_NORM,
+        )
+        .compute("atoms of a perturbed forward model")?;
+        if let Some(w) = whitener {
+            atoms = w
+                .apply(&atoms, m)
+                .compute("whitening the perturbed atoms")?;
+            let mut unused = 1.0;
+            for j in 0..m {
+                rescale_to_unit_norm(&mut atoms, n, m, j, &mut unused);
+            }
+        }
+        models.push(atoms);
+    }
+    notes.push(format!(
+        "resamples also draw the forward model: {} perturbed heads (electrodes moved by {} mm per coordinate, skull conductivity x exp(N(0, {}^2)), other shells x exp(N(0, {}^2)))",
+        spec.count,
+        spec.electrode_sd_m * 1e3,
+        spec.skull_log_sd,
+        spec.other_log_sd
+    ));
+    Ok(models)
+}
