@@ -59,7 +59,7 @@ impl ContentHash {
 
 /// The SHA-256 of a file's bytes, as hexadecimal.
 pub fn file_sha256(path: &Path) -> std::io::Result<String> {
-    let bytes = std::fs::read(path)?;
+    let bytes = super::input::read_input(path)?;
     let digest = Sha256::digest(&bytes);
     Ok(digest.iter().map(|b| format!("{b:02x}")).collect())
 }

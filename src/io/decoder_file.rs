@@ -220,8 +220,12 @@ fn check_square(path: &Path, rows: usize, cols: usize, n: usize) -> Result<(), I
     Ok(())
 }
 
+/// The datasets a decoder in an HDF5 or MATLAB file is read from; any other
+/// dataset in the file is neither read nor sized.
+const DECODER_DATASETS: [&str; 4] = ["/channels", "/patterns", "/weights", "/covariance"];
+
 fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
-    let store = Store::read(path)?;
+    let store = Store::read_only(path, &|name| DECODER_DATASETS.contains(&name))?;
     let name = |n: &str| {
         if store.contains(n) {
             n.to_string()
@@ -277,10 +281,11 @@ impl Store {
 /// A numeric text matrix (comma, tab or semicolon separated; one header
 /// row and `#` comments allowed), row-major with its rows and columns.
 pub fn read_text_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), InputError> {
-    let text = std::fs::read_to_string(path).map_err(|source| super::IoError::File {
-        path: path.to_path_buf(),
-        source,
-    })?;
+    let text =
+        crate::io::input::read_input_string(path).map_err(|source| super::IoError::File {
+            path: path.to_path_buf(),
+            source,
+        })?;
     let mut values = Vec::new();
     let mut rows = 0;
     let mut cols = None;

@@ -132,8 +132,19 @@ pub fn write_leadfield(path: &Path, lf: &LeadFieldFile) -> Result<(), IoError> {
 /// Read `leadfield.h5` (or the lead-field part of `dictionary.h5`),
 /// checking shapes, finiteness, unit normals and region indices.
 pub fn read_leadfield(path: &Path) -> Result<LeadFieldFile, IoError> {
-    let store = Store::read(path)?;
+    let store = Store::read_only(path, &|name| in_groups(name, LEADFIELD_GROUPS))?;
     leadfield_from_store(&store, path)
+}
+
+/// The groups a lead field is read from.
+pub(crate) const LEADFIELD_GROUPS: &[&str] = &["/montage", "/sources", "/leadfield"];
+
+/// True when the dataset `name` lies in one of `groups`.
+pub(crate) fn in_groups(name: &str, groups: &[&str]) -> bool {
+    groups.iter().any(|g| {
+        name.strip_prefix(g)
+            .is_some_and(|rest| rest.starts_with('/'))
+    })
 }
 
 fn value_error(path: &Path, object: &str, message: String) -> IoError {

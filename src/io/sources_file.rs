@@ -150,7 +150,7 @@ pub fn read_regions(path: &Path, n_sources: usize) -> Result<(Vec<i32>, Vec<Stri
     let (region, names) = if ext(path) == "gii" {
         gifti::read_gifti_labels(path)?
     } else {
-        let text = std::fs::read_to_string(path).map_err(|source| IoError::File {
+        let text = crate::io::input::read_input_string(path).map_err(|source| IoError::File {
             path: path.to_path_buf(),
             source,
         })?;

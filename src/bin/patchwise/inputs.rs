@@ -136,7 +136,7 @@ pub fn load_head(
         (SphereHead::default_adult().to_spec(), "default".to_string())
     } else {
         let path = Path::new(spec);
-        let text = std::fs::read_to_string(path)
+        let text = patchwise::io::input::read_input_string(path)
             .map_err(|e| CliError::bad_input(anyhow::anyhow!("{}: {e}", path.display())))?;
         let name = path.display().to_string();
         let mut s = HeadSpec::from_toml_str(&text, &name).bad_input("reading the head model")?;

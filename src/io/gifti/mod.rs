@@ -138,7 +138,7 @@ pub struct Gifti {
 
 /// Read every DataArray and the LabelTable of a GIFTI file.
 pub fn read_gifti(path: &Path) -> Result<Gifti, IoError> {
-    let text = std::fs::read(path).map_err(|e| IoError::file(path, e))?;
+    let text = crate::io::input::read_input(path).map_err(|e| IoError::file(path, e))?;
     let text = String::from_utf8(text)
         .map_err(|e| IoError::format(path, "file", format!("not UTF-8 XML: {e}")))?;
     parse::parse(path, &text)

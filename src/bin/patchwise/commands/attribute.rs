@@ -11,6 +11,7 @@ use patchwise::io::cache::{default_cache_dir, entry_path, file_sha256, ContentHa
 use patchwise::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
 use patchwise::io::dictionary_file::{read_dictionary, write_dictionary, DictionaryFile};
 use patchwise::io::leadfield_file::{read_leadfield, write_leadfield, LeadFieldFile};
+use patchwise::limits::{check_count, RESAMPLE_RECORD_BYTES};
 use patchwise::montage::Montage;
 use patchwise::patterns::{activation_patterns, average_reference, Whitener};
 use patchwise::pipeline::{
@@ -130,6 +131,8 @@ impl Args {
         if !(self.tol.is_finite() && self.tol > 0.0 && self.tol < 1.0) {
             return Err(bad(format!("--tol {}: expected 0 < tol < 1", self.tol)));
         }
+        check_count("--resamples", self.resamples as u64, RESAMPLE_RECORD_BYTES)
+            .bad_input("checking the options")?;
         Ok(FitOptions {
             lambda,
             joint: self.joint,
