@@ -132,6 +132,7 @@ pub fn write_dictionary(
         "unit",
         Attr::Str("m^2 (source moment per unit peak moment density)".to_string()),
     );
+    super::cache::seal(&mut store);
     store.write_atomic(path)
 }
 

@@ -45,7 +45,10 @@ impl Store {
         // on a damaged file must become an error, not abort the caller.
         let outcome = catch_unwind(AssertUnwindSafe(|| read_bytes(bytes, wanted)));
         match outcome {
-            Ok(Ok(store)) => Ok(store),
+            Ok(Ok(store)) => {
+                super::cache::verify(&store, path)?;
+                Ok(store)
+            }
             Ok(Err(ReadFailure::Backend(message))) => Err(IoError::Hdf5 {
                 path: path.to_path_buf(),
                 message,
@@ -129,7 +132,19 @@ impl From<String> for ReadFailure {
 
 /// Name the object an HDF5 error happened at.
 fn at_object(at: &str) -> impl Fn(hdf5::Error) -> ReadFailure + '_ {
-    move |e| ReadFailure::Backend(format!("{at}: {e}"))
+    move |e| ReadFailure::Backend(format!("{at}: {}", describe(&e)))
+}
+
+/// The backend's message, except where it reads a link without an object
+/// address: soft and external links have none, and the backend then asks
+/// for 2^64 - 1 bytes, which says nothing to a user.
+fn describe(e: &hdf5::Error) -> String {
+    let text = e.to_string();
+    if text.contains(&u64::MAX.to_string()) {
+        "a member is a soft or external link, which is not supported; expected datasets and groups stored in the file (copy the linked data in, e.g. with h5py's `f[name] = f[target][()]`)".to_string()
+    } else {
+        text
+    }
 }
 
 /// What a traversal needs beside the group: the filter of wanted datasets
@@ -141,7 +156,7 @@ struct Visit<'a> {
 
 fn read_bytes(bytes: Vec<u8>, wanted: &dyn Fn(&str) -> bool) -> Result<Store, ReadFailure> {
     let file_bytes = bytes.len() as u64;
-    let file = hdf5::File::from_bytes(bytes).map_err(|e| e.to_string())?;
+    let file = hdf5::File::from_bytes(bytes).map_err(|e| describe(&e))?;
     let mut store = Store::default();
     let visit = Visit { wanted, file_bytes };
     visit_group(&file.root(), "/", &mut store, 0, &visit)?;

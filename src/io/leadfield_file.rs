@@ -126,6 +126,7 @@ pub fn insert_leadfield(store: &mut Store, lf: &LeadFieldFile) {
 pub fn write_leadfield(path: &Path, lf: &LeadFieldFile) -> Result<(), IoError> {
     let mut store = Store::new();
     insert_leadfield(&mut store, lf);
+    super::cache::seal(&mut store);
     store.write_atomic(path)
 }
 

@@ -133,6 +133,9 @@ impl Args {
         }
         check_count("--resamples", self.resamples as u64, RESAMPLE_RECORD_BYTES)
             .bad_input("checking the options")?;
+        // The dictionary options key the cache: they are checked here, before
+        // any lookup, so that a NaN can never stand for the default entry.
+        self.dictionary_options.params()?;
         Ok(FitOptions {
             lambda,
             joint: self.joint,
@@ -351,9 +354,14 @@ fn cached_dictionary(
 ) -> Result<DictionaryFile, CliError> {
     let d_path = entry_path(cache, "dictionary", d_hash);
     if d_path.is_file() {
-        if let Ok(d) = read_dictionary(&d_path) {
-            note(format!("using cached dictionary {}", d_path.display()));
-            return Ok(d);
+        match read_dictionary(&d_path) {
+            Ok(d) => {
+                note(format!("using cached dictionary {}", d_path.display()));
+                return Ok(d);
+            }
+            Err(e) => note(format!(
+                "note: the cached dictionary is damaged ({e}); rebuilding it"
+            )),
         }
     }
     let lf_path = entry_path(cache, "leadfield", lf_hash);
@@ -363,7 +371,12 @@ fn cached_dictionary(
                 note(format!("using cached lead field {}", lf_path.display()));
                 Ok(lf)
             }
-            _ => {
+            outcome => {
+                if let (Err(e), true) = (outcome, lf_path.is_file()) {
+                    note(format!(
+                        "note: the cached lead field is damaged ({e}); rebuilding it"
+                    ));
+                }
                 let lf = compute_leadfield(montage, sources, head, orientation)?;
                 write_leadfield(&lf_path, &lf).compute(format!("caching {}", lf_path.display()))?;
                 Ok::<_, CliError>(lf)
