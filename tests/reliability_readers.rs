@@ -10,7 +10,12 @@ mod common;
 use std::path::PathBuf;
 
 use patchwise::io::decoder_file::read_matrix;
-use patchwise::io::sources_file::InputError;
+use patchwise::io::dictionary_file::read_dictionary;
+use patchwise::io::gifti::{read_gifti_labels, write_gifti_labels, GiftiEncoding};
+use patchwise::io::leadfield_file::read_leadfield;
+use patchwise::io::npy::write_npy_f64;
+use patchwise::io::sources_file::{InputError, POINT_SOURCE_AREA_MM2};
+use patchwise::io::{Dataset, IoError, Store};
 
 fn scratch(name: &str) -> PathBuf {
     common::python::scratch_dir(&format!("reliability_readers_{name}"))
@@ -73,5 +78,258 @@ fn space_separated_savetxt_matrix_is_read() {
     assert_eq!(
         read_matrix(&path).unwrap(),
         (vec![1.0, -0.25, 3.0, 4.0], 2, 2)
+    );
+}
+
+/// A decoder on the 10-20 channels with two seeded pattern columns, as
+/// `decoder.h5` in `dir`; returns the channel count.
+fn decoder(dir: &std::path::Path) -> usize {
+    let labels = patchwise::montage::standard("10-20", 0.09).unwrap().labels;
+    let n = labels.len();
+    let mut state = 11u64;
+    let values: Vec<f64> = (0..n * 2)
+        .map(|_| {
+            state = state
+                .wrapping_mul(6_364_136_223_846_793_005)
+                .wrapping_add(1);
+            (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+        })
+        .collect();
+    let mut store = Store::new();
+    store.insert("/channels", Dataset::strings(labels));
+    store.insert("/patterns", Dataset::f64(vec![n, 2], values));
+    store.write_atomic(&dir.join("decoder.h5")).unwrap();
+    n
+}
+
+/// Points on the upper half of a 70 mm sphere (a golden-angle spiral), as
+/// rows `x,y,z` in mm.
+fn hemisphere_points(n: usize) -> Vec<[f64; 3]> {
+    (0..n)
+        .map(|i| {
+            let z = 0.05 + 0.9 * (i as f64 + 0.5) / n as f64;
+            let r = (1.0 - z * z).sqrt();
+            let phi = i as f64 * 2.399_963;
+            [70.0 * r * phi.cos(), 70.0 * r * phi.sin(), 70.0 * z]
+        })
+        .collect()
+}
+
+fn stderr_of(out: &std::process::Output) -> String {
+    String::from_utf8_lossy(&out.stderr).into_owned()
+}
+
+#[test]
+fn table_sources_without_triangles_get_a_documented_point_area() {
+    let dir = scratch("table_sources");
+    decoder(&dir);
+    let mut text = String::from("x,y,z\n");
+    for p in hemisphere_points(300) {
+        text.push_str(&format!("{},{},{}\n", p[0], p[1], p[2]));
+    }
+    let table = write(&dir, "sources.csv", &text);
+    let sources = patchwise::io::sources_file::read_sources(&table).unwrap();
+    assert!(sources
+        .areas
+        .iter()
+        .all(|&a| a == POINT_SOURCE_AREA_MM2 * 1e-6));
+    let out = common::cli::patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "decoder.h5",
+            "--montage",
+            "10-20",
+            "--sources",
+            "sources.csv",
+            "--radii-mm",
+            "15",
+            "--resamples",
+            "0",
+            "--no-report",
+            "--out",
+            "out",
+        ],
+        &dir,
+    );
+    let text = stderr_of(&out);
+    assert!(out.status.success(), "{text}");
+    assert!(
+        text.contains("sources.csv has no triangles") && text.contains("1 mm²"),
+        "{text}"
+    );
+}
+
+#[test]
+fn leadfield_import_without_triangles_gets_a_documented_point_area() {
+    let dir = scratch("import_points");
+    let labels = patchwise::montage::standard("10-20", 0.09).unwrap().labels;
+    let points = hemisphere_points(50);
+    let n_ch = labels.len();
+    let gain: Vec<f64> = (0..n_ch * points.len())
+        .map(|k| ((k * 7919) % 101) as f64 - 50.0)
+        .collect();
+    let positions: Vec<f64> = points.iter().flatten().copied().collect();
+    let normals: Vec<f64> = points
+        .iter()
+        .flat_map(|p| {
+            let r = (p[0] * p[0] + p[1] * p[1] + p[2] * p[2]).sqrt();
+            [p[0] / r, p[1] / r, p[2] / r]
+        })
+        .collect();
+    write_npy_f64(&dir.join("gain.npy"), &gain, &[n_ch, points.len()]).unwrap();
+    write_npy_f64(&dir.join("positions.npy"), &positions, &[points.len(), 3]).unwrap();
+    write_npy_f64(&dir.join("normals.npy"), &normals, &[points.len(), 3]).unwrap();
+    write(&dir, "channels.txt", &(labels.join("\n") + "\n"));
+    let out = common::cli::patchwise(
+        &[
+            "leadfield",
+            "import",
+            "--gain",
+            "gain.npy",
+            "--positions",
+            "positions.npy",
+            "--normals",
+            "normals.npy",
+            "--channels",
+            "channels.txt",
+            "--out",
+            "lf.h5",
+        ],
+        &dir,
+    );
+    let text = stderr_of(&out);
+    assert!(out.status.success(), "{text}");
+    assert!(
+        text.contains("has no triangles") && text.contains("1 mm²"),
+        "{text}"
+    );
+    let lf = read_leadfield(&dir.join("lf.h5")).unwrap();
+    assert!(lf.sources.areas.iter().all(|&a| a == 1e-6));
+    let out = common::cli::patchwise(
+        &[
+            "dictionary",
+            "--leadfield",
+            "lf.h5",
+            "--radii-mm",
+            "20",
+            "--out",
+            "d.h5",
+        ],
+        &dir,
+    );
+    assert!(out.status.success(), "{}", stderr_of(&out));
+}
+
+#[test]
+fn duplicate_region_names_in_a_gifti_label_table_are_refused() {
+    let dir = scratch("duplicate_regions");
+    let path = dir.join("regions.label.gii");
+    let names: Vec<String> = ["frontal", "parietal", "frontal"]
+        .map(String::from)
+        .to_vec();
+    write_gifti_labels(&path, &[0, 1, 2, -1], &names, GiftiEncoding::Ascii).unwrap();
+    match read_gifti_labels(&path) {
+        Err(IoError::Value {
+            path: p,
+            object,
+            message,
+        }) => {
+            assert_eq!(p, path);
+            assert_eq!(object, "LabelTable");
+            assert!(
+                message.contains("\"frontal\" is given to keys 1 and 3"),
+                "{message}"
+            );
+        }
+        other => panic!("expected a duplicate-name error, got {other:?}"),
+    }
+}
+
+#[test]
+fn all_zero_dictionary_and_gain_are_refused() {
+    let dir = scratch("all_zero");
+    let mut store = Store::new();
+    store.insert(
+        "/dictionary/atoms",
+        Dataset::f64(vec![19, 4], vec![0.0; 76]),
+    );
+    store.insert("/dictionary/group", Dataset::i64(vec![4], vec![0, 1, 2, 3]));
+    store.write_atomic(&dir.join("zero.h5")).unwrap();
+    match read_dictionary(&dir.join("zero.h5")) {
+        Err(IoError::Value {
+            object, message, ..
+        }) => {
+            assert_eq!(object, "/dictionary/atoms");
+            assert!(message.contains("every value is zero"), "{message}");
+        }
+        other => panic!("expected an all-zero error, got {other:?}"),
+    }
+    decoder(&dir);
+    let out = common::cli::patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "decoder.h5",
+            "--dictionary",
+            "zero.h5",
+            "--out",
+            "out",
+        ],
+        &dir,
+    );
+    let text = stderr_of(&out);
+    assert_eq!(out.status.code(), Some(2), "{text}");
+    assert!(
+        text.contains("zero.h5") && text.contains("/dictionary/atoms"),
+        "{text}"
+    );
+    assert!(!dir.join("out").exists());
+    let mut lf = Store::new();
+    lf.insert(
+        "/montage/labels",
+        Dataset::strings(vec!["Cz".into(), "Pz".into()]),
+    );
+    lf.insert("/leadfield/gain", Dataset::f64(vec![2, 3], vec![0.0; 6]));
+    lf.write_atomic(&dir.join("lf.h5")).unwrap();
+    match read_leadfield(&dir.join("lf.h5")) {
+        Err(IoError::Value { object, .. }) => assert_eq!(object, "/leadfield/gain"),
+        other => panic!("expected an all-zero error, got {other:?}"),
+    }
+}
+
+#[test]
+fn dictionary_without_channel_labels_matched_by_count_gives_a_note() {
+    let dir = scratch("unlabelled_dictionary");
+    let n = decoder(&dir);
+    let atoms: Vec<f64> = (0..n * 6).map(|k| ((k * 37) % 17) as f64 - 8.0).collect();
+    let mut store = Store::new();
+    store.insert("/dictionary/atoms", Dataset::f64(vec![n, 6], atoms));
+    store.insert(
+        "/dictionary/group",
+        Dataset::i64(vec![6], vec![0, 1, 2, 3, 4, 5]),
+    );
+    store.write_atomic(&dir.join("nolabels.h5")).unwrap();
+    let out = common::cli::patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "decoder.h5",
+            "--dictionary",
+            "nolabels.h5",
+            "--resamples",
+            "0",
+            "--no-report",
+            "--out",
+            "out",
+        ],
+        &dir,
+    );
+    let text = stderr_of(&out);
+    assert!(out.status.success(), "{text}");
+    assert!(
+        text.contains("nolabels.h5 has no channel labels")
+            && text.contains("matched by count only"),
+        "{text}"
     );
 }

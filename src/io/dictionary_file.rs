@@ -150,6 +150,13 @@ pub fn read_dictionary(path: &Path) -> Result<DictionaryFile, IoError> {
             "is empty; expected n_ch × n_atoms with both at least 1".to_string(),
         ));
     }
+    if atoms.iter().all(|&a| a == 0.0) {
+        return Err(value_error(
+            path,
+            "/dictionary/atoms",
+            "every value is zero; expected atoms with a scalp field".to_string(),
+        ));
+    }
     let groups = store.i64s(path, "/dictionary/group", Some(n_atoms))?;
     // Every group holds at least one atom, so a valid index is below the atom
     // count; checking that before sizing anything keeps a damaged index

@@ -161,6 +161,13 @@ pub fn leadfield_from_store(store: &Store, path: &Path) -> Result<LeadFieldFile,
     let labels = store.strings(path, "/montage/labels", None)?;
     let n_ch = labels.len();
     let (gain, _, n_src) = store.f64_matrix(path, "/leadfield/gain", Some(n_ch), None)?;
+    if !gain.is_empty() && gain.iter().all(|&g| g == 0.0) {
+        return Err(value_error(
+            path,
+            "/leadfield/gain",
+            "every value is zero; expected a lead field with a scalp field".to_string(),
+        ));
+    }
     let (epos, _, _) = store.f64_matrix(path, "/montage/positions_mm", Some(n_ch), Some(3))?;
     let sources = sources_from_store(store, path, Some(n_src))?;
     let gain_xyz = if store.contains("/leadfield/gain_xyz") {

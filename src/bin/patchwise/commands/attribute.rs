@@ -404,6 +404,11 @@ fn restrict(
                 labels.len()
             )));
         }
+        note(format!(
+            "note: {} has no channel labels: its {} rows are taken to be the decoder's channels in the decoder's order (matched by count only)",
+            path.display(),
+            dict.n_channels
+        ));
         return Ok(dict);
     };
     let montage = Montage::new(lf.labels.clone(), lf.electrode_positions.clone())
