@@ -9,8 +9,6 @@ mod common;
 use std::path::{Path, PathBuf};
 
 use patchwise::io::dictionary_file::read_dictionary;
-use patchwise::io::{Dataset, IoError, Store};
-use patchwise::montage::standard;
 
 use common::cli::patchwise;
 
@@ -18,49 +16,27 @@ fn scratch(name: &str) -> PathBuf {
     common::python::scratch_dir(&format!("reliability_cache_{name}"))
 }
 
-/// A decoder on the 10-20 channels with two seeded pattern columns.
 fn decoder(dir: &Path) -> PathBuf {
-    let labels = standard("10-20", 0.09).unwrap().labels;
-    let n = labels.len();
-    let mut state = 7u64;
-    let mut next = || {
-        state = state
-            .wrapping_mul(6_364_136_223_846_793_005)
-            .wrapping_add(1);
-        (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
-    };
-    let values: Vec<f64> = (0..n * 2).map(|_| next()).collect();
-    let mut store = Store::new();
-    store.insert("/channels", Dataset::strings(labels));
-    store.insert("/patterns", Dataset::f64(vec![n, 2], values));
-    let path = dir.join("decoder.h5");
-    store.write_atomic(&path).unwrap();
-    path
+    common::files::decoder_10_20(dir, 7).0
 }
 
-fn attribute(dir: &Path, out: &str, extra: &[&str]) -> std::process::Output {
-    let mut args = vec![
-        "attribute",
-        "--decoder",
-        "decoder.h5",
-        "--montage",
-        "10-20",
-        "--sources",
-        "template-5k",
-        "--radii-mm",
-        "10",
-        "--spacing-mm",
-        "20",
-        "--resamples",
-        "0",
-        "--no-report",
-        "--cache",
-        "cache",
-        "--out",
+fn attribute(dir: &Path, out: &str) -> (bool, String) {
+    common::files::attribute_quickly(
+        dir,
         out,
-    ];
-    args.extend_from_slice(extra);
-    patchwise(&args, dir)
+        &[
+            "--montage",
+            "10-20",
+            "--sources",
+            "template-5k",
+            "--radii-mm",
+            "10",
+            "--spacing-mm",
+            "20",
+            "--cache",
+            "cache",
+        ],
+    )
 }
 
 /// Flip the lowest bit of one atom value inside the file's bytes: the value
@@ -94,29 +70,18 @@ fn the_entry(cache: &Path, kind: &str) -> PathBuf {
 fn cached_dictionary_with_flipped_atom_bytes_is_detected_and_rebuilt() {
     let dir = scratch("flipped");
     decoder(&dir);
-    let first = attribute(&dir, "first", &[]);
-    assert!(
-        first.status.success(),
-        "{}",
-        String::from_utf8_lossy(&first.stderr)
-    );
+    let (ok, text) = attribute(&dir, "first");
+    assert!(ok, "{text}");
     let entry = the_entry(&dir.join("cache"), "dictionary");
     flip_an_atom(&entry);
-    match read_dictionary(&entry) {
-        Err(IoError::Value {
-            path,
-            object,
-            message,
-        }) => {
-            assert_eq!(path, entry);
-            assert_eq!(object, "/dictionary/atoms");
-            assert!(message.contains("checksum mismatch"), "{message}");
-        }
-        other => panic!("expected a checksum error, got {other:?}"),
-    }
-    let second = attribute(&dir, "second", &[]);
-    let text = String::from_utf8_lossy(&second.stderr);
-    assert!(second.status.success(), "{text}");
+    common::files::assert_value_error(
+        read_dictionary(&entry),
+        &entry,
+        "/dictionary/atoms",
+        "checksum mismatch",
+    );
+    let (ok, text) = attribute(&dir, "second");
+    assert!(ok, "{text}");
     assert!(text.contains("the cached dictionary is damaged"), "{text}");
     assert!(text.contains("checksum mismatch"), "{text}");
     // The rebuilt entry is sound and gives the same result.

@@ -15,7 +15,7 @@ use patchwise::io::gifti::{read_gifti_labels, write_gifti_labels, GiftiEncoding}
 use patchwise::io::leadfield_file::read_leadfield;
 use patchwise::io::npy::write_npy_f64;
 use patchwise::io::sources_file::{InputError, POINT_SOURCE_AREA_MM2};
-use patchwise::io::{Dataset, IoError, Store};
+use patchwise::io::{Dataset, Store};
 
 fn scratch(name: &str) -> PathBuf {
     common::python::scratch_dir(&format!("reliability_readers_{name}"))
@@ -81,25 +81,8 @@ fn space_separated_savetxt_matrix_is_read() {
     );
 }
 
-/// A decoder on the 10-20 channels with two seeded pattern columns, as
-/// `decoder.h5` in `dir`; returns the channel count.
 fn decoder(dir: &std::path::Path) -> usize {
-    let labels = patchwise::montage::standard("10-20", 0.09).unwrap().labels;
-    let n = labels.len();
-    let mut state = 11u64;
-    let values: Vec<f64> = (0..n * 2)
-        .map(|_| {
-            state = state
-                .wrapping_mul(6_364_136_223_846_793_005)
-                .wrapping_add(1);
-            (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
-        })
-        .collect();
-    let mut store = Store::new();
-    store.insert("/channels", Dataset::strings(labels));
-    store.insert("/patterns", Dataset::f64(vec![n, 2], values));
-    store.write_atomic(&dir.join("decoder.h5")).unwrap();
-    n
+    common::files::decoder_10_20(dir, 11).1
 }
 
 /// Points on the upper half of a 70 mm sphere (a golden-angle spiral), as
@@ -133,27 +116,19 @@ fn table_sources_without_triangles_get_a_documented_point_area() {
         .areas
         .iter()
         .all(|&a| a == POINT_SOURCE_AREA_MM2 * 1e-6));
-    let out = common::cli::patchwise(
+    let (ok, text) = common::files::attribute_quickly(
+        &dir,
+        "out",
         &[
-            "attribute",
-            "--decoder",
-            "decoder.h5",
             "--montage",
             "10-20",
             "--sources",
             "sources.csv",
             "--radii-mm",
             "15",
-            "--resamples",
-            "0",
-            "--no-report",
-            "--out",
-            "out",
         ],
-        &dir,
     );
-    let text = stderr_of(&out);
-    assert!(out.status.success(), "{text}");
+    assert!(ok, "{text}");
     assert!(
         text.contains("sources.csv has no triangles") && text.contains("1 mm²"),
         "{text}"
@@ -229,21 +204,12 @@ fn duplicate_region_names_in_a_gifti_label_table_are_refused() {
         .map(String::from)
         .to_vec();
     write_gifti_labels(&path, &[0, 1, 2, -1], &names, GiftiEncoding::Ascii).unwrap();
-    match read_gifti_labels(&path) {
-        Err(IoError::Value {
-            path: p,
-            object,
-            message,
-        }) => {
-            assert_eq!(p, path);
-            assert_eq!(object, "LabelTable");
-            assert!(
-                message.contains("\"frontal\" is given to keys 1 and 3"),
-                "{message}"
-            );
-        }
-        other => panic!("expected a duplicate-name error, got {other:?}"),
-    }
+    common::files::assert_value_error(
+        read_gifti_labels(&path),
+        &path,
+        "LabelTable",
+        "\"frontal\" is given to keys 1 and 3",
+    );
 }
 
 #[test]
@@ -256,15 +222,12 @@ fn all_zero_dictionary_and_gain_are_refused() {
     );
     store.insert("/dictionary/group", Dataset::i64(vec![4], vec![0, 1, 2, 3]));
     store.write_atomic(&dir.join("zero.h5")).unwrap();
-    match read_dictionary(&dir.join("zero.h5")) {
-        Err(IoError::Value {
-            object, message, ..
-        }) => {
-            assert_eq!(object, "/dictionary/atoms");
-            assert!(message.contains("every value is zero"), "{message}");
-        }
-        other => panic!("expected an all-zero error, got {other:?}"),
-    }
+    common::files::assert_value_error(
+        read_dictionary(&dir.join("zero.h5")),
+        &dir.join("zero.h5"),
+        "/dictionary/atoms",
+        "every value is zero",
+    );
     decoder(&dir);
     let out = common::cli::patchwise(
         &[
@@ -292,10 +255,12 @@ fn all_zero_dictionary_and_gain_are_refused() {
     );
     lf.insert("/leadfield/gain", Dataset::f64(vec![2, 3], vec![0.0; 6]));
     lf.write_atomic(&dir.join("lf.h5")).unwrap();
-    match read_leadfield(&dir.join("lf.h5")) {
-        Err(IoError::Value { object, .. }) => assert_eq!(object, "/leadfield/gain"),
-        other => panic!("expected an all-zero error, got {other:?}"),
-    }
+    common::files::assert_value_error(
+        read_leadfield(&dir.join("lf.h5")),
+        &dir.join("lf.h5"),
+        "/leadfield/gain",
+        "every value is zero",
+    );
 }
 
 #[test]
@@ -310,23 +275,9 @@ fn dictionary_without_channel_labels_matched_by_count_gives_a_note() {
         Dataset::i64(vec![6], vec![0, 1, 2, 3, 4, 5]),
     );
     store.write_atomic(&dir.join("nolabels.h5")).unwrap();
-    let out = common::cli::patchwise(
-        &[
-            "attribute",
-            "--decoder",
-            "decoder.h5",
-            "--dictionary",
-            "nolabels.h5",
-            "--resamples",
-            "0",
-            "--no-report",
-            "--out",
-            "out",
-        ],
-        &dir,
-    );
-    let text = stderr_of(&out);
-    assert!(out.status.success(), "{text}");
+    let (ok, text) =
+        common::files::attribute_quickly(&dir, "out", &["--dictionary", "nolabels.h5"]);
+    assert!(ok, "{text}");
     assert!(
         text.contains("nolabels.h5 has no channel labels")
             && text.contains("matched by count only"),

@@ -134,7 +134,7 @@ pub fn verify(store: &super::store::Store, path: &Path) -> Result<(), super::IoE
                 path: path.to_path_buf(),
                 object: name.clone(),
                 message: format!(
-                    "content checksum mismatch (stored {stored:?}, computed {computed}): the file is damaged"
+                    "content checksum mismatch (stored {stored:?}, computed {computed}): the file is damaged, or the values were changed after patchwise wrote them (remove the attribute {CHECKSUM_ATTR} of a dataset changed on purpose)"
                 ),
             });
         }
