@@ -149,9 +149,13 @@ fn patch_dims(bytes: &mut [u8], from: &[u64], to: &[u64]) {
     assert_eq!(hits.len(), 1, "the dimensions must occur once");
     let at = hits[0];
     bytes[at..at + to.len()].copy_from_slice(&to);
-    // The enclosing version-2 object header: "OHDR", version, flags,
-    // optional times and attribute phase values, the chunk size, the
-    // messages, then the checksum.
+    reseal(bytes, at);
+}
+
+/// Recompute the checksum of the version-2 object header holding byte `at`:
+/// "OHDR", version, flags, optional times and attribute phase values, the
+/// chunk size, the messages, then the checksum.
+fn reseal(bytes: &mut [u8], at: usize) {
     let start = (0..at)
         .rev()
         .find(|&i| &bytes[i..i + 4] == b"OHDR")
@@ -168,7 +172,7 @@ fn patch_dims(bytes: &mut [u8], from: &[u64], to: &[u64]) {
     let mut size = [0u8; 8];
     size[..width].copy_from_slice(&bytes[p..p + width]);
     let end = p + width + u64::from_le_bytes(size) as usize;
-    assert!(end > at, "the dimensions lie in the first chunk");
+    assert!(end > at, "the patch lies in the first chunk");
     let sum = lookup3(&bytes[start..end]);
     bytes[end..end + 4].copy_from_slice(&sum.to_le_bytes());
 }
