@@ -284,3 +284,35 @@ fn dictionary_without_channel_labels_matched_by_count_gives_a_note() {
         "{text}"
     );
 }
+
+#[test]
+fn hdf5_soft_link_gives_a_clear_message() {
+    let Some(python) = common::python::python() else {
+        return;
+    };
+    let dir = scratch("soft_link");
+    let path = dir.join("decoder.h5");
+    // h5py's default groups keep a soft link as a symbol-table entry
+    // without an object address.
+    common::python::run(
+        &python,
+        "import sys, h5py, numpy as np\n\
+         with h5py.File(sys.argv[1], 'w') as f:\n\
+         \x20   f['channels'] = np.array([b'Cz', b'Pz'])\n\
+         \x20   f['data/p'] = np.ones((2, 3))\n\
+         \x20   f['patterns'] = h5py.SoftLink('/data/p')\n",
+        &[&path],
+    );
+    let out = common::cli::patchwise(
+        &["attribute", "--decoder", "decoder.h5", "--out", "out"],
+        &dir,
+    );
+    let text = stderr_of(&out);
+    assert_eq!(out.status.code(), Some(2), "{text}");
+    assert!(
+        text.contains("decoder.h5") && text.contains("soft or external link"),
+        "{text}"
+    );
+    assert!(!text.contains("18446744073709551615"), "{text}");
+    assert!(!dir.join("out").exists());
+}
