@@ -1,7 +1,7 @@
 //! A mutation fuzzer over every file reader (issue 18, item 16).
 //!
 //! The test builds a corpus of valid files itself (NPY, NPZ, HDF5 decoder,
-//! lead field and dictionary, GIFTI surfaces in three encodings and labels,
+//! lead field and dictionary, MATLAB v7.3 decoder when h5py is there, GIFTI surfaces in three encodings and labels,
 //! PLY ASCII and binary, OFF, CSV/TSV matrices, electrodes and sources, head
 //! TOML, job TOML), then mutates each with a seeded generator (bit flips,
 //! interesting bytes, truncations, insertions, duplicated slices, numbers in
@@ -255,6 +255,16 @@ fn corpus(dir: &Path) -> Vec<Target> {
         let text = String::from_utf8_lossy(&std::fs::read(p).unwrap()).into_owned();
         patchwise::head::HeadSpec::from_toml_str(&text, "head.toml").is_ok()
     });
+    // A MATLAB v7.3 decoder, made by the parent with h5py when the Python
+    // reference environment is there (see `matlab_decoder`).
+    if dir.join("decoder.mat").is_file() {
+        add(
+            "matlab v7.3",
+            "decoder.mat",
+            bytes_of(&dir.join("decoder.mat")),
+            |p| patchwise::io::decoder_file::read_decoder(p, None).is_ok(),
+        );
+    }
     let job = b"[defaults]\nmontage = \"10-20\"\nresamples = 10\nradii_mm = [5.0, 10.0]\n\n[[job]]\nname = \"s1\"\ndecoder = \"decoder.h5\"\nlambda_ratio = 0.1\n\n[[job]]\nname = \"s2\"\ndecoder = \"decoder.h5\"\nspacing_mm = 7.5\n\n[compare]\nout = \"group\"\n".to_vec();
     add("job toml", "jobs.toml", job, |p| {
         patchwise::batch::load_script(p).is_ok()
@@ -429,7 +439,7 @@ struct ChildRun {
 
 /// Run `fuzz_child` under the memory cap with `env` added, killed after
 /// `deadline_s` seconds.
-fn run_child(env: &[(&str, &str)], deadline_s: f64) -> ChildRun {
+fn run_child(env: &[(&str, &str)], deadline_s: f64, prepare: fn(&Path) -> bool) -> ChildRun {
     static RUNS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
     let run = RUNS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
     // Each case writes its input and a progress line: on a memory file
@@ -442,6 +452,7 @@ fn run_child(env: &[(&str, &str)], deadline_s: f64) -> ChildRun {
     } else {
         common::python::scratch_dir(&format!("fuzz_readers_{run}"))
     };
+    prepare(&dir);
     let exe = std::env::current_exe().unwrap();
     let script = format!(
         "ulimit -v {FUZZ_CAP_KIB} && exec '{}' --exact fuzz_child --ignored --nocapture --test-threads 1",
@@ -497,12 +508,36 @@ fn run_child(env: &[(&str, &str)], deadline_s: f64) -> ChildRun {
     }
 }
 
+/// Write `decoder.mat` (MATLAB v7.3: a 512-byte user block with the
+/// MAT-file header, `channels` as a char matrix, `patterns` transposed) into
+/// `dir` with h5py; false when the Python reference environment is absent.
+fn matlab_decoder(dir: &Path) -> bool {
+    let Some(python) = common::python::python() else {
+        return false;
+    };
+    let script = r#"
+import sys, h5py, numpy as np
+path = sys.argv[1]
+with h5py.File(path, "w", userblock_size=512) as f:
+    labels = np.array([[ord(c) for c in n] for n in ["Fp1", "Cz ", "Pz ", "Oz "]], dtype=np.uint16)
+    c = f.create_dataset("channels", data=labels.T)
+    c.attrs["MATLAB_class"] = np.bytes_(b"char")
+    p = f.create_dataset("patterns", data=np.arange(8.0).reshape(4, 2).T)
+    p.attrs["MATLAB_class"] = np.bytes_(b"double")
+header = b"MATLAB 7.3 MAT-file, Platform: GLNXA64, Created on: Mon Jan  1 00:00:00 2024 HDF5 schema 1.00 ."
+with open(path, "r+b") as fh:
+    fh.write(header.ljust(116, b" ") + b"\x00" * 8 + b"\x00\x02IM")
+"#;
+    common::python::run(&python, script, &[&dir.join("decoder.mat")]);
+    true
+}
+
 #[test]
 fn fuzz_every_reader() {
-    // A time limit of 2 ms a case on average over 18 readers, 2 minutes at
+    // A time limit of 2 ms a case on average over 19 readers, 2 minutes at
     // the least: a reader that spins is stopped and named.
-    let deadline = (cases_per_reader() as f64 * 18.0 * 0.002).max(120.0);
-    let run = run_child(&[], deadline);
+    let deadline = (cases_per_reader() as f64 * 19.0 * 0.002).max(120.0);
+    let run = run_child(&[], deadline, matlab_decoder);
     let _ = std::io::stdout().write_all(run.stdout.as_bytes());
     assert!(
         run.success,
@@ -528,6 +563,7 @@ fn fuzz_harness_catches_panics_and_allocations_beyond_the_cap() {
             ("PATCHWISE_FUZZ_CASES", "200"),
         ],
         120.0,
+        |_| true,
     );
     assert!(!run.success);
     assert!(
@@ -542,6 +578,7 @@ fn fuzz_harness_catches_panics_and_allocations_beyond_the_cap() {
             ("PATCHWISE_FUZZ_CASES", "5"),
         ],
         120.0,
+        |_| true,
     );
     assert!(!run.success);
     assert!(

@@ -316,3 +316,24 @@ fn hdf5_soft_link_gives_a_clear_message() {
     assert!(!text.contains("18446744073709551615"), "{text}");
     assert!(!dir.join("out").exists());
 }
+
+/// Found by the fuzzer: a MATLAB matrix whose shape promises more values
+/// than were read was transposed before its count was checked (a panic).
+#[test]
+fn matlab_matrix_declaring_more_values_than_it_holds_is_an_error() {
+    let mut ds = Dataset::f64(vec![3, 2], vec![1.0; 4]);
+    ds.attrs.insert(
+        "MATLAB_class".to_string(),
+        patchwise::io::Attr::Str("double".to_string()),
+    );
+    let mut store = Store::new();
+    store.insert("/patterns", ds);
+    let file = std::path::Path::new("decoder.mat");
+    match store.f64_matrix(file, "/patterns", None, None) {
+        Err(patchwise::io::IoError::Shape { path, dataset, .. }) => {
+            assert_eq!(path, file);
+            assert_eq!(dataset, "/patterns");
+        }
+        other => panic!("expected a shape error, got {other:?}"),
+    }
+}
