@@ -10,6 +10,7 @@ use super::error::BatchError;
 use super::script::{line_column, JobOptions, LenientScript, RawJob, RawScript};
 use crate::geometry::TemplateResolution;
 use crate::io::cache::{file_sha256, ContentHash};
+use crate::limits::{check_count, RESAMPLE_RECORD_BYTES};
 use crate::montage::standard_names;
 
 /// One job, ready to run: its options are merged with `[defaults]` and its
@@ -70,7 +71,7 @@ pub struct Script {
 
 /// Read and validate the job script at `path`.
 pub fn load_script(path: &Path) -> Result<Script, BatchError> {
-    let text = std::fs::read_to_string(path).map_err(|source| BatchError::Io {
+    let text = crate::io::input::read_input_string(path).map_err(|source| BatchError::Io {
         path: path.to_path_buf(),
         source,
     })?;
@@ -351,6 +352,9 @@ fn check_values(o: &JobOptions) -> Result<(), String> {
                 "radii_mm = {r:?}; expected a non-empty list of positive lengths in mm"
             ));
         }
+    }
+    if let Some(r) = o.resamples {
+        check_count("resamples", r, RESAMPLE_RECORD_BYTES).map_err(|e| e.to_string())?;
     }
     if let Some(s) = o.spacing_mm {
         if !(s.is_finite() && s > 0.0) {

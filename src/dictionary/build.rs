@@ -86,13 +86,19 @@ pub struct DictionaryInfo {
     pub mean_patch_sources: Vec<f64>,
 }
 
+/// The area each source stands for when the sources are points without
+/// triangles: 1 mm², the same for every source, so that a patch weighs its
+/// sources equally (patch profiles are area-weighted). Give triangles for
+/// true vertex areas.
+pub const POINT_SOURCE_AREA_M2: f64 = 1e-6;
+
 /// Builds the patch dictionary: for every seed and radius a geodesic patch
 /// with the chosen profile, atoms = lead field × profile (one along the
 /// normals, or three free components in one group), average-referenced if
 /// asked, scaled to unit norm.
 ///
 /// - `mesh`: the source mesh (metres); sources are its vertices, weighted by
-///   their vertex areas.
+///   their vertex areas ([`POINT_SOURCE_AREA_M2`] each without triangles).
 /// - `gain`: row-major n_ch × n_src lead field along the normals (V/(A·m)).
 /// - `gain_xyz`: row-major n_ch × n_src × 3 free-orientation lead field;
 ///   required for [`super::AtomOrientation::Free`].
@@ -127,7 +133,13 @@ pub fn build_dictionary(
     check_gains(gain, gain_xyz, n_channels, n_src, need_xyz)?;
     let seeds = seeds.resolve(n_src)?;
 
-    let areas = mesh.vertex_areas();
+    // Points without triangles have no vertex areas (all zero, which made
+    // every atom zero); each stands for the same documented area instead.
+    let areas = if mesh.triangles.is_empty() {
+        vec![POINT_SOURCE_AREA_M2; n_src]
+    } else {
+        mesh.vertex_areas()
+    };
     let patches = build_patches(
         &areas,
         &seeds,

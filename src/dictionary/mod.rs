@@ -18,7 +18,10 @@ mod params;
 mod patches;
 
 pub use atoms::atoms_for_channels;
-pub use build::{build_dictionary, select_channels, Dictionary, DictionaryInfo, DroppedAtom};
+pub use build::{
+    build_dictionary, select_channels, Dictionary, DictionaryInfo, DroppedAtom,
+    POINT_SOURCE_AREA_M2,
+};
 pub use error::DictionaryError;
 pub use params::{
     AtomComponent, AtomOrientation, DictionaryParams, Profile, Seeds, DEFAULT_DROP_RELATIVE_NORM,

@@ -59,7 +59,7 @@ impl ContentHash {
 
 /// The SHA-256 of a file's bytes, as hexadecimal.
 pub fn file_sha256(path: &Path) -> std::io::Result<String> {
-    let bytes = std::fs::read(path)?;
+    let bytes = super::input::read_input(path)?;
     let digest = Sha256::digest(&bytes);
     Ok(digest.iter().map(|b| format!("{b:02x}")).collect())
 }
@@ -83,4 +83,61 @@ pub fn default_cache_dir() -> PathBuf {
 /// The path of a cache entry of `kind` with content hash `hash`.
 pub fn entry_path(cache_dir: &Path, kind: &str, hash: &str) -> PathBuf {
     cache_dir.join(format!("{kind}-{}.h5", &hash[..hash.len().min(24)]))
+}
+
+/// The dataset attribute that holds the CRC-32 of a dataset's values in a
+/// sealed file (see [`seal`]).
+pub const CHECKSUM_ATTR: &str = "checksum_crc32";
+
+/// The CRC-32 of a dataset's values: floats and integers by their
+/// little-endian bytes, strings length-prefixed, after the shape.
+pub fn dataset_checksum(ds: &super::store::Dataset) -> i64 {
+    use super::store::Array;
+    let mut crc = flate2::Crc::new();
+    for d in &ds.shape {
+        crc.update(&(*d as u64).to_le_bytes());
+    }
+    match &ds.data {
+        Array::F64(v) => v.iter().for_each(|x| crc.update(&x.to_le_bytes())),
+        Array::I64(v) => v.iter().for_each(|x| crc.update(&x.to_le_bytes())),
+        Array::Str(v) => v.iter().for_each(|s| {
+            crc.update(&(s.len() as u64).to_le_bytes());
+            crc.update(s.as_bytes());
+        }),
+        Array::Unsupported(t) => crc.update(t.as_bytes()),
+    }
+    i64::from(crc.sum())
+}
+
+/// Give every dataset of `store` a [`CHECKSUM_ATTR`] attribute, so that a
+/// reader finds flipped bytes in its values (a cache entry, damaged on disk,
+/// must not be used as if it were sound; see [`verify`]).
+pub fn seal(store: &mut super::store::Store) {
+    for ds in store.datasets.values_mut() {
+        let sum = dataset_checksum(ds);
+        ds.attrs
+            .insert(CHECKSUM_ATTR.to_string(), super::store::Attr::I64(sum));
+    }
+}
+
+/// Check the values of every dataset of `store` that carries a
+/// [`CHECKSUM_ATTR`] attribute; a mismatch is an error naming the file and
+/// the dataset. Datasets without the attribute (files made elsewhere) pass.
+pub fn verify(store: &super::store::Store, path: &Path) -> Result<(), super::IoError> {
+    for (name, ds) in &store.datasets {
+        let Some(stored) = ds.attrs.get(CHECKSUM_ATTR) else {
+            continue;
+        };
+        let computed = dataset_checksum(ds);
+        if *stored != super::store::Attr::I64(computed) {
+            return Err(super::IoError::Value {
+                path: path.to_path_buf(),
+                object: name.clone(),
+                message: format!(
+                    "content checksum mismatch (stored {stored:?}, computed {computed}): the file is damaged, or the values were changed after patchwise wrote them (remove the attribute {CHECKSUM_ATTR} of a dataset changed on purpose)"
+                ),
+            });
+        }
+    }
+    Ok(())
 }

@@ -229,8 +229,21 @@ fn check_square(path: &Path, rows: usize, cols: usize, n: usize) -> Result<(), I
     Ok(())
 }
 
+/// The datasets a decoder in an HDF5 or MATLAB file is read from; any other
+/// dataset in the file is neither read nor sized.
+const DECODER_DATASETS: [&str; 8] = [
+    "/channels",
+    "/patterns",
+    "/weights",
+    "/covariance",
+    "/component_names",
+    "/n_samples",
+    "/folds",
+    "/fold_covariances",
+];
+
 fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
-    let store = Store::read(path)?;
+    let store = Store::read_only(path, &|name| DECODER_DATASETS.contains(&name))?;
     let name = |n: &str| {
         if store.contains(n) {
             n.to_string()
@@ -287,36 +300,115 @@ impl Store {
     }
 }
 
-/// A numeric text matrix (comma, tab or semicolon separated; one header
-/// row and `#` comments allowed), row-major with its rows and columns.
+/// The field separator of a text matrix, found from its lines.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Separator {
+    Tab,
+    /// `;`, the separator of spreadsheets that write a decimal comma.
+    Semicolon,
+    Comma,
+    /// Runs of spaces (NumPy's `savetxt` default).
+    Spaces,
+}
+
+impl Separator {
+    /// A tab anywhere means tabs; else a semicolon means semicolons (and
+    /// commas are then decimal commas); else a comma means commas; else
+    /// spaces.
+    fn sniff<'a>(mut lines: impl Iterator<Item = &'a str> + Clone) -> Separator {
+        if lines.clone().any(|l| l.contains('\t')) {
+            Separator::Tab
+        } else if lines.clone().any(|l| l.contains(';')) {
+            Separator::Semicolon
+        } else if lines.any(|l| l.contains(',')) {
+            Separator::Comma
+        } else {
+            Separator::Spaces
+        }
+    }
+
+    fn split(self, line: &str) -> Vec<&str> {
+        match self {
+            Separator::Tab => line.split('\t').map(str::trim).collect(),
+            Separator::Semicolon => line.split(';').map(str::trim).collect(),
+            Separator::Comma => line.split(',').map(str::trim).collect(),
+            Separator::Spaces => line.split_whitespace().collect(),
+        }
+    }
+
+    fn name(self) -> &'static str {
+        match self {
+            Separator::Tab => "tabs",
+            Separator::Semicolon => "semicolons",
+            Separator::Comma => "commas",
+            Separator::Spaces => "spaces",
+        }
+    }
+}
+
+/// A field as a number; with any separator but the comma, one comma and no
+/// point is read as a decimal comma (`0,1257`).
+fn parse_field(field: &str, separator: Separator) -> Option<f64> {
+    if let Ok(v) = field.parse::<f64>() {
+        return Some(v);
+    }
+    let decimal_comma =
+        separator != Separator::Comma && field.matches(',').count() == 1 && !field.contains('.');
+    if decimal_comma {
+        field.replacen(',', ".", 1).parse().ok()
+    } else {
+        None
+    }
+}
+
+/// A numeric text matrix, row-major with its rows and columns. The separator
+/// is a tab, a semicolon (then a decimal comma is allowed), a comma or runs
+/// of spaces, found from the file; `#` comments and blank lines are skipped;
+/// the first line may be a header (no field a number), no other line. A
+/// field that is not a number is an error naming its line, data row and
+/// column.
 pub fn read_text_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), InputError> {
-    let text = std::fs::read_to_string(path).map_err(|source| super::IoError::File {
-        path: path.to_path_buf(),
-        source,
-    })?;
+    let text =
+        crate::io::input::read_input_string(path).map_err(|source| super::IoError::File {
+            path: path.to_path_buf(),
+            source,
+        })?;
+    let lines = text
+        .lines()
+        .enumerate()
+        .map(|(i, l)| (i + 1, l.trim()))
+        .filter(|(_, l)| !l.is_empty() && !l.starts_with('#'));
+    let separator = Separator::sniff(lines.clone().map(|(_, l)| l));
     let mut values = Vec::new();
     let mut rows = 0;
     let mut cols = None;
-    for (i, line) in text.lines().enumerate() {
-        let line = line.trim();
-        if line.is_empty() || line.starts_with('#') {
-            continue;
+    for (n, (line, content)) in lines.enumerate() {
+        let fields = separator.split(content);
+        let parsed: Vec<Option<f64>> = fields.iter().map(|f| parse_field(f, separator)).collect();
+        if n == 0 && parsed.iter().all(Option::is_none) {
+            continue; // the one header line
         }
-        let fields: Vec<&str> = line.split([',', '\t', ';']).map(str::trim).collect();
-        let parsed: Result<Vec<f64>, _> = fields.iter().map(|f| f.parse::<f64>()).collect();
-        let Ok(parsed) = parsed else {
-            if rows == 0 && values.is_empty() {
-                continue; // a header row
-            }
+        if let Some(c) = parsed.iter().position(Option::is_none) {
             return Err(content_error(
                 path,
-                format!("line {}: expected numbers separated by commas", i + 1),
+                format!(
+                    "line {line} (data row {}), column {}: {:?} is not a number (fields separated by {})",
+                    rows + 1,
+                    c + 1,
+                    fields[c],
+                    separator.name()
+                ),
             ));
-        };
+        }
+        let parsed: Vec<f64> = parsed.into_iter().flatten().collect();
         if let Some(j) = parsed.iter().position(|v| !v.is_finite()) {
             return Err(content_error(
                 path,
-                format!("line {}, field {}: value is not finite", i + 1, j + 1),
+                format!(
+                    "line {line} (data row {}), column {}: value is not finite",
+                    rows + 1,
+                    j + 1
+                ),
             ));
         }
         match cols {
@@ -324,7 +416,12 @@ pub fn read_text_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), InputEr
             Some(c) if c != parsed.len() => {
                 return Err(content_error(
                     path,
-                    format!("line {}: {} fields, expected {c}", i + 1, parsed.len()),
+                    format!(
+                        "line {line} (data row {}): {} fields, expected {c} (separated by {})",
+                        rows + 1,
+                        parsed.len(),
+                        separator.name()
+                    ),
                 ))
             }
             _ => {}

@@ -11,7 +11,9 @@ use std::path::Path;
 use sprs::CsMat;
 
 use super::error::IoError;
-use super::leadfield_file::{insert_leadfield, leadfield_from_store, LeadFieldFile};
+use super::leadfield_file::{
+    in_groups, insert_leadfield, leadfield_from_store, LeadFieldFile, LEADFIELD_GROUPS,
+};
 use super::store::{Attr, Dataset, Store};
 use crate::dictionary::{AtomComponent, Dictionary};
 
@@ -130,13 +132,16 @@ pub fn write_dictionary(
         "unit",
         Attr::Str("m^2 (source moment per unit peak moment density)".to_string()),
     );
+    super::cache::seal(&mut store);
     store.write_atomic(path)
 }
 
 /// Read a dictionary file, ours or one made elsewhere, validating shapes,
 /// finiteness and the group partition.
 pub fn read_dictionary(path: &Path) -> Result<DictionaryFile, IoError> {
-    let store = Store::read(path)?;
+    let store = Store::read_only(path, &|name| {
+        in_groups(name, LEADFIELD_GROUPS) || in_groups(name, &["/dictionary"])
+    })?;
     let (atoms, n_channels, n_atoms) = store.f64_matrix(path, "/dictionary/atoms", None, None)?;
     if n_atoms == 0 || n_channels == 0 {
         return Err(value_error(
@@ -145,18 +150,34 @@ pub fn read_dictionary(path: &Path) -> Result<DictionaryFile, IoError> {
             "is empty; expected n_ch × n_atoms with both at least 1".to_string(),
         ));
     }
+    if atoms.iter().all(|&a| a == 0.0) {
+        return Err(value_error(
+            path,
+            "/dictionary/atoms",
+            "every value is zero; expected atoms with a scalp field".to_string(),
+        ));
+    }
     let groups = store.i64s(path, "/dictionary/group", Some(n_atoms))?;
+    // Every group holds at least one atom, so a valid index is below the atom
+    // count; checking that before sizing anything keeps a damaged index
+    // (2^40, say) from allocating by it.
+    if let Some((j, &g)) = groups
+        .iter()
+        .enumerate()
+        .find(|(_, &g)| g < 0 || g as u64 >= n_atoms as u64)
+    {
+        return Err(value_error(
+            path,
+            "/dictionary/group",
+            format!(
+                "atom {j} has group {g}; expected 0..n_groups-1 with n_groups at most the {n_atoms} atoms"
+            ),
+        ));
+    }
     let n_groups = groups.iter().copied().max().unwrap_or(-1) + 1;
     let mut used = vec![false; n_groups.max(0) as usize];
     let mut group = Vec::with_capacity(n_atoms);
-    for (j, &g) in groups.iter().enumerate() {
-        if g < 0 {
-            return Err(value_error(
-                path,
-                "/dictionary/group",
-                format!("atom {j} has group {g}; expected 0..n_groups-1"),
-            ));
-        }
+    for &g in &groups {
         used[g as usize] = true;
         group.push(g as usize);
     }

@@ -141,7 +141,7 @@ pub fn write_electrodes_tsv(path: &Path, montage: &Montage) -> Result<(), TableE
 /// skipped, surrounding white space trimmed). Labels repeated (ignoring case and the
 /// temporal aliases) are an error naming both lines.
 pub fn read_channel_list(path: &Path) -> Result<Vec<String>, TableError> {
-    let text = std::fs::read_to_string(path).map_err(|source| TableError::Io {
+    let text = crate::io::input::read_input_string(path).map_err(|source| TableError::Io {
         path: path.to_path_buf(),
         source,
     })?;

@@ -12,6 +12,7 @@ use hdf5::{AttrValue, DType, FileBuilder};
 use super::atomic;
 use super::error::IoError;
 use super::store::{Array, Attr, Dataset, Store};
+use crate::limits::{declared_bytes, MAX_INFLATE_RATIO, MEMORY_BUDGET_BYTES};
 
 /// A MATLAB v7.3 file starts with a text header in its 512-byte user block.
 const MATLAB_MAGIC: &[u8] = b"MATLAB 7.3 MAT-file";
@@ -25,14 +26,36 @@ impl Store {
     /// [`Array::Unsupported`]. A missing, truncated or non-HDF5 file gives an
     /// error naming the file, never a panic.
     pub fn read(path: &Path) -> Result<Store, IoError> {
-        let bytes = std::fs::read(path).map_err(|e| IoError::file(path, e))?;
+        Store::read_only(path, &|_| true)
+    }
+
+    /// Read the datasets of an HDF5 file whose absolute paths `wanted`
+    /// accepts (group attributes are always read), so that a command never
+    /// reads, nor sizes, a dataset it has no use for.
+    ///
+    /// Before a dataset is read its declared size (shape × element size) is
+    /// checked: contiguous and compact data must lie within the file, and
+    /// chunked (possibly compressed) data, or contiguous data that was never
+    /// written, must fit [`MEMORY_BUDGET_BYTES`] and
+    /// [`MAX_INFLATE_RATIO`] times the file size. A dataset declaring more is
+    /// refused with an error naming it, before anything is allocated.
+    pub fn read_only(path: &Path, wanted: &dyn Fn(&str) -> bool) -> Result<Store, IoError> {
+        let bytes = super::input::read_input(path).map_err(|e| IoError::file(path, e))?;
         // The backend is a large parser of untrusted bytes; a panic inside it
         // on a damaged file must become an error, not abort the caller.
-        let outcome = catch_unwind(AssertUnwindSafe(|| read_bytes(bytes)));
+        let outcome = catch_unwind(AssertUnwindSafe(|| read_bytes(bytes, wanted)));
         match outcome {
-            Ok(Ok(store)) => Ok(store),
-            Ok(Err(message)) => Err(IoError::Hdf5 {
+            Ok(Ok(store)) => {
+                super::cache::verify(&store, path)?;
+                Ok(store)
+            }
+            Ok(Err(ReadFailure::Backend(message))) => Err(IoError::Hdf5 {
                 path: path.to_path_buf(),
+                message,
+            }),
+            Ok(Err(ReadFailure::TooLarge { dataset, message })) => Err(IoError::Value {
+                path: path.to_path_buf(),
+                object: dataset,
                 message,
             }),
             Err(_) => Err(IoError::Hdf5 {
@@ -47,7 +70,7 @@ impl Store {
     pub fn is_matlab_file(path: &Path) -> Result<bool, IoError> {
         use std::io::Read;
         let mut head = [0u8; 19];
-        let mut file = std::fs::File::open(path).map_err(|e| IoError::file(path, e))?;
+        let mut file = super::input::open_input(path).map_err(|e| IoError::file(path, e))?;
         match file.read_exact(&mut head) {
             Ok(()) => Ok(head == MATLAB_MAGIC),
             Err(e) if e.kind() == std::io::ErrorKind::UnexpectedEof => Ok(false),
@@ -94,15 +117,49 @@ impl Store {
     }
 }
 
-/// Name the object an HDF5 error happened at.
-fn at_object(at: &str) -> impl Fn(hdf5::Error) -> String + '_ {
-    move |e| format!("{at}: {e}")
+/// Why reading an HDF5 file failed: the backend refused it, or a dataset
+/// declares more data than the limits allow.
+enum ReadFailure {
+    Backend(String),
+    TooLarge { dataset: String, message: String },
 }
 
-fn read_bytes(bytes: Vec<u8>) -> Result<Store, String> {
-    let file = hdf5::File::from_bytes(bytes).map_err(|e| e.to_string())?;
+impl From<String> for ReadFailure {
+    fn from(message: String) -> Self {
+        ReadFailure::Backend(message)
+    }
+}
+
+/// Name the object an HDF5 error happened at.
+fn at_object(at: &str) -> impl Fn(hdf5::Error) -> ReadFailure + '_ {
+    move |e| ReadFailure::Backend(format!("{at}: {}", describe(&e)))
+}
+
+/// The backend's message, except where it reads a link without an object
+/// address: soft and external links have none, and the backend then asks
+/// for 2^64 - 1 bytes, which says nothing to a user.
+fn describe(e: &hdf5::Error) -> String {
+    let text = e.to_string();
+    if text.contains(&u64::MAX.to_string()) {
+        "a member is a soft or external link, which is not supported; expected datasets and groups stored in the file (copy the linked data in, e.g. with h5py's `f[name] = f[target][()]`)".to_string()
+    } else {
+        text
+    }
+}
+
+/// What a traversal needs beside the group: the filter of wanted datasets
+/// and the file size the declared sizes are checked against.
+struct Visit<'a> {
+    wanted: &'a dyn Fn(&str) -> bool,
+    file_bytes: u64,
+}
+
+fn read_bytes(bytes: Vec<u8>, wanted: &dyn Fn(&str) -> bool) -> Result<Store, ReadFailure> {
+    let file_bytes = bytes.len() as u64;
+    let file = hdf5::File::from_bytes(bytes).map_err(|e| describe(&e))?;
     let mut store = Store::default();
-    visit_group(&file.root(), "/", &mut store, 0)?;
+    let visit = Visit { wanted, file_bytes };
+    visit_group(&file.root(), "/", &mut store, 0, &visit)?;
     Ok(store)
 }
 
@@ -122,11 +179,12 @@ fn visit_group(
     at: &str,
     store: &mut Store,
     depth: usize,
-) -> Result<(), String> {
+    visit: &Visit<'_>,
+) -> Result<(), ReadFailure> {
     if depth > MAX_DEPTH {
-        return Err(format!(
+        return Err(ReadFailure::Backend(format!(
             "groups nested deeper than {MAX_DEPTH} at {at} (a cycle of links?)"
-        ));
+        )));
     }
     let attrs = convert_attrs(group.attrs().map_err(at_object(at))?);
     if !attrs.is_empty() {
@@ -136,7 +194,11 @@ fn visit_group(
     names.sort();
     for name in names {
         let full = join(at, &name);
+        if !(visit.wanted)(&full) {
+            continue;
+        }
         let ds = group.dataset(&name).map_err(at_object(&full))?;
+        check_declared_size(&ds, &full, visit.file_bytes)?;
         let dataset = read_dataset(&ds).map_err(at_object(&full))?;
         store.datasets.insert(full, dataset);
     }
@@ -144,7 +206,69 @@ fn visit_group(
     groups.sort();
     for name in groups {
         let child = group.group(&name).map_err(at_object(&join(at, &name)))?;
-        visit_group(&child, &join(at, &name), store, depth + 1)?;
+        visit_group(&child, &join(at, &name), store, depth + 1, visit)?;
+    }
+    Ok(())
+}
+
+/// Refuse a dataset whose declared shape × element size cannot be stored in
+/// the file (contiguous or compact data) or exceeds the memory limits
+/// (chunked data, which may be compressed, and contiguous data never
+/// written, which would be made of fill values).
+fn check_declared_size(ds: &hdf5::Dataset, at: &str, file_bytes: u64) -> Result<(), ReadFailure> {
+    let shape = ds.shape().map_err(at_object(at))?;
+    let element = ds.element_size().map_err(at_object(at))?;
+    // Strings become `String`s of at least 24 bytes in memory.
+    let in_memory = match ds.dtype().map_err(at_object(at))? {
+        DType::String | DType::VariableLengthString => element.max(24),
+        _ => element.max(8),
+    };
+    let too_large = |message: String| ReadFailure::TooLarge {
+        dataset: at.to_string(),
+        message,
+    };
+    let dims = shape
+        .iter()
+        .map(|d| d.to_string())
+        .collect::<Vec<_>>()
+        .join(" × ");
+    let (Some(stored), Some(memory)) = (
+        declared_bytes(&shape, element),
+        declared_bytes(&shape, in_memory),
+    ) else {
+        return Err(too_large(format!(
+            "declares shape {dims}, whose size overflows 64 bits"
+        )));
+    };
+    let layout = ds.layout().map_err(at_object(at))?;
+    let in_file = matches!(
+        layout,
+        hdf5::Layout::Compact { .. }
+            | hdf5::Layout::Contiguous {
+                address: Some(_),
+                ..
+            }
+    );
+    if in_file && stored > file_bytes {
+        return Err(too_large(format!(
+            "declares {dims} values of {element} bytes ({stored} bytes), more than the file's {file_bytes} bytes"
+        )));
+    }
+    let ratio_bound = file_bytes
+        .saturating_mul(MAX_INFLATE_RATIO)
+        .saturating_add(1 << 20);
+    let bound = MEMORY_BUDGET_BYTES.min(ratio_bound);
+    if !in_file && memory > bound {
+        return Err(too_large(format!(
+            "declares {dims} values ({memory} bytes in memory), more than {bound} bytes: the smaller of the memory budget ({} GiB) and {MAX_INFLATE_RATIO} times the file size plus 1 MiB",
+            MEMORY_BUDGET_BYTES >> 30
+        )));
+    }
+    if memory > MEMORY_BUDGET_BYTES {
+        return Err(too_large(format!(
+            "declares {dims} values ({memory} bytes in memory), more than the memory budget of {} GiB",
+            MEMORY_BUDGET_BYTES >> 30
+        )));
     }
     Ok(())
 }

@@ -43,6 +43,7 @@ pub fn write_kernel(path: &Path, kernel: &SmoothingKernel) -> Result<(), IoError
     );
     store.set_group_attr("/kernel", "sigma_m", Attr::F64(kernel.sigma_m));
     store.set_group_attr("/kernel", "cutoff_m", Attr::F64(kernel.cutoff_m));
+    super::cache::seal(&mut store);
     store.write_atomic(path)
 }
 

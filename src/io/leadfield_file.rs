@@ -126,14 +126,26 @@ pub fn insert_leadfield(store: &mut Store, lf: &LeadFieldFile) {
 pub fn write_leadfield(path: &Path, lf: &LeadFieldFile) -> Result<(), IoError> {
     let mut store = Store::new();
     insert_leadfield(&mut store, lf);
+    super::cache::seal(&mut store);
     store.write_atomic(path)
 }
 
 /// Read `leadfield.h5` (or the lead-field part of `dictionary.h5`),
 /// checking shapes, finiteness, unit normals and region indices.
 pub fn read_leadfield(path: &Path) -> Result<LeadFieldFile, IoError> {
-    let store = Store::read(path)?;
+    let store = Store::read_only(path, &|name| in_groups(name, LEADFIELD_GROUPS))?;
     leadfield_from_store(&store, path)
+}
+
+/// The groups a lead field is read from.
+pub(crate) const LEADFIELD_GROUPS: &[&str] = &["/montage", "/sources", "/leadfield"];
+
+/// True when the dataset `name` lies in one of `groups`.
+pub(crate) fn in_groups(name: &str, groups: &[&str]) -> bool {
+    groups.iter().any(|g| {
+        name.strip_prefix(g)
+            .is_some_and(|rest| rest.starts_with('/'))
+    })
 }
 
 fn value_error(path: &Path, object: &str, message: String) -> IoError {
@@ -149,6 +161,13 @@ pub fn leadfield_from_store(store: &Store, path: &Path) -> Result<LeadFieldFile,
     let labels = store.strings(path, "/montage/labels", None)?;
     let n_ch = labels.len();
     let (gain, _, n_src) = store.f64_matrix(path, "/leadfield/gain", Some(n_ch), None)?;
+    if !gain.is_empty() && gain.iter().all(|&g| g == 0.0) {
+        return Err(value_error(
+            path,
+            "/leadfield/gain",
+            "every value is zero; expected a lead field with a scalp field".to_string(),
+        ));
+    }
     let (epos, _, _) = store.f64_matrix(path, "/montage/positions_mm", Some(n_ch), Some(3))?;
     let sources = sources_from_store(store, path, Some(n_src))?;
     let gain_xyz = if store.contains("/leadfield/gain_xyz") {

@@ -37,7 +37,7 @@ pub fn read_vertex_map(path: &Path) -> Result<Vec<i64>, IoError> {
             }),
         };
     }
-    let text = std::fs::read_to_string(path).map_err(|e| IoError::file(path, e))?;
+    let text = crate::io::input::read_input_string(path).map_err(|e| IoError::file(path, e))?;
     let mut out = Vec::new();
     let mut seen_line = false;
     for (n, line) in text.lines().enumerate() {

@@ -15,6 +15,7 @@ pub mod electrodes;
 pub mod error;
 pub mod gifti;
 pub mod hdf5_backend;
+pub mod input;
 pub mod kernel_file;
 pub mod leadfield_file;
 pub mod mapping_file;

@@ -18,6 +18,7 @@ use ndarray_npy::{NpzWriter, WriteNpyExt};
 
 use super::atomic;
 use super::error::IoError;
+use crate::limits::{MAX_INFLATE_RATIO, MEMORY_BUDGET_BYTES};
 
 /// The values of a NumPy array, row-major (C order) whatever the file's
 /// order. Integer types other than int32/int64 are widened to `I64`, and
@@ -70,7 +71,7 @@ impl NpyArray {
 
 /// Read a `.npy` file.
 pub fn read_npy(path: &Path) -> Result<NpyArray, IoError> {
-    let bytes = std::fs::read(path).map_err(|e| IoError::file(path, e))?;
+    let bytes = crate::io::input::read_input(path).map_err(|e| IoError::file(path, e))?;
     parse_npy(&bytes).map_err(|(loc, msg)| IoError::format(path, loc, msg))
 }
 
@@ -102,7 +103,7 @@ pub fn read_npy_strings(path: &Path) -> Result<(Vec<String>, Vec<usize>), IoErro
 
 /// Read every array of a `.npz` archive, keyed by name (without `.npy`).
 pub fn read_npz(path: &Path) -> Result<BTreeMap<String, NpyArray>, IoError> {
-    let bytes = std::fs::read(path).map_err(|e| IoError::file(path, e))?;
+    let bytes = crate::io::input::read_input(path).map_err(|e| IoError::file(path, e))?;
     let entries = unzip(&bytes).map_err(|(loc, msg)| IoError::format(path, loc, msg))?;
     let mut out = BTreeMap::new();
     for (name, data) in entries {
@@ -517,6 +518,16 @@ fn le64(b: &[u8], at: usize) -> Option<u64> {
 }
 
 /// The entries of a zip archive (stored or deflated), by name, in order.
+/// The most bytes a deflate stream of `compressed` bytes may declare: the
+/// smaller of [`MAX_INFLATE_RATIO`] times its size plus 1 KiB and the memory
+/// budget.
+pub(crate) fn inflate_bound(compressed: u64) -> u64 {
+    compressed
+        .saturating_mul(MAX_INFLATE_RATIO)
+        .saturating_add(1024)
+        .min(MEMORY_BUDGET_BYTES)
+}
+
 fn unzip(b: &[u8]) -> Result<Vec<(String, Vec<u8>)>, Failure> {
     let z = "zip archive";
     let short = || fail(z, "truncated or damaged archive");
@@ -591,12 +602,26 @@ fn unzip(b: &[u8]) -> Result<Vec<(String, Vec<u8>)>, Failure> {
         let data = match method {
             0 => raw.to_vec(),
             8 => {
+                let entry = format!("entry {name}");
+                let bound = inflate_bound(raw.len() as u64);
+                if usize_ > bound {
+                    return Err(fail(
+                        &entry,
+                        format!(
+                            "declares {usize_} bytes uncompressed from {} compressed, more than the limit of {bound} bytes (the smaller of {MAX_INFLATE_RATIO} times the compressed size plus 1 KiB and the memory budget of {} GiB)",
+                            raw.len(),
+                            MEMORY_BUDGET_BYTES >> 30
+                        ),
+                    ));
+                }
+                // Inflate one byte past the declared size at the most: an
+                // entry that inflates to more is refused below without ever
+                // holding more than that.
                 let mut v = Vec::new();
                 flate2::read::DeflateDecoder::new(raw)
+                    .take(usize_ + 1)
                     .read_to_end(&mut v)
-                    .map_err(|e| {
-                        fail(&format!("entry {name}"), format!("cannot decompress: {e}"))
-                    })?;
+                    .map_err(|e| fail(&entry, format!("cannot decompress: {e}")))?;
                 v
             }
             m => {
@@ -607,7 +632,18 @@ fn unzip(b: &[u8]) -> Result<Vec<(String, Vec<u8>)>, Failure> {
             }
         };
         if data.len() as u64 != usize_ {
-            return Err(fail(&format!("entry {name}"), "wrong uncompressed size"));
+            return Err(fail(
+                &format!("entry {name}"),
+                format!(
+                    "inflates to {}{} bytes, but declares {usize_}",
+                    if data.len() as u64 > usize_ {
+                        "more than "
+                    } else {
+                        ""
+                    },
+                    usize_.min(data.len() as u64)
+                ),
+            ));
         }
         let mut check = flate2::Crc::new();
         check.update(&data);

@@ -14,7 +14,7 @@ const M_PER_MM: f64 = 1e-3;
 /// Read an OFF surface (`OFF` header, counts, vertices, faces; `#` starts a
 /// comment; colours after a face's indices are ignored).
 pub fn read_off(path: &Path) -> Result<Mesh, IoError> {
-    let text = std::fs::read(path).map_err(|e| IoError::file(path, e))?;
+    let text = crate::io::input::read_input(path).map_err(|e| IoError::file(path, e))?;
     let text = String::from_utf8_lossy(&text);
     // Lines with their 1-based numbers, comments and blank lines removed.
     let mut lines = text

@@ -98,8 +98,9 @@ enum Format {
 
 /// Read a PLY surface.
 pub fn read_ply(path: &Path) -> Result<Mesh, IoError> {
-    let bytes = std::fs::read(path).map_err(|e| IoError::file(path, e))?;
+    let bytes = crate::io::input::read_input(path).map_err(|e| IoError::file(path, e))?;
     let (format, elements, body, header_lines) = parse_header(path, &bytes)?;
+    check_counts(path, format, &elements, body.len())?;
     let vertex = elements
         .iter()
         .position(|e| e.name == "vertex")
@@ -185,6 +186,43 @@ pub fn read_ply(path: &Path) -> Result<Mesh, IoError> {
         vertices,
         triangles,
     })
+}
+
+/// Refuse an element whose declared count cannot fit in the body: each item
+/// takes at least its scalars and list counts in a binary file, at least two
+/// characters a value in an ASCII one, and at least one byte either way
+/// (even an item without properties, which would otherwise make a count of
+/// 10^14 a loop of 10^14 empty steps).
+fn check_counts(
+    path: &Path,
+    format: Format,
+    elements: &[Element],
+    body_bytes: usize,
+) -> Result<(), IoError> {
+    for e in elements {
+        let smallest: usize = match format {
+            Format::Binary { .. } => e
+                .properties
+                .iter()
+                .map(|p| match p {
+                    Property::Scalar(_, t) | Property::List(_, t, _) => t.size(),
+                })
+                .sum(),
+            Format::Ascii => 2 * e.properties.len(),
+        };
+        let most = body_bytes / smallest.max(1);
+        if e.count > most {
+            return Err(IoError::format(
+                path,
+                "header",
+                format!(
+                    "the file ends early: element {} declares {} items, but the {body_bytes} bytes after the header hold at most {most}",
+                    e.name, e.count
+                ),
+            ));
+        }
+    }
+    Ok(())
 }
 
 /// Split polygons into triangle fans, checking every index.

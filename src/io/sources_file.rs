@@ -11,6 +11,12 @@ use super::table::{read_table, TableError};
 use super::{gifti, off, ply};
 use crate::geometry::{normalize, validate, MeshError, SourceSpace};
 
+/// The area each point source stands for when the sources have no
+/// triangles (a table of points, or an imported lead field without
+/// triangles), in mm²: the dictionary's
+/// [`POINT_SOURCE_AREA_M2`](crate::dictionary::POINT_SOURCE_AREA_M2).
+pub const POINT_SOURCE_AREA_MM2: f64 = 1.0;
+
 /// Errors reading a source space or region file.
 #[derive(Debug, thiserror::Error)]
 #[non_exhaustive]
@@ -135,7 +141,7 @@ fn read_source_table(path: &Path) -> Result<SourceSpace, InputError> {
     Ok(SourceSpace {
         positions,
         normals,
-        areas: vec![0.0; n],
+        areas: vec![crate::dictionary::POINT_SOURCE_AREA_M2; n],
         triangles: Vec::new(),
         region: vec![-1; n],
         region_names: Vec::new(),
@@ -150,7 +156,7 @@ pub fn read_regions(path: &Path, n_sources: usize) -> Result<(Vec<i32>, Vec<Stri
     let (region, names) = if ext(path) == "gii" {
         gifti::read_gifti_labels(path)?
     } else {
-        let text = std::fs::read_to_string(path).map_err(|source| IoError::File {
+        let text = crate::io::input::read_input_string(path).map_err(|source| IoError::File {
             path: path.to_path_buf(),
             source,
         })?;

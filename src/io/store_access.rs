@@ -383,12 +383,14 @@ fn as_matrix<T: Copy>(
     expected_cols: Option<usize>,
 ) -> Result<(Vec<T>, usize, usize), IoError> {
     let expected = [expected_rows, expected_cols];
-    let (values, rows, cols) = match (ds.shape.as_slice(), ds.is_matlab()) {
-        ([r, c], false) => (values, *r, *c),
-        ([c, r], true) => (transpose(&values, *c, *r), *r, *c),
+    let (rows, cols, matlab) = match (ds.shape.as_slice(), ds.is_matlab()) {
+        ([r, c], false) => (*r, *c, false),
+        ([c, r], true) => (*r, *c, true),
         _ => return Err(shape_error(file, name, &ds.shape, &expected)),
     };
-    if values.len() != rows * cols {
+    // The count is checked before a transpose indexes by the shape: a
+    // damaged file can declare more elements than it holds.
+    if rows.checked_mul(cols) != Some(values.len()) {
         return Err(shape_error(
             file,
             name,
@@ -396,6 +398,11 @@ fn as_matrix<T: Copy>(
             &[Some(values.len()), None],
         ));
     }
+    let values = if matlab {
+        transpose(&values, cols, rows)
+    } else {
+        values
+    };
     if !matches(&[rows, cols], &expected) {
         return Err(shape_error(file, name, &[rows, cols], &expected));
     }

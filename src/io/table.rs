@@ -226,7 +226,7 @@ impl Table {
 
 /// Read a table; the delimiter comes from the extension, else is sniffed from the header.
 pub fn read_table(path: &Path) -> Result<Table, TableError> {
-    let text = std::fs::read_to_string(path).map_err(|source| TableError::Io {
+    let text = crate::io::input::read_input_string(path).map_err(|source| TableError::Io {
         path: path.to_path_buf(),
         source,
     })?;

@@ -2,6 +2,7 @@
 pub mod browser;
 pub mod cli;
 pub mod cohort;
+pub mod files;
 pub mod page;
 pub mod python;
 pub mod refusal;

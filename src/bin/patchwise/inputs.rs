@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 use patchwise::geometry::{template, SourceSpace, TemplateResolution};
 use patchwise::head::{HeadSpec, SphereHead};
 use patchwise::io::electrodes::read_electrodes;
-use patchwise::io::sources_file::{read_regions, read_sources};
+use patchwise::io::sources_file::{read_regions, read_sources, POINT_SOURCE_AREA_MM2};
 use patchwise::montage::{fit_sphere, standard, standard_names, Montage};
 
 use patchwise::forward::Orientation;
@@ -130,7 +130,11 @@ pub fn load_sources(spec: &str, regions: Option<&Path>) -> Result<SourceSpace, C
                 "sources {spec:?} are neither template, template-5k nor an existing file"
             )));
         }
-        read_sources(path).bad_input("reading sources")?
+        let sources = read_sources(path).bad_input("reading sources")?;
+        if sources.triangles.is_empty() {
+            note(point_source_note(path));
+        }
+        sources
     };
     if let Some(r) = regions {
         let (region, names) = read_regions(r, sources.len()).bad_input("reading regions")?;
@@ -138,6 +142,14 @@ pub fn load_sources(spec: &str, regions: Option<&Path>) -> Result<SourceSpace, C
         sources.region_names = names;
     }
     Ok(sources)
+}
+
+/// What the run assumes of sources without triangles, for a note.
+pub fn point_source_note(path: &Path) -> String {
+    format!(
+        "note: {} has no triangles: each source is a point standing for {POINT_SOURCE_AREA_MM2} mm² of cortex (equal weights in a patch)",
+        path.display()
+    )
 }
 
 /// The head: `default` or a TOML file. When the montage came from a file
@@ -152,7 +164,7 @@ pub fn load_head(
         (SphereHead::default_adult().to_spec(), "default".to_string())
     } else {
         let path = Path::new(spec);
-        let text = std::fs::read_to_string(path)
+        let text = patchwise::io::input::read_input_string(path)
             .map_err(|e| CliError::bad_input(anyhow::anyhow!("{}: {e}", path.display())))?;
         let name = path.display().to_string();
         let mut s = HeadSpec::from_toml_str(&text, &name).bad_input("reading the head model")?;

@@ -9,6 +9,7 @@ use base64::Engine;
 use super::parse::RawArray;
 use super::{GiftiArray, GiftiDataType};
 use crate::io::error::IoError;
+use crate::limits::MEMORY_BUDGET_BYTES;
 
 pub(super) fn decode_array(
     path: &Path,
@@ -109,17 +110,29 @@ pub(super) fn decode_array(
             let bytes = base64::engine::general_purpose::STANDARD
                 .decode(cleaned.as_bytes())
                 .map_err(|e| err(format!("bad {enc} encoding: not Base64 ({e})")))?;
+            let expected = n
+                .checked_mul(data_type.size())
+                .filter(|&b| b as u64 <= MEMORY_BUDGET_BYTES)
+                .ok_or_else(|| {
+                    err(format!(
+                        "declares {dims} values, more than the memory budget of {} GiB",
+                        MEMORY_BUDGET_BYTES >> 30
+                    ))
+                })?;
             let bytes = if enc == "GZipBase64Binary" {
-                inflate(&bytes)
+                inflate(&bytes, expected)
                     .map_err(|e| err(format!("bad {enc} encoding: cannot decompress ({e})")))?
             } else {
                 bytes
             };
-            let expected = n * data_type.size();
             if bytes.len() != expected {
+                let found = if bytes.len() > expected {
+                    format!("too much data: more than {expected} bytes")
+                } else {
+                    format!("truncated data: {} bytes", bytes.len())
+                };
                 return Err(err(format!(
-                    "truncated data: {} bytes, expected {dims} × {} = {expected}",
-                    bytes.len(),
+                    "{found}, expected {dims} × {} = {expected}",
                     data_type.size()
                 )));
             }
@@ -149,12 +162,19 @@ pub(super) fn decode_array(
     })
 }
 
-fn inflate(bytes: &[u8]) -> std::io::Result<Vec<u8>> {
+/// Inflate at most one byte more than the `expected` size: data that
+/// inflates to more is refused by the size check without ever being held.
+fn inflate(bytes: &[u8], expected: usize) -> std::io::Result<Vec<u8>> {
     let mut out = Vec::new();
+    let limit = expected as u64 + 1;
     if bytes.starts_with(&[0x1f, 0x8b]) {
-        flate2::read::GzDecoder::new(bytes).read_to_end(&mut out)?;
+        flate2::read::GzDecoder::new(bytes)
+            .take(limit)
+            .read_to_end(&mut out)?;
     } else {
-        flate2::read::ZlibDecoder::new(bytes).read_to_end(&mut out)?;
+        flate2::read::ZlibDecoder::new(bytes)
+            .take(limit)
+            .read_to_end(&mut out)?;
     }
     Ok(out)
 }

@@ -138,7 +138,7 @@ pub struct Gifti {
 
 /// Read every DataArray and the LabelTable of a GIFTI file.
 pub fn read_gifti(path: &Path) -> Result<Gifti, IoError> {
-    let text = std::fs::read(path).map_err(|e| IoError::file(path, e))?;
+    let text = crate::io::input::read_input(path).map_err(|e| IoError::file(path, e))?;
     let text = String::from_utf8(text)
         .map_err(|e| IoError::format(path, "file", format!("not UTF-8 XML: {e}")))?;
     parse::parse(path, &text)
@@ -246,12 +246,27 @@ pub fn read_gifti_labels(path: &Path) -> Result<(Vec<i32>, Vec<String>), IoError
             format!("shape {:?}, expected [n_vertices]", array.shape),
         ));
     }
-    let mut names = Vec::new();
+    let mut names: Vec<String> = Vec::new();
     let mut index_of_key: BTreeMap<i64, i32> = BTreeMap::new();
     for (&key, name) in &g.labels {
         if is_unlabelled_name(name) {
             index_of_key.insert(key, -1);
         } else {
+            // Two keys with one name would make two rows of one region,
+            // each with part of its share.
+            if let Some(first) = names.iter().position(|n| n == name) {
+                let first_key = index_of_key
+                    .iter()
+                    .find(|(_, &i)| i == first as i32)
+                    .map_or(0, |(&k, _)| k);
+                return Err(IoError::Value {
+                    path: path.to_path_buf(),
+                    object: "LabelTable".to_string(),
+                    message: format!(
+                        "region name {name:?} is given to keys {first_key} and {key}; expected each name once"
+                    ),
+                });
+            }
             index_of_key.insert(key, names.len() as i32);
             names.push(name.clone());
         }

@@ -11,6 +11,7 @@ use patchwise::io::cache::{default_cache_dir, entry_path, file_sha256, ContentHa
 use patchwise::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
 use patchwise::io::dictionary_file::{read_dictionary, write_dictionary, DictionaryFile};
 use patchwise::io::leadfield_file::{read_leadfield, write_leadfield, LeadFieldFile};
+use patchwise::limits::{check_count, RESAMPLE_RECORD_BYTES};
 use patchwise::montage::Montage;
 use patchwise::patterns::{activation_patterns, average_reference, Whitener};
 use patchwise::pipeline::{
@@ -163,6 +164,11 @@ impl Args {
         if !(self.tol.is_finite() && self.tol > 0.0 && self.tol < 1.0) {
             return Err(bad(format!("--tol {}: expected 0 < tol < 1", self.tol)));
         }
+        check_count("--resamples", self.resamples as u64, RESAMPLE_RECORD_BYTES)
+            .bad_input("checking the options")?;
+        // The dictionary options key the cache: they are checked here, before
+        // any lookup, so that a NaN can never stand for the default entry.
+        self.dictionary_options.params()?;
         Ok(FitOptions {
             lambda,
             joint: self.joint,
@@ -404,7 +410,12 @@ pub(super) fn cached_leadfield(
             note(format!("using cached lead field {}", lf_path.display()));
             Ok(lf)
         }
-        _ => {
+        outcome => {
+            if let (Err(e), true) = (outcome, lf_path.is_file()) {
+                note(format!(
+                    "note: the cached lead field is damaged ({e}); rebuilding it"
+                ));
+            }
             let lf = compute_leadfield(montage, sources, head, orientation)?;
             if let Err(e) = write_leadfield(&lf_path, &lf) {
                 note(format!(
@@ -433,9 +444,14 @@ fn cached_dictionary(
 ) -> Result<DictionaryFile, CliError> {
     let d_path = entry_path(cache, "dictionary", d_hash);
     if d_path.is_file() {
-        if let Ok(d) = read_dictionary(&d_path) {
-            note(format!("using cached dictionary {}", d_path.display()));
-            return Ok(d);
+        match read_dictionary(&d_path) {
+            Ok(d) => {
+                note(format!("using cached dictionary {}", d_path.display()));
+                return Ok(d);
+            }
+            Err(e) => note(format!(
+                "note: the cached dictionary is damaged ({e}); rebuilding it"
+            )),
         }
     }
     let lf = cached_leadfield(cache, lf_hash, (montage, sources, head), orientation)?;
@@ -476,6 +492,11 @@ fn restrict(
                 labels.len()
             )));
         }
+        note(format!(
+            "note: {} has no channel labels: its {} rows are taken to be the decoder's channels in the decoder's order (matched by count only)",
+            path.display(),
+            dict.n_channels
+        ));
         return Ok(dict);
     };
     let montage = Montage::new(lf.labels.clone(), lf.electrode_positions.clone())

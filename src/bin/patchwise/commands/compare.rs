@@ -20,6 +20,7 @@ use patchwise::io::gifti::read_gifti_surface;
 use patchwise::io::kernel_file::{read_kernel, write_kernel};
 use patchwise::io::mapping_file::read_vertex_map;
 use patchwise::io::result_file::{read_result, ResultFile, CAUTION};
+use patchwise::limits::{check_count, RESAMPLE_RECORD_BYTES};
 
 use crate::cli_error::OrExit;
 use crate::progress::note;
@@ -469,6 +470,29 @@ fn print_paired(p: &PairedComparison, alpha: f64, a: &str, b: &str) {
     }
 }
 
+/// Check the numeric options before any file is read or any cache entry is
+/// looked up (they key the smoothing kernel's entry).
+fn check_options(args: &Args) -> Result<(), CliError> {
+    check_count("--bootstrap", args.bootstrap as u64, RESAMPLE_RECORD_BYTES)
+        .bad_input("checking the options")?;
+    check_count(
+        "--sign-flips",
+        args.sign_flips as u64,
+        RESAMPLE_RECORD_BYTES,
+    )
+    .bad_input("checking the options")?;
+    for (name, value) in [
+        ("--smoothing-mm", args.smoothing_mm),
+        ("--smoothing-cutoff", args.smoothing_cutoff),
+        ("--transport-epsilon", args.transport_epsilon),
+    ] {
+        if !(value.is_finite() && value > 0.0) {
+            return Err(bad(format!("{name} {value}: expected a positive number")));
+        }
+    }
+    Ok(())
+}
+
 /// Run `patchwise compare`.
 pub fn exec(args: Args) -> Result<(), CliError> {
     if args.results.len() < 2 {
@@ -477,6 +501,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             args.results.len()
         )));
     }
+    check_options(&args)?;
     let params = CompareParams {
         bootstrap_resamples: args.bootstrap,
         level: 0.95,

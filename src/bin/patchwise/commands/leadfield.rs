@@ -2,6 +2,7 @@
 
 use std::path::{Path, PathBuf};
 
+use patchwise::dictionary::POINT_SOURCE_AREA_M2;
 use patchwise::forward::Orientation;
 use patchwise::geometry::{norm, normalize, SourceSpace};
 use patchwise::io::electrodes::read_channel_list;
@@ -12,6 +13,7 @@ use patchwise::io::Store;
 
 use crate::cli_error::OrExit;
 use crate::inputs::{compute_leadfield, ForwardOptions};
+use crate::progress::note;
 use crate::CliError;
 
 /// Arguments of `patchwise leadfield`.
@@ -247,7 +249,15 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
         region: vec![-1; n_src],
         region_names: Vec::new(),
     };
-    if !sources.triangles.is_empty() {
+    if sources.triangles.is_empty() {
+        sources.areas = vec![POINT_SOURCE_AREA_M2; n_src];
+        let given = args
+            .from
+            .clone()
+            .or_else(|| args.positions.clone())
+            .unwrap_or_default();
+        note(crate::inputs::point_source_note(&given));
+    } else {
         sources.areas = sources.mesh().vertex_areas();
     }
     if let Some(r) = &args.regions {
