@@ -50,6 +50,7 @@ Formulas and their sources:
 
 import json
 import os
+import re
 import subprocess
 import sys
 
@@ -306,14 +307,18 @@ def sigma(lf, out):
         summary = json.load(open(os.path.join(out, "res", stem + "_" + r["variant"], "summary.json")))
         rule_sd = summary["components"][0]["noise_sd_lambda_rule"]
         ratios.setdefault((t["kind"], t["trials"], r["variant"]), []).append(rule_sd / true_sd)
-    print("| decoder | trials | folds | n_samples | estimate |")
-    print("|---|---|---|---|---|")
+    variants = [v for v, _ in VARIANTS[:3]]  # fold_sd_white repeats the folds' σ
+    print("| decoder | trials | " + " | ".join(variants) + " |")
+    print("|---|---|" + "---|" * len(variants))
     for kind, n in sorted({(k, n) for k, n, _ in ratios}):
-        cells = [f"{np.median(ratios[(kind, n, v)]):.2f}" for v, _ in VARIANTS]
+        cells = [f"{np.median(ratios[(kind, n, v)]):.2f}" for v in variants]
         print(f"| {kind.upper()} | {n} | " + " | ".join(cells) + " |")
 
 
-VARIANTS = (("folds", ""), ("n_samples", "_nsamples"), ("estimate", "_bare"))
+# (name, file suffix). "fold σ, white" is an experiment: the file without
+# folds or n_samples, with --noise-sd set to the σ the folds gave (so λ is the
+# folds' λ) but white resample noise instead of the folds' own shape.
+VARIANTS = (("folds", ""), ("n_samples", "_nsamples"), ("estimate", "_bare"), ("fold_sd_white", "_bare"))
 
 
 def read_regions(path):
@@ -334,6 +339,10 @@ def run(out, binary, resamples=100):
             cmd = [binary, "attribute", "--decoder", os.path.join(out, stem + suffix + ".npz"),
                    "--sources", "template-5k", "--montage", "10-10", "--no-report",
                    "--resamples", str(resamples), "--cache", cache, "--out", res]
+            if variant == "fold_sd_white":
+                folds_summary = os.path.join(out, "res", stem + "_folds", "summary.json")
+                sd = json.load(open(folds_summary))["components"][0]["noise_sd_lambda_rule"]
+                cmd += ["--noise-sd", repr(sd)]
             if not os.path.exists(os.path.join(res, "summary.json")):
                 p = subprocess.run(cmd, capture_output=True, text=True)
                 if p.returncode != 0:
@@ -394,7 +403,8 @@ def table(rows):
             lf = [r["lead_frequency"] for r in group]
             print(f"{variant}: {len(group)} {name}, lead frequency >= 0.9 in {sum(v >= 0.9 for v in lf)}, "
                   f"median {np.median(lf) if lf else float('nan'):.2f}", file=sys.stderr)
-    levels = sorted({r["noise_level"] for r in rows if not r["failed"]})
+    levels = sorted({re.sub(r"--noise-sd [0-9.e+-]+", "--noise-sd S", re.sub(r"= [0-9]+", "= N", r["noise_level"]))
+                     for r in rows if not r["failed"]})
     print("\nnoise_level strings seen:", *levels, sep="\n  ", file=sys.stderr)
 
 
