@@ -22,6 +22,8 @@ tests/reference/requirements.txt):
     target/release/patchwise leadfield --montage 10-10 --sources template-5k --out lf.h5
     python benches/reference/trained_decoders.py make lf.h5 OUT [cases] [trials,...] [kinds]
     python benches/reference/trained_decoders.py run OUT target/release/patchwise [resamples]
+        # attributes each decoder four ways (folds, n_samples only, neither, and
+        # --noise-sd at the folds' sigma), prints table 6 and writes OUT/rows.json
     python benches/reference/trained_decoders.py sigma lf.h5 OUT   # assumed against true noise
     python benches/reference/trained_decoders.py one lf.h5 OUT trials   # the CI test's case
 
@@ -31,7 +33,7 @@ Formulas and their sources:
   (J Multivar Anal 88:365, from memory) estimate; its use for ERP decoding:
   Blankertz, Lemm, Treder, Haufe & Müller 2011 (NeuroImage 56:814, from memory).
 - CSP: the filters are the generalised eigenvectors of the class covariances,
-  Σ1 w = λ (Σ1 + Σ2) w, the largest λ giving the filter whose output variance
+  Σ1 w = λ (Σ0 + Σ1) w, the largest λ giving the filter whose output variance
   is largest in class 1 relative to both (Koles 1991, Electroenceph Clin
   Neurophysiol 79:440, from memory; Ramoser, Müller & Pfurtscheller 2000, IEEE Trans
   Rehabil Eng 8:441).
