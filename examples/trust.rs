@@ -167,15 +167,15 @@ fn main() {
                 // Other interval forms from the same resamples, for the
                 // comparison in docs/validation.md: the plain percentile
                 // interval [q_lo, q_hi] (Efron & Tibshirani 1993, ch. 13),
-                // and the resamples' spread around their median added to
-                // the estimate, [ŝ + q_lo − m, ŝ + q_hi − m].
-                let other_forms = |centred: bool| {
+                // and the basic interval [2ŝ − q_hi, 2ŝ − q_lo] (Davison &
+                // Hinkley 1997, eq. 5.6) widened to hold ŝ.
+                let other_forms = |basic: bool| {
                     m.iter()
                         .filter(|r| {
                             let (e, _, _) = r.truth_region_interval;
-                            let (med, qlo, qhi) = r.truth_region_resampled;
-                            let (a, b) = if centred {
-                                (e + qlo - med, e + qhi - med)
+                            let (_, qlo, qhi) = r.truth_region_resampled;
+                            let (a, b) = if basic {
+                                ((2.0 * e - qhi).min(e), (2.0 * e - qlo).max(e))
                             } else {
                                 (qlo, qhi)
                             };
@@ -184,7 +184,7 @@ fn main() {
                         .count()
                 };
                 eprintln!(
-                    "forms {head_name} {snr:.0} dB {rule_name}: coverage of the pattern share: percentile {} %, centred on the estimate {} %",
+                    "forms {head_name} {snr:.0} dB {rule_name}: coverage of the pattern share: percentile {} %, basic {} %",
                     pct(other_forms(false), m.len()),
                     pct(other_forms(true), m.len())
                 );

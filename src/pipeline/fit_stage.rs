@@ -596,11 +596,12 @@ fn resample(
                 .enumerate()
                 .map(|(r, (v, lead_frequency))| {
                     let (q_low, q_high) = (percentile(v, 0.025), percentile(v, 0.975));
-                    let (low, high) = basic_interval(estimate(c, r), q_low, q_high);
+                    let median = percentile(v, 0.5);
+                    let (low, high) = centred_interval(estimate(c, r), q_low, q_high, median);
                     RegionInterval {
                         low,
                         high,
-                        median: percentile(v, 0.5),
+                        median,
                         resampled_low: q_low,
                         resampled_high: q_high,
                         selection_frequency: v
@@ -622,20 +623,22 @@ fn resample(
     })
 }
 
-/// The 95 % interval of a share ŝ from the 2.5 and 97.5 % quantiles of
-/// its resampled values: the basic bootstrap interval [2ŝ − q₀.₉₇₅,
+/// The 95 % interval of a share ŝ from the 2.5 and 97.5 % quantiles and
+/// the median m of its resampled values: the resamples' spread around their
+/// median, added to the estimate, [ŝ + (q₀.₀₂₅ − m), ŝ + (q₀.₉₇₅ − m)]. The
+/// spread comes from the resamples, the centre from the fit, so the
+/// interval always holds its estimate; the plain percentile interval need
+/// not (the resampled fits are penalised again, which shifts their
+/// distribution away from ŝ), and the basic interval [2ŝ − q₀.₉₇₅,
 /// 2ŝ − q₀.₀₂₅] (Davison & Hinkley 1997, "Bootstrap Methods and their
-/// Application", eq. 5.6), widened to hold ŝ. The resampled fits are
-/// penalised again, so their shares are shrunk around ŝ as ŝ is around the
-/// truth; reflecting the quantiles corrects for that shift (the plain
-/// percentile interval would double it), and the widening keeps the
-/// estimate inside its own interval, which the reflection alone does not
-/// guarantee. docs/validation.md compares the forms' coverage.
-pub(crate) fn basic_interval(estimate: f64, q_low: f64, q_high: f64) -> (f64, f64) {
-    if !(q_low.is_finite() && q_high.is_finite()) {
+/// Application", eq. 5.6) fails where a region is not selected (ŝ = 0
+/// reflects every resampled share below zero). docs/validation.md compares
+/// the three forms' coverage on the recovery benchmark.
+pub(crate) fn centred_interval(estimate: f64, q_low: f64, q_high: f64, median: f64) -> (f64, f64) {
+    if !(q_low.is_finite() && q_high.is_finite() && median.is_finite()) {
         return (f64::NAN, f64::NAN);
     }
-    let low = 2.0 * estimate - q_high;
-    let high = 2.0 * estimate - q_low;
+    let low = estimate + (q_low - median);
+    let high = estimate + (q_high - median);
     (low.min(estimate), high.max(estimate))
 }

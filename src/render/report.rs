@@ -480,8 +480,8 @@ fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[Com
             "Share: the part of the fitted pattern that the patches of a region explain (patch \
          contributions projected on the fitted pattern, split over regions by the patch \
          profiles); shares and the unassigned part sum to 100 %. A negative share means the \
-         region's patches cancel part of the fitted pattern. Intervals are 95 % basic bootstrap \
-         intervals (resamples of the noise and of the head model), widened to hold the share.",
+         region's patches cancel part of the fitted pattern. Intervals are 95 % bootstrap \
+         intervals (resamples of the noise and of the head model) centred on the share.",
         );
     }
     h.raw("</section>\n");
