@@ -292,6 +292,54 @@ fn fold_decoders_set_the_noise_level_and_names_reach_every_output() {
         ratios.push(s["components"][0]["lambda_ratio"].as_f64().unwrap());
     }
     assert!(ratios[1] > ratios[0], "{ratios:?}");
+    // Folds that disagree as much as a near-chance decoder's (fold noise
+    // as large as the pattern): the pattern is mostly its own noise, so
+    // every component is flagged, whatever the fit explains. The quiet
+    // folds above are not.
+    let column_rms: Vec<f64> = (0..k)
+        .map(|c| ((0..n).map(|i| r.patterns[i * k + c].powi(2)).sum::<f64>() / n as f64).sqrt())
+        .collect();
+    let mut rng = SplitMix64::new(9, 0);
+    let folds: Vec<f64> = (0..5)
+        .flat_map(|_| r.patterns.clone())
+        .enumerate()
+        .map(|(i, v)| v + column_rms[i % k] * rng.normal())
+        .collect();
+    write(
+        &dir.join("chance.h5"),
+        vec![
+            ("/channels", Dataset::strings(r.labels.clone())),
+            ("/patterns", Dataset::f64(vec![n, k], r.patterns.clone())),
+            ("/folds", Dataset::f64(vec![5, n, k], folds)),
+        ],
+    );
+    let o = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "chance.h5",
+            "--sources",
+            "template-5k",
+            "--resamples",
+            "0",
+            "--no-report",
+            "--out",
+            "chance",
+        ],
+        &dir,
+    );
+    assert!(o.status.success(), "{}", text(&o));
+    for (folder, flagged) in [("chance", true), ("quiet", false)] {
+        let s = summary(&dir.join(folder));
+        for c in s["components"].as_array().unwrap() {
+            let determined = !c["flags"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .any(|f| f.as_str().unwrap().starts_with("poorly determined"));
+            assert_eq!(determined, !flagged, "{folder}: {c:#}");
+        }
+    }
 
     // Bad noise inputs: each exits 2 naming the field, no output folder.
     let good_patterns = Dataset::f64(vec![n, k], r.patterns.clone());

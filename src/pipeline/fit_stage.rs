@@ -144,6 +144,10 @@ pub struct FitOutcome {
     pub attribution: Attribution,
     /// Resampling intervals, when resampling ran.
     pub resample: Option<ResampleSummary>,
+    /// Per component, the pattern's signal-to-noise power ratio
+    /// ‖y‖² / (n_eff σ²) − 1 when the noise level σ was given (folds, a
+    /// sample count, a number); `None` when σ was estimated with the fit.
+    pub pattern_snr: Option<Vec<f64>>,
 }
 
 /// Relative duality-gap tolerance of the resampled fits.
@@ -413,7 +417,18 @@ pub fn fit_patterns(
     } else {
         None
     };
+    // How far above its own noise each pattern stands, when the noise is known.
+    let pattern_snr = options.noise.sd.as_ref().map(|sd| {
+        let n_eff = n_ch.saturating_sub(1).max(1) as f64;
+        (0..k)
+            .map(|c| {
+                let power: f64 = (0..n_ch).map(|i| patterns[i * k + c].powi(2)).sum();
+                power / (n_eff * sd[c] * sd[c]) - 1.0
+            })
+            .collect()
+    });
     Ok(FitOutcome {
+        pattern_snr,
         fit: full_fit,
         refit: refit_fit,
         blocks: infos,

@@ -15,8 +15,15 @@ use super::fit_stage::FitOutcome;
 /// than the residual it leaves).
 pub const POORLY_EXPLAINED_EV: f64 = 0.5;
 
+/// Below this signal-to-noise power ratio of the pattern (known noise only)
+/// a component is flagged as poorly determined: its pattern is mostly the
+/// noise the folds or the sample count say it carries. One (signal as
+/// strong as the noise, 0 dB) is our convention, no source.
+pub const MIN_PATTERN_SNR: f64 = 1.0;
+
 /// Why a component's attribution needs care, in words, empty when none.
-/// `POORLY EXPLAINED` starts the reasons that make the table unreliable.
+/// "poorly explained" and "poorly determined" start the reasons that make
+/// the table unreliable.
 pub fn component_flags(outcome: &FitOutcome, c: usize) -> Vec<String> {
     let mut flags = Vec::new();
     let ev = outcome
@@ -43,6 +50,15 @@ pub fn component_flags(outcome: &FitOutcome, c: usize) -> Vec<String> {
             100.0 * POORLY_EXPLAINED_EV
         ));
     }
+    if let Some(snr) = outcome.pattern_snr.as_ref().and_then(|s| s.get(c)) {
+        if *snr < MIN_PATTERN_SNR {
+            flags.push(format!(
+                "poorly determined: the pattern's power is {:.1} times that of its own noise (signal-to-noise {:.2} < {MIN_PATTERN_SNR}); the decoder may be near chance and its regions are not reliable",
+                snr + 1.0,
+                snr
+            ));
+        }
+    }
     if let Some(b) = block {
         if b.stop_reason.on_budget() {
             flags.push(format!(
@@ -62,5 +78,7 @@ pub fn component_flags(outcome: &FitOutcome, c: usize) -> Vec<String> {
 
 /// True when a flag says the component is poorly explained.
 pub fn is_poorly_explained(flags: &[String]) -> bool {
-    flags.iter().any(|f| f.starts_with("poorly explained"))
+    flags
+        .iter()
+        .any(|f| f.starts_with("poorly explained") || f.starts_with("poorly determined"))
 }
