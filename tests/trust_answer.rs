@@ -406,4 +406,19 @@ fn fold_decoders_set_the_noise_level_and_names_reach_every_output() {
     assert_eq!(o.status.code(), Some(2), "{}", text(&o));
     assert!(String::from_utf8_lossy(&o.stderr).contains("--noise-sd"));
     assert!(!dir.join("bad").exists());
+    let o = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "quiet.h5",
+            "--forward-perturbations",
+            "100000",
+            "--out",
+            "bad",
+        ],
+        &dir,
+    );
+    assert_eq!(o.status.code(), Some(2), "{}", text(&o));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("--forward-perturbations"));
+    assert!(!dir.join("bad").exists());
 }

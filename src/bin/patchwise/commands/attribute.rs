@@ -154,6 +154,12 @@ impl Args {
                 _ => LambdaRule::Noise,
             },
         };
+        if self.forward_perturbations > 64 {
+            return Err(bad(format!(
+                "--forward-perturbations {}: expected at most 64 (each is a lead field of its own)",
+                self.forward_perturbations
+            )));
+        }
         if let Some(sd) = self.noise_sd {
             if !(sd.is_finite() && sd > 0.0) {
                 return Err(bad(format!(
