@@ -121,6 +121,7 @@ fn result_20k() -> ResultFile {
         caution: CAUTION.to_string(),
         software: "patchwise bench".into(),
         notes: Vec::new(),
+        flags: vec![String::new(); K],
         labels,
         component_names: (0..K).map(|q| format!("component {q}")).collect(),
         k: K,

@@ -134,6 +134,21 @@ fn noise_like_decoder_finishes_and_is_flagged_poorly_explained() {
     for row in intervals(&dir.join("res")) {
         assert!(row.1 <= row.0 && row.0 <= row.2, "{row:?}");
     }
+    // The flags are stored with the result and shown on each component's
+    // card of the report.
+    let back = patchwise::io::result_file::read_result(&dir.join("res/result.h5")).unwrap();
+    assert!(
+        back.flags.iter().all(|f| f.starts_with("poorly explained")),
+        "{:?}",
+        back.flags
+    );
+    let report = patchwise(&["report", "res"], &dir);
+    assert!(report.status.success(), "{}", text(&report));
+    let html = std::fs::read_to_string(dir.join("res/report.html")).unwrap();
+    assert_eq!(
+        html.matches("<p class=\"flag\">poorly explained").count(),
+        3
+    );
 }
 
 /// The demo's patterns mixed into four components (two generators) plus

@@ -138,6 +138,15 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
     }
     insert_provenance(&mut s);
     s.set_group_attr("/", "notes", Attr::Str(r.notes_json.to_string()));
+    // Why each component needs care, "" when it does not (pipeline::quality).
+    s.insert(
+        "/fit/flags",
+        Dataset::strings(
+            (0..k)
+                .map(|c| crate::pipeline::component_flags(r.outcome, c).join("; "))
+                .collect(),
+        ),
+    );
     insert_patterns(
         &mut s,
         r.labels,

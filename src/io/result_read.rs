@@ -25,6 +25,9 @@ pub struct ResultFile {
     pub software: String,
     /// Notes of the run.
     pub notes: Vec<String>,
+    /// Per component, why its attribution needs care (`/fit/flags`; "" when
+    /// none, and all "" for results written before the flags existed).
+    pub flags: Vec<String>,
     /// Channel labels of the patterns (n_ch).
     pub labels: Vec<String>,
     /// Component names (k).
@@ -241,6 +244,11 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
     } else {
         (0..k).map(|c| format!("component {c}")).collect()
     };
+    let flags = if store.contains("/fit/flags") {
+        store.strings(path, "/fit/flags", Some(k))?
+    } else {
+        vec![String::new(); k]
+    };
     let patterns_source = store
         .strings(path, "/patterns/source", Some(1))
         .map(|v| v.concat())
@@ -343,6 +351,7 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
         caution: root_str(store, path, "caution"),
         software: root_str(store, path, "software"),
         notes,
+        flags,
         labels,
         component_names,
         k,

@@ -470,6 +470,9 @@ fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[Com
             "small",
             &format!("explained variance {}", percent(f.explained_variance, 1)),
         );
+        if let Some(flag) = r.flags.get(c).filter(|f| !f.is_empty()) {
+            h.element("p", "flag", flag);
+        }
         h.raw("</div>\n");
     }
     h.raw("</div>\n");
@@ -870,6 +873,7 @@ mod tests {
             caution: CAUTION.to_string(),
             software: "patchwise test".into(),
             notes: vec![],
+            flags: vec![String::new()],
             labels: vec!["C3".into(), "C4".into()],
             component_names: vec!["c0".into()],
             k: 1,

@@ -50,6 +50,7 @@ section { margin: 0 0 28px; }
 .card .lead { font-size: 22px; font-weight: 700; color: var(--accent); margin: 0; }
 .card .region { margin: 0 0 6px; }
 .card .small { color: var(--muted); font-size: 13px; margin: 0; }
+.card .flag { color: #9a3412; font-size: 13px; font-weight: 600; margin: 6px 0 0; }
 .columns { display: grid; grid-template-columns: 1fr 1fr; gap: 24px; }
 dl.facts { display: grid; grid-template-columns: max-content 1fr; gap: 4px 16px; margin: 0; }
 dl.facts dt { color: var(--muted); }
