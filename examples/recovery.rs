@@ -20,21 +20,7 @@
 use patchwise::geometry::TemplateResolution;
 use patchwise::head::SphereHead;
 use patchwise::pipeline::LambdaRule;
-use patchwise::validation::{run_case, CaseSpec, Method, RecoveryFixture};
-
-fn median(mut v: Vec<f64>) -> f64 {
-    v.retain(|x| x.is_finite());
-    v.sort_by(f64::total_cmp);
-    if v.is_empty() {
-        return f64::NAN;
-    }
-    let n = v.len();
-    if n % 2 == 1 {
-        v[n / 2]
-    } else {
-        0.5 * (v[n / 2 - 1] + v[n / 2])
-    }
-}
+use patchwise::validation::{median, run_case, CaseSpec, Method, RecoveryFixture};
 
 fn main() {
     let args: Vec<String> = std::env::args().collect();
@@ -161,7 +147,7 @@ fn main() {
                         } else {
                             "minimum norm"
                         },
-                        median(m.iter().map(|r| r.localization_error_mm).collect()),
+                        median(&m.iter().map(|r| r.localization_error_mm).collect::<Vec<_>>()),
                         100.0 * m.iter().filter(|r| r.top1_correct).count() as f64 / m.len() as f64,
                         100.0 * m1.iter().filter(|r| r.top1_correct).count() as f64
                             / m1.len().max(1) as f64,
@@ -169,7 +155,7 @@ fn main() {
                             / m.len() as f64,
                         100.0 * m.iter().filter(|r| r.top1_amplitude_correct).count() as f64
                             / m.len() as f64,
-                        median(m.iter().map(|r| r.auc).collect()),
+                        median(&m.iter().map(|r| r.auc).collect::<Vec<_>>()),
                         m.len()
                     );
                 }

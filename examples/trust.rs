@@ -26,21 +26,7 @@
 use patchwise::geometry::TemplateResolution;
 use patchwise::head::SphereHead;
 use patchwise::pipeline::{ForwardPerturbation, LambdaRule};
-use patchwise::validation::{run_case, CaseResult, CaseSpec, Method, RecoveryFixture};
-
-fn median(mut v: Vec<f64>) -> f64 {
-    v.retain(|x| x.is_finite());
-    v.sort_by(f64::total_cmp);
-    if v.is_empty() {
-        return f64::NAN;
-    }
-    let n = v.len();
-    if n % 2 == 1 {
-        v[n / 2]
-    } else {
-        0.5 * (v[n / 2 - 1] + v[n / 2])
-    }
-}
+use patchwise::validation::{median, run_case, CaseResult, CaseSpec, Method, RecoveryFixture};
 
 fn pct(num: usize, den: usize) -> String {
     if den == 0 {
@@ -197,12 +183,12 @@ fn main() {
                     .count();
                 println!(
                     "| {head_name} | {snr:.0} | {rule_name} | {:.4} | {} | {} ({}) | {} | {:.1} | {} | {} | {} | {} |",
-                    median(m.iter().map(|r| r.lambda_ratio).collect()),
+                    median(&m.iter().map(|r| r.lambda_ratio).collect::<Vec<_>>()),
                     pct(m.iter().filter(|r| !r.lambda_at_range_end).count(), m.len()),
                     pct(decisive.iter().filter(|r| r.top1_correct).count(), decisive.len()),
                     decisive.len(),
                     pct(m.iter().filter(|r| r.top1_tie_tolerant).count(), m.len()),
-                    median(m.iter().map(|r| r.localization_error_mm).collect()),
+                    median(&m.iter().map(|r| r.localization_error_mm).collect::<Vec<_>>()),
                     pct(covered(|r| r.truth_share), m.len()),
                     pct(covered(|r| r.truth_split_share), m.len()),
                     pct(holds, m.len()),

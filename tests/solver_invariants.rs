@@ -538,14 +538,13 @@ fn bad_input_gives_typed_errors() {
         Err(SolverError::GroupCount { .. })
     ));
     // Too few iterations: an error value carrying the gap reached.
-    let short = Params {
+    let short_params = || Params {
         lambda: Lambda::Ratio(0.01),
         tol: 1e-14,
         max_iter: 10,
         ..Params::default()
-    }
-    .validate()
-    .unwrap();
+    };
+    let short = short_params().validate().unwrap();
     match fit(&dict, &groups, &rng.normals(10), 1, &short, &mut NoObserver) {
         Err(SolverError::NotConverged { gap, iterations }) => {
             assert!(gap > 1e-14);
@@ -553,6 +552,30 @@ fn bad_input_gives_typed_errors() {
         }
         other => panic!("expected NotConverged, got {other:?}"),
     }
+    // The same budget with stop_on_budget: the iterate comes back with the
+    // gap it reached and the reason, and that gap is a true certificate
+    // (primal − dual of the returned point, relative to ½‖Y‖²).
+    let budget = Params {
+        stop_on_budget: true,
+        ..short_params()
+    }
+    .validate()
+    .unwrap();
+    let y = rng.normals(10);
+    let (stopped, info) = fit(&dict, &groups, &y, 1, &budget, &mut NoObserver).unwrap();
+    assert_eq!(info.stop_reason, StopReason::IterationBudget);
+    assert!(info.stop_reason.on_budget());
+    assert!(info.duality_gap > 1e-14 && info.iterations >= 10);
+    let half_sq = 0.5 * y.iter().map(|v| v * v).sum::<f64>();
+    assert!(((info.primal - info.dual) / half_sq - info.duality_gap).abs() < 1e-12);
+    assert_eq!(stopped.coefficients.len(), dict.n_atoms());
+    // An invalid time budget is refused by validation.
+    assert!(Params {
+        max_seconds: Some(f64::NAN),
+        ..Params::default()
+    }
+    .validate()
+    .is_err());
     assert!(matches!(
         PathSpec::LogSpaced {
             n_lambdas: 5,

@@ -57,6 +57,26 @@ fn write(path: &Path, entries: Vec<(&str, Dataset)>) {
     s.write_atomic(path).unwrap();
 }
 
+/// The demo on the 5k template, without resamples, read back: its patterns
+/// are the noise-free truth the tests add noise to.
+fn demo_result(dir: &Path) -> patchwise::io::result_file::ResultFile {
+    let demo = patchwise(
+        &[
+            "demo",
+            "--sources",
+            "template-5k",
+            "--resamples",
+            "0",
+            "--no-report",
+            "--out",
+            "demo",
+        ],
+        dir,
+    );
+    assert!(demo.status.success(), "{}", text(&demo));
+    patchwise::io::result_file::read_result(&dir.join("demo/result.h5")).unwrap()
+}
+
 fn summary(dir: &Path) -> serde_json::Value {
     serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap()
 }
@@ -157,21 +177,7 @@ fn noise_like_decoder_finishes_and_is_flagged_poorly_explained() {
 #[test]
 fn every_interval_holds_its_estimate_in_separate_and_joint_fits() {
     let dir = common::python::scratch_dir("trust_joint");
-    let demo = patchwise(
-        &[
-            "demo",
-            "--sources",
-            "template-5k",
-            "--resamples",
-            "0",
-            "--no-report",
-            "--out",
-            "demo",
-        ],
-        &dir,
-    );
-    assert!(demo.status.success(), "{}", text(&demo));
-    let r = patchwise::io::result_file::read_result(&dir.join("demo/result.h5")).unwrap();
+    let r = demo_result(&dir);
     let (n, k) = (r.labels.len(), r.k);
     let col = |c: usize| -> Vec<f64> { (0..n).map(|i| r.patterns[i * k + c]).collect() };
     let (a, b) = (col(0), col(1));
@@ -235,21 +241,7 @@ fn every_interval_holds_its_estimate_in_separate_and_joint_fits() {
 #[test]
 fn fold_decoders_set_the_noise_level_and_names_reach_every_output() {
     let dir = common::python::scratch_dir("trust_folds");
-    let demo = patchwise(
-        &[
-            "demo",
-            "--sources",
-            "template-5k",
-            "--resamples",
-            "0",
-            "--no-report",
-            "--out",
-            "demo",
-        ],
-        &dir,
-    );
-    assert!(demo.status.success(), "{}", text(&demo));
-    let r = patchwise::io::result_file::read_result(&dir.join("demo/result.h5")).unwrap();
+    let r = demo_result(&dir);
     let (n, k) = (r.labels.len(), r.k);
     let scale = (r.patterns.iter().map(|v| v * v).sum::<f64>() / (n * k) as f64).sqrt();
     let names = vec!["alpha".to_string(), "beta".to_string(), "gamma".to_string()];

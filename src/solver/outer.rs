@@ -96,36 +96,23 @@ pub(crate) fn solve(
             ("working_set", last_ws as f64),
             ("screened", n_screened as f64),
         ]);
-        if cert.relative_gap <= params.tol {
-            let (n_active_groups, n_active_atoms) = count_active(prep, x, k);
-            observer.observe_final(&[
-                ("iterations", iterations as f64),
-                ("gap", cert.relative_gap),
-                ("n_active_groups", n_active_groups as f64),
-            ]);
-            return Ok(Info {
-                iterations,
-                outer_iterations: outer,
-                duality_gap: cert.relative_gap,
-                primal: cert.primal,
-                dual: cert.dual,
-                lambda,
-                lambda_max,
-                stop_reason: StopReason::Converged,
-                n_active_groups,
-                n_active_atoms,
-                n_screened_groups: n_screened,
-                working_set_size: last_ws,
-            });
-        }
         let out_of_time = deadline.is_some_and(|d| std::time::Instant::now() >= d);
-        if iterations >= params.max_iter || out_of_time {
-            if !params.stop_on_budget {
-                return Err(SolverError::NotConverged {
-                    gap: cert.relative_gap,
-                    iterations,
-                });
-            }
+        let on_budget = iterations >= params.max_iter || out_of_time;
+        let stop_reason = if cert.relative_gap <= params.tol {
+            Some(StopReason::Converged)
+        } else if !on_budget {
+            None
+        } else if !params.stop_on_budget {
+            return Err(SolverError::NotConverged {
+                gap: cert.relative_gap,
+                iterations,
+            });
+        } else if out_of_time {
+            Some(StopReason::TimeBudget)
+        } else {
+            Some(StopReason::IterationBudget)
+        };
+        if let Some(stop_reason) = stop_reason {
             let (n_active_groups, n_active_atoms) = count_active(prep, x, k);
             observer.observe_final(&[
                 ("iterations", iterations as f64),
@@ -140,11 +127,7 @@ pub(crate) fn solve(
                 dual: cert.dual,
                 lambda,
                 lambda_max,
-                stop_reason: if out_of_time {
-                    StopReason::TimeBudget
-                } else {
-                    StopReason::IterationBudget
-                },
+                stop_reason,
                 n_active_groups,
                 n_active_atoms,
                 n_screened_groups: n_screened,

@@ -52,3 +52,28 @@ pub fn region_top1(weights: &[f64], region: &[i32], n_regions: usize) -> Option<
     }
     best
 }
+
+/// The median of the finite values (mean of the two middle ones for an even
+/// count); NaN when there is none.
+pub fn median(values: &[f64]) -> f64 {
+    let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
+    v.sort_by(f64::total_cmp);
+    let n = v.len();
+    match n {
+        0 => f64::NAN,
+        _ if n % 2 == 1 => v[n / 2],
+        _ => 0.5 * (v[n / 2 - 1] + v[n / 2]),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    // Hand-worked: odd count, even count, NaN left out, nothing left.
+    #[test]
+    fn median_of_finite_values() {
+        assert_eq!(super::median(&[3.0, 1.0, 2.0]), 2.0);
+        assert_eq!(super::median(&[4.0, 1.0, 3.0, 2.0]), 2.5);
+        assert_eq!(super::median(&[f64::NAN, 5.0]), 5.0);
+        assert!(super::median(&[f64::NAN]).is_nan());
+    }
+}

@@ -6,5 +6,5 @@
 mod metrics;
 mod recovery;
 
-pub use metrics::{region_top1, roc_auc};
+pub use metrics::{median, region_top1, roc_auc};
 pub use recovery::{run_case, CaseResult, CaseSpec, Method, RecoveryFixture, RecoverySetup};
