@@ -125,10 +125,18 @@ pub fn load_sources(spec: &str, regions: Option<&Path>) -> Result<SourceSpace, C
         s
     } else {
         let path = Path::new(spec);
-        if !path.is_file() {
-            return Err(CliError::bad_input(anyhow::anyhow!(
-                "sources {spec:?} are neither template, template-5k nor an existing file"
-            )));
+        match std::fs::metadata(path) {
+            Ok(meta) if !meta.is_file() => {
+                return Err(CliError::bad_input(anyhow::anyhow!(
+                    "sources {spec:?}: not a regular file (a folder, pipe, socket or device); give a surface or table file, or template, template-5k"
+                )));
+            }
+            Ok(_) => {}
+            Err(_) => {
+                return Err(CliError::bad_input(anyhow::anyhow!(
+                    "sources {spec:?} are neither template, template-5k nor an existing file"
+                )));
+            }
         }
         let sources = read_sources(path).bad_input("reading sources")?;
         if sources.triangles.is_empty() {

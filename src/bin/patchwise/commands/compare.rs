@@ -555,8 +555,18 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         .map(|r| ("result folder", r.as_path()))
         .collect();
     inputs.extend(args.cache.as_deref().map(|c| ("cache folder", c)));
-    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
+    // The --map files are inputs too: the output folder may not hold them.
     let maps = parse_maps(&args.maps)?;
+    for spec in maps.values() {
+        match spec {
+            MapSpec::Indices(file) => inputs.push(("--map file", file.as_path())),
+            MapSpec::Spheres(subject, template) => {
+                inputs.push(("--map sphere", subject.as_path()));
+                inputs.push(("--map sphere", template.as_path()));
+            }
+        }
+    }
+    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
     for dir in maps.keys() {
         if !args.results.iter().any(|r| normalise(r) == *dir) {
             return Err(bad(format!(
