@@ -303,3 +303,22 @@ fn patch_lengths_beyond_any_head_exit_2() {
         assert!(!dir.join("out").exists(), "{key}: an output was left");
     }
 }
+
+/// `compare --smoothing-mm` beyond any head (every smoothed map constant)
+/// and `--smoothing-cutoff` far beyond the Gaussian's reach (a dense
+/// kernel of n_sources² entries) exit 2 before any result is read.
+#[test]
+fn compare_smoothing_beyond_any_head_exits_2_before_reading() {
+    let dir = scratch("compare-smoothing");
+    for (flag, value) in [
+        ("--smoothing-mm", "1e300"),
+        ("--smoothing-mm", "2000"),
+        ("--smoothing-cutoff", "1e300"),
+    ] {
+        // The result folders do not even exist: the options come first.
+        let o = patchwise(&["compare", "a", "b", "--out", "cmp", flag, value], &dir);
+        assert_refused(&o, flag);
+        assert!(!dir.join("cmp").exists());
+        assert!(!dir.join("cache").exists());
+    }
+}

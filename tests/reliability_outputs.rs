@@ -399,7 +399,7 @@ fn batch_glob_with_dot_dot_cannot_reach_its_own_outputs() {
 }
 
 #[test]
-fn sources_that_are_not_a_regular_file_say_so() {
+fn sources_and_montages_that_are_not_a_regular_file_say_so() {
     let dir = scratch("sources-fifo");
     write_decoders(&dir, 1);
     let fifo = dir.join("sources.csv");
@@ -428,4 +428,21 @@ fn sources_that_are_not_a_regular_file_say_so() {
         assert!(String::from_utf8_lossy(&o.stderr).contains(sources));
         assert!(!dir.join("r").exists());
     }
+    // The same for a montage given as a pipe.
+    let o = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "decoders/sub-01.h5",
+            "--montage",
+            "sources.csv",
+            "--sources",
+            "template-5k",
+            "--out",
+            "r",
+        ],
+        &dir,
+    );
+    assert_refused(&o, "montage \"sources.csv\": not a regular file");
+    assert!(!dir.join("r").exists());
 }
