@@ -25,6 +25,20 @@ pub const MAX_INFLATE_RATIO: u64 = 1032;
 /// each. With [`MEMORY_BUDGET_BYTES`] this allows 1 048 576 resamples.
 pub const RESAMPLE_RECORD_BYTES: u64 = 2048 * 8;
 
+/// The longest patch radius or seed spacing (mm) accepted: 1000 mm, the
+/// largest head radius a head file may give. A patch wider than any head
+/// covers the whole cortex and a spacing beyond it leaves one seed, so a
+/// larger value is a slip (metres written where millimetres belong, or an
+/// extra exponent) and is refused rather than fitted.
+pub const MAX_PATCH_LENGTH_MM: f64 = 1000.0;
+
+/// The range the largest absolute value of a pattern (or of the patterns
+/// made from weights) must lie in. The fit works with squared norms: values
+/// beyond 1e100 overflow them (patterns × 1e300 once gave λ = inf and a
+/// result of NaNs), values below 1e-100 underflow them to zero. Patterns in
+/// volts are about 1e-6, in microvolts about 1, so real ones lie far inside.
+pub const PATTERN_MAGNITUDE_RANGE: (f64, f64) = (1e-100, 1e100);
+
 /// A declared size or a requested count that does not fit the limits.
 #[derive(Debug, thiserror::Error, PartialEq, Eq)]
 #[non_exhaustive]

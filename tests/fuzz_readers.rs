@@ -265,11 +265,57 @@ fn corpus(dir: &Path) -> Vec<Target> {
             |p| patchwise::io::decoder_file::read_decoder(p, None).is_ok(),
         );
     }
+    // A result folder through the report's reader and renderer (what
+    // `patchwise report` calls): result.h5 and summary.json, made by
+    // `attribute` in the parent (see `attribute_result`), each mutated
+    // with the other kept valid beside it.
+    let made = dir.join("report-corpus");
+    if made.join("result.h5").is_file() && made.join("summary.json").is_file() {
+        add(
+            "report result.h5",
+            "result.h5",
+            bytes_of(&made.join("result.h5")),
+            |p| report_of(p, &p.with_file_name("summary.json")),
+        );
+        add(
+            "report summary",
+            "summary.json",
+            bytes_of(&made.join("summary.json")),
+            |p| report_of(&p.with_file_name("result.h5"), p),
+        );
+    }
     let job = b"[defaults]\nmontage = \"10-20\"\nresamples = 10\nradii_mm = [5.0, 10.0]\n\n[[job]]\nname = \"s1\"\ndecoder = \"decoder.h5\"\nlambda_ratio = 0.1\n\n[[job]]\nname = \"s2\"\ndecoder = \"decoder.h5\"\nspacing_mm = 7.5\n\n[compare]\nout = \"group\"\n".to_vec();
     add("job toml", "jobs.toml", job, |p| {
         patchwise::batch::load_script(p).is_ok()
     });
     targets
+}
+
+/// One report case in this many draws its pictures.
+const FIGURES_EVERY: u64 = 128;
+
+/// The report of a result folder as `patchwise report` builds it: read
+/// result.h5, parse summary.json, build the page. Drawing the pictures of
+/// the 5k cortex takes about 0.25 s, so one call in `FIGURES_EVERY` draws
+/// them and the others build the tables and text only (`no_figures`).
+fn report_of(result: &Path, summary: &Path) -> bool {
+    static CALLS: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
+    let call = CALLS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    let Ok(result) = patchwise::io::result_file::read_result(result) else {
+        return false;
+    };
+    let summary = match std::fs::read_to_string(summary) {
+        Ok(text) => match serde_json::from_str::<serde_json::Value>(&text) {
+            Ok(v) => Some(v),
+            Err(_) => return false,
+        },
+        Err(_) => None,
+    };
+    let options = patchwise::render::report::ReportOptions {
+        no_figures: !call.is_multiple_of(FIGURES_EVERY),
+        ..Default::default()
+    };
+    patchwise::render::report::build_report(&result, summary.as_ref(), &options).is_ok()
 }
 
 /// Numbers a mutation puts into text: extremes, signs, NaN and infinities.
@@ -532,12 +578,64 @@ with open(path, "r+b") as fh:
     true
 }
 
+/// A small attribution on the template-5k, made once by the real binary
+/// (64 channels of the 10-10 montage, two components, 4 resamples), copied
+/// into `dir`/report-corpus for the result-folder readers. The cache is
+/// kept between runs in target/test-scratch.
+fn attribute_result(dir: &Path) {
+    let work = common::python::scratch_dir("fuzz_report_result");
+    let cache = Path::new(env!("CARGO_MANIFEST_DIR")).join("target/test-scratch/fuzz_report_cache");
+    let labels: Vec<String> = patchwise::demo::CHANNELS_64
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    let n = labels.len();
+    let values: Vec<f64> = (0..n * 2)
+        .map(|i| ((i / 2) as f64 * if i % 2 == 0 { 0.37 } else { 0.11 }).sin() * 1e-6)
+        .collect();
+    let mut store = Store::new();
+    store.insert("/channels", Dataset::strings(labels));
+    store.insert("/patterns", Dataset::f64(vec![n, 2], values));
+    store.write_atomic(&work.join("decoder.h5")).unwrap();
+    let run = Command::new(env!("CARGO_BIN_EXE_patchwise"))
+        .args(["attribute", "--decoder", "decoder.h5", "--montage", "10-10"])
+        .args([
+            "--sources",
+            "template-5k",
+            "--resamples",
+            "4",
+            "--no-report",
+        ])
+        .args(["--out", "result", "--cache"])
+        .arg(&cache)
+        .current_dir(&work)
+        .output()
+        .unwrap();
+    assert!(
+        run.status.success(),
+        "the corpus attribution failed: {}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let made = dir.join("report-corpus");
+    std::fs::create_dir_all(&made).unwrap();
+    for f in ["result.h5", "summary.json"] {
+        std::fs::copy(work.join("result").join(f), made.join(f)).unwrap();
+    }
+}
+
+/// The parent's part of the corpus: the MATLAB decoder (when h5py is
+/// there) and the attribution for the result-folder readers.
+fn prepare_corpus(dir: &Path) -> bool {
+    attribute_result(dir);
+    matlab_decoder(dir)
+}
+
 #[test]
 fn fuzz_every_reader() {
-    // A time limit of 2 ms a case on average over 19 readers, 2 minutes at
+    // A time limit of 2 ms a case on average over 21 readers, 2 minutes at
     // the least: a reader that spins is stopped and named.
-    let deadline = (cases_per_reader() as f64 * 19.0 * 0.002).max(120.0);
-    let run = run_child(&[], deadline, matlab_decoder);
+    let deadline = (cases_per_reader() as f64 * 21.0 * 0.002).max(120.0);
+    let run = run_child(&[], deadline, prepare_corpus);
     let _ = std::io::stdout().write_all(run.stdout.as_bytes());
     assert!(
         run.success,

@@ -133,6 +133,27 @@ fn labels_round_trip_and_unlabelled_vertices() {
     assert!(bad.unwrap_err().to_string().contains("vertex 1"));
 }
 
+/// Issue 18, item 13: the reader refuses a LabelTable that gives one name to
+/// two keys, so the writer must not make one (and leaves no file).
+#[test]
+fn writing_duplicate_region_names_is_refused() {
+    let dir = common::python::scratch_dir("gifti_label_duplicates");
+    let names: Vec<String> = ["frontal", "occipital", "frontal"]
+        .map(String::from)
+        .to_vec();
+    let path = dir.join("dup.label.gii");
+    let _ = std::fs::remove_file(&path);
+    let err = write_gifti_labels(&path, &[0, 1, 2, -1], &names, ENCODINGS[0]).unwrap_err();
+    let text = err.to_string();
+    assert!(
+        text.contains("\"frontal\"") && text.contains("regions 0 and 2"),
+        "{text}"
+    );
+    assert!(!path.exists(), "no file is written");
+    let left: Vec<_> = std::fs::read_dir(&dir).unwrap().flatten().collect();
+    assert!(left.is_empty(), "nothing left in {}", dir.display());
+}
+
 /// NumPy 2.4.6 encodes the arrays (tobytes, zlib, base64 from the Python
 /// standard library): big-endian float32 column-major gzip points, int32
 /// triangles, and a label array with a LabelTable whose key 0 is "???".

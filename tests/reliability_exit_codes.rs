@@ -225,3 +225,100 @@ fn a_rank_deficient_noise_covariance_is_refused_with_its_rank() {
     );
     assert!(o.status.success(), "{}", text(&o));
 }
+
+/// Issue 18, item 15: patterns × 1e300 once ran to "lambda = inf" (and
+/// later to a result of NaNs with exit 0). Patterns whose largest value lies
+/// outside the range where the fit's squared norms are finite and non-zero
+/// are refused before the forward model is computed.
+#[test]
+fn patterns_beyond_the_fits_numeric_range_exit_2_before_computing() {
+    let dir = scratch("pattern-magnitude");
+    let labels = patchwise::demo::CHANNELS_64;
+    std::fs::write(dir.join("ch.txt"), labels.join("\n") + "\n").unwrap();
+    for (name, scale) in [("huge.csv", 1e300), ("tiny.csv", 1e-300)] {
+        let rows: Vec<String> = (0..labels.len())
+            .map(|i| {
+                let x = i as f64;
+                format!(
+                    "{:e},{:e}",
+                    (0.37 * x).sin() * scale,
+                    (0.11 * x).cos() * scale
+                )
+            })
+            .collect();
+        std::fs::write(dir.join(name), rows.join("\n") + "\n").unwrap();
+        let before = std::fs::read(dir.join(name)).unwrap();
+        let o = attribute(&dir, &[name, "--channels", "ch.txt"], "out", &[]);
+        assert_refused(&o, name);
+        assert!(text(&o).contains("component 0"), "{}", text(&o));
+        let dipole = patchwise(
+            &[
+                "dipole",
+                "--decoder",
+                name,
+                "--channels",
+                "ch.txt",
+                "--out",
+                "out",
+            ],
+            &dir,
+        );
+        assert_refused(&dipole, name);
+        assert!(!dir.join("out").exists(), "{name}: an output was left");
+        assert!(
+            !dir.join("cache").exists(),
+            "{name}: refused after computing"
+        );
+        assert_eq!(std::fs::read(dir.join(name)).unwrap(), before);
+    }
+}
+
+/// A patch radius or seed spacing beyond any head (1e300 mm, or metres
+/// written where millimetres belong: 2000) covers the whole cortex or
+/// leaves one seed; it is refused on the command line and in a job script.
+#[test]
+fn patch_lengths_beyond_any_head_exit_2() {
+    let dir = scratch("patch-lengths");
+    write_decoders(&dir, 1);
+    for extra in [
+        ["--radii-mm", "1e300"],
+        ["--radii-mm", "5,2000"],
+        ["--spacing-mm", "1e300"],
+    ] {
+        let o = attribute(&dir, &["decoders/sub-01.h5"], "out", &extra);
+        assert_refused(&o, extra[0]);
+        assert!(!dir.join("out").exists(), "{extra:?}: an output was left");
+        assert!(
+            !dir.join("cache").exists(),
+            "{extra:?}: refused after computing"
+        );
+    }
+    for (key, value) in [("radii_mm", "[5.0, 1e300]"), ("spacing_mm", "2000.0")] {
+        write_script(
+            &dir,
+            &format!("{DEFAULTS}[[job]]\nname = \"s\"\ndecoder = \"decoders/sub-01.h5\"\n{key} = {value}\n"),
+        );
+        let o = batch(&dir, &["jobs.toml", "--out", "out"]);
+        assert_refused(&o, key);
+        assert!(!dir.join("out").exists(), "{key}: an output was left");
+    }
+}
+
+/// `compare --smoothing-mm` beyond any head (every smoothed map constant)
+/// and `--smoothing-cutoff` far beyond the Gaussian's reach (a dense
+/// kernel of n_sources² entries) exit 2 before any result is read.
+#[test]
+fn compare_smoothing_beyond_any_head_exits_2_before_reading() {
+    let dir = scratch("compare-smoothing");
+    for (flag, value) in [
+        ("--smoothing-mm", "1e300"),
+        ("--smoothing-mm", "2000"),
+        ("--smoothing-cutoff", "1e300"),
+    ] {
+        // The result folders do not even exist: the options come first.
+        let o = patchwise(&["compare", "a", "b", "--out", "cmp", flag, value], &dir);
+        assert_refused(&o, flag);
+        assert!(!dir.join("cmp").exists());
+        assert!(!dir.join("cache").exists());
+    }
+}

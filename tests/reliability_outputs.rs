@@ -267,3 +267,182 @@ fn output_folders_are_committed_whole() {
         .collect();
     assert_eq!(hidden.len(), 1, "{hidden:?}");
 }
+
+#[test]
+fn a_dead_temporary_of_ours_does_not_block_the_rerun() {
+    // A `report` killed while writing leaves `.report.html.<host>.<pid>.<n>.tmp`
+    // in the result folder; that file is ours, so the rerun removes it
+    // instead of calling the folder "not ours". A live writer's temporary
+    // still blocks (it may become report.html at any moment).
+    let dir = scratch("dead-temporary");
+    write_decoders(&dir, 1);
+    let decoder = "decoders/sub-01.h5";
+    let first = attribute(&dir, decoder, "r", &["--no-report"]);
+    assert!(first.status.success(), "{}", text(&first));
+    let host = patchwise::io::atomic::host_tag();
+    let dead = dir.join(format!("r/.report.html.{host}.999999999.3.tmp"));
+    std::fs::write(&dead, "<html>half a page").unwrap();
+    let again = attribute(&dir, decoder, "r", &["--no-report"]);
+    assert!(again.status.success(), "{}", text(&again));
+    assert!(!dead.exists(), "the dead temporary is left");
+    let names: Vec<_> = snapshot(&dir.join("r")).into_keys().collect();
+    assert_eq!(
+        names,
+        ["regions.csv", "result.h5", "summary.json"]
+            .map(PathBuf::from)
+            .to_vec()
+    );
+
+    let live = dir.join(format!(
+        "r/.report.html.{host}.{}.0.tmp",
+        std::process::id()
+    ));
+    std::fs::write(&live, "<html>being written").unwrap();
+    let before = snapshot(&dir.join("r"));
+    let o = attribute(&dir, decoder, "r", &["--no-report"]);
+    assert_refused(&o, ".report.html");
+    assert_eq!(snapshot(&dir.join("r")), before);
+}
+
+#[test]
+fn compare_map_files_are_inputs_the_output_may_not_replace() {
+    let dir = scratch("compare-map-input");
+    write_decoders(&dir, 2);
+    for s in ["01", "02"] {
+        let o = attribute(
+            &dir,
+            &format!("decoders/sub-{s}.h5"),
+            &format!("sub-{s}"),
+            &["--no-report"],
+        );
+        assert!(o.status.success(), "{}", text(&o));
+    }
+    let first = patchwise(
+        &["compare", "sub-01", "sub-02", "--out", "cmp", "--no-report"],
+        &dir,
+    );
+    assert!(first.status.success(), "{}", text(&first));
+    // A vertex map kept in the comparison folder under one of our names:
+    // the folder is ours, but replacing it would delete the map being read.
+    let n = {
+        let r = patchwise::io::result_file::read_result(&dir.join("sub-02/result.h5")).unwrap();
+        r.sources.unwrap().len()
+    };
+    let indices: String = (0..n).map(|i| format!("{i}\n")).collect();
+    std::fs::write(dir.join("map.csv"), &indices).unwrap();
+    // The map itself is valid: the same map outside the folder is used.
+    let outside = patchwise(
+        &[
+            "compare",
+            "sub-01",
+            "sub-02",
+            "--map",
+            "sub-02=map.csv",
+            "--out",
+            "cmp2",
+            "--no-report",
+        ],
+        &dir,
+    );
+    assert!(outside.status.success(), "{}", text(&outside));
+    std::fs::write(dir.join("cmp/paired.csv"), &indices).unwrap();
+    let before = snapshot(&dir.join("cmp"));
+    for map in ["sub-02=cmp/paired.csv", "sub-02=./cmp/../cmp/paired.csv"] {
+        let o = patchwise(
+            &[
+                "compare",
+                "sub-01",
+                "sub-02",
+                "--map",
+                map,
+                "--out",
+                "cmp",
+                "--no-report",
+            ],
+            &dir,
+        );
+        assert_refused(&o, "paired.csv");
+        assert_eq!(snapshot(&dir.join("cmp")), before, "--map {map}");
+    }
+    let spheres = patchwise(
+        &[
+            "compare",
+            "sub-01",
+            "sub-02",
+            "--map",
+            "sub-02=cmp/paired.csv,elsewhere.gii",
+            "--out",
+            "cmp",
+            "--no-report",
+        ],
+        &dir,
+    );
+    assert_refused(&spheres, "paired.csv");
+    assert_eq!(snapshot(&dir.join("cmp")), before);
+}
+
+#[test]
+fn batch_glob_with_dot_dot_cannot_reach_its_own_outputs() {
+    let dir = scratch("glob-dot-dot");
+    write_decoders(&dir, 2);
+    for decoder in ["decoders/../**/*.h5", "./decoders/./../*/../**/*.h5"] {
+        write_script(
+            &dir,
+            &format!("{DEFAULTS}[[job]]\nname = \"s\"\ndecoder = \"{decoder}\"\n"),
+        );
+        let before = snapshot(&dir.join("decoders"));
+        let o = batch(&dir, &["jobs.toml", "--out", "out"]);
+        assert_refused(&o, "would match");
+        assert!(!dir.join("out").exists(), "{decoder}: out was created");
+        assert_eq!(snapshot(&dir.join("decoders")), before);
+    }
+}
+
+#[test]
+fn sources_and_montages_that_are_not_a_regular_file_say_so() {
+    let dir = scratch("sources-fifo");
+    write_decoders(&dir, 1);
+    let fifo = dir.join("sources.csv");
+    let made = std::process::Command::new("mkfifo")
+        .arg(&fifo)
+        .status()
+        .unwrap();
+    assert!(made.success());
+    std::fs::create_dir_all(dir.join("folder.csv")).unwrap();
+    for sources in ["sources.csv", "folder.csv"] {
+        let o = patchwise(
+            &[
+                "attribute",
+                "--decoder",
+                "decoders/sub-01.h5",
+                "--montage",
+                "10-10",
+                "--sources",
+                sources,
+                "--out",
+                "r",
+            ],
+            &dir,
+        );
+        assert_refused(&o, "not a regular file");
+        assert!(String::from_utf8_lossy(&o.stderr).contains(sources));
+        assert!(!dir.join("r").exists());
+    }
+    // The same for a montage given as a pipe.
+    let o = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "decoders/sub-01.h5",
+            "--montage",
+            "sources.csv",
+            "--sources",
+            "template-5k",
+            "--out",
+            "r",
+        ],
+        &dir,
+    );
+    assert_refused(&o, "montage \"sources.csv\": not a regular file");
+    assert!(!dir.join("r").exists());
+}

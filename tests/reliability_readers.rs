@@ -200,10 +200,15 @@ fn leadfield_import_without_triangles_gets_a_documented_point_area() {
 fn duplicate_region_names_in_a_gifti_label_table_are_refused() {
     let dir = scratch("duplicate_regions");
     let path = dir.join("regions.label.gii");
-    let names: Vec<String> = ["frontal", "parietal", "frontal"]
+    // The writer refuses a name twice (io_gifti::writing_duplicate_region_names_is_refused),
+    // so the table is written with a placeholder that is then renamed.
+    let names: Vec<String> = ["frontal", "parietal", "duplicate-to-be"]
         .map(String::from)
         .to_vec();
     write_gifti_labels(&path, &[0, 1, 2, -1], &names, GiftiEncoding::Ascii).unwrap();
+    let text = std::fs::read_to_string(&path).unwrap();
+    assert_eq!(text.matches("duplicate-to-be").count(), 1, "{text}");
+    std::fs::write(&path, text.replace("duplicate-to-be", "frontal")).unwrap();
     common::files::assert_value_error(
         read_gifti_labels(&path),
         &path,

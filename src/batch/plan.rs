@@ -10,7 +10,7 @@ use super::error::BatchError;
 use super::script::{line_column, JobOptions, LenientScript, RawJob, RawScript};
 use crate::geometry::TemplateResolution;
 use crate::io::cache::{file_sha256, ContentHash};
-use crate::limits::{check_count, RESAMPLE_RECORD_BYTES};
+use crate::limits::{check_count, MAX_PATCH_LENGTH_MM, RESAMPLE_RECORD_BYTES};
 use crate::montage::standard_names;
 
 /// One job, ready to run: its options are merged with `[defaults]` and its
@@ -347,9 +347,12 @@ fn check_values(o: &JobOptions) -> Result<(), String> {
         }
     }
     if let Some(r) = &o.radii_mm {
-        if r.is_empty() || r.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
+        if r.is_empty()
+            || r.iter()
+                .any(|v| !(v.is_finite() && *v > 0.0 && *v <= MAX_PATCH_LENGTH_MM))
+        {
             return Err(format!(
-                "radii_mm = {r:?}; expected a non-empty list of positive lengths in mm"
+                "radii_mm = {r:?}; expected a non-empty list of positive lengths in mm, at most {MAX_PATCH_LENGTH_MM}"
             ));
         }
     }
@@ -357,9 +360,9 @@ fn check_values(o: &JobOptions) -> Result<(), String> {
         check_count("resamples", r, RESAMPLE_RECORD_BYTES).map_err(|e| e.to_string())?;
     }
     if let Some(s) = o.spacing_mm {
-        if !(s.is_finite() && s > 0.0) {
+        if !(s.is_finite() && s > 0.0 && s <= MAX_PATCH_LENGTH_MM) {
             return Err(format!(
-                "spacing_mm = {s}; expected a positive length in mm"
+                "spacing_mm = {s}; expected a positive length in mm, at most {MAX_PATCH_LENGTH_MM}"
             ));
         }
     }

@@ -14,7 +14,7 @@ pub enum DictionaryError {
     NoRadii,
     /// A radius is not a finite positive number.
     #[error(
-        "dictionary parameter `radii_m[{index}]` = {value}: expected a finite radius > 0 (metres)"
+        "dictionary parameter `radii_m[{index}]` = {value}: expected a finite radius > 0 and at most 1 m (1000 mm, the largest head radius) (metres)"
     )]
     BadRadius {
         /// Position in `radii_m`.

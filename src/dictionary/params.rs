@@ -182,7 +182,8 @@ impl DictionaryParams {
             return Err(DictionaryError::NoRadii);
         }
         for (index, &value) in self.radii_m.iter().enumerate() {
-            if !(value.is_finite() && value > 0.0) {
+            let longest_m = crate::limits::MAX_PATCH_LENGTH_MM * 1e-3;
+            if !(value.is_finite() && value > 0.0 && value <= longest_m) {
                 return Err(DictionaryError::BadRadius { index, value });
             }
             if index > 0 {

@@ -108,10 +108,23 @@ pub fn load_montage(spec: &str) -> Result<(Montage, bool), CliError> {
         let m = read_electrodes(path).bad_input("reading electrodes")?;
         return Ok((m, true));
     }
+    refuse_special_file("montage", spec)?;
     Err(CliError::bad_input(anyhow::anyhow!(
         "montage {spec:?} is neither a standard layout ({}) nor an existing electrodes file",
         standard_names().join(", ")
     )))
+}
+
+/// Refuse `spec` when it names something that exists but is not a regular
+/// file (a folder, pipe, socket or device): saying "no such file" there
+/// would mislead, and opening a pipe would block.
+fn refuse_special_file(what: &str, spec: &str) -> Result<(), CliError> {
+    match std::fs::metadata(spec) {
+        Ok(meta) if !meta.is_file() => Err(CliError::bad_input(anyhow::anyhow!(
+            "{what} {spec:?}: not a regular file (a folder, pipe, socket or device); give a file or a built-in name"
+        ))),
+        _ => Ok(()),
+    }
 }
 
 /// Sources: `template`, `template-5k`, or a surface/table file; regions from
@@ -125,6 +138,7 @@ pub fn load_sources(spec: &str, regions: Option<&Path>) -> Result<SourceSpace, C
         s
     } else {
         let path = Path::new(spec);
+        refuse_special_file("sources", spec)?;
         if !path.is_file() {
             return Err(CliError::bad_input(anyhow::anyhow!(
                 "sources {spec:?} are neither template, template-5k nor an existing file"

@@ -146,8 +146,15 @@ fn kind(meta: &fs::Metadata) -> &'static str {
 
 /// The entries of the existing folder `dir` that keep it from being ours:
 /// anything but a regular file named in [`OUR_FILES`]; and, when no
-/// [`SIGNATURES`] file is there, every entry.
+/// [`SIGNATURES`] file is there, every entry. The temporaries that killed
+/// writers of our files left (`.report.html.<host>.<pid>.<n>.tmp` of a
+/// killed `report`) are removed first: they are ours and would otherwise
+/// block every rerun until removed by hand. Those of live processes and of
+/// other machines stay, and count as foreign.
 pub fn foreign_entries(dir: &Path) -> std::io::Result<Vec<String>> {
+    for name in OUR_FILES {
+        remove_dead_temporaries(dir, Some(name));
+    }
     let mut foreign = Vec::new();
     let mut names = Vec::new();
     for entry in fs::read_dir(dir)? {

@@ -192,6 +192,19 @@ pub fn write_gifti_labels(
             ),
         });
     }
+    // The reader refuses a LabelTable giving one name to two keys (two rows
+    // of one region, each with part of its share): never write one.
+    for (i, name) in names.iter().enumerate() {
+        if let Some(first) = names[..i].iter().position(|n| n == name) {
+            return Err(IoError::Value {
+                path: path.to_path_buf(),
+                object: "LabelTable".to_string(),
+                message: format!(
+                    "region name {name:?} is given to regions {first} and {i}; expected each name once"
+                ),
+            });
+        }
+    }
     let mut table = vec![(0i64, "???".to_string(), [0.0f32, 0.0, 0.0, 0.0])];
     for (i, name) in names.iter().enumerate() {
         // Colours spread around the hue circle so neighbouring indices differ.

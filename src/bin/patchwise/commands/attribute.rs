@@ -268,6 +268,13 @@ pub(crate) fn decoder_patterns(
         let scale: f64 = (0..n)
             .map(|i| raw[i * decoder.k + c].abs())
             .fold(0.0, f64::max);
+        let (smallest, largest) = patchwise::limits::PATTERN_MAGNITUDE_RANGE;
+        if scale.is_nan() || (scale > 0.0 && !(smallest..=largest).contains(&scale)) {
+            return Err(bad(format!(
+                "{}: component {c} has values up to {scale:e} in absolute value; expected its largest value between {smallest:e} and {largest:e}, where the fit's squared norms neither overflow nor vanish: rescale the patterns (e.g. to volts or microvolts)",
+                path.display()
+            )));
+        }
         if norm <= 1e-12 * scale.max(f64::MIN_POSITIVE) || norm.is_nan() {
             return Err(bad(format!(
                 "{}: component {c} is zero or constant over the channels after average referencing; nothing to attribute",

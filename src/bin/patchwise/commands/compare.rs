@@ -470,6 +470,9 @@ fn print_paired(p: &PairedComparison, alpha: f64, a: &str, b: &str) {
     }
 }
 
+/// The largest `--smoothing-cutoff`, in Gaussian widths.
+const MAX_SMOOTHING_CUTOFF: f64 = 10.0;
+
 /// Check the numeric options before any file is read or any cache entry is
 /// looked up (they key the smoothing kernel's entry).
 fn check_options(args: &Args) -> Result<(), CliError> {
@@ -489,6 +492,22 @@ fn check_options(args: &Args) -> Result<(), CliError> {
         if !(value.is_finite() && value > 0.0) {
             return Err(bad(format!("{name} {value}: expected a positive number")));
         }
+    }
+    // A width beyond any head makes every map one constant; a cut-off far
+    // beyond the Gaussian's reach (its weight at 10 σ is e^-50) makes the
+    // kernel dense, n_sources² entries, without changing a number.
+    let longest = patchwise::limits::MAX_PATCH_LENGTH_MM;
+    if args.smoothing_mm > longest {
+        return Err(bad(format!(
+            "--smoothing-mm {:e}: expected at most {longest} mm (the largest head radius)",
+            args.smoothing_mm
+        )));
+    }
+    if args.smoothing_cutoff > MAX_SMOOTHING_CUTOFF {
+        return Err(bad(format!(
+            "--smoothing-cutoff {:e}: expected at most {MAX_SMOOTHING_CUTOFF} (widths; the Gaussian's weight there is e^-50)",
+            args.smoothing_cutoff
+        )));
     }
     Ok(())
 }
@@ -555,8 +574,18 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         .map(|r| ("result folder", r.as_path()))
         .collect();
     inputs.extend(args.cache.as_deref().map(|c| ("cache folder", c)));
-    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
+    // The --map files are inputs too: the output folder may not hold them.
     let maps = parse_maps(&args.maps)?;
+    for spec in maps.values() {
+        match spec {
+            MapSpec::Indices(file) => inputs.push(("--map file", file.as_path())),
+            MapSpec::Spheres(subject, template) => {
+                inputs.push(("--map sphere", subject.as_path()));
+                inputs.push(("--map sphere", template.as_path()));
+            }
+        }
+    }
+    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
     for dir in maps.keys() {
         if !args.results.iter().any(|r| normalise(r) == *dir) {
             return Err(bad(format!(

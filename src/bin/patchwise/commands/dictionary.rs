@@ -1,5 +1,6 @@
 //! `patchwise dictionary`: build the multi-scale patch dictionary of a lead field.
 
+use patchwise::limits::MAX_PATCH_LENGTH_MM;
 use std::path::PathBuf;
 
 use patchwise::dictionary::{
@@ -65,11 +66,20 @@ impl DictionaryOptions {
     /// Validated library parameters (radii in metres).
     pub fn params(&self) -> Result<DictionaryParams, CliError> {
         if let Some(s) = self.spacing_mm {
-            if !(s.is_finite() && s > 0.0) {
+            if !(s.is_finite() && s > 0.0 && s <= MAX_PATCH_LENGTH_MM) {
                 return Err(CliError::bad_input(anyhow::anyhow!(
-                    "--spacing-mm {s}: expected a positive length in mm"
+                    "--spacing-mm {s}: expected a positive length in mm, at most {MAX_PATCH_LENGTH_MM}"
                 )));
             }
+        }
+        if let Some(r) = self
+            .radii_mm
+            .iter()
+            .find(|r| !(r.is_finite() && **r > 0.0 && **r <= MAX_PATCH_LENGTH_MM))
+        {
+            return Err(CliError::bad_input(anyhow::anyhow!(
+                "--radii-mm {r}: expected positive lengths in mm, at most {MAX_PATCH_LENGTH_MM}"
+            )));
         }
         let params = DictionaryParams {
             radii_m: self.radii_mm.iter().map(|r| r * 1e-3).collect(),

@@ -196,22 +196,57 @@ pub fn check_outputs(
     Ok(())
 }
 
-/// A decoder glob pattern made absolute (against the working folder,
-/// without a leading `./`), to be matched against absolute output paths.
+/// A decoder glob pattern made absolute (against the working folder), with
+/// `.` and `..` taken out, and its literal leading folders resolved, to be
+/// matched against resolved output paths: `study/jobs/../out/**/*.h5` must
+/// be seen to reach `study/out`. A `..` right after `**` is replaced by a
+/// pattern that matches at least as much (`a/**/..` becomes `a/../**`), so
+/// the check may refuse more than needed, never less.
 fn absolute_pattern(pattern: &str) -> Option<glob::Pattern> {
-    if Path::new(pattern).is_absolute() {
-        return glob::Pattern::new(pattern).ok();
+    let is_glob = |c: &str| c.contains(['*', '?', '[']);
+    // (component, whether it is a literal path name)
+    let mut parts: Vec<(String, bool)> = Vec::new();
+    if !Path::new(pattern).is_absolute() {
+        let cwd = std::env::current_dir().ok()?;
+        for c in cwd.components() {
+            if let std::path::Component::Normal(name) = c {
+                parts.push((name.to_string_lossy().into_owned(), true));
+            }
+        }
     }
-    let cwd = std::env::current_dir().ok()?;
-    let mut relative = pattern;
-    while let Some(rest) = relative.strip_prefix("./") {
-        relative = rest;
+    for c in pattern.split('/') {
+        match c {
+            "" | "." => {}
+            ".." => {
+                if parts.last().is_some_and(|(p, _)| p == "**") {
+                    parts.pop();
+                    parts.pop();
+                    parts.push(("**".to_string(), false));
+                } else {
+                    parts.pop();
+                }
+            }
+            other => parts.push((other.to_string(), !is_glob(other))),
+        }
     }
-    glob::Pattern::new(&format!(
-        "{}/{relative}",
-        glob::Pattern::escape(&cwd.to_string_lossy())
-    ))
-    .ok()
+    // Resolve the literal leading folders as the outputs are resolved.
+    let n_literal = parts.iter().take_while(|(_, literal)| *literal).count();
+    let prefix: PathBuf = std::iter::once("/".to_string())
+        .chain(parts[..n_literal].iter().map(|(p, _)| p.clone()))
+        .collect();
+    let resolved_prefix = staging::resolved(&prefix);
+    let mut text = glob::Pattern::escape(&resolved_prefix.to_string_lossy());
+    for (p, literal) in &parts[n_literal..] {
+        if !text.ends_with('/') {
+            text.push('/');
+        }
+        if *literal {
+            text.push_str(&glob::Pattern::escape(p));
+        } else {
+            text.push_str(p);
+        }
+    }
+    glob::Pattern::new(&text).ok()
 }
 
 /// Whether `out/<name>` holds a finished job with this input hash.
