@@ -44,8 +44,22 @@ impl CliError {
 
 impl fmt::Display for CliError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        // `{:#}` prints the whole context chain on one line.
-        write!(f, "{:#}", self.error)
+        // The whole context chain on one line, each cause once: an error
+        // whose message already ends with its source's text (a variant
+        // written "{path}: {source}") does not repeat it.
+        let mut previous = String::new();
+        for (i, cause) in self.error.chain().enumerate() {
+            let text = cause.to_string();
+            if i > 0 && previous.ends_with(&text) {
+                continue;
+            }
+            if i > 0 {
+                f.write_str(": ")?;
+            }
+            f.write_str(&text)?;
+            previous = text;
+        }
+        Ok(())
     }
 }
 
@@ -66,5 +80,32 @@ where
     }
     fn compute(self, context: impl fmt::Display + Send + Sync + 'static) -> Result<T, CliError> {
         self.map_err(|e| CliError::compute(anyhow::Error::new(e).context(context)))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[derive(Debug, thiserror::Error)]
+    #[error("{path}: {source}")]
+    struct WithSource {
+        path: String,
+        #[source]
+        source: std::io::Error,
+    }
+
+    // A variant that prints its source is followed by that source in the
+    // chain; the line says it once, and other causes stay.
+    #[test]
+    fn each_cause_is_printed_once() {
+        let inner = std::io::Error::new(std::io::ErrorKind::NotFound, "no such file");
+        let e = anyhow::Error::new(WithSource {
+            path: "d.npz".into(),
+            source: inner,
+        })
+        .context("reading the decoder");
+        let text = CliError::bad_input(e).to_string();
+        assert_eq!(text, "reading the decoder: d.npz: no such file");
     }
 }
