@@ -26,8 +26,8 @@ pub struct FoldNoise {
 /// the fold decoders are the grouped jackknife's leave-one-group-out
 /// replicates and the variance of the full pattern is estimated by
 /// (F − 1)/F Σ_f ‖a_f − ā‖² (Efron & Tibshirani 1993, "An Introduction to
-/// the Bootstrap", ch. 11, eq. 11.5, for the delete-one form; the grouped
-/// form from memory). Decoders fix neither the sign nor the scale of a
+/// the Bootstrap", ch. 11, for the delete-one form; the grouped form from
+/// memory). Decoders fix neither the sign nor the scale of a
 /// component, so each fold pattern is first aligned to the full one by the
 /// least-squares factor s_f = ⟨a_f, a⟩ / ‖a_f‖² (shares do not depend on
 /// the scale; the variance then measures changes of shape).
