@@ -131,6 +131,32 @@ pub struct FittedComponent {
     pub at_range_end: bool,
 }
 
+impl FittedComponent {
+    /// What the solver reported for the block of components `cols`, with
+    /// the path searched, the rule's noise level (NaN when it used none) and
+    /// whether λ sits at the end of the searched range.
+    pub(crate) fn from_info(
+        cols: &[usize],
+        info: &crate::solver::Info,
+        path: Vec<(f64, f64, usize, f64)>,
+        noise_sd: f64,
+        at_range_end: bool,
+    ) -> Self {
+        FittedComponent {
+            components: cols.to_vec(),
+            lambda: info.lambda,
+            lambda_max: info.lambda_max,
+            duality_gap: info.duality_gap,
+            iterations: info.iterations,
+            n_active_groups: info.n_active_groups,
+            path,
+            stop_reason: info.stop_reason,
+            noise_sd,
+            at_range_end,
+        }
+    }
+}
+
 /// Everything the fit produced.
 #[derive(Debug, Clone)]
 pub struct FitOutcome {
@@ -219,18 +245,7 @@ fn fit_block(
             };
             Ok(BlockFit {
                 coefficients: f.coefficients,
-                info: FittedComponent {
-                    components: cols.to_vec(),
-                    lambda: info.lambda,
-                    lambda_max: info.lambda_max,
-                    duality_gap: info.duality_gap,
-                    iterations: info.iterations,
-                    n_active_groups: info.n_active_groups,
-                    path: Vec::new(),
-                    stop_reason: info.stop_reason,
-                    noise_sd: f64::NAN,
-                    at_range_end: false,
-                },
+                info: FittedComponent::from_info(cols, &info, Vec::new(), f64::NAN, false),
             })
         }
         LambdaRule::Bic | LambdaRule::Gcv | LambdaRule::Aic => {
@@ -271,18 +286,13 @@ fn fit_block(
             let at_range_end = best + 1 == points.len();
             Ok(BlockFit {
                 coefficients: chosen.coefficients.to_dense(),
-                info: FittedComponent {
-                    components: cols.to_vec(),
-                    lambda: chosen.info.lambda,
-                    lambda_max: chosen.info.lambda_max,
-                    duality_gap: chosen.info.duality_gap,
-                    iterations: chosen.info.iterations,
-                    n_active_groups: chosen.info.n_active_groups,
-                    path: summary,
-                    stop_reason: chosen.info.stop_reason,
-                    noise_sd: f64::NAN,
+                info: FittedComponent::from_info(
+                    cols,
+                    &chosen.info,
+                    summary,
+                    f64::NAN,
                     at_range_end,
-                },
+                ),
             })
         }
     }

@@ -190,17 +190,6 @@ fn block(
 ) -> BlockFit {
     BlockFit {
         coefficients,
-        info: FittedComponent {
-            components: cols.to_vec(),
-            lambda: info.lambda,
-            lambda_max: info.lambda_max,
-            duality_gap: info.duality_gap,
-            iterations: info.iterations,
-            n_active_groups: info.n_active_groups,
-            path,
-            stop_reason: info.stop_reason,
-            noise_sd,
-            at_range_end: at_floor,
-        },
+        info: FittedComponent::from_info(cols, &info, path, noise_sd, at_floor),
     }
 }

@@ -838,19 +838,12 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
     let outcome =
         fit_patterns(&problem, &fit_y, k, &options, &|n| pb.inc(n as u64)).compute("fitting")?;
     pb.finish_and_clear();
+    // Names given by the caller (the demo), else the decoder file's, else numbers.
+    let component_names = component_names
+        .or_else(|| decoder.extras.component_names.clone())
+        .unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
     // Flags reach the report through the notes (and summary.json per component).
-    for c in 0..k {
-        let name = component_names
-            .as_ref()
-            .and_then(|n| n.get(c).cloned())
-            .or_else(|| {
-                decoder
-                    .extras
-                    .component_names
-                    .as_ref()
-                    .and_then(|n| n.get(c).cloned())
-            })
-            .unwrap_or_else(|| format!("component {c}"));
+    for (c, name) in component_names.iter().enumerate() {
         for flag in patchwise::pipeline::component_flags(&outcome, c) {
             notes.push(format!("{name}: {flag}"));
         }
@@ -863,10 +856,6 @@ pub fn run(args: &Args, component_names: Option<Vec<String>>) -> Result<Attribut
             ));
         }
     }
-    // Names given by the caller (the demo), else the decoder file's, else numbers.
-    let component_names = component_names
-        .or_else(|| decoder.extras.component_names.clone())
-        .unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
     let reconstruction = reconstruction(
         &outcome.fit,
         &fit_y,
