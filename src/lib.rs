@@ -23,6 +23,7 @@ pub mod forward;
 pub mod geometry;
 pub mod head;
 pub mod io;
+pub mod job;
 pub mod limits;
 pub mod montage;
 pub mod patterns;

@@ -63,6 +63,15 @@ impl fmt::Display for CliError {
     }
 }
 
+impl From<patchwise::job::JobError> for CliError {
+    fn from(e: patchwise::job::JobError) -> Self {
+        match e.kind {
+            patchwise::job::ErrorKind::Input => CliError::bad_input(e),
+            patchwise::job::ErrorKind::Compute => CliError::compute(e),
+        }
+    }
+}
+
 /// Attach a context message and an exit code to a library result.
 pub trait OrExit<T> {
     /// Bad input (exit 2) with context.

@@ -8,7 +8,6 @@ mod console;
 
 mod cli_error;
 mod commands;
-mod inputs;
 mod outputs;
 mod progress;
 mod staging;

@@ -47,3 +47,36 @@ pub fn note(message: impl std::fmt::Display) {
         errln!("{message}");
     }
 }
+
+/// The job observer of the command line: notes through [`note`], one bar
+/// per stage through [`bar`] (so both follow the quiet switch and the
+/// terminal test).
+#[derive(Default)]
+pub struct Console {
+    current: std::sync::Mutex<Option<ProgressBar>>,
+}
+
+impl patchwise::job::JobObserver for Console {
+    fn note(&self, message: &str) {
+        note(message);
+    }
+    fn stage_start(&self, what: &str, total: usize) {
+        if let Ok(mut current) = self.current.lock() {
+            *current = Some(bar(total, what));
+        }
+    }
+    fn stage_advance(&self, n: usize) {
+        if let Ok(current) = self.current.lock() {
+            if let Some(pb) = current.as_ref() {
+                pb.inc(n as u64);
+            }
+        }
+    }
+    fn stage_end(&self) {
+        if let Ok(mut current) = self.current.lock() {
+            if let Some(pb) = current.take() {
+                pb.finish_and_clear();
+            }
+        }
+    }
+}

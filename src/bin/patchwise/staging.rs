@@ -348,6 +348,11 @@ impl Staging {
         self.dir.join(name)
     }
 
+    /// The staging folder itself.
+    pub fn dir(&self) -> &Path {
+        &self.dir
+    }
+
     /// Copy the files of the existing target (ours) that are not staged
     /// yet into the staging folder, so that the commit keeps them: for
     /// commands that add files to a folder (`dipole` beside an attribution).

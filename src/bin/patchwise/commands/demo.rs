@@ -10,12 +10,14 @@ use patchwise::io::{Dataset, Store};
 use patchwise::montage::standard;
 use patchwise::pipeline::leadfield_for;
 
-use super::attribute::{run, Args as AttributeArgs};
-use super::dictionary::{AtomOrientationArg, DictionaryOptions, ProfileArg};
+use patchwise::io::cache::default_cache_dir;
+use patchwise::job::{attribute, AttributeParams, MontageSpec, SourcesSpec};
+
 use crate::cli_error::OrExit;
-use crate::inputs::ForwardOptions;
-use crate::outputs::{region_rows, write_outputs};
-use crate::progress::note;
+use patchwise::job::outputs::region_rows;
+
+use crate::outputs::write_outputs;
+use crate::progress::{note, Console};
 use crate::CliError;
 
 /// Arguments of `patchwise demo`.
@@ -129,40 +131,20 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     store
         .write_atomic(&decoder_path)
         .compute("writing the demo decoder")?;
-    let attribute_args = AttributeArgs {
-        decoder: Some(decoder_path.clone()),
-        patterns: None,
-        channels: None,
-        dictionary: None,
-        forward: ForwardOptions {
-            montage: "10-10".to_string(),
-            sources: res.name().to_string(),
-            head: "default".to_string(),
-            regions: None,
-        },
-        dictionary_options: DictionaryOptions {
-            radii_mm: vec![5.0, 10.0, 20.0],
-            spacing_mm: None,
-            profile: ProfileArg::Gaussian,
-            atom_orientation: AtomOrientationArg::Normal,
-        },
-        noise_covariance: None,
-        reference: "average".to_string(),
-        joint: false,
-        lambda_rule: "noise".to_string(),
-        noise_sd: None,
-        lambda_ratio: None,
-        lambda: None,
-        tol: 1e-8,
-        resamples: args.resamples,
-        seed: 20141,
-        forward_perturbations: 4,
-        no_refit: false,
-        cache: args.cache.clone(),
-        out: args.out.clone(),
-        no_report: args.no_report,
-    };
-    let result = run(&attribute_args, Some(scenario.component_names.clone()));
+    // The attribute defaults, on the demo's montage, sources and decoder.
+    let mut params = AttributeParams::default();
+    params.inputs.decoder = Some(decoder_path.clone());
+    params.forward.montage = MontageSpec::Standard("10-10".to_string());
+    params.forward.sources = SourcesSpec::Template(res);
+    params.fit.resamples = args.resamples;
+    let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
+    let result = attribute(
+        &params,
+        &cache,
+        Some(scenario.component_names.clone()),
+        &Console::default(),
+    )
+    .map_err(CliError::from);
     let outcome = result.and_then(|a| write_outputs(&args.out, &a).map(|dir| (a, dir)));
     let (a, dir) = match outcome {
         Ok(v) => v,
@@ -213,7 +195,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         );
     }
     if !args.no_report {
-        let mut job = super::report::job_of(&attribute_args);
+        let mut job = params.describe();
         if let Some(entry) = job.iter_mut().find(|(name, _)| name == "decoder") {
             entry.1 = format!(
                 "the demo's invented decoder (saved as {})",

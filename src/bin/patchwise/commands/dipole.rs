@@ -11,9 +11,11 @@ use patchwise::io::dipole_file::{
 };
 use patchwise::io::result_file::CAUTION;
 
-use super::attribute::decoder_patterns;
+use patchwise::job::prepare::{check_channels, decoder_patterns};
+use patchwise::job::ForwardParams;
+
 use crate::cli_error::OrExit;
-use crate::inputs::ForwardOptions;
+use crate::progress::Console;
 use crate::staging::Staging;
 use crate::CliError;
 
@@ -32,7 +34,7 @@ pub struct Args {
     #[arg(long)]
     pub channels: Option<PathBuf>,
     #[command(flatten)]
-    pub forward: ForwardOptions,
+    pub forward: ForwardParams,
     /// Fit a symmetric pair per component (positions mirrored in x, two free moments).
     #[arg(long)]
     pub pairs: bool,
@@ -157,10 +159,12 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     // Inputs first: every bad input is found before anything is written.
     let decoder =
         read_decoder(&args.decoder, args.channels.as_deref()).bad_input("reading the decoder")?;
-    super::attribute::check_channels(&decoder.channels, &args.decoder)?;
+    check_channels(&decoder.channels, &args.decoder)?;
     let patterns = decoder_patterns(&decoder, &args.decoder, true)?;
     let k = decoder.k;
-    let (montage, sources, head) = args.forward.resolve(Some(&decoder.channels))?;
+    let (montage, sources, head) = args
+        .forward
+        .resolve(Some(&decoder.channels), &Console::default())?;
     let existing_path = args.out.join("result.h5");
     let existing = if existing_path.is_file() {
         Some(

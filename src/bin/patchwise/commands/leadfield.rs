@@ -12,8 +12,10 @@ use patchwise::io::sources_file::read_regions;
 use patchwise::io::Store;
 
 use crate::cli_error::OrExit;
-use crate::inputs::{compute_leadfield, ForwardOptions};
-use crate::progress::note;
+use patchwise::job::forward::{compute_leadfield, point_source_note};
+use patchwise::job::ForwardParams;
+
+use crate::progress::{note, Console};
 use crate::CliError;
 
 /// Arguments of `patchwise leadfield`.
@@ -24,7 +26,7 @@ pub struct Args {
     #[command(subcommand)]
     pub import: Option<Import>,
     #[command(flatten)]
-    pub forward: ForwardOptions,
+    pub forward: ForwardParams,
     /// Source orientation: along the cortex normals, or free (also x, y, z).
     #[arg(long, value_enum, default_value_t = OrientationArg::Normal)]
     pub orientation: OrientationArg,
@@ -105,8 +107,9 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let inputs = args.forward.input_files();
     let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
     crate::staging::refuse_input_as_output(&out, "--out", &inputs)?;
-    let (montage, sources, head) = args.forward.resolve(None)?;
-    let lf = compute_leadfield(&montage, &sources, &head, args.orientation.into())?;
+    let console = Console::default();
+    let (montage, sources, head) = args.forward.resolve(None, &console)?;
+    let lf = compute_leadfield(&montage, &sources, &head, args.orientation.into(), &console)?;
     write_leadfield(&out, &lf).compute(format!("writing {}", out.display()))?;
     outln!(
         "wrote {}: {} channels x {} sources, average reference, V/(A·m)",
@@ -256,7 +259,7 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
             .clone()
             .or_else(|| args.positions.clone())
             .unwrap_or_default();
-        note(crate::inputs::point_source_note(&given));
+        note(point_source_note(&given));
     } else {
         sources.areas = sources.mesh().vertex_areas();
     }

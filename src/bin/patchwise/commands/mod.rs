@@ -1,8 +1,6 @@
 //! One file per subcommand: its arguments and an `exec` that calls the library.
 
 pub mod attribute;
-mod attribute_noise;
-mod attribute_perturb;
 pub mod batch;
 pub mod check;
 pub mod compare;

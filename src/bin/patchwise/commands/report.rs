@@ -8,7 +8,6 @@ use patchwise::io::result_file::read_result;
 use patchwise::render::compare_report::{build_compare_report, CompareReportOptions};
 use patchwise::render::report::{build_report, ReportError, ReportOptions};
 
-use super::attribute::Args as AttributeArgs;
 use crate::CliError;
 
 /// Arguments of `patchwise report`.
@@ -25,92 +24,6 @@ pub struct Args {
 
 fn bad(message: String) -> CliError {
     CliError::bad_input(anyhow::anyhow!(message))
-}
-
-/// What the user asked `attribute` for, as (name, value) lines of the report.
-pub fn job_of(args: &AttributeArgs) -> Vec<(String, String)> {
-    let mut job = Vec::new();
-    let mut put = |name: &str, value: String| job.push((name.to_string(), value));
-    if let Some(d) = &args.decoder {
-        put("decoder", d.display().to_string());
-    }
-    if let Some(p) = &args.patterns {
-        put("patterns", p.display().to_string());
-    }
-    if let Some(c) = &args.channels {
-        put("channel labels", c.display().to_string());
-    }
-    match &args.dictionary {
-        Some(d) => put("dictionary", format!("{} (given)", d.display())),
-        None => {
-            put("montage", args.forward.montage.clone());
-            put("sources", args.forward.sources.clone());
-            put("head", args.forward.head.clone());
-            if let Some(r) = &args.forward.regions {
-                put("regions", r.display().to_string());
-            }
-            let o = &args.dictionary_options;
-            let radii: Vec<String> = o.radii_mm.iter().map(|r| format!("{r}")).collect();
-            put(
-                "patches",
-                format!(
-                    "radii {} mm, {} profile, {} orientation, seeds {}",
-                    radii.join(", "),
-                    format!("{:?}", o.profile).to_lowercase(),
-                    format!("{:?}", o.atom_orientation).to_lowercase(),
-                    o.spacing_mm
-                        .map_or("at every source".to_string(), |s| format!("{s} mm apart"))
-                ),
-            );
-        }
-    }
-    put("reference", args.reference.clone());
-    put(
-        "noise covariance",
-        args.noise_covariance
-            .as_ref()
-            .map_or("none".to_string(), |p| p.display().to_string()),
-    );
-    put(
-        "\u{03bb} rule (asked)",
-        match (args.lambda_ratio, args.lambda) {
-            (Some(r), _) => format!("\u{03bb} = {r} \u{00b7} \u{03bb}max"),
-            (None, Some(l)) => format!("\u{03bb} = {l}"),
-            (None, None) => match args.lambda_rule.as_str() {
-                "noise" => "noise rule: \u{03bb} = q\u{00b7}\u{03c3} (default)".to_string(),
-                other => format!("minimum {} along the path", other.to_uppercase()),
-            },
-        },
-    );
-    put(
-        "stopping rule",
-        format!("relative duality gap \u{2264} {:e}", args.tol),
-    );
-    put(
-        "fit",
-        if args.joint {
-            "joint".to_string()
-        } else {
-            "one component at a time".to_string()
-        },
-    );
-    put(
-        "resampling",
-        if args.resamples == 0 {
-            "none".to_string()
-        } else {
-            format!("{} resamples, seed {}", args.resamples, args.seed)
-        },
-    );
-    put(
-        "refit",
-        if args.no_refit {
-            "no".to_string()
-        } else {
-            "debiased least-squares refit".to_string()
-        },
-    );
-    job
 }
 
 /// A report error as the command line reports it: inconsistent sizes in

@@ -5,95 +5,84 @@
 use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
 
-use clap::{Parser, ValueEnum};
 use patchwise::batch::Job;
+use patchwise::io::cache::default_cache_dir;
+use patchwise::job::params::MAX_FORWARD_PERTURBATIONS;
+use patchwise::job::{attribute, AttributeParams};
 
-use super::super::report::{job_of, write_report_as};
-use crate::commands::attribute::{self, Args as AttributeArgs};
-use crate::commands::dictionary::{AtomOrientationArg, ProfileArg};
+use super::super::report::write_report_as;
 use crate::outputs::write_files;
+use crate::progress::Console;
 use crate::staging::{self, Staging};
 use crate::CliError;
 
 /// The completion marker, written last into the staged job folder.
 pub const MARKER: &str = "job.json";
 
-/// `attribute`'s defaults, taken from its own argument parser so that
-/// batch jobs and `attribute` can never disagree on them.
-#[derive(Parser)]
-struct AttributeDefaults {
-    #[command(flatten)]
-    args: AttributeArgs,
-}
-
 fn bad(message: String) -> CliError {
     CliError::bad_input(anyhow::anyhow!(message))
 }
 
-/// The arguments `patchwise attribute` would get for this job.
-pub fn attribute_args(
-    job: &Job,
-    out: &Path,
-    cache: Option<&Path>,
-) -> Result<AttributeArgs, CliError> {
-    let mut a = AttributeDefaults::try_parse_from([
-        "attribute".into(),
-        "--out".into(),
-        out.as_os_str().to_os_string(),
-    ])
-    .map_err(|e| CliError::compute(anyhow::anyhow!("attribute's defaults: {e}")))?
-    .args;
+/// A job script value parsed as the typed option `key` expects.
+fn typed<T: std::str::FromStr>(key: &str, value: &Option<String>) -> Result<Option<T>, CliError>
+where
+    T::Err: std::fmt::Display,
+{
+    value
+        .as_ref()
+        .map(|v| {
+            v.parse::<T>()
+                .map_err(|e| bad(format!("{key} = {v:?}: {e}")))
+        })
+        .transpose()
+}
+
+/// The parameters `patchwise attribute` would get for this job: its
+/// defaults, with every option the job sets.
+pub fn attribute_params(job: &Job) -> Result<AttributeParams, CliError> {
+    let mut a = AttributeParams::default();
     let o = &job.options;
-    a.decoder = Some(job.decoder.clone());
-    if let Some(v) = &o.montage {
-        a.forward.montage = v.clone();
-    }
-    if let Some(v) = &o.sources {
-        a.forward.sources = v.clone();
-    }
-    if let Some(v) = &o.head {
-        a.forward.head = v.clone();
-    }
-    a.forward.regions = o.regions.as_ref().map(PathBuf::from);
-    a.channels = o.channels.as_ref().map(PathBuf::from);
-    a.dictionary = o.dictionary.as_ref().map(PathBuf::from);
-    a.noise_covariance = o.noise_covariance.as_ref().map(PathBuf::from);
-    if let Some(v) = &o.reference {
-        a.reference = v.clone();
-    }
-    a.joint = o.joint.unwrap_or(a.joint);
-    if let Some(v) = &o.lambda_rule {
-        a.lambda_rule = v.clone();
-    }
-    a.noise_sd = o.noise_sd.or(a.noise_sd);
-    a.lambda_ratio = o.lambda_ratio.or(a.lambda_ratio);
-    a.lambda = o.lambda.or(a.lambda);
-    a.tol = o.tol.unwrap_or(a.tol);
+    a.inputs.decoder = Some(job.decoder.clone());
+    a.inputs.channels = o.channels.as_ref().map(PathBuf::from);
+    a.inputs.dictionary = o.dictionary.as_ref().map(PathBuf::from);
+    a.inputs.noise_covariance = o.noise_covariance.as_ref().map(PathBuf::from);
+    let f = &mut a.forward;
+    f.montage = typed("montage", &o.montage)?.unwrap_or(f.montage.clone());
+    f.sources = typed("sources", &o.sources)?.unwrap_or(f.sources.clone());
+    f.head = typed("head", &o.head)?.unwrap_or(f.head.clone());
+    f.regions = o.regions.as_ref().map(PathBuf::from);
+    let fit = &mut a.fit;
+    fit.reference = typed("reference", &o.reference)?.unwrap_or(fit.reference);
+    fit.joint = o.joint.unwrap_or(fit.joint);
+    fit.lambda_rule = typed("lambda_rule", &o.lambda_rule)?.unwrap_or(fit.lambda_rule);
+    fit.noise_sd = o.noise_sd.or(fit.noise_sd);
+    fit.lambda_ratio = o.lambda_ratio.or(fit.lambda_ratio);
+    fit.lambda = o.lambda.or(fit.lambda);
+    fit.tol = o.tol.unwrap_or(fit.tol);
     if let Some(r) = o.resamples {
-        a.resamples = usize::try_from(r).map_err(|_| bad(format!("resamples = {r}: too many")))?;
+        fit.resamples =
+            usize::try_from(r).map_err(|_| bad(format!("resamples = {r}: too many")))?;
     }
-    a.seed = o.seed.unwrap_or(a.seed);
+    fit.seed = o.seed.unwrap_or(fit.seed);
     if let Some(p) = o.forward_perturbations {
-        a.forward_perturbations = usize::try_from(p)
+        fit.forward_perturbations = usize::try_from(p)
             .ok()
-            .filter(|&p| p <= 64)
-            .ok_or_else(|| bad(format!("forward_perturbations = {p}: expected at most 64")))?;
+            .filter(|&p| p <= MAX_FORWARD_PERTURBATIONS)
+            .ok_or_else(|| {
+                bad(format!(
+                    "forward_perturbations = {p}: expected at most {MAX_FORWARD_PERTURBATIONS}"
+                ))
+            })?;
     }
-    a.no_refit = o.no_refit.unwrap_or(a.no_refit);
-    a.no_report = o.no_report.unwrap_or(a.no_report);
+    fit.no_refit = o.no_refit.unwrap_or(fit.no_refit);
+    let patches = &mut a.patches;
     if let Some(r) = &o.radii_mm {
-        a.dictionary_options.radii_mm = r.clone();
+        patches.radii_mm = r.clone();
     }
-    a.dictionary_options.spacing_mm = o.spacing_mm.or(a.dictionary_options.spacing_mm);
-    if let Some(p) = &o.profile {
-        a.dictionary_options.profile =
-            ProfileArg::from_str(p, false).map_err(|e| bad(format!("profile = {p:?}: {e}")))?;
-    }
-    if let Some(p) = &o.atom_orientation {
-        a.dictionary_options.atom_orientation = AtomOrientationArg::from_str(p, false)
-            .map_err(|e| bad(format!("atom_orientation = {p:?}: {e}")))?;
-    }
-    a.cache = cache.map(Path::to_path_buf);
+    patches.spacing_mm = o.spacing_mm.or(patches.spacing_mm);
+    patches.profile = typed("profile", &o.profile)?.unwrap_or(patches.profile);
+    patches.atom_orientation =
+        typed("atom_orientation", &o.atom_orientation)?.unwrap_or(patches.atom_orientation);
     Ok(a)
 }
 
@@ -273,11 +262,12 @@ pub fn clean_stale(out: &Path) {
 /// the rename that makes it visible (replacing an outdated folder).
 fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<(), CliError> {
     let target = out.join(&job.name);
-    let args = attribute_args(job, &target, cache)?;
-    let result = attribute::run(&args, None)?;
+    let params = attribute_params(job)?;
+    let cache = cache.map_or_else(default_cache_dir, Path::to_path_buf);
+    let result = attribute(&params, &cache, None, &Console::default())?;
     let stage = Staging::new(&target).map_err(CliError::compute)?;
     write_files(&stage, &result)?;
-    if !args.no_report {
+    if !job.options.no_report.unwrap_or(false) {
         // Inside the staged folder, before the marker: a job's folder has
         // its report exactly when `attribute` would have written one.
         let staged = stage.file("result.h5");
@@ -285,7 +275,7 @@ fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<()
         write_report_as(
             dir,
             Some(&stage.file("report.html")),
-            job_of(&args),
+            params.describe(),
             Some(&target),
         )?;
     }

@@ -3,34 +3,16 @@
 //! model is an ordinary lead field of another head, cached like any lead
 //! field by the content hash of its montage, sources and head.
 
-use std::path::PathBuf;
-
-use patchwise::dictionary::{atoms_for_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM};
-use patchwise::forward::Orientation;
-use patchwise::geometry::SourceSpace;
-use patchwise::head::SphereHead;
-use patchwise::io::dictionary_file::DictionaryFile;
-use patchwise::montage::Montage;
-use patchwise::patterns::Whitener;
-use patchwise::pipeline::{perturbed_model, ForwardPerturbation};
-
-use super::attribute::{cached_leadfield, leadfield_hash, rescale_to_unit_norm, Args};
-use crate::cli_error::OrExit;
-use crate::CliError;
-
-/// The forward model a dictionary of this run was built from.
-pub struct ForwardModel {
-    /// Montage of the decoder's channels, in the dictionary's channel order.
-    pub montage: Montage,
-    /// The source space.
-    pub sources: SourceSpace,
-    /// The head.
-    pub head: SphereHead,
-    /// Orientation of the lead field.
-    pub orientation: Orientation,
-    /// The cache folder.
-    pub cache: PathBuf,
-}
+use super::cache::{cached_leadfield, leadfield_hash, ForwardModel};
+use super::error::{JobError, JobResult};
+use super::observer::JobObserver;
+use super::params::FitParams;
+use super::prepare::rescale_to_unit_norm;
+use crate::dictionary::{atoms_for_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM};
+use crate::io::dictionary_file::DictionaryFile;
+use crate::montage::Montage;
+use crate::patterns::Whitener;
+use crate::pipeline::{perturbed_model, ForwardPerturbation};
 
 /// The fit's atoms under perturbed forward models, prepared like the fit's
 /// own (average-referenced, whitened when the fit is, unit columns), when
@@ -40,10 +22,11 @@ pub fn perturbed_for_resamples(
     forward: Option<&ForwardModel>,
     average: bool,
     whitener: Option<&Whitener>,
-    args: &Args,
+    fit: &FitParams,
     notes: &mut Vec<String>,
-) -> Result<Vec<Vec<f64>>, CliError> {
-    if args.resamples == 0 || args.forward_perturbations == 0 {
+    observer: &dyn JobObserver,
+) -> Result<Vec<Vec<f64>>, JobError> {
+    if fit.resamples == 0 || fit.forward_perturbations == 0 {
         return Ok(Vec::new());
     }
     if !average {
@@ -59,7 +42,7 @@ pub fn perturbed_for_resamples(
         return Ok(Vec::new());
     }
     let spec = ForwardPerturbation {
-        count: args.forward_perturbations,
+        count: fit.forward_perturbations,
         ..ForwardPerturbation::default()
     };
     let component = dict
@@ -79,6 +62,7 @@ pub fn perturbed_for_resamples(
             &hash,
             (&montage, &f.sources, &head),
             f.orientation,
+            observer,
         )?;
         let (mut atoms, _) = atoms_for_channels(
             profile,

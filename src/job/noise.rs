@@ -5,13 +5,11 @@
 
 use std::path::Path;
 
-use patchwise::io::decoder_file::{DecoderContent, DecoderFile};
-use patchwise::patterns::{fold_noise, sample_count_variance, Whitener};
-use patchwise::pipeline::PatternNoise;
-
-use super::attribute::decoder_patterns;
-use crate::cli_error::OrExit;
-use crate::CliError;
+use super::error::{JobError, JobResult};
+use super::prepare::decoder_patterns;
+use crate::io::decoder_file::{DecoderContent, DecoderFile};
+use crate::patterns::{fold_noise, sample_count_variance, Whitener};
+use crate::pipeline::PatternNoise;
 
 /// What the noise level can be computed from.
 pub struct NoiseInputs<'a> {
@@ -31,7 +29,7 @@ pub struct NoiseInputs<'a> {
 
 /// The pattern noise for the fit: `--noise-sd` first, then folds, then
 /// `n_samples` (with weights + covariance); none when nothing was given.
-pub fn pattern_noise(inp: &NoiseInputs<'_>) -> Result<PatternNoise, CliError> {
+pub fn pattern_noise(inp: &NoiseInputs<'_>) -> Result<PatternNoise, JobError> {
     let d = inp.decoder;
     let (n, k) = (d.channels.len(), d.k);
     // Free directions of the fit's space: one is lost to the average reference.
@@ -54,12 +52,12 @@ pub fn pattern_noise(inp: &NoiseInputs<'_>) -> Result<PatternNoise, CliError> {
                 extras: Default::default(),
             };
             let p = decoder_patterns(&fold, inp.path, inp.average)
-                .map_err(|e| e.prefix(format!("fold {f}")))?;
+                .map_err(|e| e.context(format!("fold {f}")))?;
             fit_folds.push(to_fit_space(&p, k, inp)?);
         }
         let full = to_fit_space(inp.patterns, k, inp)?;
-        let noise = fold_noise(&full, &fit_folds, n, k)
-            .bad_input(format!("{}: folds", inp.path.display()))?;
+        let noise =
+            fold_noise(&full, &fit_folds, n, k).input(format!("{}: folds", inp.path.display()))?;
         return Ok(PatternNoise {
             sd: Some(
                 noise
@@ -79,7 +77,7 @@ pub fn pattern_noise(inp: &NoiseInputs<'_>) -> Result<PatternNoise, CliError> {
         } = &d.content
         {
             let v = sample_count_variance(weights, covariance, n, k, n_samples)
-                .bad_input(format!("{}: n_samples", inp.path.display()))?;
+                .input(format!("{}: n_samples", inp.path.display()))?;
             return Ok(PatternNoise {
                 sd: Some(transformed_sd(&v, n, k, inp, n_eff)?),
                 source: format!("from n_samples = {n_samples} (covariance sampling)"),
@@ -96,9 +94,9 @@ pub fn pattern_noise(inp: &NoiseInputs<'_>) -> Result<PatternNoise, CliError> {
 }
 
 /// Patterns (already referenced) in the fit's space: whitened when asked.
-fn to_fit_space(p: &[f64], k: usize, inp: &NoiseInputs<'_>) -> Result<Vec<f64>, CliError> {
+fn to_fit_space(p: &[f64], k: usize, inp: &NoiseInputs<'_>) -> Result<Vec<f64>, JobError> {
     match inp.whitener {
-        Some(w) => w.apply(p, k).bad_input("whitening the fold patterns"),
+        Some(w) => w.apply(p, k).input("whitening the fold patterns"),
         None => Ok(p.to_vec()),
     }
 }
@@ -113,14 +111,14 @@ fn transformed_sd(
     k: usize,
     inp: &NoiseInputs<'_>,
     n_eff: f64,
-) -> Result<Vec<f64>, CliError> {
+) -> Result<Vec<f64>, JobError> {
     // Column i of T is T e_i: reference then whiten the unit vector.
     let mut identity = vec![0.0; n * n];
     for i in 0..n {
         identity[i * n + i] = 1.0;
     }
     let referenced = if inp.average {
-        patchwise::patterns::average_reference(&identity, n, n).bad_input("average reference")?
+        crate::patterns::average_reference(&identity, n, n).input("average reference")?
     } else {
         identity
     };

@@ -1,0 +1,279 @@
+//! `attribute`, the main job, as one library call: which cortical regions
+//! does a decoder rely on? The command line, batch jobs and the demo call
+//! [`attribute`]; the outputs are written by `io::attribution_files`.
+
+use std::path::Path;
+
+use super::cache::dictionary_for_channels;
+use super::error::{JobError, JobResult};
+use super::noise::{pattern_noise, NoiseInputs};
+use super::observer::{staged, JobObserver};
+use super::params::AttributeParams;
+use super::perturb::perturbed_for_resamples;
+use super::prepare::{
+    check_channels, decoder_patterns, read_matrix, reconstruction, reference_atoms, restrict,
+    whiten,
+};
+use super::specs::Reference;
+use crate::io::cache::file_sha256;
+use crate::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
+use crate::io::dictionary_file::{read_dictionary, DictionaryFile};
+use crate::pipeline::{fit_patterns, FitOutcome, LambdaRule, Problem};
+
+fn bad(message: String) -> JobError {
+    JobError::input(message)
+}
+
+/// Everything the outputs need.
+pub struct Attribution {
+    /// Channel labels in decoder order.
+    pub labels: Vec<String>,
+    /// Patterns after referencing, before whitening (n_ch x k).
+    pub patterns: Vec<f64>,
+    /// Component names.
+    pub component_names: Vec<String>,
+    /// Number of components.
+    pub k: usize,
+    /// Where the patterns came from.
+    pub patterns_source: String,
+    /// The dictionary used (restricted to the decoder's channels).
+    pub dictionary: DictionaryFile,
+    /// The fit.
+    pub outcome: FitOutcome,
+    /// Input hashes.
+    pub hashes: Vec<(String, String)>,
+    /// Notes for the summary.
+    pub notes: Vec<String>,
+    /// Whether the fit was whitened.
+    pub whitened: bool,
+    /// The fitted patterns D X in the units of `patterns` (n_ch x k).
+    pub reconstruction: Vec<f64>,
+    /// What was asked (name, value), for summary.json and the report.
+    pub job: Vec<(String, String)>,
+    /// The λ rule in words (`noise`, `bic`, ..., or the fixed value).
+    pub lambda_rule: String,
+    /// Where the noise level came from, in words.
+    pub noise_level: String,
+}
+
+/// The whole job: read and check the inputs, build or fetch the forward
+/// model and dictionary (cached under `cache`), fit, resample, flag.
+/// `component_names` overrides the decoder file's names.
+pub fn attribute(
+    params: &AttributeParams,
+    cache: &Path,
+    component_names: Option<Vec<String>>,
+    observer: &dyn JobObserver,
+) -> Result<Attribution, JobError> {
+    let options = params.validate()?;
+    let inputs = &params.inputs;
+    let mut hashes = Vec::new();
+    let mut notes = Vec::new();
+    // Inputs first: every bad input is found before anything is computed or written.
+    let (decoder, input_path) = match (&inputs.decoder, &inputs.patterns) {
+        (Some(d), _) => (
+            read_decoder(d, inputs.channels.as_deref()).input("reading the decoder")?,
+            d.clone(),
+        ),
+        (None, Some(p)) => {
+            let (values, rows, k) = read_matrix(p)?;
+            let labels = match &inputs.channels {
+                Some(c) => crate::io::electrodes::read_channel_list(c).input("reading channels")?,
+                None => (0..rows).map(|i| format!("row{i}")).collect(),
+            };
+            if labels.len() != rows {
+                return Err(bad(format!(
+                    "{}: {rows} rows but {} channel labels",
+                    p.display(),
+                    labels.len()
+                )));
+            }
+            (
+                DecoderFile {
+                    channels: labels,
+                    k,
+                    content: DecoderContent::Patterns(values),
+                    extras: Default::default(),
+                },
+                p.clone(),
+            )
+        }
+        (None, None) => {
+            return Err(bad(
+                "give --decoder FILE (or --dictionary with --patterns)".to_string()
+            ))
+        }
+    };
+    hashes.push((
+        "decoder".to_string(),
+        file_sha256(&input_path).map_err(|e| bad(format!("{}: {e}", input_path.display())))?,
+    ));
+    // Labels must be unique ignoring case and aliases.
+    check_channels(&decoder.channels, &input_path)?;
+    let average = params.fit.reference == Reference::Average;
+    let patterns = decoder_patterns(&decoder, &input_path, average)?;
+    let k = decoder.k;
+    let mut forward = None;
+    let mut dict = match &inputs.dictionary {
+        Some(p) => {
+            let d = read_dictionary(p).input("reading the dictionary")?;
+            hashes.push((
+                "dictionary".to_string(),
+                file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
+            ));
+            if inputs.patterns.is_some() && inputs.channels.is_none() {
+                if decoder.channels.len() != d.n_channels {
+                    return Err(bad(format!(
+                        "{}: patterns have {} rows, the dictionary {} channels",
+                        input_path.display(),
+                        decoder.channels.len(),
+                        d.n_channels
+                    )));
+                }
+                d
+            } else {
+                restrict(d, &decoder.channels, p, observer)?
+            }
+        }
+        None => {
+            let (d, f) = dictionary_for_channels(
+                &params.forward,
+                &params.patches,
+                &decoder.channels,
+                cache,
+                &mut hashes,
+                observer,
+            )?;
+            forward = Some(f);
+            d
+        }
+    };
+    if average {
+        reference_atoms(&mut dict);
+    } else {
+        notes.push("reference none: patterns and atoms used as given".to_string());
+    }
+    let mut unwhitened = None;
+    let mut whitener = None;
+    let fit_y = match &inputs.noise_covariance {
+        Some(p) => {
+            hashes.push((
+                "noise_covariance".to_string(),
+                file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
+            ));
+            let before = dict.atoms.clone();
+            let (yw, scales, w) = whiten(&mut dict, &patterns, k, p)?;
+            unwhitened = Some((before, scales));
+            whitener = Some(w);
+            yw
+        }
+        None => {
+            notes.push("no noise covariance given: the fit assumes white sensor noise (identity whitening)".to_string());
+            patterns.clone()
+        }
+    };
+    let empty_profile = sprs::CsMat::zero((0, dict.n_atoms)).to_csc();
+    let (profile, regions, names, positions) = match (&dict.leadfield, &dict.profile) {
+        (Some(lf), Some(p)) => (
+            p,
+            lf.sources.region.clone(),
+            lf.sources.region_names.clone(),
+            lf.sources.positions.clone(),
+        ),
+        _ => {
+            notes.push(
+                "the dictionary has no source space or profiles: no region table".to_string(),
+            );
+            (&empty_profile, Vec::new(), Vec::new(), Vec::new())
+        }
+    };
+    let norms = dict
+        .atom_norms
+        .clone()
+        .unwrap_or_else(|| vec![1.0; dict.n_atoms]);
+    let perturbed = perturbed_for_resamples(
+        &dict,
+        forward.as_ref(),
+        average,
+        whitener.as_ref(),
+        &params.fit,
+        &mut notes,
+        observer,
+    )?;
+    let problem = Problem {
+        atoms: &dict.atoms,
+        n_channels: dict.n_channels,
+        group: &dict.group,
+        atom_norms: &norms,
+        profile,
+        source_region: &regions,
+        n_regions: names.len(),
+        source_positions: &positions,
+        perturbed: &perturbed,
+    };
+    let mut options = options;
+    options.noise = pattern_noise(&NoiseInputs {
+        decoder: &decoder,
+        path: &input_path,
+        patterns: &patterns,
+        average,
+        whitener: whitener.as_ref(),
+        noise_sd: params.fit.noise_sd,
+    })?;
+    if options.lambda == LambdaRule::Noise {
+        notes.push(format!(
+            "lambda by the noise rule; noise level {}",
+            options.noise.describe()
+        ));
+    }
+    let outcome = staged(
+        observer,
+        "resampling",
+        options.resample.n_resamples,
+        |progress| fit_patterns(&problem, &fit_y, k, &options, progress),
+    )
+    .compute("fitting")?;
+    // Names given by the caller (the demo), else the decoder file's, else numbers.
+    let component_names = component_names
+        .or_else(|| decoder.extras.component_names.clone())
+        .unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
+    // Flags reach the report through the notes (and summary.json per component).
+    for (c, name) in component_names.iter().enumerate() {
+        for flag in crate::pipeline::component_flags(&outcome, c) {
+            notes.push(format!("{name}: {flag}"));
+        }
+    }
+    if let Some(r) = &outcome.resample {
+        if r.budget_stops > 0 {
+            notes.push(format!(
+                "{} resampled fit(s) stopped on their budget; their shares enter the intervals as they were",
+                r.budget_stops
+            ));
+        }
+    }
+    let reconstruction = reconstruction(
+        &outcome.fit,
+        &fit_y,
+        unwhitened
+            .as_ref()
+            .map(|(a, s)| (a.as_slice(), s.as_slice())),
+        dict.n_channels,
+        k,
+    );
+    Ok(Attribution {
+        lambda_rule: options.lambda.name(),
+        noise_level: options.noise.describe(),
+        job: params.describe(),
+        reconstruction,
+        labels: decoder.channels.clone(),
+        patterns,
+        component_names,
+        k,
+        patterns_source: decoder.source_kind().to_string(),
+        dictionary: dict,
+        outcome,
+        hashes,
+        notes,
+        whitened: inputs.noise_covariance.is_some(),
+    })
+}

@@ -1,0 +1,101 @@
+//! What the user asked, in words: the (name, value) lines of summary.json's
+//! job and of the report's "what was asked" table.
+
+use super::params::AttributeParams;
+use super::specs::LambdaRuleName;
+
+impl AttributeParams {
+    /// The parameters as (name, value) lines, in the order the report shows them.
+    pub fn describe(&self) -> Vec<(String, String)> {
+        let mut job = Vec::new();
+        let mut put = |name: &str, value: String| job.push((name.to_string(), value));
+        let inputs = &self.inputs;
+        if let Some(d) = &inputs.decoder {
+            put("decoder", d.display().to_string());
+        }
+        if let Some(p) = &inputs.patterns {
+            put("patterns", p.display().to_string());
+        }
+        if let Some(c) = &inputs.channels {
+            put("channel labels", c.display().to_string());
+        }
+        match &inputs.dictionary {
+            Some(d) => put("dictionary", format!("{} (given)", d.display())),
+            None => {
+                put("montage", self.forward.montage.to_string());
+                put("sources", self.forward.sources.to_string());
+                put("head", self.forward.head.to_string());
+                if let Some(r) = &self.forward.regions {
+                    put("regions", r.display().to_string());
+                }
+                let o = &self.patches;
+                let radii: Vec<String> = o.radii_mm.iter().map(|r| format!("{r}")).collect();
+                put(
+                    "patches",
+                    format!(
+                        "radii {} mm, {} profile, {} orientation, seeds {}",
+                        radii.join(", "),
+                        o.profile,
+                        o.atom_orientation,
+                        o.spacing_mm
+                            .map_or("at every source".to_string(), |s| format!("{s} mm apart"))
+                    ),
+                );
+            }
+        }
+        let fit = &self.fit;
+        put("reference", fit.reference.to_string());
+        put(
+            "noise covariance",
+            inputs
+                .noise_covariance
+                .as_ref()
+                .map_or("none".to_string(), |p| p.display().to_string()),
+        );
+        put(
+            "\u{03bb} rule (asked)",
+            match (fit.lambda_ratio, fit.lambda) {
+                (Some(r), _) => format!("\u{03bb} = {r} \u{00b7} \u{03bb}max"),
+                (None, Some(l)) => format!("\u{03bb} = {l}"),
+                (None, None) => match fit.lambda_rule {
+                    LambdaRuleName::Noise => {
+                        "noise rule: \u{03bb} = q\u{00b7}\u{03c3} (default)".to_string()
+                    }
+                    other => format!(
+                        "minimum {} along the path",
+                        other.to_string().to_uppercase()
+                    ),
+                },
+            },
+        );
+        put(
+            "stopping rule",
+            format!("relative duality gap \u{2264} {:e}", fit.tol),
+        );
+        put(
+            "fit",
+            if fit.joint {
+                "joint".to_string()
+            } else {
+                "one component at a time".to_string()
+            },
+        );
+        put(
+            "resampling",
+            if fit.resamples == 0 {
+                "none".to_string()
+            } else {
+                format!("{} resamples, seed {}", fit.resamples, fit.seed)
+            },
+        );
+        put(
+            "refit",
+            if fit.no_refit {
+                "no".to_string()
+            } else {
+                "debiased least-squares refit".to_string()
+            },
+        );
+        job
+    }
+}

@@ -1,0 +1,201 @@
+//! From the forward-model specs to library values: the montage (standard
+//! layout or electrodes file), the sources (template or file, with
+//! regions), the head (default or TOML), then the lead field and the patch
+//! dictionary with their progress and notes.
+
+use std::path::Path;
+
+use super::error::{JobError, JobResult};
+use super::observer::{staged, JobObserver};
+use super::params::{ForwardParams, PatchParams};
+use super::specs::{HeadChoice, MontageSpec, SourcesSpec};
+use crate::dictionary::{Dictionary, DictionaryInfo};
+use crate::forward::Orientation;
+use crate::geometry::SourceSpace;
+use crate::head::{HeadSpec, SphereHead};
+use crate::io::electrodes::read_electrodes;
+use crate::io::leadfield_file::LeadFieldFile;
+use crate::io::sources_file::{read_regions, read_sources, POINT_SOURCE_AREA_MM2};
+use crate::montage::{fit_sphere, standard, standard_names, Montage};
+use crate::pipeline::{dictionary_for, leadfield_for, DistanceKind};
+
+impl ForwardParams {
+    /// The montage (restricted to `labels`, in their order, when given),
+    /// the sources and the head.
+    pub fn resolve(
+        &self,
+        labels: Option<&[String]>,
+        observer: &dyn JobObserver,
+    ) -> Result<(Montage, SourceSpace, SphereHead), JobError> {
+        let (mut montage, from_file) = load_montage(&self.montage)?;
+        if let Some(labels) = labels {
+            let idx = montage.select(labels).input(format!(
+                "matching the decoder's channels to montage {}",
+                self.montage
+            ))?;
+            montage = montage.subset(&idx);
+        }
+        let sources = load_sources(&self.sources, self.regions.as_deref(), observer)?;
+        let head = load_head(&self.head, &montage, from_file)?;
+        Ok((montage, sources, head))
+    }
+}
+
+/// The lead field, with its progress and the projection warnings as notes.
+pub fn compute_leadfield(
+    montage: &Montage,
+    sources: &SourceSpace,
+    head: &SphereHead,
+    orientation: Orientation,
+    observer: &dyn JobObserver,
+) -> Result<LeadFieldFile, JobError> {
+    let (lf, warnings) = staged(observer, "lead field", sources.len(), |progress| {
+        leadfield_for(montage, sources, head, orientation, progress)
+    })
+    .input("computing the lead field")?;
+    for w in warnings {
+        observer.note(&format!("warning: {w}"));
+    }
+    Ok(lf)
+}
+
+/// The patch dictionary of a lead field, with its progress and notes.
+pub fn build_dictionary(
+    lf: &LeadFieldFile,
+    patches: &PatchParams,
+    observer: &dyn JobObserver,
+) -> Result<(Dictionary, DictionaryInfo), JobError> {
+    let params = patches.params()?;
+    let (d, info, kind) = staged(observer, "patch dictionary", lf.n_sources(), |progress| {
+        dictionary_for(lf, &params, patches.spacing_m(), progress)
+    })
+    .input("building the dictionary")?;
+    if kind == DistanceKind::Euclidean {
+        observer.note(
+            "note: the sources have no triangles; patch distances are Euclidean, not geodesic",
+        );
+    }
+    if !info.dropped.is_empty() {
+        observer.note(&format!(
+            "note: {} atoms with a negligible scalp field were dropped",
+            info.dropped.len()
+        ));
+    }
+    Ok((d, info))
+}
+
+/// A montage by standard name (on the default head's scalp sphere) or from
+/// an electrodes file (BIDS TSV or CSV, mm). Returns whether it came from a
+/// file.
+pub fn load_montage(spec: &MontageSpec) -> Result<(Montage, bool), JobError> {
+    let path = match spec {
+        MontageSpec::Standard(name) => {
+            let radius = SphereHead::default_adult().outer_radius();
+            return Ok((standard(name, radius).input("choosing a montage")?, false));
+        }
+        MontageSpec::File(path) => path,
+    };
+    if path.is_file() {
+        let m = read_electrodes(path).input("reading electrodes")?;
+        return Ok((m, true));
+    }
+    refuse_special_file("montage", path)?;
+    Err(JobError::input(format!(
+        "montage {:?} is neither a standard layout ({}) nor an existing electrodes file",
+        path.display().to_string(),
+        standard_names().join(", ")
+    )))
+}
+
+/// Refuse `path` when it names something that exists but is not a regular
+/// file (a folder, pipe, socket or device): saying "no such file" there
+/// would mislead, and opening a pipe would block.
+fn refuse_special_file(what: &str, path: &Path) -> Result<(), JobError> {
+    match std::fs::metadata(path) {
+        Ok(meta) if !meta.is_file() => Err(JobError::input(format!(
+            "{what} {:?}: not a regular file (a folder, pipe, socket or device); give a file or a built-in name",
+            path.display().to_string()
+        ))),
+        _ => Ok(()),
+    }
+}
+
+/// Sources: the template or a surface/table file; regions from the
+/// template's parcellation or from `regions`.
+pub fn load_sources(
+    spec: &SourcesSpec,
+    regions: Option<&Path>,
+    observer: &dyn JobObserver,
+) -> Result<SourceSpace, JobError> {
+    let mut sources = match spec {
+        SourcesSpec::Template(res) => template_sources(*res),
+        SourcesSpec::File(path) => {
+            refuse_special_file("sources", path)?;
+            if !path.is_file() {
+                return Err(JobError::input(format!(
+                    "sources {:?} are neither template, template-5k nor an existing file",
+                    path.display().to_string()
+                )));
+            }
+            let sources = read_sources(path).input("reading sources")?;
+            if sources.triangles.is_empty() {
+                observer.note(&point_source_note(path));
+            }
+            sources
+        }
+    };
+    if let Some(r) = regions {
+        let (region, names) = read_regions(r, sources.len()).input("reading regions")?;
+        sources.region = region;
+        sources.region_names = names;
+    }
+    Ok(sources)
+}
+
+/// The template cortex as a source space, with its regions.
+fn template_sources(res: crate::geometry::TemplateResolution) -> SourceSpace {
+    let t = crate::geometry::template(res);
+    let mut s = SourceSpace::from_mesh(&t.mesh);
+    s.region = t.region;
+    s.region_names = t.region_names;
+    s
+}
+
+/// What the run assumes of sources without triangles, for a note.
+pub fn point_source_note(path: &Path) -> String {
+    format!(
+        "note: {} has no triangles: each source is a point standing for {POINT_SOURCE_AREA_MM2} mm² of cortex (equal weights in a patch)",
+        path.display()
+    )
+}
+
+/// The head: default or a TOML file. When the montage came from a file and
+/// the head gives no centre, the centre is the least-squares sphere fit of
+/// the electrodes.
+pub fn load_head(
+    choice: &HeadChoice,
+    montage: &Montage,
+    montage_from_file: bool,
+) -> Result<SphereHead, JobError> {
+    let (mut spec, name) = match choice {
+        HeadChoice::Default => (SphereHead::default_adult().to_spec(), "default".to_string()),
+        HeadChoice::File(path) => {
+            let text = crate::io::input::read_input_string(path)
+                .map_err(|e| JobError::input(format!("{}: {e}", path.display())))?;
+            let name = path.display().to_string();
+            let mut s = HeadSpec::from_toml_str(&text, &name).input("reading the head model")?;
+            if s.center_mm.is_none() && !montage_from_file {
+                s.center_mm = Some([0.0; 3]);
+            }
+            (s, name)
+        }
+    };
+    let from_file_without_centre = *choice != HeadChoice::Default && spec.center_mm.is_none();
+    if montage_from_file && (*choice == HeadChoice::Default || from_file_without_centre) {
+        let (center, _radius) = fit_sphere(&montage.positions).input(format!(
+            "fitting a sphere to the electrodes for the head centre ({name})"
+        ))?;
+        spec.center_mm = Some(center.map(|v| v * 1e3));
+    }
+    spec.to_head().input(format!("head model {name}"))
+}

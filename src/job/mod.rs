@@ -1,0 +1,31 @@
+//! The jobs users run, as library calls. Each job's parameters are declared
+//! once ([`params`]: clap for the command line, serde for job scripts and
+//! saved results), the options that name a built-in or a file are typed
+//! ([`specs`]), and the job itself is one function ([`attribute`]) that
+//! reports through a [`JobObserver`] and fails with a [`JobError`] that
+//! says whether the input or the computation is at fault.
+//!
+//! Layer: above the pipeline stages, `io` and `batch`'s lock; below the
+//! command line, which parses flags, calls one job and prints.
+
+pub mod attribute;
+pub mod cache;
+mod describe;
+pub mod error;
+pub mod forward;
+pub mod noise;
+pub mod observer;
+pub mod outputs;
+pub mod params;
+pub mod perturb;
+pub mod prepare;
+pub mod specs;
+
+pub use attribute::{attribute, Attribution};
+pub use error::{ErrorKind, JobError, JobResult};
+pub use observer::{JobObserver, NoteKeeper, Silent};
+pub use params::{AttributeInputs, AttributeParams, FitParams, ForwardParams, PatchParams};
+pub use specs::{
+    HeadChoice, LambdaRuleName, MontageSpec, OrientationChoice, ProfileChoice, Reference,
+    SourcesSpec,
+};

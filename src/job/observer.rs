@@ -1,0 +1,66 @@
+//! What a job tells its caller while it runs: notes (one line each) and
+//! the progress of long stages. The command line draws bars on a terminal;
+//! the Python package and the tests stay silent or keep the notes.
+
+use std::sync::Mutex;
+
+/// Receives a job's notes and stage progress. Implementations must be
+/// `Sync`: stages advance from worker threads.
+pub trait JobObserver: Sync {
+    /// A one-line note (a cached file used, a warning, an assumption).
+    fn note(&self, message: &str);
+    /// A stage of `total` steps begins (`what` names it, e.g. "lead field").
+    fn stage_start(&self, what: &str, total: usize) {
+        let _ = (what, total);
+    }
+    /// `n` more steps of the current stage are done.
+    fn stage_advance(&self, n: usize) {
+        let _ = n;
+    }
+    /// The current stage is over.
+    fn stage_end(&self) {}
+}
+
+/// An observer that ignores everything.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Silent;
+
+impl JobObserver for Silent {
+    fn note(&self, _message: &str) {}
+}
+
+/// An observer that keeps the notes (for tests and for callers that show
+/// them later).
+#[derive(Debug, Default)]
+pub struct NoteKeeper {
+    notes: Mutex<Vec<String>>,
+}
+
+impl NoteKeeper {
+    /// The notes so far, in order.
+    pub fn notes(&self) -> Vec<String> {
+        self.notes.lock().map(|n| n.clone()).unwrap_or_default()
+    }
+}
+
+impl JobObserver for NoteKeeper {
+    fn note(&self, message: &str) {
+        if let Ok(mut n) = self.notes.lock() {
+            n.push(message.to_string());
+        }
+    }
+}
+
+/// Run `work` as a stage of `total` steps of `observer`, handing it the
+/// per-step callback the pipeline functions take.
+pub fn staged<T>(
+    observer: &dyn JobObserver,
+    what: &str,
+    total: usize,
+    work: impl FnOnce(&(dyn Fn(usize) + Sync)) -> T,
+) -> T {
+    observer.stage_start(what, total);
+    let out = work(&|n| observer.stage_advance(n));
+    observer.stage_end();
+    out
+}
