@@ -55,13 +55,14 @@ decoder = "decoders/a.npz"
     assert_eq!(names, ["alpha", "zeta"]);
     let alpha = &s.jobs[0];
     assert_eq!(alpha.decoder, dir.join("decoders/a.npz"));
-    assert_eq!(alpha.options.resamples, Some(5));
-    assert_eq!(s.jobs[1].options.resamples, Some(7));
+    assert_eq!(alpha.params.fit.resamples, 5);
+    assert_eq!(s.jobs[1].params.fit.resamples, 7);
+    assert!(alpha.set_keys.iter().any(|k| k == "resamples"));
     // Names stay names; files become paths from the script's folder.
-    assert_eq!(alpha.options.montage.as_deref(), Some("10-10"));
-    assert_eq!(alpha.options.sources.as_deref(), Some("template-5k"));
+    assert_eq!(alpha.params.forward.montage.to_string(), "10-10");
+    assert_eq!(alpha.params.forward.sources.to_string(), "template-5k");
     assert_eq!(
-        PathBuf::from(alpha.options.noise_covariance.clone().unwrap()),
+        alpha.params.inputs.noise_covariance.clone().unwrap(),
         dir.join("noise.npy")
     );
     assert_eq!(alpha.line, 13);
@@ -115,7 +116,7 @@ fn glob_expands_to_one_job_per_file_named_group_dash_stem() {
     assert!(s
         .jobs
         .iter()
-        .all(|j| j.group == "cohort" && j.options.seed == Some(3)));
+        .all(|j| j.group == "cohort" && j.params.fit.seed == 3));
     assert_eq!(s.jobs[1].decoder, dir.join("decoders/sub-02.npz"));
 
     let p = script(

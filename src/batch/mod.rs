@@ -27,13 +27,11 @@
 //! nothing: executing the jobs is the binary's part.
 
 mod error;
-mod keyed_lock;
 mod plan;
 mod script;
 mod shard;
 
 pub use error::BatchError;
-pub use keyed_lock::{cache_locks, KeyedLocks};
 pub use plan::{input_hash, load_script, parse_script, CompareSpec, Job, Script, SUMMARY_FILE};
-pub use script::JobOptions;
+pub use script::{option_keys, NO_REPORT};
 pub use shard::Shard;

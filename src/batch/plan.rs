@@ -4,19 +4,15 @@
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 
-use serde::Serialize;
-
 use super::error::BatchError;
-use super::script::{line_column, JobOptions, LenientScript, RawJob, RawScript};
-use crate::geometry::TemplateResolution;
+use super::script::{line_column, option_keys, LenientScript, RawScript, NO_REPORT};
 use crate::io::cache::{file_sha256, ContentHash};
-use crate::limits::{check_count, MAX_PATCH_LENGTH_MM, RESAMPLE_RECORD_BYTES};
-use crate::montage::standard_names;
+use crate::job::{AttributeParams, HeadChoice, MontageSpec, SourcesSpec};
 
 /// One job, ready to run: its options are merged with `[defaults]` and its
 /// paths are absolute or relative to the working folder (resolved from the
 /// script's folder).
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Job {
     /// The job's name, also its output folder's name. A job from a glob
     /// pattern is named `<table name>-<file stem>`.
@@ -26,8 +22,14 @@ pub struct Job {
     pub group: String,
     /// The decoder file.
     pub decoder: PathBuf,
-    /// The options, defaults filled in from `[defaults]`.
-    pub options: JobOptions,
+    /// `attribute`'s parameters for this job: its defaults, then
+    /// `[defaults]`, then the job's own keys; paths resolved.
+    pub params: AttributeParams,
+    /// The keys set by `[defaults]` or the job (sorted): they, not the
+    /// defaults of this version, enter the job record and the input hash.
+    pub set_keys: Vec<String>,
+    /// `no_report`: no report.html in the job's folder.
+    pub no_report: bool,
     /// 1-based line of the job's `[[job]]` table in the script.
     pub line: usize,
     /// The glob pattern (resolved against the script's folder) the decoder
@@ -40,8 +42,31 @@ impl Job {
     /// file-valued option (names of standard montages and templates left out).
     pub fn input_files(&self) -> Vec<(&'static str, PathBuf)> {
         let mut files = vec![("decoder", self.decoder.clone())];
-        files.extend(input_files(&self.options));
+        files.extend(file_values(&self.params));
         files
+    }
+
+    /// The options as set, for job.json and the input hash: every option
+    /// key (sorted), with its value when `[defaults]` or the job set it and
+    /// null otherwise (null means `attribute`'s default of this version).
+    pub fn options_json(&self) -> serde_json::Value {
+        let all = match serde_json::to_value(&self.params) {
+            Ok(serde_json::Value::Object(map)) => map,
+            _ => serde_json::Map::new(),
+        };
+        let mut out = serde_json::Map::new();
+        for key in option_keys() {
+            let set = self.set_keys.contains(&key);
+            let value = if !set {
+                serde_json::Value::Null
+            } else if key == NO_REPORT {
+                serde_json::Value::Bool(self.no_report)
+            } else {
+                all.get(&key).cloned().unwrap_or(serde_json::Value::Null)
+            };
+            out.insert(key, value);
+        }
+        serde_json::Value::Object(out)
     }
 }
 
@@ -86,15 +111,33 @@ pub fn load_script(path: &Path) -> Result<Script, BatchError> {
 /// relative paths are resolved against `folder`. Input files must exist.
 pub fn parse_script(text: &str, path: &Path, folder: &Path) -> Result<Script, BatchError> {
     let raw: RawScript = toml::from_str(text).map_err(|e| parse_error(text, path, &e))?;
-    let defaults = raw
-        .defaults
-        .as_ref()
-        .map(|d| d.get_ref().clone())
-        .unwrap_or_default();
+    let defaults = match &raw.defaults {
+        Some(d) => {
+            check_keys(
+                d.get_ref(),
+                None,
+                text,
+                (d.span().start, d.span().end),
+                path,
+            )?;
+            d.get_ref().clone()
+        }
+        None => toml::Table::new(),
+    };
     let mut jobs = Vec::new();
     for spanned in &raw.job {
-        let line = line_column(text, spanned.span().start).0;
-        expand(spanned.get_ref(), &defaults, line, path, folder, &mut jobs)?;
+        let (start, end) = (spanned.span().start, spanned.span().end);
+        let line = line_column(text, start).0;
+        let mut table = spanned.get_ref().clone();
+        let name = take_string(&mut table, "name", text, start, path)?;
+        let decoder = take_string(&mut table, "decoder", text, start, path)?;
+        check_keys(&table, Some(&name), text, (start, end), path)?;
+        let raw_job = RawJob {
+            name,
+            decoder,
+            options: table,
+        };
+        expand(&raw_job, &defaults, line, path, folder, &mut jobs)?;
     }
     if jobs.is_empty() {
         return Err(BatchError::NoJobs {
@@ -248,125 +291,174 @@ fn resolve(folder: &Path, value: &str) -> PathBuf {
     }
 }
 
-/// Whether an option's value is a name (a standard montage, a template, the
-/// default head) rather than a file, as `attribute` decides.
-fn is_named(key: &str, value: &str) -> bool {
-    match key {
-        "montage" => {
-            standard_names()
-                .iter()
-                .any(|n| n.eq_ignore_ascii_case(value))
-                || value.eq_ignore_ascii_case("10-5")
-        }
-        "sources" => TemplateResolution::from_name(value).is_some(),
-        "head" => value == "default",
-        _ => false,
-    }
+/// A `[[job]]` table as written: its name, its decoder (a file or a glob
+/// pattern) and its option keys.
+struct RawJob {
+    name: String,
+    decoder: String,
+    options: toml::Table,
 }
 
-/// The file-valued options of a job, as (key, path); names are left out.
-fn input_files(options: &JobOptions) -> Vec<(&'static str, PathBuf)> {
-    let entries = [
-        ("montage", &options.montage),
-        ("sources", &options.sources),
-        ("head", &options.head),
-        ("regions", &options.regions),
-        ("channels", &options.channels),
-        ("dictionary", &options.dictionary),
-        ("noise_covariance", &options.noise_covariance),
-    ];
-    entries
-        .into_iter()
-        .filter_map(|(key, v)| {
-            v.as_ref()
-                .filter(|v| !is_named(key, v))
-                .map(|v| (key, PathBuf::from(v)))
-        })
-        .collect()
-}
-
-fn resolve_options(options: &mut JobOptions, folder: &Path) {
-    for (key, value) in [
-        ("montage", &mut options.montage),
-        ("sources", &mut options.sources),
-        ("head", &mut options.head),
-        ("regions", &mut options.regions),
-        ("channels", &mut options.channels),
-        ("dictionary", &mut options.dictionary),
-        ("noise_covariance", &mut options.noise_covariance),
-    ] {
-        if let Some(v) = value {
-            if !is_named(key, v) {
-                *v = resolve(folder, v).to_string_lossy().into_owned();
-            }
-        }
-    }
-}
-
-/// Values out of range, as `attribute` would refuse them, found before any
-/// job runs.
-fn check_values(o: &JobOptions) -> Result<(), String> {
-    let one_of = |key: &str, value: &Option<String>, allowed: &[&str]| match value {
-        Some(v) if !allowed.contains(&v.as_str()) => Err(format!(
-            "{key} = {v:?}; expected one of {}",
-            allowed.join(", ")
-        )),
-        _ => Ok(()),
+/// Take the string `key` out of the job table starting at byte `start`.
+fn take_string(
+    table: &mut toml::Table,
+    key: &str,
+    text: &str,
+    start: usize,
+    path: &Path,
+) -> Result<String, BatchError> {
+    let (line, column) = line_column(text, start);
+    let parse = |message: String| BatchError::Parse {
+        path: path.to_path_buf(),
+        line,
+        column,
+        job: None,
+        message,
     };
-    one_of("reference", &o.reference, &["average", "none"])?;
-    one_of("profile", &o.profile, &["gaussian", "flat"])?;
-    one_of("atom_orientation", &o.atom_orientation, &["normal", "free"])?;
-    one_of(
-        "lambda_rule",
-        &o.lambda_rule,
-        &["noise", "bic", "aic", "gcv"],
-    )?;
-    if let Some(sd) = o.noise_sd {
-        if !(sd.is_finite() && sd > 0.0) {
-            return Err(format!(
-                "noise_sd = {sd}; expected a positive standard deviation in the patterns' units"
-            ));
-        }
+    match table.remove(key) {
+        Some(toml::Value::String(s)) => Ok(s),
+        Some(other) => Err(parse(format!(
+            "{key} = {other}: expected a string in the [[job]] table"
+        ))),
+        None => Err(parse(format!("missing field `{key}` in the [[job]] table"))),
     }
-    if let Some(r) = o.lambda_ratio {
-        if !(r.is_finite() && r > 0.0 && r <= 1.0) {
-            return Err(format!("lambda_ratio = {r}; expected 0 < R <= 1"));
-        }
-        if o.lambda.is_some() {
-            return Err("both lambda_ratio and lambda are set; give one".to_string());
-        }
+}
+
+/// Every key of `table` (whose text spans `start..end`) is an option key;
+/// an unknown key is named with its line and column.
+fn check_keys(
+    table: &toml::Table,
+    job: Option<&str>,
+    text: &str,
+    (start, end): (usize, usize),
+    path: &Path,
+) -> Result<(), BatchError> {
+    let known = option_keys();
+    let Some(key) = table.keys().find(|k| !known.contains(k)) else {
+        return Ok(());
+    };
+    // The key's own line: the first line of the table's body that sets
+    // it (the parser's span may cover the header only: the body runs to
+    // the next table header).
+    let after = text.get(start.min(text.len())..).unwrap_or("");
+    let header_end = after.find('\n').map_or(after.len(), |n| n + 1);
+    let body_len = after[header_end..]
+        .match_indices('\n')
+        .map(|(i, _)| header_end + i + 1)
+        .find(|&i| after[i..].trim_start().starts_with('['))
+        .unwrap_or(after.len());
+    let body = &after[..body_len.max(end.saturating_sub(start)).min(after.len())];
+    let offset = body
+        .match_indices(key.as_str())
+        .find(|(i, _)| {
+            let before = &body[..*i];
+            let line_start = before.rfind('\n').map_or(0, |n| n + 1);
+            before[line_start..].trim().is_empty()
+        })
+        .map_or(start, |(i, _)| start + i);
+    let (line, column) = line_column(text, offset);
+    Err(BatchError::Parse {
+        path: path.to_path_buf(),
+        line,
+        column,
+        job: job.map(str::to_string),
+        message: format!(
+            "unknown field `{key}`, expected one of {}",
+            known
+                .iter()
+                .map(|k| format!("`{k}`"))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ),
+    })
+}
+
+/// The file-valued options of a job's parameters, as (key, path); built-in
+/// names (standard montages, the template, the default head) are left out.
+fn file_values(p: &AttributeParams) -> Vec<(&'static str, PathBuf)> {
+    let mut out = Vec::new();
+    if let MontageSpec::File(f) = &p.forward.montage {
+        out.push(("montage", f.clone()));
     }
-    if let Some(l) = o.lambda {
-        if !(l.is_finite() && l > 0.0) {
-            return Err(format!("lambda = {l}; expected a positive number"));
-        }
+    if let SourcesSpec::File(f) = &p.forward.sources {
+        out.push(("sources", f.clone()));
     }
-    if let Some(t) = o.tol {
-        if !(t.is_finite() && t > 0.0 && t < 1.0) {
-            return Err(format!("tol = {t}; expected 0 < tol < 1"));
-        }
+    if let HeadChoice::File(f) = &p.forward.head {
+        out.push(("head", f.clone()));
     }
-    if let Some(r) = &o.radii_mm {
-        if r.is_empty()
-            || r.iter()
-                .any(|v| !(v.is_finite() && *v > 0.0 && *v <= MAX_PATCH_LENGTH_MM))
-        {
-            return Err(format!(
-                "radii_mm = {r:?}; expected a non-empty list of positive lengths in mm, at most {MAX_PATCH_LENGTH_MM}"
-            ));
-        }
+    let optional = [
+        ("regions", &p.forward.regions),
+        ("channels", &p.inputs.channels),
+        ("dictionary", &p.inputs.dictionary),
+        ("noise_covariance", &p.inputs.noise_covariance),
+    ];
+    out.extend(
+        optional
+            .into_iter()
+            .filter_map(|(key, v)| v.clone().map(|v| (key, v))),
+    );
+    out
+}
+
+/// Resolve every file-valued option against the script's folder.
+fn resolve_files(p: &mut AttributeParams, folder: &Path) {
+    let fix = |f: &mut PathBuf| *f = resolve(folder, &f.to_string_lossy());
+    if let MontageSpec::File(f) = &mut p.forward.montage {
+        fix(f);
     }
-    if let Some(r) = o.resamples {
-        check_count("resamples", r, RESAMPLE_RECORD_BYTES).map_err(|e| e.to_string())?;
+    if let SourcesSpec::File(f) = &mut p.forward.sources {
+        fix(f);
     }
-    if let Some(s) = o.spacing_mm {
-        if !(s.is_finite() && s > 0.0 && s <= MAX_PATCH_LENGTH_MM) {
-            return Err(format!(
-                "spacing_mm = {s}; expected a positive length in mm, at most {MAX_PATCH_LENGTH_MM}"
-            ));
-        }
+    if let HeadChoice::File(f) = &mut p.forward.head {
+        fix(f);
     }
-    Ok(())
+    for f in [
+        &mut p.forward.regions,
+        &mut p.inputs.channels,
+        &mut p.inputs.dictionary,
+        &mut p.inputs.noise_covariance,
+    ]
+    .into_iter()
+    .flatten()
+    {
+        fix(f);
+    }
+}
+
+/// `[defaults]` then the job's keys, read into `attribute`'s parameters
+/// (its defaults fill the rest) and checked as `attribute` checks them.
+fn job_params(
+    defaults: &toml::Table,
+    options: &toml::Table,
+) -> Result<(AttributeParams, Vec<String>, bool), String> {
+    let mut merged = defaults.clone();
+    for (k, v) in options {
+        merged.insert(k.clone(), v.clone());
+    }
+    let mut set_keys: Vec<String> = merged.keys().cloned().collect();
+    set_keys.sort();
+    let no_report = match merged.remove(NO_REPORT) {
+        None => false,
+        Some(toml::Value::Boolean(b)) => b,
+        Some(other) => return Err(format!("{NO_REPORT} = {other}: expected true or false")),
+    };
+    let read = |table: toml::Table| -> Result<AttributeParams, String> {
+        toml::Value::Table(table)
+            .try_into()
+            .map_err(|e: toml::de::Error| e.message().trim().to_string())
+    };
+    let params = read(merged.clone()).map_err(|message| {
+        // Name the key: the first that fails on its own.
+        merged
+            .iter()
+            .find_map(|(k, v)| {
+                read(toml::Table::from_iter([(k.clone(), v.clone())]))
+                    .err()
+                    .map(|m| format!("{k} = {v}: {m}"))
+            })
+            .unwrap_or(message)
+    })?;
+    Ok((params, set_keys, no_report))
 }
 
 /// The batch's summary file in the output folder; no job may take its name.
@@ -404,13 +496,13 @@ fn is_pattern(s: &str) -> bool {
 /// One `[[job]]` table into one job, or one job per file of its glob.
 fn expand(
     raw: &RawJob,
-    defaults: &JobOptions,
+    defaults: &toml::Table,
     line: usize,
     path: &Path,
     folder: &Path,
     out: &mut Vec<Job>,
 ) -> Result<(), BatchError> {
-    let group = raw.name.get_ref().clone();
+    let group = raw.name.clone();
     let err = |job: &str, message: String| BatchError::Job {
         path: path.to_path_buf(),
         line,
@@ -418,10 +510,14 @@ fn expand(
         message,
     };
     check_name(&group).map_err(|m| err(&group, m))?;
-    let mut options = raw.options().or(defaults);
-    check_values(&options).map_err(|m| err(&group, m))?;
-    resolve_options(&mut options, folder);
-    for (key, file) in input_files(&options) {
+    let (mut params, set_keys, no_report) =
+        job_params(defaults, &raw.options).map_err(|m| err(&group, m))?;
+    // The values as `attribute` checks them (its decoder stands in until
+    // the pattern is expanded).
+    params.inputs.decoder = Some(PathBuf::from(&raw.decoder));
+    params.validate().map_err(|e| err(&group, e.to_string()))?;
+    resolve_files(&mut params, folder);
+    for (key, file) in file_values(&params) {
         if !file.is_file() {
             let what = if matches!(key, "montage" | "sources" | "head") {
                 " (neither a known name nor an existing file)"
@@ -434,7 +530,7 @@ fn expand(
             ));
         }
     }
-    let decoder = raw.decoder.get_ref();
+    let decoder = &raw.decoder;
     if !is_pattern(decoder) {
         let file = resolve(folder, decoder);
         if !file.is_file() {
@@ -443,11 +539,14 @@ fn expand(
                 format!("decoder {} does not exist", file.display()),
             ));
         }
+        params.inputs.decoder = Some(file.clone());
         out.push(Job {
             name: group.clone(),
             group,
             decoder: file,
-            options,
+            params,
+            set_keys,
+            no_report,
             line,
             pattern: None,
         });
@@ -481,11 +580,15 @@ fn expand(
             .unwrap_or_default();
         let name = format!("{group}-{stem}");
         check_name(&name).map_err(|m| err(&name, format!("{m} (from {})", file.display())))?;
+        let mut params = params.clone();
+        params.inputs.decoder = Some(file.clone());
         out.push(Job {
             name,
             group: group.clone(),
             decoder: file,
-            options: options.clone(),
+            params,
+            set_keys: set_keys.clone(),
+            no_report,
             line,
             pattern: Some(pattern.clone()),
         });
@@ -511,8 +614,8 @@ pub fn input_hash(job: &Job) -> Result<String, BatchError> {
     let mut h = ContentHash::new("batch-job-v1");
     h.str(env!("CARGO_PKG_VERSION"));
     h.str("decoder").str(&file_hash("decoder", &job.decoder)?);
-    let files: BTreeMap<&str, PathBuf> = input_files(&job.options).into_iter().collect();
-    let values = serde_json::to_value(&job.options).unwrap_or_default();
+    let files: BTreeMap<&str, PathBuf> = file_values(&job.params).into_iter().collect();
+    let values = job.options_json();
     if let serde_json::Value::Object(map) = values {
         for (key, value) in map {
             if value.is_null() {

@@ -7,10 +7,10 @@ use std::path::{Path, PathBuf};
 
 use super::error::{JobError, JobResult};
 use super::forward::{build_dictionary, compute_leadfield};
+use super::keyed_lock::cache_locks;
 use super::observer::JobObserver;
 use super::params::{ForwardParams, PatchParams};
 use super::specs::OrientationChoice;
-use crate::batch::cache_locks;
 use crate::forward::Orientation;
 use crate::geometry::SourceSpace;
 use crate::head::SphereHead;

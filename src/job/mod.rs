@@ -13,6 +13,7 @@ pub mod cache;
 mod describe;
 pub mod error;
 pub mod forward;
+pub mod keyed_lock;
 pub mod noise;
 pub mod observer;
 pub mod outputs;

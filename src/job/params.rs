@@ -236,6 +236,11 @@ impl FitParams {
     /// The λ rule: a fixed ratio or value when given, else the named rule.
     pub fn lambda(&self) -> Result<LambdaRule, JobError> {
         Ok(match (self.lambda_ratio, self.lambda) {
+            (Some(_), Some(_)) => {
+                return Err(bad(
+                    "both --lambda-ratio and --lambda are set; give one".to_string()
+                ))
+            }
             (Some(r), _) if !(r.is_finite() && r > 0.0 && r <= 1.0) => {
                 return Err(bad(format!("--lambda-ratio {r}: expected 0 < R <= 1")))
             }

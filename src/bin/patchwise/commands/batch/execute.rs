@@ -7,8 +7,7 @@ use std::path::{Path, PathBuf};
 
 use patchwise::batch::Job;
 use patchwise::io::cache::default_cache_dir;
-use patchwise::job::params::MAX_FORWARD_PERTURBATIONS;
-use patchwise::job::{attribute, AttributeParams};
+use patchwise::job::attribute;
 
 use super::super::report::write_report_as;
 use crate::outputs::write_files;
@@ -21,69 +20,6 @@ pub const MARKER: &str = "job.json";
 
 fn bad(message: String) -> CliError {
     CliError::bad_input(anyhow::anyhow!(message))
-}
-
-/// A job script value parsed as the typed option `key` expects.
-fn typed<T: std::str::FromStr>(key: &str, value: &Option<String>) -> Result<Option<T>, CliError>
-where
-    T::Err: std::fmt::Display,
-{
-    value
-        .as_ref()
-        .map(|v| {
-            v.parse::<T>()
-                .map_err(|e| bad(format!("{key} = {v:?}: {e}")))
-        })
-        .transpose()
-}
-
-/// The parameters `patchwise attribute` would get for this job: its
-/// defaults, with every option the job sets.
-pub fn attribute_params(job: &Job) -> Result<AttributeParams, CliError> {
-    let mut a = AttributeParams::default();
-    let o = &job.options;
-    a.inputs.decoder = Some(job.decoder.clone());
-    a.inputs.channels = o.channels.as_ref().map(PathBuf::from);
-    a.inputs.dictionary = o.dictionary.as_ref().map(PathBuf::from);
-    a.inputs.noise_covariance = o.noise_covariance.as_ref().map(PathBuf::from);
-    let f = &mut a.forward;
-    f.montage = typed("montage", &o.montage)?.unwrap_or(f.montage.clone());
-    f.sources = typed("sources", &o.sources)?.unwrap_or(f.sources.clone());
-    f.head = typed("head", &o.head)?.unwrap_or(f.head.clone());
-    f.regions = o.regions.as_ref().map(PathBuf::from);
-    let fit = &mut a.fit;
-    fit.reference = typed("reference", &o.reference)?.unwrap_or(fit.reference);
-    fit.joint = o.joint.unwrap_or(fit.joint);
-    fit.lambda_rule = typed("lambda_rule", &o.lambda_rule)?.unwrap_or(fit.lambda_rule);
-    fit.noise_sd = o.noise_sd.or(fit.noise_sd);
-    fit.lambda_ratio = o.lambda_ratio.or(fit.lambda_ratio);
-    fit.lambda = o.lambda.or(fit.lambda);
-    fit.tol = o.tol.unwrap_or(fit.tol);
-    if let Some(r) = o.resamples {
-        fit.resamples =
-            usize::try_from(r).map_err(|_| bad(format!("resamples = {r}: too many")))?;
-    }
-    fit.seed = o.seed.unwrap_or(fit.seed);
-    if let Some(p) = o.forward_perturbations {
-        fit.forward_perturbations = usize::try_from(p)
-            .ok()
-            .filter(|&p| p <= MAX_FORWARD_PERTURBATIONS)
-            .ok_or_else(|| {
-                bad(format!(
-                    "forward_perturbations = {p}: expected at most {MAX_FORWARD_PERTURBATIONS}"
-                ))
-            })?;
-    }
-    fit.no_refit = o.no_refit.unwrap_or(fit.no_refit);
-    let patches = &mut a.patches;
-    if let Some(r) = &o.radii_mm {
-        patches.radii_mm = r.clone();
-    }
-    patches.spacing_mm = o.spacing_mm.or(patches.spacing_mm);
-    patches.profile = typed("profile", &o.profile)?.unwrap_or(patches.profile);
-    patches.atom_orientation =
-        typed("atom_orientation", &o.atom_orientation)?.unwrap_or(patches.atom_orientation);
-    Ok(a)
 }
 
 /// `out/<name>` may be replaced by this job only when it is missing or is
@@ -262,12 +198,12 @@ pub fn clean_stale(out: &Path) {
 /// the rename that makes it visible (replacing an outdated folder).
 fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<(), CliError> {
     let target = out.join(&job.name);
-    let params = attribute_params(job)?;
+    let params = &job.params;
     let cache = cache.map_or_else(default_cache_dir, Path::to_path_buf);
-    let result = attribute(&params, &cache, None, &Console::default())?;
+    let result = attribute(params, &cache, None, &Console::default())?;
     let stage = Staging::new(&target).map_err(CliError::compute)?;
     write_files(&stage, &result)?;
-    if !job.options.no_report.unwrap_or(false) {
+    if !job.no_report {
         // Inside the staged folder, before the marker: a job's folder has
         // its report exactly when `attribute` would have written one.
         let staged = stage.file("result.h5");
@@ -285,7 +221,7 @@ fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<()
         "status": "done",
         "input_hash": hash,
         "decoder": job.decoder.display().to_string(),
-        "options": job.options,
+        "options": job.options_json(),
         "software": format!("patchwise {}", env!("CARGO_PKG_VERSION")),
     });
     let text = serde_json::to_string_pretty(&marker).unwrap_or_default();
