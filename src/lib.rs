@@ -25,6 +25,7 @@ pub mod head;
 pub mod io;
 pub mod limits;
 pub mod montage;
+pub mod numeric;
 pub mod patterns;
 pub mod pipeline;
 pub mod render;
