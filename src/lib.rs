@@ -26,6 +26,7 @@ pub mod io;
 pub mod job;
 pub mod limits;
 pub mod montage;
+pub mod numeric;
 pub mod patterns;
 pub mod pipeline;
 pub mod render;

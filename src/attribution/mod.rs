@@ -8,7 +8,10 @@
 //! patches cancel). A patch's share is spread over regions in proportion to
 //! the profile mass the patch has in each region.
 
-pub mod rng;
+pub mod rng {
+    //! Moved to [`crate::numeric`]; this path is kept for code written against it.
+    pub use crate::numeric::SplitMix64;
+}
 mod shares;
 mod uncertainty;
 

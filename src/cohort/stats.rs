@@ -4,7 +4,7 @@
 use rayon::prelude::*;
 
 use crate::attribution::percentile;
-use crate::attribution::rng::SplitMix64;
+use crate::numeric::SplitMix64;
 
 /// Subject indices of bootstrap resample `b`: `n` draws with replacement,
 /// from stream `b + 1` of `seed`, so resample b is the same whatever the

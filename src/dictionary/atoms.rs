@@ -7,11 +7,15 @@
 //! contiguous), then every atom column is an independent sum of scaled source
 //! vectors in CSC order. Each column is computed by one thread in a fixed
 //! order, so results do not depend on the thread count.
+//!
+//! The lead-field checks (`check_gains`) are here too: the builder
+//! (`build.rs`) and the channel-subset recomputation both use them.
 
 use rayon::prelude::*;
 use sprs::CsMat;
 
 use super::{AtomComponent, DictionaryError};
+use crate::numeric::average_reference_columns;
 
 /// Borrowed raw CSC arrays (n_src × n_atoms) with one component per column.
 #[derive(Clone, Copy)]
@@ -90,10 +94,7 @@ pub(crate) fn atom_columns(
                 }
             }
             if average_reference {
-                let mean = column.iter().sum::<f64>() / n_ch as f64;
-                for out in column.iter_mut() {
-                    *out -= mean;
-                }
+                average_reference_columns(column, 1);
             }
             *norm = column.iter().map(|v| v * v).sum::<f64>().sqrt();
         });
@@ -198,7 +199,7 @@ pub fn atoms_for_channels(
     }
     let n_src = profile.rows();
     let need_xyz = component.iter().any(|c| c.xyz_index().is_some());
-    super::build::check_gains(gain, gain_xyz, n_channels, n_src, need_xyz)?;
+    check_gains(gain, gain_xyz, n_channels, n_src, need_xyz)?;
     let indptr = profile.proper_indptr();
     let columns = ProfileColumns {
         indptr: &indptr,
@@ -217,4 +218,56 @@ pub fn atoms_for_channels(
     let all: Vec<usize> = (0..component.len()).collect();
     let atoms = normalised_row_major(&columns, &norms, &all, n_channels);
     Ok((atoms, norms))
+}
+
+/// Checks lead-field shapes and values: `gain` n_ch × n_src, `gain_xyz`
+/// n_ch × n_src × 3 if given (required when `need_xyz`), all finite.
+pub(crate) fn check_gains(
+    gain: &[f64],
+    gain_xyz: Option<&[f64]>,
+    n_channels: usize,
+    n_sources: usize,
+    need_xyz: bool,
+) -> Result<(), DictionaryError> {
+    if n_channels == 0 {
+        return Err(DictionaryError::NoChannels);
+    }
+    if n_sources == 0 {
+        return Err(DictionaryError::NoSources);
+    }
+    check_gain("gain", gain, n_channels, n_sources, 1)?;
+    match gain_xyz {
+        Some(g) => check_gain("gain_xyz", g, n_channels, n_sources, 3),
+        None if need_xyz => Err(DictionaryError::MissingFreeGain),
+        None => Ok(()),
+    }
+}
+
+fn check_gain(
+    name: &'static str,
+    values: &[f64],
+    n_channels: usize,
+    n_sources: usize,
+    per_source: usize,
+) -> Result<(), DictionaryError> {
+    let n_cols = n_sources * per_source;
+    let expected = n_channels * n_cols;
+    if values.len() != expected {
+        return Err(DictionaryError::GainShape {
+            name,
+            expected,
+            found: values.len(),
+            n_channels,
+            n_sources,
+            per_source: if per_source == 3 { " x 3" } else { "" },
+        });
+    }
+    if let Some(p) = values.iter().position(|v| !v.is_finite()) {
+        return Err(DictionaryError::NonFiniteGain {
+            name,
+            channel: p / n_cols,
+            column: p % n_cols,
+        });
+    }
+    Ok(())
 }

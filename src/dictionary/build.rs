@@ -4,7 +4,7 @@
 use sprs::CsMat;
 
 use super::atoms::{
-    atom_columns, atoms_for_channels, is_degenerate, max_finite, normalised_row_major,
+    atom_columns, atoms_for_channels, check_gains, is_degenerate, max_finite, normalised_row_major,
     ProfileColumns, SourceMajorGain,
 };
 use super::patches::{build_patches, DistanceOracle};
@@ -369,56 +369,4 @@ fn check_mesh(mesh: &Mesh) -> Result<usize, DictionaryError> {
         }
     }
     Ok(n_vertices)
-}
-
-/// Checks lead-field shapes and values: `gain` n_ch × n_src, `gain_xyz`
-/// n_ch × n_src × 3 if given (required when `need_xyz`), all finite.
-pub(crate) fn check_gains(
-    gain: &[f64],
-    gain_xyz: Option<&[f64]>,
-    n_channels: usize,
-    n_sources: usize,
-    need_xyz: bool,
-) -> Result<(), DictionaryError> {
-    if n_channels == 0 {
-        return Err(DictionaryError::NoChannels);
-    }
-    if n_sources == 0 {
-        return Err(DictionaryError::NoSources);
-    }
-    check_gain("gain", gain, n_channels, n_sources, 1)?;
-    match gain_xyz {
-        Some(g) => check_gain("gain_xyz", g, n_channels, n_sources, 3),
-        None if need_xyz => Err(DictionaryError::MissingFreeGain),
-        None => Ok(()),
-    }
-}
-
-fn check_gain(
-    name: &'static str,
-    values: &[f64],
-    n_channels: usize,
-    n_sources: usize,
-    per_source: usize,
-) -> Result<(), DictionaryError> {
-    let n_cols = n_sources * per_source;
-    let expected = n_channels * n_cols;
-    if values.len() != expected {
-        return Err(DictionaryError::GainShape {
-            name,
-            expected,
-            found: values.len(),
-            n_channels,
-            n_sources,
-            per_source: if per_source == 3 { " x 3" } else { "" },
-        });
-    }
-    if let Some(p) = values.iter().position(|v| !v.is_finite()) {
-        return Err(DictionaryError::NonFiniteGain {
-            name,
-            channel: p / n_cols,
-            column: p % n_cols,
-        });
-    }
-    Ok(())
 }

@@ -5,7 +5,7 @@ use rayon::prelude::*;
 
 use crate::geometry::{add, norm, scale, Vec3};
 use crate::head::{SeriesForm, SphereHead};
-use crate::patterns::eigen::symmetric_eigen;
+use crate::numeric::{average_reference_columns, symmetric_eigen};
 
 use super::linalg::{inverse_spd3, solve_spd3, thin_qr, ThinQr};
 use super::{Dipole, DipoleError, DipoleFit, DipoleOptions, CHI2_3DOF_95};
@@ -208,10 +208,10 @@ impl DipoleFitter {
         let n = self.n_channels();
         let mut rows = vec![[0.0; 3]; n];
         expansion.gain_xyz(&self.head, &self.directions, &mut rows);
+        // Channel-order sum: the same on every thread.
+        average_reference_columns(rows.as_flattened_mut(), 3);
         for axis in 0..3 {
-            // Channel-order sum: the same on every thread.
-            let mean = rows.iter().map(|g| g[axis]).sum::<f64>() / n as f64;
-            out.extend(rows.iter().map(|g| g[axis] - mean));
+            out.extend(rows.iter().map(|g| g[axis]));
         }
         Ok(())
     }
@@ -494,8 +494,8 @@ fn referenced_columns(patterns: &[f64], n: usize, k: usize) -> Result<Vec<Vec<f6
         if let Some(channel) = raw.iter().position(|v| !v.is_finite()) {
             return Err(DipoleError::NotFinite { component, channel });
         }
-        let mean = raw.iter().sum::<f64>() / n as f64;
-        let y: Vec<f64> = raw.iter().map(|v| v - mean).collect();
+        let mut y = raw.clone();
+        average_reference_columns(&mut y, 1);
         let size = raw.iter().fold(0.0f64, |m, v| m.max(v.abs()));
         let left = y.iter().fold(0.0f64, |m, v| m.max(v.abs()));
         if size == 0.0 || left <= 1e-12 * size {

@@ -4,6 +4,7 @@ use rayon::prelude::*;
 
 use crate::geometry::{dot, norm, Vec3};
 use crate::head::{HeadError, SeriesForm, SphereHead};
+use crate::numeric::average_reference_columns;
 
 use super::ForwardError;
 
@@ -231,18 +232,9 @@ fn fill_chunk(
             .map_err(|e| (s, e))?;
         expansion.gain_xyz(head, directions, &mut column);
         if reference == Reference::Average {
-            // The mean is summed in channel order, the same on every thread.
-            let mut mean = [0.0; 3];
-            for g in &column {
-                for axis in 0..3 {
-                    mean[axis] += g[axis];
-                }
-            }
-            for g in column.iter_mut() {
-                for axis in 0..3 {
-                    g[axis] -= mean[axis] / n_ch as f64;
-                }
-            }
+            // n_ch × 3 row-major: the mean is summed in channel order, the
+            // same on every thread.
+            average_reference_columns(column.as_flattened_mut(), 3);
         }
         for (g, row) in column.iter().zip(gain_rows.iter_mut()) {
             row[s] = dot(*g, *unit);

@@ -2,8 +2,8 @@
 
 use rayon::slice::ParallelSliceMut;
 
-use super::mesh::Mesh;
-use super::validate::{check_indices, MeshError};
+use super::error::MeshError;
+use super::mesh::{check_indices, Mesh};
 
 /// Connectivity of a triangle mesh in compressed sparse row layout.
 ///

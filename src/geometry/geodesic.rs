@@ -48,8 +48,9 @@ use std::collections::BinaryHeap;
 use rayon::prelude::*;
 
 use super::adjacency::Adjacency;
+use super::error::MeshError;
+use super::mesh::check_indices_and_coordinates;
 use super::mesh::{dot, norm, sub, Mesh};
-use super::validate::{check_indices_and_coordinates, MeshError};
 
 /// How many triangles deep an obtuse corner is unfolded in search of a
 /// splitting vertex.

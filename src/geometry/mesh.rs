@@ -1,6 +1,9 @@
-//! The triangle mesh type, icospheres, areas and normals.
+//! The triangle mesh type, icospheres, areas and normals, and the first
+//! checks every mesh user runs (indices in range, finite coordinates).
 
 use std::collections::HashMap;
+
+use super::error::MeshError;
 
 /// A point or vector in head coordinates (metres).
 pub type Vec3 = [f64; 3];
@@ -210,4 +213,45 @@ impl Mesh {
             triangles,
         }
     }
+}
+
+/// Checks that `mesh` is non-empty, that indices are in range and that all
+/// coordinates are finite.
+///
+/// # Errors
+/// [`MeshError::Empty`], [`MeshError::IndexOutOfRange`], [`MeshError::NonFinite`].
+pub fn check_indices_and_coordinates(mesh: &Mesh) -> Result<(), MeshError> {
+    if mesh.vertices.is_empty() || mesh.triangles.is_empty() {
+        return Err(MeshError::Empty {
+            vertices: mesh.n_vertices(),
+            triangles: mesh.n_triangles(),
+        });
+    }
+    check_indices(mesh)?;
+    for (vertex, p) in mesh.vertices.iter().enumerate() {
+        if let Some(axis) = p.iter().position(|x| !x.is_finite()) {
+            return Err(MeshError::NonFinite {
+                vertex,
+                axis,
+                value: p[axis],
+            });
+        }
+    }
+    Ok(())
+}
+
+/// Checks that every triangle corner refers to an existing vertex.
+pub(crate) fn check_indices(mesh: &Mesh) -> Result<(), MeshError> {
+    let n = mesh.n_vertices();
+    for (triangle, tri) in mesh.triangles.iter().enumerate() {
+        if let Some(corner) = tri.iter().position(|&v| v as usize >= n) {
+            return Err(MeshError::IndexOutOfRange {
+                triangle,
+                corner,
+                vertex: tri[corner],
+                n_vertices: n,
+            });
+        }
+    }
+    Ok(())
 }

@@ -3,6 +3,7 @@
 //! Coordinates are metres inside the library. Files give millimetres.
 
 mod adjacency;
+mod error;
 mod geodesic;
 mod mesh;
 mod sampling;
@@ -10,14 +11,14 @@ mod source_space;
 mod validate;
 
 pub use adjacency::Adjacency;
+pub use error::{MeshError, DEGENERATE_RATIO};
 pub use geodesic::{FrontShape, GeodesicScratch, GeodesicSolver, MAX_UNFOLD_STEPS};
-pub use mesh::{add, cross, dot, norm, normalize, scale, sub, Mesh, Vec3};
+pub use mesh::{
+    add, check_indices_and_coordinates, cross, dot, norm, normalize, scale, sub, Mesh, Vec3,
+};
 pub use sampling::farthest_point_seeds;
 pub use source_space::SourceSpace;
-pub use validate::{
-    check_indices_and_coordinates, isolated_vertices, validate, ComponentReport, MeshError,
-    MeshReport, DEGENERATE_RATIO,
-};
+pub use validate::{isolated_vertices, validate, ComponentReport, MeshReport};
 pub mod template;
 mod template_regions;
 mod template_sulci;

@@ -2,9 +2,9 @@
 
 use std::collections::BinaryHeap;
 
+use super::error::MeshError;
 use super::geodesic::{Entry, GeodesicScratch, GeodesicSolver, Method};
 use super::mesh::Mesh;
-use super::validate::MeshError;
 
 /// Seeds spread over `mesh` so that every vertex lies within about
 /// `spacing_m` (geodesic, fast marching) of a seed; see

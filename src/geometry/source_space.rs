@@ -2,6 +2,7 @@
 //! the cortical sources a lead field is computed for.
 
 use super::mesh::{Mesh, Vec3};
+use super::template::Template;
 
 /// Cortical sources (SI units): one source per mesh vertex when made from a
 /// mesh, or points without triangles when brought as a table.
@@ -35,6 +36,16 @@ impl SourceSpace {
         }
     }
 
+    /// The template cortex as a source space: one source per vertex (as
+    /// [`SourceSpace::from_mesh`]) with the template's regions.
+    pub fn from_template(template: &Template) -> SourceSpace {
+        SourceSpace {
+            region: template.region.clone(),
+            region_names: template.region_names.clone(),
+            ..SourceSpace::from_mesh(&template.mesh)
+        }
+    }
+
     /// Number of sources.
     pub fn len(&self) -> usize {
         self.positions.len()
@@ -51,5 +62,28 @@ impl SourceSpace {
             vertices: self.positions.clone(),
             triangles: self.triangles.clone(),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::geometry::{template, TemplateResolution};
+
+    // Common practice, no source: the template as a source space is its mesh
+    // as sources plus its regions, vertex for vertex.
+    #[test]
+    fn template_sources_carry_its_regions() {
+        let t = template(TemplateResolution::Low);
+        let s = SourceSpace::from_template(&t);
+        let plain = SourceSpace::from_mesh(&t.mesh);
+        assert_eq!(s.len(), t.mesh.n_vertices());
+        assert_eq!(s.positions, plain.positions);
+        assert_eq!(s.normals, plain.normals);
+        assert_eq!(s.areas, plain.areas);
+        assert_eq!(s.triangles, plain.triangles);
+        assert_eq!(s.region, t.region);
+        assert_eq!(s.region_names, t.region_names);
+        assert!(s.region.iter().all(|&r| r >= 0));
     }
 }

@@ -7,7 +7,7 @@ use std::path::Path;
 use super::error::IoError;
 use super::result_file::CAUTION;
 use super::store::{Attr, Dataset, Store};
-use super::table::{write_table, Delimiter, TableError};
+use super::table::{format_fixed, write_table, Delimiter, TableError};
 use crate::cohort::{CompareParams, Comparison, PairedComparison};
 
 /// Everything `compare.h5` and `summary.json` hold besides the comparison.
@@ -170,14 +170,6 @@ pub fn write_compare(path: &Path, r: &CompareRecord<'_>) -> Result<(), IoError> 
     s.write_atomic(path)
 }
 
-fn fmt(v: f64, digits: usize) -> String {
-    if v.is_finite() {
-        format!("{v:.digits$}")
-    } else {
-        String::new()
-    }
-}
-
 /// Write `regions.csv`: one row per component and region, template order.
 pub fn write_regions_csv(path: &Path, c: &Comparison) -> Result<(), TableError> {
     let header = [
@@ -197,13 +189,13 @@ pub fn write_regions_csv(path: &Path, c: &Comparison) -> Result<(), TableError> 
             rows.push(vec![
                 comp.name.clone(),
                 name.clone(),
-                fmt(comp.mean_share[r], 6),
-                fmt(comp.mean_low[r], 6),
-                fmt(comp.mean_high[r], 6),
-                fmt(comp.consistency[r], 4),
-                fmt(comp.mean_selection_frequency[r], 4),
-                fmt(comp.test.p_raw[r], 6),
-                fmt(comp.test.p_corrected[r], 6),
+                format_fixed(comp.mean_share[r], 6, ""),
+                format_fixed(comp.mean_low[r], 6, ""),
+                format_fixed(comp.mean_high[r], 6, ""),
+                format_fixed(comp.consistency[r], 4, ""),
+                format_fixed(comp.mean_selection_frequency[r], 4, ""),
+                format_fixed(comp.test.p_raw[r], 6, ""),
+                format_fixed(comp.test.p_corrected[r], 6, ""),
             ]);
         }
     }
@@ -228,8 +220,8 @@ pub fn write_similarity_csv(path: &Path, c: &Comparison) -> Result<(), TableErro
                     comp.name.clone(),
                     c.subjects[i].clone(),
                     c.subjects[j].clone(),
-                    fmt(comp.cosine[i * n + j], 6),
-                    fmt(comp.transport_m[i * n + j] * 1e3, 4),
+                    format_fixed(comp.cosine[i * n + j], 6, ""),
+                    format_fixed(comp.transport_m[i * n + j] * 1e3, 4, ""),
                 ]);
             }
         }
@@ -254,11 +246,11 @@ pub fn write_paired_csv(path: &Path, p: &PairedComparison) -> Result<(), TableEr
             rows.push(vec![
                 comp.name.clone(),
                 name.clone(),
-                fmt(comp.mean_difference[r], 6),
-                fmt(comp.mean_low[r], 6),
-                fmt(comp.mean_high[r], 6),
-                fmt(comp.test.p_raw[r], 6),
-                fmt(comp.test.p_corrected[r], 6),
+                format_fixed(comp.mean_difference[r], 6, ""),
+                format_fixed(comp.mean_low[r], 6, ""),
+                format_fixed(comp.mean_high[r], 6, ""),
+                format_fixed(comp.test.p_raw[r], 6, ""),
+                format_fixed(comp.test.p_corrected[r], 6, ""),
             ]);
         }
     }

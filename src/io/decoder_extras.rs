@@ -17,6 +17,20 @@ use super::npy::{NpyArray, NpyData};
 use super::sources_file::InputError;
 use super::store::Store;
 
+/// What a decoder file holds besides its channels.
+#[derive(Debug, Clone, PartialEq)]
+pub enum DecoderContent {
+    /// Activation patterns, n_ch × k row-major.
+    Patterns(Vec<f64>),
+    /// Filters or classifier weights with the data covariance.
+    Weights {
+        /// n_ch × k row-major.
+        weights: Vec<f64>,
+        /// n_ch × n_ch row-major.
+        covariance: Vec<f64>,
+    },
+}
+
 /// The optional parts of a decoder file.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct DecoderExtras {
@@ -25,7 +39,7 @@ pub struct DecoderExtras {
     /// Trials or samples behind the covariance (> 1).
     pub n_samples: Option<f64>,
     /// One decoder per fold, of the same kind as the main one.
-    pub folds: Option<Vec<super::decoder_file::DecoderContent>>,
+    pub folds: Option<Vec<DecoderContent>>,
 }
 
 fn content_error(path: &Path, message: String) -> InputError {
@@ -99,7 +113,6 @@ fn assemble(
     folds: Option<Array3>,
     fold_covariances: Option<Array3>,
 ) -> Result<DecoderExtras, InputError> {
-    use super::decoder_file::DecoderContent;
     if let Some(names) = &names {
         if names.len() != k {
             return Err(content_error(

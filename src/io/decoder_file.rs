@@ -11,26 +11,12 @@
 use std::collections::BTreeMap;
 use std::path::Path;
 
-pub use super::decoder_extras::DecoderExtras;
 use super::decoder_extras::{extras_from_npz, extras_from_store};
+pub use super::decoder_extras::{DecoderContent, DecoderExtras};
 use super::electrodes::read_channel_list;
 use super::npy::{read_npy, read_npz, NpyArray, NpyData};
 use super::sources_file::InputError;
 use super::store::Store;
-
-/// What a decoder file holds besides its channels.
-#[derive(Debug, Clone, PartialEq)]
-pub enum DecoderContent {
-    /// Activation patterns, n_ch × k row-major.
-    Patterns(Vec<f64>),
-    /// Filters or classifier weights with the data covariance.
-    Weights {
-        /// n_ch × k row-major.
-        weights: Vec<f64>,
-        /// n_ch × n_ch row-major.
-        covariance: Vec<f64>,
-    },
-}
 
 /// A decoder read from a file.
 #[derive(Debug, Clone, PartialEq)]

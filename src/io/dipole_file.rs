@@ -16,7 +16,7 @@ use std::path::Path;
 use super::error::IoError;
 use super::result_file::{insert_patterns, insert_provenance};
 use super::store::{Array, Attr, Dataset, Store};
-use super::table::{write_table, Delimiter, TableError};
+use super::table::{format_fixed, write_table, Delimiter, TableError};
 
 /// One fitted dipole as the files hold it.
 #[derive(Debug, Clone, PartialEq)]
@@ -77,14 +77,6 @@ pub struct PatternsRecord<'a> {
     pub component_names: &'a [String],
 }
 
-fn fmt(v: f64, digits: usize) -> String {
-    if v.is_finite() {
-        format!("{v:.digits$}")
-    } else {
-        "n/a".to_string()
-    }
-}
-
 /// Write `dipoles.csv` atomically; with `pairs` a `dipole` column follows `component`.
 pub fn write_dipoles_csv(path: &Path, rows: &[DipoleRow], pairs: bool) -> Result<(), TableError> {
     let mut header = vec!["component"];
@@ -110,12 +102,12 @@ pub fn write_dipoles_csv(path: &Path, rows: &[DipoleRow], pairs: bool) -> Result
             if pairs {
                 f.push(r.dipole.to_string());
             }
-            f.extend(r.position_mm.iter().map(|v| fmt(*v, 3)));
+            f.extend(r.position_mm.iter().map(|v| format_fixed(*v, 3, "n/a")));
             f.extend(r.moment.iter().map(|v| format!("{v:.6e}")));
             f.push(format!("{:.6e}", r.residual_variance));
             f.push(r.region.clone());
-            f.push(fmt(r.distance_to_cortex_mm, 3));
-            f.push(fmt(r.ci95_radius_mm, 3));
+            f.push(format_fixed(r.distance_to_cortex_mm, 3, "n/a"));
+            f.push(format_fixed(r.ci95_radius_mm, 3, "n/a"));
             f
         })
         .collect();

@@ -365,6 +365,16 @@ fn split_line(
     }
 }
 
+/// A number with `digits` decimals for a table cell or a printed table, or
+/// `missing` (such as `"n/a"` or `""`) when it is not finite.
+pub fn format_fixed(v: f64, digits: usize, missing: &str) -> String {
+    if v.is_finite() {
+        format!("{v:.digits$}")
+    } else {
+        missing.to_string()
+    }
+}
+
 /// Write a table atomically (temporary file, then rename). CSV fields holding a comma or
 /// a quote are quoted; no field may hold a line break (the reader is line-based), nor a
 /// tab in TSV.
@@ -413,4 +423,19 @@ pub fn write_table(
         path: path.to_path_buf(),
         source,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::format_fixed;
+
+    // Common practice, no source: fixed decimals rounded half to even by
+    // Rust's formatter; NaN and infinities become the given placeholder.
+    #[test]
+    fn fixed_decimals_or_placeholder() {
+        assert_eq!(format_fixed(1.23456, 3, "n/a"), "1.235");
+        assert_eq!(format_fixed(-0.5, 0, "n/a"), "-0");
+        assert_eq!(format_fixed(f64::NAN, 3, "n/a"), "n/a");
+        assert_eq!(format_fixed(f64::INFINITY, 6, ""), "");
+    }
 }

@@ -3,7 +3,7 @@
 
 use super::{Montage, MontageError, ProjectionWarning, PROJECTION_WARNING_M};
 use crate::geometry::{add, dot, norm, scale, sub, Vec3};
-use crate::patterns::eigen::symmetric_eigen;
+use crate::numeric::symmetric_eigen;
 
 /// Gauss–Newton iterations after the algebraic fit (each is a 4 × 4 solve; the algebraic
 /// start is already close, so a few suffice).

@@ -1,8 +1,8 @@
 //! Checks shared by the pattern computation and the whitener: shapes, finiteness,
 //! symmetry and positive semi-definiteness of covariances.
 
-use super::eigen::symmetric_eigen;
 use super::PatternsError;
+use crate::numeric::symmetric_eigen;
 use faer::Mat;
 
 /// Relative symmetry tolerance for covariances: `max |Σ_ij − Σ_ji| <= 1e-9 · max |Σ_ij|`.

@@ -3,8 +3,8 @@
 //! the equation number is from memory, verify).
 
 use super::covariance::{check_covariance, check_finite, check_shape};
-use super::eigen::symmetric_eigen;
 use super::PatternsError;
+use crate::numeric::symmetric_eigen;
 
 /// Largest accepted condition number of `Wᵀ Σ_x W`. Beyond it the estimated sources are
 /// (numerically) linearly dependent and the patterns are not determined.

@@ -6,7 +6,6 @@
 //! called sequentially, so results do not depend on the thread count.
 
 mod covariance;
-pub(crate) mod eigen;
 mod error;
 mod haufe;
 mod noise;

@@ -3,12 +3,12 @@
 use rayon::prelude::*;
 use sprs::CsMat;
 
-use crate::attribution::rng::SplitMix64;
 use crate::attribution::{
     attribute, component_shares, lead_frequencies, percentile, Attribution, AttributionInput,
     RegionInterval, RegionMass,
 };
 use crate::geometry::Vec3;
+use crate::numeric::{average_reference_columns, SplitMix64};
 use crate::solver::{
     fit, fit_warm, path, refit, DenseDictionary, Fit, Groups, Lambda, NoObserver, Params, PathSpec,
     StopReason, ValidParams,
@@ -551,8 +551,7 @@ fn resample(
                     for c in 0..k {
                         let mut e: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
                         if !options.whitened {
-                            let mean = e.iter().sum::<f64>() / n_ch as f64;
-                            e.iter_mut().for_each(|v| *v -= mean);
+                            average_reference_columns(&mut e, 1);
                         }
                         for i in 0..n_ch {
                             y_star[i * k + c] = y_hat[i * k + c] + noise_sd[c] * e[i];

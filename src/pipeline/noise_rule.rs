@@ -23,7 +23,7 @@
 //! until the noise-implied ratio q σ̂/λ_max rises above the grid point (the
 //! fixed point is then bracketed), or a floor of 1e-4 is reached (reported).
 
-use crate::attribution::rng::SplitMix64;
+use crate::numeric::SplitMix64;
 use crate::solver::{fit_warm, null_lambda_max, DenseDictionary, Groups, Lambda, NoObserver};
 
 use super::fit_stage::{BlockFit, FittedComponent};

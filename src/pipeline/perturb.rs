@@ -17,11 +17,11 @@
 
 use sprs::CsMat;
 
-use crate::attribution::rng::SplitMix64;
 use crate::dictionary::{atoms_for_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM};
 use crate::forward::{lead_field, Orientation, Reference};
 use crate::geometry::{norm, Vec3};
 use crate::head::SphereHead;
+use crate::numeric::SplitMix64;
 
 use super::PipelineError;
 

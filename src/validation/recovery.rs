@@ -1,11 +1,11 @@
 //! One recovery case: simulate patches, fit them, score both methods.
 
-use crate::attribution::rng::SplitMix64;
 use crate::baseline::{minimum_norm, MinimumNormParams};
 use crate::dictionary::Dictionary;
 use crate::forward::{lead_field, Orientation, Reference};
 use crate::geometry::{norm, normalize, sub, GeodesicSolver, SourceSpace, Vec3};
 use crate::head::SphereHead;
+use crate::numeric::{average_reference_columns, SplitMix64};
 use crate::pipeline::{
     fit_patterns, FitOptions, LambdaRule, PipelineError, Problem, ResampleOptions,
 };
@@ -201,8 +201,7 @@ pub fn run_case(
         _ => f64::NAN,
     };
     let mut noise: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
-    let mean = noise.iter().sum::<f64>() / n_ch as f64;
-    noise.iter_mut().for_each(|e| *e -= mean);
+    average_reference_columns(&mut noise, 1);
     let ps: f64 = y.iter().map(|v| v * v).sum();
     let pn: f64 = noise.iter().map(|v| v * v).sum();
     let scale = (ps / pn / 10f64.powf(spec.snr_db / 10.0)).sqrt();
@@ -476,9 +475,7 @@ impl RecoveryFixture {
         perturbation: &crate::pipeline::ForwardPerturbation,
     ) -> Result<Self, PipelineError> {
         let t = crate::geometry::template(resolution);
-        let mut sources = SourceSpace::from_mesh(&t.mesh);
-        sources.region = t.region.clone();
-        sources.region_names = t.region_names.clone();
+        let sources = SourceSpace::from_template(&t);
         let head = SphereHead::default_adult();
         let full = crate::montage::standard("10-10", head.outer_radius())?;
         let labels: Vec<String> = crate::demo::CHANNELS_64

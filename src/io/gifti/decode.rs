@@ -1,15 +1,22 @@
 //! A data array's text to numbers: encodings, compression, byte order,
 //! data types and the array order.
 
+use std::collections::BTreeMap;
 use std::io::Read;
 use std::path::Path;
 
 use base64::Engine;
 
-use super::parse::RawArray;
 use super::{GiftiArray, GiftiDataType};
 use crate::io::error::IoError;
 use crate::limits::MEMORY_BUDGET_BYTES;
+
+/// One `<DataArray>` as parsed: its attributes and the text of its `<Data>`.
+#[derive(Default)]
+pub(super) struct RawArray {
+    pub(super) attrs: BTreeMap<String, String>,
+    pub(super) data: String,
+}
 
 pub(super) fn decode_array(
     path: &Path,

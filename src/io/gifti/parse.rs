@@ -6,15 +6,9 @@ use std::path::Path;
 
 use quick_xml::events::Event;
 
-use super::decode::decode_array;
+use super::decode::{decode_array, RawArray};
 use super::Gifti;
 use crate::io::error::IoError;
-
-#[derive(Default)]
-pub(super) struct RawArray {
-    pub(super) attrs: BTreeMap<String, String>,
-    pub(super) data: String,
-}
 
 pub(super) fn parse(path: &Path, text: &str) -> Result<Gifti, IoError> {
     let xml_err = |pos: u64, e: &dyn std::fmt::Display| {

@@ -1,0 +1,23 @@
+//! The numeric base the domain modules share: small operations on plain
+//! row-major slices that do not belong to any one pipeline stage.
+//!
+//! - [`SplitMix64`]: the seeded generator behind resampling (pipeline),
+//!   bootstrap and sign-flip draws (cohort) and simulations (validation).
+//! - `symmetric_eigen` (crate-internal): the sequential symmetric
+//!   eigendecomposition used by the patterns stage, the montage sphere fit
+//!   and the dipole confidence ellipsoid.
+//! - [`average_reference_columns`] and [`centre_covariance`]: the common
+//!   average reference of a channel × column matrix and of a channel
+//!   covariance (H A and H C H with H = I − 11ᵀ/n the centring matrix).
+//!
+//! *Invariant:* no file I/O and no import of any other module of the crate;
+//! every sum runs in a fixed order, so results do not depend on the thread
+//! count.
+
+pub(crate) mod eigen;
+mod reference;
+mod rng;
+
+pub(crate) use eigen::symmetric_eigen;
+pub use reference::{average_reference_columns, centre_covariance};
+pub use rng::SplitMix64;
