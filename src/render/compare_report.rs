@@ -4,9 +4,10 @@
 //! map similarity, the group mean chart, the paired comparison, and the
 //! inputs with their hashes, in one page that needs no other file.
 //!
-//! It has the look of the result report ([`super::report`]): the same style
-//! sheet, the same escaping and number formats, the same content security
-//! policy that forbids any fetch.
+//! It is built on the skeleton the result report uses ([`super::page`]):
+//! the same head and style sheet, masthead, caution, glance cards, tables
+//! and footer, the same escaping and number formats, the same content
+//! security policy that forbids any fetch.
 
 use rayon::prelude::*;
 
@@ -15,11 +16,15 @@ use super::charts::{
     heatmap_svg, region_shares_svg, HeatmapOptions, HeatmapScale, RegionBar, RegionSharesOptions,
 };
 use super::cortex::{render_views, ColourSpec, ViewOptions};
-use super::report::{fact, interval, page_start, ReportError};
+use super::page::{
+    card, card_lead, component_section as section_of, fact, facts, figures, folder_title,
+    glance as glance_section, hidden_row, interval, notes, order_by, page, region_row, section,
+    table, Frame, ReportError,
+};
 use super::report_html::{escape, fixed, percent, png_img, Html};
+use super::report_shapes::check_compare_shapes;
 use crate::geometry::{template, Template, TemplateResolution};
 use crate::io::compare_read::{CompareComponent, CompareFile};
-use crate::io::result_file::CAUTION;
 
 /// Mean share at or above which a region gets its own row.
 const SHOWN_SHARE: f64 = 0.005;
@@ -108,88 +113,7 @@ fn cortex_views(
 }
 
 fn figure_error(f: &CompareFile, figure: String, e: impl std::fmt::Display) -> ReportError {
-    ReportError::Figure {
-        path: f.path.clone(),
-        figure,
-        message: e.to_string(),
-    }
-}
-
-/// Check every array against the subject and region counts, so the page
-/// never indexes out of range.
-fn check_shapes(f: &CompareFile) -> Result<(), ReportError> {
-    let n_s = f.subjects.len();
-    let n_r = f.region_names.len();
-    let mut checks: Vec<(&'static str, usize, usize, String)> = Vec::new();
-    let per_region = format!("n_regions = {n_r}");
-    for c in &f.components {
-        let fields: [(&'static str, &Vec<f64>); 8] = [
-            ("/group/consistency", &c.consistency),
-            (
-                "/group/mean_selection_frequency",
-                &c.mean_selection_frequency,
-            ),
-            ("/group/mean_share", &c.mean_share),
-            ("/group/mean_low", &c.mean_low),
-            ("/group/mean_high", &c.mean_high),
-            ("/group/t", &c.t),
-            ("/group/p_raw", &c.p_raw),
-            ("/group/p_corrected", &c.p_corrected),
-        ];
-        for (field, v) in fields {
-            checks.push((field, v.len(), n_r, per_region.clone()));
-        }
-        let square = format!("n_subjects x n_subjects = {n_s} x {n_s}");
-        checks.push((
-            "/group/share",
-            c.share.len(),
-            n_s * n_r,
-            format!("n_subjects x n_regions = {n_s} x {n_r}"),
-        ));
-        checks.push((
-            "/similarity/cosine",
-            c.cosine.len(),
-            n_s * n_s,
-            square.clone(),
-        ));
-        checks.push((
-            "/similarity/transport_mm",
-            c.transport_mm.len(),
-            n_s * n_s,
-            square,
-        ));
-    }
-    if let Some(p) = &f.paired {
-        let n_p = p.subjects.len();
-        for c in &p.components {
-            checks.push((
-                "/paired/difference",
-                c.difference.len(),
-                n_p * n_r,
-                format!("n_pairs x n_regions = {n_p} x {n_r}"),
-            ));
-            for (field, v) in [
-                ("/paired/mean_difference", &c.mean_difference),
-                ("/paired/mean_low", &c.mean_low),
-                ("/paired/mean_high", &c.mean_high),
-                ("/paired/p_raw", &c.p_raw),
-                ("/paired/p_corrected", &c.p_corrected),
-            ] {
-                checks.push((field, v.len(), n_r, per_region.clone()));
-            }
-        }
-    }
-    for (field, found, expected_len, expected) in checks {
-        if found != expected_len {
-            return Err(ReportError::Shape {
-                path: f.path.clone(),
-                field,
-                found,
-                expected,
-            });
-        }
-    }
-    Ok(())
+    ReportError::figure(&f.path, figure, e)
 }
 
 /// Region indices by decreasing group mean share (NaN last), ties by name.
@@ -202,13 +126,7 @@ fn order(f: &CompareFile, c: &CompareComponent) -> Vec<usize> {
             v
         }
     };
-    let mut order: Vec<usize> = (0..f.region_names.len()).collect();
-    order.sort_by(|&x, &y| {
-        key(y)
-            .total_cmp(&key(x))
-            .then(f.region_names[x].cmp(&f.region_names[y]))
-    });
-    order
+    order_by(&f.region_names, key)
 }
 
 /// Whether region `reg` (of rank `rank`) gets its own row and bar.
@@ -318,7 +236,7 @@ pub fn build_compare_report(
     f: &CompareFile,
     options: &CompareReportOptions,
 ) -> Result<String, ReportError> {
-    check_shapes(f)?;
+    check_compare_shapes(f)?;
     let figures: Vec<ComponentCharts> = if options.no_figures {
         f.components
             .iter()
@@ -331,36 +249,15 @@ pub fn build_compare_report(
             .map(|c| charts(f, c, cortex.as_ref()))
             .collect::<Result<_, _>>()?
     };
-    let title = options.title.clone().unwrap_or_else(|| {
-        super::report_html::folder_title(&f.path, "Cohort comparison", "comparison")
-    });
-    let mut h = Html::new();
-    page_start(&mut h, &title);
-    masthead(&mut h, f, &title);
-    caution(&mut h, f);
-    glance(&mut h, f);
-    for (ci, figs) in figures.iter().enumerate() {
-        component_section(&mut h, f, ci, figs);
-    }
-    if f.paired.is_some() {
-        paired_section(&mut h, f);
-    }
-    h.raw("<div class=\"columns provenance\">\n");
-    settings(&mut h, f);
-    inputs(&mut h, f);
-    h.raw("</div>\n");
-    footer(&mut h, f);
-    h.raw("</main>\n</body>\n</html>\n");
-    Ok(h.finish())
-}
-
-fn masthead(h: &mut Html, f: &CompareFile, title: &str) {
+    let title = options
+        .title
+        .clone()
+        .unwrap_or_else(|| folder_title(&f.path, "Cohort comparison", "comparison"));
     let k = f.components.len();
-    super::report_html::masthead(
-        h,
-        "patchwise \u{00b7} which cortical regions a cohort's decoders rely on",
-        title,
-        &format!(
+    let frame = Frame {
+        title: &title,
+        kicker: "patchwise \u{00b7} which cortical regions a cohort's decoders rely on",
+        facts: format!(
             "{} \u{00b7} {} subjects \u{00b7} {} component{} \u{00b7} {} regions \u{00b7} {}",
             f.path.display(),
             f.subjects.len(),
@@ -369,11 +266,27 @@ fn masthead(h: &mut Html, f: &CompareFile, title: &str) {
             f.region_names.len(),
             f.software
         ),
-    );
-}
-
-fn caution(h: &mut Html, f: &CompareFile) {
-    super::report_html::caution_box(h, &f.caution, "comparison file");
+        stored_caution: &f.caution,
+        file_kind: "comparison file",
+        software: &f.software,
+        path: &f.path,
+    };
+    Ok(page(
+        &frame,
+        |h| {
+            glance(h, f);
+            for (ci, figs) in figures.iter().enumerate() {
+                component_section(h, f, ci, figs);
+            }
+            if f.paired.is_some() {
+                paired_section(h, f);
+            }
+        },
+        |h| {
+            settings(h, f);
+            inputs(h, f);
+        },
+    ))
 }
 
 fn alpha_text(f: &CompareFile) -> String {
@@ -388,93 +301,82 @@ fn alpha_text(f: &CompareFile) -> String {
 const GLANCE_MIN_SHARE: f64 = 0.01;
 
 fn glance(h: &mut Html, f: &CompareFile) {
-    h.raw("<section id=\"glance\">\n");
-    h.element("h2", "", "At a glance");
-    h.raw("<div class=\"glance\">\n");
-    for c in &f.components {
-        h.raw("<div class=\"card\">");
-        h.element("p", "name", &c.name);
-        let survivors: Vec<usize> = order(f, c)
-            .into_iter()
-            .filter(|&reg| surviving(f, c, reg))
-            .collect();
-        match survivors.first() {
-            Some(&reg) => {
-                h.raw(&format!(
-                    "<p class=\"lead\">{}</p>",
-                    percent(c.mean_share[reg], 0)
-                ));
-                h.element("p", "region", &f.region_names[reg]);
-                h.element(
-                    "p",
-                    "small",
-                    &format!(
-                        "corrected p = {} \u{00b7} interval {}",
-                        fixed(c.p_corrected[reg], 3),
-                        interval(c.mean_low[reg], c.mean_high[reg])
-                    ),
-                );
-                // The card names the regions the cohort relies on: a
-                // consistently tiny (or negative) share can survive the test
-                // but is listed only in the region table.
-                let (listed, small): (Vec<usize>, Vec<usize>) = survivors[1..]
-                    .iter()
-                    .partition(|&&r| c.mean_share[r] >= GLANCE_MIN_SHARE);
-                for &other in &listed {
-                    h.element(
-                        "p",
-                        "small",
-                        &format!(
-                            "also {} ({}, corrected p = {})",
-                            f.region_names[other],
-                            percent(c.mean_share[other], 1),
-                            fixed(c.p_corrected[other], 3)
-                        ),
-                    );
-                }
-                if !small.is_empty() {
-                    h.element(
-                        "p",
-                        "small",
-                        &format!(
-                            "{} more surviving region{} with a mean share below {} (see the table)",
-                            small.len(),
-                            if small.len() == 1 { "" } else { "s" },
-                            percent(GLANCE_MIN_SHARE, 0)
-                        ),
-                    );
-                }
-            }
-            None => {
-                h.element(
-                    "p",
-                    "region",
-                    &format!(
-                        "no region survives the correction at \u{03b1} = {}",
-                        alpha_text(f)
-                    ),
-                );
-            }
+    let cards = |h: &mut Html| {
+        for c in &f.components {
+            card(h, &c.name, |h| glance_card(h, f, c));
         }
-        h.raw("</div>\n");
-    }
-    h.raw("</div>\n");
+    };
+    let note = format!(
+        "Regions listed here have a corrected p-value below \u{03b1} = {}: a sign-flip \
+         permutation test of the one-sample t statistic per region (null: {}), corrected over \
+         regions by the maximum statistic (Nichols & Holmes 2002).",
+        alpha_text(f),
+        if f.group_null.is_empty() {
+            "share = 0"
+        } else {
+            &f.group_null
+        }
+    );
+    glance_section(h, cards, Some(&note));
+}
+
+/// The card of component `c`: the surviving regions, the leading one first.
+fn glance_card(h: &mut Html, f: &CompareFile, c: &CompareComponent) {
+    let survivors: Vec<usize> = order(f, c)
+        .into_iter()
+        .filter(|&reg| surviving(f, c, reg))
+        .collect();
+    let Some(&reg) = survivors.first() else {
+        h.element(
+            "p",
+            "region",
+            &format!(
+                "no region survives the correction at \u{03b1} = {}",
+                alpha_text(f)
+            ),
+        );
+        return;
+    };
+    card_lead(h, c.mean_share[reg], &f.region_names[reg]);
     h.element(
         "p",
-        "note",
+        "small",
         &format!(
-            "Regions listed here have a corrected p-value below \u{03b1} = {}: a sign-flip \
-             permutation test of the one-sample t statistic per region (null: {}), corrected over \
-             regions by the maximum statistic (Nichols & Holmes 2002).",
-            alpha_text(f),
-            if f.group_null.is_empty() {
-                "share = 0"
-            } else {
-                &f.group_null
-            }
+            "corrected p = {} \u{00b7} interval {}",
+            fixed(c.p_corrected[reg], 3),
+            interval(c.mean_low[reg], c.mean_high[reg])
         ),
     );
-    h.raw("</section>\n");
+    // The card names the regions the cohort relies on: a consistently tiny
+    // (or negative) share can survive the test but is listed only in the
+    // region table.
+    let (listed, small): (Vec<usize>, Vec<usize>) = survivors[1..]
+        .iter()
+        .partition(|&&r| c.mean_share[r] >= GLANCE_MIN_SHARE);
+    for &other in &listed {
+        h.element(
+            "p",
+            "small",
+            &format!(
+                "also {} ({}, corrected p = {})",
+                f.region_names[other],
+                percent(c.mean_share[other], 1),
+                fixed(c.p_corrected[other], 3)
+            ),
+        );
+    }
+    if !small.is_empty() {
+        h.element(
+            "p",
+            "small",
+            &format!(
+                "{} more surviving region{} with a mean share below {} (see the table)",
+                small.len(),
+                if small.len() == 1 { "" } else { "s" },
+                percent(GLANCE_MIN_SHARE, 0)
+            ),
+        );
+    }
 }
 
 /// Mean and minimum of the off-diagonal finite entries of a square matrix.
@@ -494,10 +396,6 @@ fn off_diagonal(m: &[f64], n: usize) -> Option<(f64, f64)> {
 
 fn component_section(h: &mut Html, f: &CompareFile, ci: usize, figs: &ComponentCharts) {
     let c = &f.components[ci];
-    h.raw(&format!(
-        "<section class=\"component\" id=\"component-{ci}\">\n"
-    ));
-    h.element("h2", "", &c.name);
     let n_s = f.subjects.len();
     let mut headline = match off_diagonal(&c.cosine, n_s) {
         Some((mean, min)) => format!(
@@ -516,74 +414,62 @@ fn component_section(h: &mut Html, f: &CompareFile, ci: usize, figs: &ComponentC
     if c.sign_flips > 0 {
         headline.push_str(&format!(" \u{00b7} {} sign vectors", c.sign_flips));
     }
-    h.element("p", "headline", &headline);
-    if let Some(svg) = &figs.means {
-        h.element("h3", "", "Group mean");
-        h.raw("<div class=\"figures\">\n<figure>").raw(svg);
-        h.element(
-            "figcaption",
-            "",
-            "Bars: mean share over subjects; whiskers: percentile bootstrap interval over subjects; \
-             dots: mean selection frequency.",
-        );
-        h.raw("</figure>\n</div>\n");
-    }
-    if !figs.cortex.is_empty() {
-        h.element("h3", "", "Group mean share on the template cortex");
-        h.raw("<div class=\"figures\">\n");
-        for (img, caption) in &figs.cortex {
-            h.raw("<figure>").raw(img);
-            h.element("figcaption", "", caption);
-            h.raw("</figure>\n");
+    section_of(h, ci, &c.name, &headline, |h| {
+        if let Some(svg) = &figs.means {
+            h.element("h3", "", "Group mean");
+            let caption =
+                "Bars: mean share over subjects; whiskers: percentile bootstrap interval \
+                 over subjects; dots: mean selection frequency.";
+            figures(h, "", [(svg.as_str(), caption)]);
         }
-        h.raw("</div>\n");
-        h.element(
-            "p",
-            "note",
-            &format!(
-                "Each region painted with its group mean share (darker is larger, up to the largest \
-                 region's {}); regions below {} are left grey; lines: region borders.",
-                percent(
-                    c.mean_share
-                        .iter()
-                        .copied()
-                        .filter(|v| v.is_finite())
-                        .fold(0.0, f64::max),
-                    1
+        if !figs.cortex.is_empty() {
+            h.element("h3", "", "Group mean share on the template cortex");
+            let items = figs
+                .cortex
+                .iter()
+                .map(|(img, c)| (img.as_str(), c.as_str()));
+            figures(h, "", items);
+            let largest = c
+                .mean_share
+                .iter()
+                .copied()
+                .filter(|v| v.is_finite())
+                .fold(0.0, f64::max);
+            h.element(
+                "p",
+                "note",
+                &format!(
+                    "Each region painted with its group mean share (darker is larger, up to the \
+                     largest region's {}); regions below {} are left grey; lines: region borders.",
+                    percent(largest, 1),
+                    percent(SHOWN_SHARE, 1)
                 ),
-                percent(SHOWN_SHARE, 1)
-            ),
-        );
-    }
-    region_table(h, f, c);
-    if figs.shares.is_some() || figs.similarity.is_some() {
-        h.element("h3", "", "Subjects");
-        h.raw("<div class=\"figures\">\n");
-        for (svg, caption) in [
-            (
-                &figs.shares,
-                "Share of each region in each subject's fitted pattern.",
-            ),
-            (
-                &figs.similarity,
-                "Cosine similarity of the subjects' source maps after geodesic Gaussian smoothing.",
-            ),
-        ] {
-            if let Some(svg) = svg {
-                h.raw("<figure>").raw(svg);
-                h.element("figcaption", "", caption);
-                h.raw("</figure>\n");
-            }
+            );
         }
-        h.raw("</div>\n");
-    }
-    h.raw("</section>\n");
+        region_table(h, f, c);
+        if figs.shares.is_some() || figs.similarity.is_some() {
+            h.element("h3", "", "Subjects");
+            let items = [
+                (
+                    &figs.shares,
+                    "Share of each region in each subject's fitted pattern.",
+                ),
+                (
+                    &figs.similarity,
+                    "Cosine similarity of the subjects' source maps after geodesic Gaussian smoothing.",
+                ),
+            ];
+            let items = items
+                .into_iter()
+                .filter_map(|(svg, caption)| svg.as_deref().map(|svg| (svg, caption)));
+            figures(h, "", items);
+        }
+    });
 }
 
 fn region_table(h: &mut Html, f: &CompareFile, c: &CompareComponent) {
     h.element("h3", "", "Regions");
-    h.raw("<table>\n");
-    h.head_row(&[
+    let columns = [
         ("region", ""),
         ("mean share", "num"),
         ("interval", "num"),
@@ -591,50 +477,33 @@ fn region_table(h: &mut Html, f: &CompareFile, c: &CompareComponent) {
         ("mean selection frequency", "num"),
         ("p", "num"),
         ("p corrected", "num"),
-    ]);
-    h.raw("<tbody>\n");
-    let mut hidden = 0usize;
-    let mut hidden_sum = 0.0;
-    for (rank, reg) in order(f, c).into_iter().enumerate() {
-        if !is_shown(f, c, rank, reg) {
-            hidden += 1;
-            if c.mean_share[reg].is_finite() {
-                hidden_sum += c.mean_share[reg];
+    ];
+    table(h, &columns, |h| {
+        let mut hidden = 0usize;
+        let mut hidden_sum = 0.0;
+        for (rank, reg) in order(f, c).into_iter().enumerate() {
+            if !is_shown(f, c, rank, reg) {
+                hidden += 1;
+                if c.mean_share[reg].is_finite() {
+                    hidden_sum += c.mean_share[reg];
+                }
+                continue;
             }
-            continue;
+            let cells = [
+                percent(c.mean_share[reg], 1),
+                interval(c.mean_low[reg], c.mean_high[reg]),
+                percent(c.consistency[reg], 0),
+                percent(c.mean_selection_frequency[reg], 0),
+                fixed(c.p_raw[reg], 4),
+                fixed(c.p_corrected[reg], 4),
+            ];
+            region_row(h, &f.region_names[reg], surviving(f, c, reg), &cells);
         }
-        let class = if surviving(f, c, reg) { "lead-row" } else { "" };
-        h.raw(&format!("<tr class=\"{class}\">"));
-        h.element("th", "", &f.region_names[reg]);
-        h.raw(&format!(
-            "<td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td>\
-             <td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
-            percent(c.mean_share[reg], 1),
-            interval(c.mean_low[reg], c.mean_high[reg]),
-            percent(c.consistency[reg], 0),
-            percent(c.mean_selection_frequency[reg], 0),
-            fixed(c.p_raw[reg], 4),
-            fixed(c.p_corrected[reg], 4)
-        ));
-    }
-    if hidden > 0 {
-        h.raw("<tr class=\"faint\">");
-        h.element(
-            "th",
-            "",
-            &format!(
-                "{hidden} more region{}, each below {} and not surviving the correction",
-                if hidden == 1 { "" } else { "s" },
-                percent(SHOWN_SHARE, 1)
-            ),
-        );
-        h.raw(&format!(
-            "<td class=\"num\">{}</td><td class=\"num\"></td><td class=\"num\"></td>\
-             <td class=\"num\"></td><td class=\"num\"></td><td class=\"num\"></td></tr>\n",
-            percent(hidden_sum, 1)
-        ));
-    }
-    h.raw("</tbody></table>\n");
+        if hidden > 0 {
+            let why = "not surviving the correction";
+            hidden_row(h, hidden, SHOWN_SHARE, why, hidden_sum, 5);
+        }
+    });
     h.element(
         "p",
         "note",
@@ -648,70 +517,71 @@ fn paired_section(h: &mut Html, f: &CompareFile) {
     let Some(p) = &f.paired else {
         return;
     };
-    h.raw("<section id=\"paired\">\n");
-    h.element("h2", "", "Paired comparison of two decoders");
-    h.element(
-        "p",
-        "headline",
-        &format!(
-            "{} subjects with both results: {}",
-            p.subjects.len(),
-            p.subjects.join(", ")
-        ),
-    );
-    for (ci, pc) in p.components.iter().enumerate() {
-        let name = f
-            .components
-            .get(ci)
-            .map_or_else(|| format!("component {ci}"), |c| c.name.clone());
-        h.element("h3", "", &name);
-        let mut order: Vec<usize> = (0..f.region_names.len()).collect();
-        let key = |r: usize| {
-            let v = pc.mean_difference[r].abs();
-            if v.is_nan() {
-                f64::NEG_INFINITY
-            } else {
-                v
-            }
-        };
-        order.sort_by(|&x, &y| key(y).total_cmp(&key(x)).then(x.cmp(&y)));
-        h.raw("<table>\n");
-        h.head_row(&[
-            ("region", ""),
-            ("mean difference A \u{2212} B", "num"),
-            ("interval", "num"),
-            ("p", "num"),
-            ("p corrected", "num"),
-        ]);
-        h.raw("<tbody>\n");
-        for (rank, reg) in order.into_iter().enumerate() {
-            let survives = pc.p_corrected[reg] < if f.alpha.is_finite() { f.alpha } else { 0.05 };
-            if rank >= SHOWN_TOP && !survives && pc.mean_difference[reg].abs() < SHOWN_SHARE {
-                continue;
-            }
-            let class = if survives { "lead-row" } else { "" };
-            h.raw(&format!("<tr class=\"{class}\">"));
-            h.element("th", "", &f.region_names[reg]);
-            h.raw(&format!(
-                "<td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
-                percent(pc.mean_difference[reg], 1),
-                interval(pc.mean_low[reg], pc.mean_high[reg]),
-                fixed(pc.p_raw[reg], 4),
-                fixed(pc.p_corrected[reg], 4)
-            ));
+    section(h, "paired", "Paired comparison of two decoders", |h| {
+        h.element(
+            "p",
+            "headline",
+            &format!(
+                "{} subjects with both results: {}",
+                p.subjects.len(),
+                p.subjects.join(", ")
+            ),
+        );
+        let alpha = if f.alpha.is_finite() { f.alpha } else { 0.05 };
+        for (ci, pc) in p.components.iter().enumerate() {
+            let name = f
+                .components
+                .get(ci)
+                .map_or_else(|| format!("component {ci}"), |c| c.name.clone());
+            h.element("h3", "", &name);
+            let mut order: Vec<usize> = (0..f.region_names.len()).collect();
+            let key = |r: usize| {
+                let v = pc.mean_difference[r].abs();
+                if v.is_nan() {
+                    f64::NEG_INFINITY
+                } else {
+                    v
+                }
+            };
+            order.sort_by(|&x, &y| key(y).total_cmp(&key(x)).then(x.cmp(&y)));
+            let columns = [
+                ("region", ""),
+                ("mean difference A \u{2212} B", "num"),
+                ("interval", "num"),
+                ("p", "num"),
+                ("p corrected", "num"),
+            ];
+            table(h, &columns, |h| {
+                for (rank, reg) in order.into_iter().enumerate() {
+                    let survives = pc.p_corrected[reg] < alpha;
+                    if rank >= SHOWN_TOP && !survives && pc.mean_difference[reg].abs() < SHOWN_SHARE
+                    {
+                        continue;
+                    }
+                    let cells = [
+                        percent(pc.mean_difference[reg], 1),
+                        interval(pc.mean_low[reg], pc.mean_high[reg]),
+                        fixed(pc.p_raw[reg], 4),
+                        fixed(pc.p_corrected[reg], 4),
+                    ];
+                    region_row(h, &f.region_names[reg], survives, &cells);
+                }
+            });
         }
-        h.raw("</tbody></table>\n");
-    }
-    if !p.null.is_empty() {
-        h.element("p", "note", &format!("Null hypothesis: {}.", p.null));
-    }
-    h.raw("</section>\n");
+        if !p.null.is_empty() {
+            h.element("p", "note", &format!("Null hypothesis: {}.", p.null));
+        }
+    });
 }
 
 fn settings(h: &mut Html, f: &CompareFile) {
-    h.raw("<section id=\"settings\">\n");
-    h.element("h2", "", "How it was compared");
-    h.raw("<dl class=\"facts\">\n");
+    section(h, "settings", "How it was compared", |h| {
+        facts(h, |h| settings_facts(h, f));
+    });
+}
+
+/// The facts of the settings section.
+fn settings_facts(h: &mut Html, f: &CompareFile) {
     fact(h, "subjects", &f.subjects.len().to_string());
     fact(h, "regions", &f.region_names.len().to_string());
     if f.template_vertices > 0 {
@@ -753,64 +623,39 @@ fn settings(h: &mut Html, f: &CompareFile) {
             "not computed".to_string()
         },
     );
-    h.raw("</dl>\n");
-    h.raw("</section>\n");
 }
 
 fn inputs(h: &mut Html, f: &CompareFile) {
-    h.raw("<section id=\"inputs\">\n");
-    h.element("h2", "", "Inputs");
-    h.raw("<table>\n");
-    h.head_row(&[
-        ("subject", ""),
-        ("result", ""),
-        ("map", ""),
-        ("SHA-256", ""),
-    ]);
-    h.raw("<tbody>\n");
-    let get = |v: &[String], i: usize| v.get(i).cloned().unwrap_or_default();
-    for (i, s) in f.subjects.iter().enumerate() {
-        h.row(
-            &[
-                (escape(s), ""),
-                (escape(&get(&f.input_results, i)), ""),
-                (escape(&get(&f.input_mapping, i)), ""),
-                (escape(&get(&f.input_sha256, i)), "hash"),
-            ],
-            true,
-        );
-    }
-    h.raw("</tbody></table>\n");
-    if !f.warnings.is_empty() {
-        h.element("h3", "", "Notes");
-        h.raw("<ul class=\"notes\">");
-        for w in &f.warnings {
-            h.element("li", "", w);
-        }
-        h.raw("</ul>\n");
-    }
-    h.raw("</section>\n");
-}
-
-fn footer(h: &mut Html, f: &CompareFile) {
-    h.raw("<footer>\n");
-    h.element(
-        "p",
-        "",
-        &format!(
-            "Made by {} from {}. The page is self-contained: pictures are embedded and nothing is fetched.",
-            f.software,
-            f.path.display()
-        ),
-    );
-    h.element("p", "", CAUTION);
-    h.raw("</footer>\n");
+    section(h, "inputs", "Inputs", |h| {
+        let columns = [
+            ("subject", ""),
+            ("result", ""),
+            ("map", ""),
+            ("SHA-256", ""),
+        ];
+        table(h, &columns, |h| {
+            let get = |v: &[String], i: usize| v.get(i).cloned().unwrap_or_default();
+            for (i, s) in f.subjects.iter().enumerate() {
+                h.row(
+                    &[
+                        (escape(s), ""),
+                        (escape(&get(&f.input_results, i)), ""),
+                        (escape(&get(&f.input_mapping, i)), ""),
+                        (escape(&get(&f.input_sha256, i)), "hash"),
+                    ],
+                    true,
+                );
+            }
+        });
+        notes(h, &f.warnings);
+    });
 }
 
 #[cfg(test)]
 mod tests {
     #![allow(clippy::unwrap_used)]
     use super::*;
+    use crate::io::result_file::CAUTION;
 
     /// Two subjects, two regions, one component; region "b" survives.
     fn tiny() -> CompareFile {

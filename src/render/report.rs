@@ -5,42 +5,22 @@
 //! The page is built as a string; writing it is the caller's business (the
 //! CLI writes it with `crate::io::atomic::write_atomic`). Every string that
 //! comes from a file is escaped (see [`super::report_html::escape`]), and the
-//! page carries a content security policy that forbids any fetch.
+//! page carries a content security policy that forbids any fetch. The frame
+//! of the page (head, masthead, caution, sections, tables, footer) is the
+//! skeleton of [`super::page`], shared with the comparison page.
 
 use rayon::prelude::*;
 
+pub use super::page::ReportError;
+use super::page::{
+    card, card_lead, component_section as section_of, fact, facts as fact_list, figures,
+    folder_title, glance as glance_section, hidden_row, interval, notes, order_by, page,
+    region_row, section, table, Frame,
+};
 use super::report_figures::{component_figures, ComponentFigures};
 use super::report_html::{escape, fixed, percent, scientific, Html};
-use super::report_style::STYLE;
-use crate::io::result_file::{ResultFile, CAUTION};
-
-/// What can go wrong while building the report.
-#[derive(Debug, thiserror::Error)]
-#[non_exhaustive]
-pub enum ReportError {
-    /// Two parts of the result disagree in size.
-    #[error("{}: {field} has {found} values, expected {expected}", path.display())]
-    Shape {
-        /// The result file.
-        path: std::path::PathBuf,
-        /// The dataset (e.g. `/fit/lambda`).
-        field: &'static str,
-        /// Its number of values.
-        found: usize,
-        /// What the rest of the file implies, in words.
-        expected: String,
-    },
-    /// A picture could not be drawn.
-    #[error("{}: drawing {figure}: {message}", path.display())]
-    Figure {
-        /// The result file.
-        path: std::path::PathBuf,
-        /// Which picture (e.g. `cortex views of component 1`).
-        figure: String,
-        /// What the picture maker reported.
-        message: String,
-    },
-}
+use super::report_shapes::check_result_shapes;
+use crate::io::result_file::ResultFile;
 
 /// Choices for the report.
 #[derive(Debug, Clone, Default)]
@@ -54,11 +34,6 @@ pub struct ReportOptions {
     /// Leave the pictures out (tables only).
     pub no_figures: bool,
 }
-
-/// The page's content security policy (W3C Content Security Policy Level 3):
-/// no fetches of any kind except inline styles and `data:` images.
-const CONTENT_SECURITY_POLICY: &str = "<meta http-equiv=\"Content-Security-Policy\" \
-     content=\"default-src 'none'; img-src data:; style-src 'unsafe-inline'; base-uri 'none'; form-action 'none'\"/>\n";
 
 /// Share at or above which a region always gets its own row in a region
 /// table (smaller ones are counted in one closing line).
@@ -75,7 +50,7 @@ pub fn build_report(
     summary: Option<&serde_json::Value>,
     options: &ReportOptions,
 ) -> Result<String, ReportError> {
-    check_shapes(result)?;
+    check_result_shapes(result)?;
     let facts: Vec<ComponentFacts> = (0..result.k)
         .map(|c| ComponentFacts::new(result, summary, c))
         .collect();
@@ -92,200 +67,37 @@ pub fn build_report(
             })
             .collect::<Result<_, _>>()?
     };
-    let title = options.title.clone().unwrap_or_else(|| {
-        super::report_html::folder_title(&result.path, "Region attribution", "result")
-    });
-
-    let mut h = Html::new();
-    page_start(&mut h, &title);
-    masthead(&mut h, result, &title);
-    caution(&mut h, result);
-    // Answer first (the leading regions and how well the fit explains the
-    // patterns), then the evidence per component, then how it was made.
-    glance(&mut h, result, &facts, &figures);
-    fit_quality(&mut h, &facts);
-    super::report_dipoles::dipole_section(&mut h, result);
-    for (c, figs) in figures.iter().enumerate() {
-        component_section(&mut h, result, &facts[c], figs, c);
-    }
-    h.raw("<div class=\"columns provenance\">\n");
-    job(&mut h, result, summary, options);
-    inputs(&mut h, result, summary);
-    h.raw("</div>\n");
-    footer(&mut h, result);
-    h.raw("</main>\n</body>\n</html>\n");
-    Ok(h.finish())
-}
-
-/// The page's head (character set, viewport, content security policy,
-/// title, inline style sheet) and the opening of its body and main element.
-pub(crate) fn page_start(h: &mut Html, title: &str) {
-    h.raw("<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\"/>\n");
-    h.raw("<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\"/>\n");
-    // The page declares that it loads nothing: pictures are data URIs or
-    // inline SVG and the style sheet is inline, so a browser blocks (and
-    // reports on its console) anything else, whatever a file string held.
-    h.raw(CONTENT_SECURITY_POLICY);
-    h.element("title", "", title);
-    h.raw("<style>")
-        .raw(STYLE)
-        .raw("</style>\n</head>\n<body>\n<main>\n");
-}
-
-/// Check that every per-component and per-region array has the size the
-/// component and region counts imply, so the page never indexes out of range.
-fn check_shapes(r: &ResultFile) -> Result<(), ReportError> {
-    let k = r.k;
-    let n_ch = r.labels.len();
-    let n_reg = r.attribution.region_names.len();
-    let a = &r.attribution;
-    let f = &r.fit;
-    let mut checks: Vec<(&'static str, usize, usize, String)> = vec![
-        (
-            "/patterns/component_names",
-            r.component_names.len(),
-            k,
-            format!("k = {k}"),
-        ),
-        (
-            "/patterns/values",
-            r.patterns.len(),
-            n_ch * k,
-            format!("n_ch x k = {n_ch} x {k}"),
-        ),
-        ("/fit/lambda", f.lambda.len(), k, format!("k = {k}")),
-        ("/fit/lambda_max", f.lambda_max.len(), k, format!("k = {k}")),
-        (
-            "/fit/duality_gap",
-            f.duality_gap.len(),
-            k,
-            format!("k = {k}"),
-        ),
-        ("/fit/iterations", f.iterations.len(), k, format!("k = {k}")),
-        (
-            "/fit/explained_variance",
-            f.explained_variance.len(),
-            k,
-            format!("k = {k}"),
-        ),
-        (
-            "/fit/residual",
-            f.residual.len(),
-            n_ch * k,
-            format!("n_ch x k = {n_ch} x {k}"),
-        ),
-        (
-            "/fit/coefficients",
-            f.coefficients.len(),
-            f.n_atoms * k,
-            format!("n_atoms x k = {} x {k}", f.n_atoms),
-        ),
-        (
-            "/attribution/share",
-            a.share.len(),
-            n_reg * k,
-            format!("n_regions x k = {n_reg} x {k}"),
-        ),
-        (
-            "/attribution/peak_mm",
-            a.peak_mm.len(),
-            k,
-            format!("k = {k} rows"),
-        ),
-        (
-            "/attribution/peak_region",
-            a.peak_region.len(),
-            k,
-            format!("k = {k}"),
-        ),
-        (
-            "/attribution/unassigned_share",
-            a.unassigned_share.len(),
-            k,
-            format!("k = {k}"),
-        ),
-    ];
-    let region_arrays = [
-        ("/attribution/share_low", &a.share_low),
-        ("/attribution/share_high", &a.share_high),
-        ("/attribution/selection_frequency", &a.selection_frequency),
-        ("/attribution/lead_frequency", &a.lead_frequency),
-    ];
-    for (field, values) in region_arrays {
-        if let Some(v) = values {
-            checks.push((
-                field,
-                v.len(),
-                n_reg * k,
-                format!("n_regions x k = {n_reg} x {k}"),
-            ));
-        }
-    }
-    if let Some(v) = &a.noise_sd {
-        checks.push(("/attribution/noise_sd", v.len(), k, format!("k = {k}")));
-    }
-    if let Some(v) = &f.reconstruction {
-        checks.push((
-            "/fit/reconstruction",
-            v.len(),
-            n_ch * k,
-            format!("n_ch x k = {n_ch} x {k}"),
-        ));
-    }
-    if let Some(p) = &f.path {
-        let n = p.n_points * k;
-        let expected = format!("n_path x k = {} x {k}", p.n_points);
-        checks.push(("/fit/path/ratio", p.ratio.len(), n, expected.clone()));
-        checks.push((
-            "/fit/path/explained_variance",
-            p.explained_variance.len(),
-            n,
-            expected.clone(),
-        ));
-        checks.push((
-            "/fit/path/active_patches",
-            p.active_patches.len(),
-            n,
-            expected.clone(),
-        ));
-        checks.push(("/fit/path/bic", p.bic.len(), n, expected));
-    }
-    if let Some(e) = &r.electrode_positions {
-        checks.push((
-            "/montage/positions_mm",
-            e.len(),
-            n_ch,
-            format!("n_ch = {n_ch} rows"),
-        ));
-    }
-    if let Some(s) = &r.sources {
-        let n_src = s.len();
-        if !a.source_map.is_empty() {
-            checks.push((
-                "/attribution/source_map",
-                a.source_map.len(),
-                n_src * k,
-                format!("n_src x k = {n_src} x {k}"),
-            ));
-        }
-        checks.push((
-            "/sources/region",
-            s.region.len(),
-            n_src,
-            format!("n_src = {n_src}"),
-        ));
-    }
-    for (field, found, expected_len, expected) in checks {
-        if found != expected_len {
-            return Err(ReportError::Shape {
-                path: r.path.clone(),
-                field,
-                found,
-                expected,
-            });
-        }
-    }
-    Ok(())
+    let title = options
+        .title
+        .clone()
+        .unwrap_or_else(|| folder_title(&result.path, "Region attribution", "result"));
+    let frame = Frame {
+        title: &title,
+        kicker: "patchwise \u{00b7} which cortical regions a decoder relies on",
+        facts: masthead_facts(result),
+        stored_caution: &result.caution,
+        file_kind: "result file",
+        software: &result.software,
+        path: &result.path,
+    };
+    Ok(page(
+        &frame,
+        |h| {
+            // Answer first (the leading regions and how well the fit explains
+            // the patterns), then the evidence per component, then how it
+            // was made.
+            glance(h, result, &facts, &figures);
+            fit_quality(h, &facts);
+            super::report_dipoles::dipole_section(h, result);
+            for (c, figs) in figures.iter().enumerate() {
+                component_section(h, result, &facts[c], figs, c);
+            }
+        },
+        |h| {
+            job(h, result, summary, options);
+            inputs(h, result, summary);
+        },
+    ))
 }
 
 /// How many patches a component's fit kept, and where that count came from.
@@ -339,13 +151,7 @@ impl ComponentFacts {
                     .count(),
             ),
         };
-        let n_reg = a.region_names.len();
-        let mut order: Vec<usize> = (0..n_reg).collect();
-        order.sort_by(|&x, &y| {
-            a.share[y * k + c]
-                .total_cmp(&a.share[x * k + c])
-                .then(a.region_names[x].cmp(&a.region_names[y]))
-        });
+        let order = order_by(&a.region_names, |reg| a.share[reg * k + c]);
         let peak_region = usize::try_from(a.peak_region[c])
             .ok()
             .and_then(|i| a.region_names.get(i).cloned());
@@ -387,107 +193,86 @@ fn lead_frequency(r: &ResultFile, reg: usize, c: usize) -> f64 {
         .map_or(f64::NAN, |v| v[reg * r.k + c])
 }
 
-pub(crate) fn interval(low: f64, high: f64) -> String {
-    if low.is_finite() && high.is_finite() {
-        format!("{} \u{2013} {}", percent(low, 1), percent(high, 1))
-    } else {
-        "\u{2013}".to_string()
-    }
-}
-
-fn masthead(h: &mut Html, r: &ResultFile, title: &str) {
+/// The masthead's line of facts: the file, its channels and components, the program.
+fn masthead_facts(r: &ResultFile) -> String {
     let components = if r.k == 1 {
         "1 component".to_string()
     } else {
         format!("{} components", r.k)
     };
-    super::report_html::masthead(
-        h,
-        "patchwise \u{00b7} which cortical regions a decoder relies on",
-        title,
-        &format!(
-            "{} \u{00b7} {} channels \u{00b7} {} \u{00b7} {}",
-            r.path.display(),
-            r.labels.len(),
-            components,
-            r.software
-        ),
-    );
-}
-
-fn caution(h: &mut Html, r: &ResultFile) {
-    super::report_html::caution_box(h, &r.caution, "result file");
+    format!(
+        "{} \u{00b7} {} channels \u{00b7} {} \u{00b7} {}",
+        r.path.display(),
+        r.labels.len(),
+        components,
+        r.software
+    )
 }
 
 fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[ComponentFigures]) {
-    h.raw("<section id=\"glance\">\n");
-    h.element("h2", "", "At a glance");
-    h.raw("<div class=\"glance\">\n");
-    for (c, f) in facts.iter().enumerate() {
-        h.raw("<div class=\"card\">");
-        h.element("p", "name", &f.name);
-        if let Some(thumb) = &figures[c].thumbnail {
-            h.raw("<div class=\"thumb\">")
-                .raw(&thumb.markup)
-                .raw("</div>");
+    let cards = |h: &mut Html| {
+        for (c, f) in facts.iter().enumerate() {
+            card(h, &f.name, |h| glance_card(h, r, f, &figures[c], c));
         }
-        match f.order.first() {
-            Some(&reg) => {
-                let (share, low, high, freq) = region_numbers(r, reg, c);
-                h.raw(&format!("<p class=\"lead\">{}</p>", percent(share, 0)));
-                h.element("p", "region", &r.attribution.region_names[reg]);
-                let mut detail = String::new();
-                if low.is_finite() {
-                    detail.push_str(&format!("95\u{2009}% interval {}", interval(low, high)));
-                }
-                if freq.is_finite() {
-                    if !detail.is_empty() {
-                        detail.push_str(" \u{00b7} ");
-                    }
-                    detail.push_str(&format!("selected in {}", percent(freq, 0)));
-                }
-                let lead = lead_frequency(r, reg, c);
-                if lead.is_finite() {
-                    if !detail.is_empty() {
-                        detail.push_str(" \u{00b7} ");
-                    }
-                    detail.push_str(&format!("leads in {}", percent(lead, 0)));
-                }
-                if !detail.is_empty() {
-                    h.element("p", "small", &detail);
-                }
-            }
-            None => {
-                h.element(
-                    "p",
-                    "region",
-                    "no region table (the dictionary had no source space)",
-                );
-            }
-        }
-        h.element(
-            "p",
-            "small",
-            &format!("explained variance {}", percent(f.explained_variance, 1)),
-        );
-        if let Some(flag) = r.flags.get(c).filter(|f| !f.is_empty()) {
-            h.element("p", "flag", flag);
-        }
-        h.raw("</div>\n");
-    }
-    h.raw("</div>\n");
-    if !r.attribution.region_names.is_empty() {
-        h.element(
-            "p",
-            "note",
-            "Share: the part of the fitted pattern that the patches of a region explain (patch \
+    };
+    let note = "Share: the part of the fitted pattern that the patches of a region explain (patch \
          contributions projected on the fitted pattern, split over regions by the patch \
          profiles); shares and the unassigned part sum to 100 %. A negative share means the \
          region's patches cancel part of the fitted pattern. Intervals are 95 % bootstrap \
-         intervals (resamples of the noise and of the head model) centred on the share.",
-        );
+         intervals (resamples of the noise and of the head model) centred on the share.";
+    let note = (!r.attribution.region_names.is_empty()).then_some(note);
+    glance_section(h, cards, note);
+}
+
+/// The card of component `c`: its thumbnail, leading region with its
+/// interval and frequencies, explained variance and flag.
+fn glance_card(
+    h: &mut Html,
+    r: &ResultFile,
+    f: &ComponentFacts,
+    figs: &ComponentFigures,
+    c: usize,
+) {
+    if let Some(thumb) = &figs.thumbnail {
+        h.raw("<div class=\"thumb\">")
+            .raw(&thumb.markup)
+            .raw("</div>");
     }
-    h.raw("</section>\n");
+    match f.order.first() {
+        Some(&reg) => {
+            let (share, low, high, freq) = region_numbers(r, reg, c);
+            card_lead(h, share, &r.attribution.region_names[reg]);
+            let mut detail: Vec<String> = Vec::new();
+            if low.is_finite() {
+                detail.push(format!("95\u{2009}% interval {}", interval(low, high)));
+            }
+            if freq.is_finite() {
+                detail.push(format!("selected in {}", percent(freq, 0)));
+            }
+            let lead = lead_frequency(r, reg, c);
+            if lead.is_finite() {
+                detail.push(format!("leads in {}", percent(lead, 0)));
+            }
+            if !detail.is_empty() {
+                h.element("p", "small", &detail.join(" \u{00b7} "));
+            }
+        }
+        None => {
+            h.element(
+                "p",
+                "region",
+                "no region table (the dictionary had no source space)",
+            );
+        }
+    }
+    h.element(
+        "p",
+        "small",
+        &format!("explained variance {}", percent(f.explained_variance, 1)),
+    );
+    if let Some(flag) = r.flags.get(c).filter(|f| !f.is_empty()) {
+        h.element("p", "flag", flag);
+    }
 }
 
 /// The value of a summary.json entry as plain text.
@@ -534,14 +319,12 @@ fn lambda_rule(r: &ResultFile) -> String {
     }
 }
 
-pub(crate) fn fact(h: &mut Html, name: &str, value: &str) {
-    h.element("dt", "", name);
-    h.element("dd", "", value);
+fn job(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &ReportOptions) {
+    section(h, "job", "The job", |h| job_facts(h, r, summary, o));
 }
 
-fn job(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &ReportOptions) {
-    h.raw("<section id=\"job\">\n");
-    h.element("h2", "", "The job");
+/// The facts of the job section: what was asked, then what the fit records.
+fn job_facts(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &ReportOptions) {
     h.raw("<dl class=\"facts\">\n");
     let mut asked: Vec<(String, String)> = o.job.clone();
     if asked.is_empty() {
@@ -611,111 +394,98 @@ fn job(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &Re
             "The result folder does not record the command-line choices; the entries above are read from the fit itself.",
         );
     }
-    h.raw("</section>\n");
 }
 
 fn inputs(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>) {
-    h.raw("<section id=\"inputs\">\n");
-    h.element("h2", "", "Inputs");
-    h.raw("<dl class=\"facts\">\n");
-    fact(h, "patterns", &r.patterns_source);
-    fact(h, "channels", &r.labels.len().to_string());
-    fact(h, "components", &r.k.to_string());
-    fact(h, "dictionary atoms", &r.fit.n_atoms.to_string());
-    if let Some(s) = &r.sources {
-        fact(
-            h,
-            "cortical sources",
-            &format!("{} ({} triangles)", s.len(), s.triangles.len()),
-        );
-    }
-    fact(h, "regions", &r.attribution.region_names.len().to_string());
-    if let Some(n) = summary
-        .and_then(|s| s.get("channels"))
-        .and_then(|v| v.as_u64())
-    {
-        if n as usize != r.labels.len() {
-            fact(h, "channels (summary.json)", &n.to_string());
+    section(h, "inputs", "Inputs", |h| {
+        fact_list(h, |h| {
+            fact(h, "patterns", &r.patterns_source);
+            fact(h, "channels", &r.labels.len().to_string());
+            fact(h, "components", &r.k.to_string());
+            fact(h, "dictionary atoms", &r.fit.n_atoms.to_string());
+            if let Some(s) = &r.sources {
+                fact(
+                    h,
+                    "cortical sources",
+                    &format!("{} ({} triangles)", s.len(), s.triangles.len()),
+                );
+            }
+            fact(h, "regions", &r.attribution.region_names.len().to_string());
+            if let Some(n) = summary
+                .and_then(|s| s.get("channels"))
+                .and_then(|v| v.as_u64())
+            {
+                if n as usize != r.labels.len() {
+                    fact(h, "channels (summary.json)", &n.to_string());
+                }
+            }
+        });
+        if !r.hashes.is_empty() {
+            h.element("h3", "", "SHA-256 of the inputs");
+            table(h, &[("input", ""), ("hash", "")], |h| {
+                for (name, hash) in &r.hashes {
+                    h.row(&[(escape(name), ""), (escape(hash), "hash")], true);
+                }
+            });
         }
-    }
-    h.raw("</dl>\n");
-    if !r.hashes.is_empty() {
-        h.element("h3", "", "SHA-256 of the inputs");
-        h.raw("<table>\n");
-        h.head_row(&[("input", ""), ("hash", "")]);
-        h.raw("<tbody>\n");
-        for (name, hash) in &r.hashes {
-            h.row(&[(escape(name), ""), (escape(hash), "hash")], true);
-        }
-        h.raw("</tbody></table>\n");
-    }
-    h.element("h3", "", "Channels, in fit order");
-    h.element("p", "labels", &r.labels.join(" \u{00b7} "));
-    if !r.notes.is_empty() {
-        h.element("h3", "", "Notes");
-        h.raw("<ul class=\"notes\">");
-        for n in &r.notes {
-            h.element("li", "", n);
-        }
-        h.raw("</ul>\n");
-    }
-    h.raw("</section>\n");
+        h.element("h3", "", "Channels, in fit order");
+        h.element("p", "labels", &r.labels.join(" \u{00b7} "));
+        notes(h, &r.notes);
+    });
 }
 
 fn fit_quality(h: &mut Html, facts: &[ComponentFacts]) {
-    h.raw("<section id=\"fit\">\n");
-    h.element("h2", "", "Fit quality");
-    h.raw("<table>\n");
-    h.head_row(&[
-        ("component", ""),
-        ("explained variance", "num"),
-        ("\u{03bb}/\u{03bb}max", "num"),
-        ("\u{03bb}", "num"),
-        ("relative duality gap", "num"),
-        ("iterations", "num"),
-        ("active patches", "num"),
-        ("unassigned share", "num"),
-    ]);
-    h.raw("<tbody>\n");
-    let mut any_atoms = false;
-    for f in facts {
-        let active = match f.active {
-            Active::Patches(n) => n.to_string(),
-            Active::Atoms(n) => {
-                any_atoms = true;
-                format!("{n} atoms*")
+    section(h, "fit", "Fit quality", |h| {
+        let mut any_atoms = false;
+        let columns = [
+            ("component", ""),
+            ("explained variance", "num"),
+            ("\u{03bb}/\u{03bb}max", "num"),
+            ("\u{03bb}", "num"),
+            ("relative duality gap", "num"),
+            ("iterations", "num"),
+            ("active patches", "num"),
+            ("unassigned share", "num"),
+        ];
+        table(h, &columns, |h| {
+            for f in facts {
+                let active = match f.active {
+                    Active::Patches(n) => n.to_string(),
+                    Active::Atoms(n) => {
+                        any_atoms = true;
+                        format!("{n} atoms*")
+                    }
+                };
+                h.row(
+                    &[
+                        (escape(&f.name), ""),
+                        (percent(f.explained_variance, 1), "num"),
+                        (fixed(f.ratio, 4), "num"),
+                        (scientific(f.lambda, 2), "num"),
+                        (scientific(f.duality_gap, 1), "num"),
+                        (f.iterations.to_string(), "num"),
+                        (active, "num"),
+                        (percent(f.unassigned, 1), "num"),
+                    ],
+                    true,
+                );
             }
-        };
-        h.row(
-            &[
-                (escape(&f.name), ""),
-                (percent(f.explained_variance, 1), "num"),
-                (fixed(f.ratio, 4), "num"),
-                (scientific(f.lambda, 2), "num"),
-                (scientific(f.duality_gap, 1), "num"),
-                (f.iterations.to_string(), "num"),
-                (active, "num"),
-                (percent(f.unassigned, 1), "num"),
-            ],
-            true,
-        );
-    }
-    h.raw("</tbody></table>\n");
-    h.element(
-        "p",
-        "note",
-        "Explained variance: 1 \u{2212} \u{2016}y \u{2212} \u{0177}\u{2016}\u{00b2} / \u{2016}y\u{2016}\u{00b2} of the \
-         pattern y and its fit \u{0177}. The duality gap is relative to \u{00bd}\u{2016}y\u{2016}\u{00b2}; it bounds \
-         how far the objective is from its minimum. \u{03bb} is in the units of the (whitened) patterns.",
-    );
-    if any_atoms {
+        });
         h.element(
             "p",
             "note",
-            "* Without the patch groups, the count is of atoms with a non-zero coefficient.",
+            "Explained variance: 1 \u{2212} \u{2016}y \u{2212} \u{0177}\u{2016}\u{00b2} / \u{2016}y\u{2016}\u{00b2} of the \
+             pattern y and its fit \u{0177}. The duality gap is relative to \u{00bd}\u{2016}y\u{2016}\u{00b2}; it bounds \
+             how far the objective is from its minimum. \u{03bb} is in the units of the (whitened) patterns.",
         );
-    }
-    h.raw("</section>\n");
+        if any_atoms {
+            h.element(
+                "p",
+                "note",
+                "* Without the patch groups, the count is of atoms with a non-zero coefficient.",
+            );
+        }
+    });
 }
 
 fn component_section(
@@ -725,10 +495,6 @@ fn component_section(
     figs: &ComponentFigures,
     c: usize,
 ) {
-    h.raw(&format!(
-        "<section class=\"component\" id=\"component-{c}\">\n"
-    ));
-    h.element("h2", "", &f.name);
     let mut headline = format!("explained variance {}", percent(f.explained_variance, 1));
     if f.peak_mm.iter().all(|x| x.is_finite()) {
         headline.push_str(&format!(
@@ -739,24 +505,20 @@ fn component_section(
             headline.push_str(&format!(" in {name}"));
         }
     }
-    h.element("p", "headline", &headline);
-    for group in &figs.groups {
-        h.element("h3", "", &group.title);
-        h.raw(&format!("<div class=\"figures {}\">\n", group.layout));
-        for fig in &group.figures {
-            h.raw("<figure>").raw(&fig.markup);
-            if !fig.caption.is_empty() {
-                h.element("figcaption", "", &fig.caption);
+    section_of(h, c, &f.name, &headline, |h| {
+        for group in &figs.groups {
+            h.element("h3", "", &group.title);
+            let items = group
+                .figures
+                .iter()
+                .map(|fig| (fig.markup.as_str(), fig.caption.as_str()));
+            figures(h, group.layout, items);
+            if !group.note.is_empty() {
+                h.element("p", "note", &group.note);
             }
-            h.raw("</figure>\n");
         }
-        h.raw("</div>\n");
-        if !group.note.is_empty() {
-            h.element("p", "note", &group.note);
-        }
-    }
-    region_table(h, r, f, c);
-    h.raw("</section>\n");
+        region_table(h, r, f, c);
+    });
 }
 
 /// Whether the region of rank `rank` in component `c` gets its own row.
@@ -775,61 +537,43 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
         );
         return;
     }
-    h.raw("<table>\n");
-    h.head_row(&[
+    let columns = [
         ("region", ""),
         ("share", "num"),
         ("95 % interval", "num"),
         ("selected in", "num"),
         ("leads in", "num"),
-    ]);
-    h.raw("<tbody>\n");
-    let mut hidden = 0usize;
-    let mut hidden_sum = 0.0;
-    for (rank, &reg) in f.order.iter().enumerate() {
-        let (share, low, high, freq) = region_numbers(r, reg, c);
-        if !is_shown(r, f, c, rank) {
-            hidden += 1;
-            hidden_sum += share;
-            continue;
+    ];
+    table(h, &columns, |h| {
+        let mut hidden = 0usize;
+        let mut hidden_sum = 0.0;
+        for (rank, &reg) in f.order.iter().enumerate() {
+            let (share, low, high, freq) = region_numbers(r, reg, c);
+            if !is_shown(r, f, c, rank) {
+                hidden += 1;
+                hidden_sum += share;
+                continue;
+            }
+            let cells = [
+                percent(share, 1),
+                interval(low, high),
+                percent(freq, 0),
+                percent(lead_frequency(r, reg, c), 0),
+            ];
+            region_row(h, &r.attribution.region_names[reg], rank == 0, &cells);
         }
-        let lead = lead_frequency(r, reg, c);
-        let class = if rank == 0 { "lead-row" } else { "" };
-        h.raw(&format!("<tr class=\"{class}\">"));
-        h.element("th", "", &r.attribution.region_names[reg]);
-        h.raw(&format!(
-            "<td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>\n",
-            percent(share, 1),
-            interval(low, high),
-            percent(freq, 0),
-            percent(lead, 0)
-        ));
-    }
-    if f.unassigned.abs() >= SHOWN_SHARE {
-        h.raw("<tr class=\"faint\"><th>sources outside every region</th>");
-        h.raw(&format!(
-            "<td class=\"num\">{}</td><td class=\"num\">\u{2013}</td><td class=\"num\">\u{2013}</td><td class=\"num\">\u{2013}</td></tr>\n",
-            percent(f.unassigned, 1)
-        ));
-    }
-    if hidden > 0 {
-        h.raw("<tr class=\"faint\">");
-        h.element(
-            "th",
-            "",
-            &format!(
-                "{hidden} more region{}, each below {} and selected in under {}",
-                if hidden == 1 { "" } else { "s" },
-                percent(SHOWN_SHARE, 1),
-                percent(SHOWN_FREQUENCY, 0)
-            ),
-        );
-        h.raw(&format!(
-            "<td class=\"num\">{}</td><td class=\"num\"></td><td class=\"num\"></td><td class=\"num\"></td></tr>\n",
-            percent(hidden_sum, 1)
-        ));
-    }
-    h.raw("</tbody></table>\n");
+        if f.unassigned.abs() >= SHOWN_SHARE {
+            h.raw("<tr class=\"faint\"><th>sources outside every region</th>");
+            h.raw(&format!(
+                "<td class=\"num\">{}</td><td class=\"num\">\u{2013}</td><td class=\"num\">\u{2013}</td><td class=\"num\">\u{2013}</td></tr>\n",
+                percent(f.unassigned, 1)
+            ));
+        }
+        if hidden > 0 {
+            let why = format!("selected in under {}", percent(SHOWN_FREQUENCY, 0));
+            hidden_row(h, hidden, SHOWN_SHARE, &why, hidden_sum, 3);
+        }
+    });
     if r.attribution.share_low.is_some() {
         h.element(
             "p",
@@ -843,26 +587,11 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
     }
 }
 
-fn footer(h: &mut Html, r: &ResultFile) {
-    h.raw("<footer>\n");
-    h.element(
-        "p",
-        "",
-        &format!(
-            "Made by {} from {}. The page is self-contained: pictures are embedded and nothing is fetched.",
-            r.software,
-            r.path.display()
-        ),
-    );
-    h.element("p", "", CAUTION);
-    h.raw("</footer>\n");
-}
-
 #[cfg(test)]
 mod tests {
     #![allow(clippy::unwrap_used)]
     use super::*;
-    use crate::io::result_file::{ResultAttribution, ResultFit};
+    use crate::io::result_file::{ResultAttribution, ResultFit, CAUTION};
 
     /// A two-channel, one-component, two-region result without pictures.
     fn tiny() -> ResultFile {

@@ -13,7 +13,7 @@ use super::charts::{
 };
 use super::colormap::diverging;
 use super::cortex::{render_views, ColourSpec, ViewOptions};
-use super::report::ReportError;
+use super::page::ReportError;
 use super::report_html::png_img;
 use super::svg::Svg;
 use super::topomap::{topomap_svg, TopomapOptions};
@@ -70,11 +70,7 @@ const VIEW_SIZE: (u32, u32) = (300, 210);
 const CORTEX_THRESHOLD: f64 = 0.02;
 
 fn figure_error(r: &ResultFile, figure: String, e: impl std::fmt::Display) -> ReportError {
-    ReportError::Figure {
-        path: r.path.clone(),
-        figure,
-        message: e.to_string(),
-    }
+    ReportError::figure(&r.path, figure, e)
 }
 
 /// Draw the pictures of component `c`; `order` lists the regions by

@@ -182,39 +182,6 @@ impl Html {
     }
 }
 
-/// "KIND — FOLDER" for the file at `path` (the folder holding it), or
-/// "KIND — FALLBACK" when the path has no folder name.
-pub fn folder_title(path: &std::path::Path, kind: &str, fallback: &str) -> String {
-    let folder = path
-        .parent()
-        .and_then(|p| p.file_name())
-        .map(|n| n.to_string_lossy().into_owned())
-        .unwrap_or_else(|| fallback.to_string());
-    format!("{kind} \u{2014} {folder}")
-}
-
-/// The page head: a kicker line, the title and one line of facts.
-pub fn masthead(h: &mut Html, kicker: &str, title: &str, facts: &str) {
-    h.raw("<header class=\"masthead\">\n");
-    h.element("p", "kicker", kicker);
-    h.element("h1", "", title);
-    h.element("p", "sub", facts);
-    h.raw("</header>\n");
-}
-
-/// The caution box: [`crate::io::result_file::CAUTION`], plus the caution
-/// `stored` in the file when it says something else (`what` names the file).
-pub fn caution_box(h: &mut Html, stored: &str, what: &str) {
-    let caution = crate::io::result_file::CAUTION;
-    h.raw("<aside class=\"caution\" role=\"note\"><strong>Caution.</strong>");
-    h.text(caution);
-    if !stored.is_empty() && stored != caution {
-        h.raw(&format!(" <em>The {what} adds:</em> "));
-        h.text(stored);
-    }
-    h.raw("</aside>\n");
-}
-
 #[cfg(test)]
 mod tests {
     #![allow(clippy::unwrap_used)]
