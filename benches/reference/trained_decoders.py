@@ -1,6 +1,6 @@
 """Decoders trained the way users train them, for the trained-decoder benchmark
 (docs/validation.md, "Trained decoders") and its CI test
-(tests/validation_trained_decoders.rs).
+(tests/it/validation_trained_decoders.rs).
 
 An invented two-class paradigm on the template cortex: one or two generator
 patches whose amplitude (LDA) or variance (CSP) differs between the classes,

@@ -1,4 +1,4 @@
-"""Writes the scikit-learn MultiTaskLasso fixtures for tests/solver_reference.rs.
+"""Writes the scikit-learn MultiTaskLasso fixtures for tests/it/solver_reference.rs.
 
 Pinned versions (also in tests/reference/requirements.txt):
     numpy==2.4.6

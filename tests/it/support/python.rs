@@ -1,0 +1,105 @@
+//! Locates a Python interpreter with the pinned reference libraries
+//! (tests/reference/requirements.txt: numpy 2.4.6, h5py 3.16.0, scipy 1.17.1,
+//! scikit-learn 1.9.1) and runs reference scripts with it.
+//!
+//! Order: the interpreter named by `PATCHWISE_PYTHON`; else a virtual
+//! environment at `target/pyenv`, created once (guarded by a lock file) with
+//! `pip install` of the pinned versions; the search runs once per test run.
+//! When neither works, a test calling [`python`] fails if `CI=true`;
+//! otherwise it returns without checking and is shown as not run
+//! ([`super::not_run`]).
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use std::sync::OnceLock;
+
+/// The pinned requirements file.
+pub fn requirements() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/reference/requirements.txt")
+}
+
+fn has_references(python: &Path) -> bool {
+    Command::new(python)
+        .args(["-c", "import numpy, h5py"])
+        .output()
+        .map(|o| o.status.success())
+        .unwrap_or(false)
+}
+
+fn create_venv() -> Result<PathBuf, String> {
+    let target = Path::new(env!("CARGO_MANIFEST_DIR")).join("target");
+    std::fs::create_dir_all(&target).map_err(|e| e.to_string())?;
+    let venv = target.join("pyenv");
+    let python = venv.join("bin").join("python");
+    let lock_path = target.join("pyenv.lock");
+    let lock = std::fs::File::create(&lock_path).map_err(|e| e.to_string())?;
+    // Several test runs may race to create the environment; the lock
+    // serialises them and the later ones find it ready. File::lock needs Rust
+    // 1.89, which hdf5-pure 0.47 already requires of the whole crate.
+    #[allow(clippy::incompatible_msrv)]
+    lock.lock().map_err(|e| e.to_string())?;
+    if has_references(&python) {
+        return Ok(python);
+    }
+    let status = Command::new("python3")
+        .args(["-m", "venv"])
+        .arg(&venv)
+        .status()
+        .map_err(|e| format!("python3 -m venv: {e}"))?;
+    if !status.success() {
+        return Err("python3 -m venv failed".to_string());
+    }
+    let status = Command::new(&python)
+        .args(["-m", "pip", "install", "--quiet", "-r"])
+        .arg(requirements())
+        .status()
+        .map_err(|e| format!("pip install: {e}"))?;
+    if !status.success() || !has_references(&python) {
+        return Err("pip install -r tests/reference/requirements.txt failed".to_string());
+    }
+    Ok(python)
+}
+
+/// A Python with numpy and h5py, or `None` when the test should return
+/// without checking (see [`super::not_run`]; it panics when `CI=true`).
+pub fn python() -> Option<PathBuf> {
+    static FOUND: OnceLock<Result<PathBuf, String>> = OnceLock::new();
+    let found = FOUND.get_or_init(|| match std::env::var_os("PATCHWISE_PYTHON") {
+        Some(p) => {
+            let p = PathBuf::from(p);
+            if has_references(&p) {
+                Ok(p)
+            } else {
+                Err(format!(
+                    "PATCHWISE_PYTHON={} lacks numpy or h5py",
+                    p.display()
+                ))
+            }
+        }
+        None => create_venv(),
+    });
+    match found {
+        Ok(p) => Some(p.clone()),
+        Err(e) => {
+            super::not_run(&format!("python reference not available: {e}"));
+            None
+        }
+    }
+}
+
+/// Run `script` with `python`, passing `args`; panics with Python's output
+/// when the script fails (its assertions are the test).
+pub fn run(python: &Path, script: &str, args: &[&Path]) {
+    let out = Command::new(python)
+        .arg("-c")
+        .arg(script)
+        .args(args)
+        .output()
+        .expect("run python");
+    assert!(
+        out.status.success(),
+        "python script failed:\nstdout:\n{}\nstderr:\n{}",
+        String::from_utf8_lossy(&out.stdout),
+        String::from_utf8_lossy(&out.stderr)
+    );
+}
