@@ -425,6 +425,36 @@ fn resolve_files(p: &mut AttributeParams, folder: &Path) {
     }
 }
 
+/// A message of `attribute`'s checks in the script's words: each flag
+/// (`--radii-mm`) becomes its key (`radii_mm`).
+fn as_script_keys(message: &str) -> String {
+    let mut out = String::with_capacity(message.len());
+    let mut rest = message;
+    while let Some(i) = rest.find("--") {
+        out.push_str(&rest[..i]);
+        let after = &rest[i + 2..];
+        let end = after
+            .find(|c: char| !(c.is_ascii_lowercase() || c == '-'))
+            .unwrap_or(after.len());
+        if end == 0 {
+            out.push_str("--");
+        } else {
+            out.push_str(&after[..end].replace('-', "_"));
+            // A flag and its number read `key = value` in a script.
+            let value = after[end..]
+                .strip_prefix(' ')
+                .and_then(|v| v.split([' ', ':', ',']).next())
+                .unwrap_or("");
+            if value.parse::<f64>().is_ok() {
+                out.push_str(" =");
+            }
+        }
+        rest = &after[end..];
+    }
+    out.push_str(rest);
+    out
+}
+
 /// `[defaults]` then the job's keys, read into `attribute`'s parameters
 /// (its defaults fill the rest) and checked as `attribute` checks them.
 fn job_params(
@@ -515,7 +545,9 @@ fn expand(
     // The values as `attribute` checks them (its decoder stands in until
     // the pattern is expanded).
     params.inputs.decoder = Some(PathBuf::from(&raw.decoder));
-    params.validate().map_err(|e| err(&group, e.to_string()))?;
+    params
+        .validate()
+        .map_err(|e| err(&group, as_script_keys(&e.chain_text())))?;
     resolve_files(&mut params, folder);
     for (key, file) in file_values(&params) {
         if !file.is_file() {

@@ -19,7 +19,7 @@
 //!   source's front is circular, so this rule is exact on planar meshes; the
 //!   planar rule is first order and on a level-5 icosphere of radius 80 mm
 //!   errs by a median 2.5–3.7 % (up to 12 %) within 30 mm, against 0.02 %
-//!   (at most 0.05 %) for the circular rule (tests/geometry_geodesic.rs).
+//!   (at most 0.05 %) for the circular rule (tests/it/geometry_geodesic.rs).
 //!
 //! Either way T_C must not be smaller than T_A or T_B; otherwise, and when
 //! the update is not causal, the edge updates T_A + |a| and T_B + |b| are

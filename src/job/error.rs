@@ -58,6 +58,22 @@ impl JobError {
         }
     }
 
+    /// The message and every cause below it, on one line (`a: b: c`); a
+    /// cause whose text already ends the line is not repeated.
+    pub fn chain_text(&self) -> String {
+        let mut text = self.message.clone();
+        let mut source = std::error::Error::source(self);
+        while let Some(cause) = source {
+            let part = cause.to_string();
+            if !text.ends_with(&part) {
+                text.push_str(": ");
+                text.push_str(&part);
+            }
+            source = cause.source();
+        }
+        text
+    }
+
     /// Whether the failure is the input's.
     pub fn is_input(&self) -> bool {
         self.kind == ErrorKind::Input

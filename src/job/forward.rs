@@ -128,7 +128,7 @@ pub fn load_sources(
     observer: &dyn JobObserver,
 ) -> Result<SourceSpace, JobError> {
     let mut sources = match spec {
-        SourcesSpec::Template(res) => template_sources(*res),
+        SourcesSpec::Template(res) => SourceSpace::from_template(&crate::geometry::template(*res)),
         SourcesSpec::File(path) => {
             refuse_special_file("sources", path)?;
             if !path.is_file() {
@@ -150,15 +150,6 @@ pub fn load_sources(
         sources.region_names = names;
     }
     Ok(sources)
-}
-
-/// The template cortex as a source space, with its regions.
-fn template_sources(res: crate::geometry::TemplateResolution) -> SourceSpace {
-    let t = crate::geometry::template(res);
-    let mut s = SourceSpace::from_mesh(&t.mesh);
-    s.region = t.region;
-    s.region_names = t.region_names;
-    s
 }
 
 /// What the run assumes of sources without triangles, for a note.

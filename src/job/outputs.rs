@@ -87,11 +87,7 @@ pub fn region_rows(a: &Attribution) -> Vec<Vec<RegionRow>> {
 
 /// `v` with `digits` decimals, or `n/a` when not finite.
 pub fn fmt(v: f64, digits: usize) -> String {
-    if v.is_finite() {
-        format!("{v:.digits$}")
-    } else {
-        "n/a".to_string()
-    }
+    crate::io::table::format_fixed(v, digits, "n/a")
 }
 
 /// summary.json contents.

@@ -198,16 +198,7 @@ pub fn whiten(
         )));
     }
     // Reference the noise covariance like the data: H C H with H the centring matrix.
-    let mut centred = cov.clone();
-    let row_mean: Vec<f64> = (0..n)
-        .map(|i| (0..n).map(|j| cov[i * n + j]).sum::<f64>() / n as f64)
-        .collect();
-    let all_mean = row_mean.iter().sum::<f64>() / n as f64;
-    for i in 0..n {
-        for j in 0..n {
-            centred[i * n + j] = cov[i * n + j] - row_mean[i] - row_mean[j] + all_mean;
-        }
-    }
+    let centred = crate::numeric::centre_covariance(&cov, n);
     let w = Whitener::new(&centred, n).input(format!("{}: noise covariance", path.display()))?;
     // Whitening keeps only the covariance's retained directions: with a
     // rank-deficient covariance the fit would see the patterns in that

@@ -21,7 +21,7 @@ pub const DEFAULT_TERMS: usize = 50;
 
 /// Intervals of the lookup table of g_m on [−1, 1] used by the fast evaluation.
 /// Cubic Hermite interpolation errs by at most h⁴/384 · max|g⁗| (h = 2/4096), which for
-/// m = 4, N = 50 is below 10⁻¹⁴ (measured in tests/render_spline.rs).
+/// m = 4, N = 50 is below 10⁻¹⁴ (measured in tests/it/render_spline.rs).
 const TABLE_INTERVALS: usize = 4096;
 
 /// Two directions closer than this angle (rad) count as the same electrode: the

@@ -58,9 +58,7 @@ fn simulate(res: TemplateResolution) -> Result<(Scenario, Vec<String>), CliError
         .collect();
     let idx = full.select(&labels).compute("demo channels")?;
     let montage = full.subset(&idx);
-    let mut sources = SourceSpace::from_mesh(&t.mesh);
-    sources.region = t.region.clone();
-    sources.region_names = t.region_names.clone();
+    let sources = SourceSpace::from_template(&t);
     let (lf, _) = leadfield_for(&montage, &sources, &sim_head, Orientation::Normal, &|_| {})
         .compute("simulation lead field")?;
     let solver = GeodesicSolver::new(&t.mesh).compute("template mesh")?;

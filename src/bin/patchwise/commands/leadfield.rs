@@ -271,12 +271,7 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
     // Re-reference to the common average (idempotent if it already is).
     let mut gain = gain;
     if args.reference == "average" {
-        for j in 0..n_src {
-            let mean: f64 = (0..n_ch).map(|i| gain[i * n_src + j]).sum::<f64>() / n_ch as f64;
-            for i in 0..n_ch {
-                gain[i * n_src + j] -= mean;
-            }
-        }
+        patchwise::numeric::average_reference_columns(&mut gain, n_src);
     } else if args.reference != "none" {
         return Err(bad(format!(
             "--reference {:?}: expected average or none",
