@@ -11,6 +11,7 @@ mod batch_errors;
 mod batch_resume;
 mod batch_script;
 mod batch_shards;
+mod behaviour_kept;
 mod cli_bring_your_own;
 mod cli_files;
 mod cli_main_job;
