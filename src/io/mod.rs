@@ -25,6 +25,7 @@ pub mod ply;
 pub mod result_file;
 pub mod result_read;
 pub mod sources_file;
+pub mod staging;
 pub mod store;
 pub mod store_access;
 pub mod table;

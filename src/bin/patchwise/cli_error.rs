@@ -72,6 +72,16 @@ impl From<patchwise::job::JobError> for CliError {
     }
 }
 
+impl From<patchwise::io::staging::StagingError> for CliError {
+    fn from(e: patchwise::io::staging::StagingError) -> Self {
+        if e.is_refusal() {
+            CliError::bad_input(e)
+        } else {
+            CliError::compute(e)
+        }
+    }
+}
+
 /// Attach a context message and an exit code to a library result.
 pub trait OrExit<T> {
     /// Bad input (exit 2) with context.

@@ -10,7 +10,6 @@ mod cli_error;
 mod commands;
 mod outputs;
 mod progress;
-mod staging;
 
 use clap::{Parser, Subcommand};
 

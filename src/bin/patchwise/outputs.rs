@@ -7,8 +7,8 @@ use patchwise::io::result_file::CAUTION;
 use patchwise::job::outputs::{fmt, region_names, write_attribution_files, RegionRow};
 use patchwise::job::Attribution;
 
-use crate::staging::Staging;
 use crate::CliError;
+use patchwise::io::staging::Staging;
 
 /// Print the leading regions of each component.
 pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {

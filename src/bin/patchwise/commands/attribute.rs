@@ -39,10 +39,10 @@ pub fn input_paths(args: &Args) -> Vec<(&'static str, PathBuf)> {
 pub fn exec(args: Args) -> Result<(), CliError> {
     // The output folder is checked before anything is computed: it must be
     // new, empty or ours, and hold none of this run's inputs.
-    crate::staging::check_output_folder(&args.out, "--out")?;
+    patchwise::io::staging::check_output_folder(&args.out, "--out")?;
     let inputs = input_paths(&args);
     let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
-    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
+    patchwise::io::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
     let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
     let result = attribute(&args.params, &cache, None, &Console::default())?;
     let dir = write_outputs(&args.out, &result)?;

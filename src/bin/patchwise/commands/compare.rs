@@ -24,8 +24,8 @@ use patchwise::limits::{check_count, RESAMPLE_RECORD_BYTES};
 
 use crate::cli_error::OrExit;
 use crate::progress::note;
-use crate::staging::Staging;
 use crate::CliError;
+use patchwise::io::staging::Staging;
 
 /// Arguments of `patchwise compare`.
 #[derive(clap::Args, Debug)]
@@ -553,7 +553,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let resolved: Vec<PathBuf> = args
         .results
         .iter()
-        .map(|r| crate::staging::resolved(r))
+        .map(|r| patchwise::io::staging::resolved(r))
         .collect();
     for (i, a) in resolved.iter().enumerate() {
         if let Some(j) = resolved[..i].iter().position(|b| b == a) {
@@ -567,7 +567,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     }
     // The output folder is new, empty or ours, and neither a result folder,
     // inside one, nor holding one: it is replaced as a whole.
-    crate::staging::check_output_folder(&args.out, "--out")?;
+    patchwise::io::staging::check_output_folder(&args.out, "--out")?;
     let mut inputs: Vec<(&str, &Path)> = args
         .results
         .iter()
@@ -585,7 +585,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             }
         }
     }
-    crate::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
+    patchwise::io::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
     for dir in maps.keys() {
         if !args.results.iter().any(|r| normalise(r) == *dir) {
             return Err(bad(format!(

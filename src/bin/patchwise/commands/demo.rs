@@ -83,9 +83,9 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             args.sources
         ))
     })?;
-    crate::staging::check_output_folder(&args.out, "--out")?;
+    patchwise::io::staging::check_output_folder(&args.out, "--out")?;
     if let Some(cache) = &args.cache {
-        crate::staging::refuse_replaced_inputs(
+        patchwise::io::staging::refuse_replaced_inputs(
             &args.out,
             "--out",
             None,

@@ -26,8 +26,8 @@ pub struct Args {
 
 /// Run `patchwise dictionary`.
 pub fn exec(args: Args) -> Result<(), CliError> {
-    crate::staging::check_output_file(&args.out, "--out")?;
-    crate::staging::refuse_input_as_output(
+    patchwise::io::staging::check_output_file(&args.out, "--out")?;
+    patchwise::io::staging::refuse_input_as_output(
         &args.out,
         "--out",
         &[("lead field", args.leadfield.as_path())],

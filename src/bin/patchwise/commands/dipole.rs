@@ -16,8 +16,8 @@ use patchwise::job::ForwardParams;
 
 use crate::cli_error::OrExit;
 use crate::progress::Console;
-use crate::staging::Staging;
 use crate::CliError;
+use patchwise::io::staging::Staging;
 
 /// Residual variance below which a fit counts as dipolar (common practice;
 /// see Delorme et al. 2012, PLoS One 7:e30135, from memory).
@@ -145,12 +145,12 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     }
     // The output folder is new, empty or ours; it gains dipoles.csv and a
     // new result.h5 (and report.html), so no input may be one of those.
-    crate::staging::check_output_folder(&args.out, "--out")?;
+    patchwise::io::staging::check_output_folder(&args.out, "--out")?;
     let mut inputs = vec![("decoder", args.decoder.clone())];
     inputs.extend(args.channels.clone().map(|c| ("channel list", c)));
     inputs.extend(args.forward.input_files());
     let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
-    crate::staging::refuse_replaced_inputs(
+    patchwise::io::staging::refuse_replaced_inputs(
         &args.out,
         "--out",
         Some(&["result.h5", "dipoles.csv", "report.html"]),

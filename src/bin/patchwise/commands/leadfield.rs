@@ -103,10 +103,10 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         return import(imp);
     }
     let out = required(&args.out, "--out FILE.h5")?;
-    crate::staging::check_output_file(&out, "--out")?;
+    patchwise::io::staging::check_output_file(&out, "--out")?;
     let inputs = args.forward.input_files();
     let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
-    crate::staging::refuse_input_as_output(&out, "--out", &inputs)?;
+    patchwise::io::staging::refuse_input_as_output(&out, "--out", &inputs)?;
     let console = Console::default();
     let (montage, sources, head) = args.forward.resolve(None, &console)?;
     let lf = compute_leadfield(&montage, &sources, &head, args.orientation.into(), &console)?;
@@ -145,7 +145,7 @@ fn matrix(
 }
 
 fn import(args: ImportArgs) -> Result<(), CliError> {
-    crate::staging::check_output_file(&args.out, "--out")?;
+    patchwise::io::staging::check_output_file(&args.out, "--out")?;
     let inputs: Vec<(&str, &Path)> = [
         ("--from file", &args.from),
         ("gain", &args.gain),
@@ -158,7 +158,7 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
     .into_iter()
     .filter_map(|(w, p)| p.as_deref().map(|p| (w, p)))
     .collect();
-    crate::staging::refuse_input_as_output(&args.out, "--out", &inputs)?;
+    patchwise::io::staging::refuse_input_as_output(&args.out, "--out", &inputs)?;
     let npz_store;
     let store = match &args.from {
         Some(p) if p.extension().is_some_and(|e| e == "npz") => {

@@ -69,7 +69,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             Ok(())
         }
         Action::Export { name, out } => {
-            crate::staging::check_output_file(&out, "--out")?;
+            patchwise::io::staging::check_output_file(&out, "--out")?;
             let m = standard_on_default_head(&name)?;
             write_electrodes_tsv(&out, &m).compute(format!("writing {}", out.display()))?;
             outln!(

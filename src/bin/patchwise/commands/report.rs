@@ -158,13 +158,13 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     // The page goes to a file (never a folder or device) and never over
     // one of the files it is made from.
     let page = args.out.clone().unwrap_or_else(|| dir.join("report.html"));
-    crate::staging::check_output_file(&page, "--out")?;
+    patchwise::io::staging::check_output_file(&page, "--out")?;
     let sources: Vec<PathBuf> = ["result.h5", "summary.json", "compare.h5"]
         .iter()
         .map(|f| dir.join(f))
         .collect();
     let inputs: Vec<(&str, &Path)> = sources.iter().map(|p| ("input", p.as_path())).collect();
-    crate::staging::refuse_input_as_output(&page, "--out", &inputs)?;
+    patchwise::io::staging::refuse_input_as_output(&page, "--out", &inputs)?;
     let is_result = dir.join("result.h5").is_file();
     let is_compare = dir.join("compare.h5").is_file();
     if dir.is_dir() && !is_result && !is_compare {

@@ -30,7 +30,7 @@ pub enum Action {
 pub fn exec(args: Args) -> Result<(), CliError> {
     match args.action {
         Action::Export { out } => {
-            crate::staging::check_folder_path(&out, "--out")?;
+            patchwise::io::staging::check_folder_path(&out, "--out")?;
             let files = write_template_files(&out).compute(format!("writing {}", out.display()))?;
             for f in files {
                 outln!("wrote {}", f.display());

@@ -12,8 +12,8 @@ use patchwise::job::attribute;
 use super::super::report::write_report_as;
 use crate::outputs::write_files;
 use crate::progress::Console;
-use crate::staging::{self, Staging};
 use crate::CliError;
+use patchwise::io::staging::{self, Staging};
 
 /// The completion marker, written last into the staged job folder.
 pub const MARKER: &str = "job.json";

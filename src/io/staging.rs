@@ -14,10 +14,36 @@
 use std::fs;
 use std::path::{Component, Path, PathBuf};
 
-use anyhow::Context;
-use patchwise::io::atomic::{remove_dead_temporaries, temporary_path};
+use super::atomic::{remove_dead_temporaries, temporary_path};
 
-use crate::CliError;
+/// Why an output could not be staged or committed.
+#[derive(Debug, thiserror::Error)]
+pub enum StagingError {
+    /// The output path is refused (it would replace something that is not
+    /// ours, or an input, or cannot be a folder): bad input.
+    #[error("{0}")]
+    Refused(String),
+    /// A file-system operation failed while writing.
+    #[error("{context}: {source}")]
+    Io {
+        /// What was being done.
+        context: String,
+        /// The cause.
+        #[source]
+        source: std::io::Error,
+    },
+}
+
+impl StagingError {
+    /// Whether the output was refused (bad input) rather than failing.
+    pub fn is_refusal(&self) -> bool {
+        matches!(self, StagingError::Refused(_))
+    }
+}
+
+fn io_error(context: String) -> impl FnOnce(std::io::Error) -> StagingError {
+    move |source| StagingError::Io { context, source }
+}
 
 /// Every file name a patchwise output folder holds (result folders,
 /// comparison folders, batch job folders, the demo's folder).
@@ -42,8 +68,8 @@ const SIGNATURES: &[&str] = &["result.h5", "summary.json", "compare.h5", "job.js
 const NAME_MAX: usize = 255;
 const PATH_MAX: usize = 4095;
 
-fn bad(message: String) -> CliError {
-    CliError::bad_input(anyhow::anyhow!(message))
+fn bad(message: String) -> StagingError {
+    StagingError::Refused(message)
 }
 
 /// `path` made absolute with its existing part resolved (links, `.`, `..`)
@@ -78,7 +104,7 @@ pub fn resolved(path: &Path) -> PathBuf {
 }
 
 /// A name too long for the file system, refused before computing.
-fn check_length(path: &Path, flag: &str) -> Result<(), CliError> {
+fn check_length(path: &Path, flag: &str) -> Result<(), StagingError> {
     if path.as_os_str().len() > PATH_MAX {
         return Err(bad(format!(
             "{flag} {}…: the path is {} bytes long; expected at most {PATH_MAX}",
@@ -107,7 +133,7 @@ fn check_length(path: &Path, flag: &str) -> Result<(), CliError> {
 
 /// The nearest existing ancestor of a path that does not exist must be a
 /// folder (a file there makes the path impossible).
-fn check_ancestors(path: &Path, flag: &str) -> Result<(), CliError> {
+fn check_ancestors(path: &Path, flag: &str) -> Result<(), StagingError> {
     let absolute = std::path::absolute(path).unwrap_or_else(|_| path.to_path_buf());
     for ancestor in absolute.ancestors().skip(1) {
         match fs::metadata(ancestor) {
@@ -179,7 +205,7 @@ pub fn foreign_entries(dir: &Path) -> std::io::Result<Vec<String>> {
 /// Check a path meant for a folder before computing: a name the file
 /// system takes, an existing folder or a path that can become one (no file
 /// among its ancestors, not a file, device or pipe itself).
-pub fn check_folder_path(path: &Path, flag: &str) -> Result<(), CliError> {
+pub fn check_folder_path(path: &Path, flag: &str) -> Result<(), StagingError> {
     check_length(path, flag)?;
     match fs::metadata(path) {
         Err(_) => check_ancestors(path, flag),
@@ -196,7 +222,7 @@ pub fn check_folder_path(path: &Path, flag: &str) -> Result<(), CliError> {
 /// and, when it exists, a folder that is empty or ours (only files
 /// patchwise writes, at least one of result.h5, summary.json, compare.h5,
 /// job.json), so that replacing it loses nothing of the user's.
-pub fn check_output_folder(path: &Path, flag: &str) -> Result<(), CliError> {
+pub fn check_output_folder(path: &Path, flag: &str) -> Result<(), StagingError> {
     check_folder_path(path, flag)?;
     match fs::metadata(path) {
         Err(_) => Ok(()),
@@ -221,7 +247,7 @@ pub fn check_output_folder(path: &Path, flag: &str) -> Result<(), CliError> {
 
 /// Check an output file before computing: a name the file system takes, in
 /// an existing folder, and not a folder, device or pipe already.
-pub fn check_output_file(path: &Path, flag: &str) -> Result<(), CliError> {
+pub fn check_output_file(path: &Path, flag: &str) -> Result<(), StagingError> {
     check_length(path, flag)?;
     if path.file_name().is_none() {
         return Err(bad(format!(
@@ -269,7 +295,7 @@ pub fn refuse_replaced_inputs(
     flag: &str,
     replaced: Option<&[&str]>,
     inputs: &[(&str, &Path)],
-) -> Result<(), CliError> {
+) -> Result<(), StagingError> {
     let out_resolved = resolved(out);
     for (what, input) in inputs {
         let input_resolved = resolved(input);
@@ -296,7 +322,7 @@ pub fn refuse_input_as_output(
     out: &Path,
     flag: &str,
     inputs: &[(&str, &Path)],
-) -> Result<(), CliError> {
+) -> Result<(), StagingError> {
     let out_resolved = resolved(out);
     for (what, input) in inputs {
         if resolved(input) == out_resolved {
@@ -322,19 +348,19 @@ pub struct Staging {
 impl Staging {
     /// Create the staging folder beside `target`, after removing the
     /// staging folders that killed runs left for the same target.
-    pub fn new(target_as_given: &Path) -> anyhow::Result<Self> {
+    pub fn new(target_as_given: &Path) -> Result<Self, StagingError> {
         let target = resolved(target_as_given);
         let parent = target
             .parent()
             .filter(|p| !p.as_os_str().is_empty())
             .unwrap_or(Path::new("."))
             .to_path_buf();
-        fs::create_dir_all(&parent).with_context(|| format!("creating {}", parent.display()))?;
+        fs::create_dir_all(&parent).map_err(io_error(format!("creating {}", parent.display())))?;
         if let Some(name) = target.file_name() {
             remove_dead_temporaries(&parent, Some(&name.to_string_lossy()));
         }
         let dir = temporary_path(&target);
-        fs::create_dir(&dir).with_context(|| format!("creating {}", dir.display()))?;
+        fs::create_dir(&dir).map_err(io_error(format!("creating {}", dir.display())))?;
         Ok(Staging {
             shown: target_as_given.to_path_buf(),
             target,
@@ -356,7 +382,7 @@ impl Staging {
     /// Copy the files of the existing target (ours) that are not staged
     /// yet into the staging folder, so that the commit keeps them: for
     /// commands that add files to a folder (`dipole` beside an attribution).
-    pub fn keep_existing(&self) -> Result<(), CliError> {
+    pub fn keep_existing(&self) -> Result<(), StagingError> {
         let Ok(entries) = fs::read_dir(&self.target) else {
             return Ok(());
         };
@@ -365,9 +391,8 @@ impl Staging {
             if staged.exists() || !entry.file_type().is_ok_and(|t| t.is_file()) {
                 continue;
             }
-            fs::copy(entry.path(), &staged).map_err(|e| {
-                CliError::compute(anyhow::anyhow!("keeping {}: {e}", entry.path().display()))
-            })?;
+            fs::copy(entry.path(), &staged)
+                .map_err(io_error(format!("keeping {}", entry.path().display())))?;
         }
         Ok(())
     }
@@ -376,33 +401,29 @@ impl Staging {
     /// is missing; else (the target being ours) the old folder is renamed
     /// aside, the staged one into place, and the old one removed. Nothing
     /// of a stale earlier run survives beside the new files.
-    pub fn commit(mut self) -> Result<PathBuf, CliError> {
+    pub fn commit(mut self) -> Result<PathBuf, StagingError> {
         let flag = "--out";
         if fs::symlink_metadata(&self.target).is_ok() {
             check_output_folder(&self.shown, flag)?;
             let aside = temporary_path(&self.target);
-            fs::rename(&self.target, &aside).map_err(|e| {
-                CliError::compute(anyhow::anyhow!(
-                    "moving the earlier {} aside: {e}",
-                    self.target.display()
-                ))
-            })?;
+            fs::rename(&self.target, &aside).map_err(io_error(format!(
+                "moving the earlier {} aside",
+                self.target.display()
+            )))?;
             if let Err(e) = fs::rename(&self.dir, &self.target) {
                 // Put the earlier results back: the target never goes missing.
                 let _ = fs::rename(&aside, &self.target);
-                return Err(CliError::compute(anyhow::anyhow!(
-                    "moving results to {}: {e}",
+                return Err(io_error(format!(
+                    "moving results to {}",
                     self.target.display()
-                )));
+                ))(e));
             }
             let _ = fs::remove_dir_all(&aside);
         } else {
-            fs::rename(&self.dir, &self.target).map_err(|e| {
-                CliError::compute(anyhow::anyhow!(
-                    "moving results to {}: {e}",
-                    self.target.display()
-                ))
-            })?;
+            fs::rename(&self.dir, &self.target).map_err(io_error(format!(
+                "moving results to {}",
+                self.target.display()
+            )))?;
         }
         self.committed = true;
         Ok(self.shown.clone())
