@@ -153,7 +153,7 @@ pub fn load_sources(
 }
 
 /// The template cortex as a source space, with its regions.
-fn template_sources(res: crate::geometry::TemplateResolution) -> SourceSpace {
+pub(crate) fn template_sources(res: crate::geometry::TemplateResolution) -> SourceSpace {
     let t = crate::geometry::template(res);
     let mut s = SourceSpace::from_mesh(&t.mesh);
     s.region = t.region;
