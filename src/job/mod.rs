@@ -1,7 +1,7 @@
 //! The jobs users run, as library calls. Each job's parameters are declared
 //! once ([`params`]: clap for the command line, serde for job scripts and
 //! saved results), the options that name a built-in or a file are typed
-//! ([`specs`]), and the job itself is one function ([`attribute`]) that
+//! ([`specs`]), and each job is one function ([`attribute`], [`compare`]) that
 //! reports through a [`JobObserver`] and fails with a [`JobError`] that
 //! says whether the input or the computation is at fault.
 //!
@@ -10,6 +10,10 @@
 
 pub mod attribute;
 pub mod cache;
+pub mod compare;
+pub mod compare_inputs;
+pub mod compare_outputs;
+pub mod compare_params;
 mod describe;
 pub mod error;
 pub mod forward;
@@ -23,6 +27,8 @@ pub mod prepare;
 pub mod specs;
 
 pub use attribute::{attribute, Attribution};
+pub use compare::{compare, Comparison};
+pub use compare_params::CompareParams;
 pub use error::{ErrorKind, JobError, JobResult};
 pub use observer::{JobObserver, NoteKeeper, Silent};
 pub use params::{AttributeInputs, AttributeParams, FitParams, ForwardParams, PatchParams};

@@ -24,7 +24,7 @@ use crate::pipeline::{FitOptions, LambdaRule, PatternNoise, ResampleOptions};
 pub const MAX_FORWARD_PERTURBATIONS: usize = 64;
 
 /// The values clap declares as defaults for `A` (an empty command line).
-fn declared_defaults<A: clap::Args + clap::FromArgMatches>() -> A {
+pub(crate) fn declared_defaults<A: clap::Args + clap::FromArgMatches>() -> A {
     let command = A::augment_args(clap::Command::new("defaults").no_binary_name(true));
     let matches = command
         .try_get_matches_from(Vec::<String>::new())
