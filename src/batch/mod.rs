@@ -32,6 +32,8 @@ mod script;
 mod shard;
 
 pub use error::BatchError;
-pub use plan::{input_hash, load_script, parse_script, CompareSpec, Job, Script, SUMMARY_FILE};
+pub use plan::{
+    input_hash, load_script, parse_script, CompareSpec, Job, Script, MARKER_FILE, SUMMARY_FILE,
+};
 pub use script::{option_keys, NO_REPORT};
 pub use shard::Shard;

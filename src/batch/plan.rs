@@ -491,6 +491,10 @@ fn job_params(
     Ok((params, set_keys, no_report))
 }
 
+/// A job folder's completion marker, written last into the staged folder:
+/// the job's name, input hash, options and status.
+pub const MARKER_FILE: &str = "job.json";
+
 /// The batch's summary file in the output folder; no job may take its name.
 pub const SUMMARY_FILE: &str = "batch-summary.csv";
 

@@ -7,15 +7,17 @@ mod fit_stage;
 mod forward_stage;
 mod lambda_rule;
 mod noise_rule;
+mod outcome;
 mod perturb;
 mod quality;
 mod resample;
 
 pub use error::PipelineError;
-pub use fit_stage::{fit_patterns, FitOptions, FitOutcome, FittedComponent, Problem};
+pub use fit_stage::{fit_patterns, FitOptions, Problem};
 pub use forward_stage::{dictionary_for, leadfield_for, DistanceKind};
 pub use lambda_rule::LambdaRule;
 pub use noise_rule::{PatternNoise, NULL_QUANTILE, RATIO_FLOOR};
+pub use outcome::{FitOutcome, FittedComponent};
 pub use perturb::{perturbed_atoms, perturbed_model, ForwardPerturbation};
 pub use quality::{component_flags, is_poorly_explained, POORLY_EXPLAINED_EV};
 pub use resample::{ResampleOptions, ResampleSummary};

@@ -26,8 +26,8 @@
 use crate::numeric::SplitMix64;
 use crate::solver::{fit_warm, null_lambda_max, DenseDictionary, Groups, Lambda, NoObserver};
 
-use super::fit_stage::{BlockFit, FittedComponent};
 use super::lambda_rule::{bic, BIC_MIN_RATIO, BIC_PATH_POINTS};
+use super::outcome::{BlockFit, FittedComponent};
 use super::PipelineError;
 
 /// Monte Carlo draws of the null maximum.

@@ -5,7 +5,7 @@
 //! still gets a fit; these flags say so in the terminal, summary.json,
 //! result.h5 and the report, with the reason.
 
-use super::fit_stage::FitOutcome;
+use super::outcome::FitOutcome;
 
 /// Below this explained variance a component is flagged as poorly
 /// explained. Half the pattern's variance is a convention of ours (the

@@ -5,6 +5,7 @@
 
 mod support;
 
+mod architecture_layers;
 mod batch_changes;
 mod batch_compare;
 mod batch_errors;

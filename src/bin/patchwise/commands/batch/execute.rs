@@ -16,7 +16,7 @@ use crate::CliError;
 use patchwise::io::staging::{self, Staging};
 
 /// The completion marker, written last into the staged job folder.
-pub const MARKER: &str = "job.json";
+pub use patchwise::batch::MARKER_FILE as MARKER;
 
 fn bad(message: String) -> CliError {
     CliError::bad_input(anyhow::anyhow!(message))
@@ -64,7 +64,7 @@ pub fn check_outputs(
     }
     let out_resolved = staging::resolved(out);
     let mut written: Vec<PathBuf> = jobs.iter().map(|j| out.join(&j.name)).collect();
-    written.push(out.join(super::report::SUMMARY));
+    written.push(out.join(patchwise::batch::SUMMARY_FILE));
     if let Some(c) = compare_out {
         written.push(c.to_path_buf());
     }

@@ -5,9 +5,9 @@ use std::path::{Path, PathBuf};
 use patchwise::batch::Job;
 use patchwise::io::table::{write_table, Delimiter};
 
-use super::execute::MARKER;
 use super::Failure;
 use crate::CliError;
+use patchwise::batch::MARKER_FILE as MARKER;
 
 /// The summary's file name inside the output folder.
 pub use patchwise::batch::SUMMARY_FILE as SUMMARY;
