@@ -24,6 +24,7 @@ pub mod outputs;
 pub mod params;
 pub mod perturb;
 pub mod prepare;
+pub mod report;
 pub mod specs;
 
 pub use attribute::{attribute, Attribution};
