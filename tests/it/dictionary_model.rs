@@ -38,9 +38,7 @@ fn dictionary() -> PatchDictionary {
     }
     let lf = LeadField {
         labels: LABELS.iter().map(|s| s.to_string()).collect(),
-        electrode_positions: (0..n_ch)
-            .map(|i| [0.01 * i as f64, 0.02, 0.08])
-            .collect(),
+        electrode_positions: (0..n_ch).map(|i| [0.01 * i as f64, 0.02, 0.08]).collect(),
         sources: SourceSpace {
             positions: vec![[0.0, 0.0, 0.05]; N_SRC],
             normals: vec![[0.0, 0.0, 1.0]; N_SRC],
@@ -87,7 +85,7 @@ fn restriction_recomputes_atoms_from_the_kept_rows_and_the_profiles() {
     let lf = d.leadfield.as_ref().unwrap();
     assert_eq!(lf.labels, labels(&keep));
     let norms = d.atom_norms.as_ref().unwrap();
-    for j in 0..N_ATOMS {
+    for (j, &atom_norm) in norms.iter().enumerate() {
         // a = G[kept rows] p_j, average-referenced over the kept channels.
         let mut a: Vec<f64> = rows
             .iter()
@@ -103,7 +101,7 @@ fn restriction_recomputes_atoms_from_the_kept_rows_and_the_profiles() {
         a.iter_mut().for_each(|v| *v -= mean);
         let norm = a.iter().map(|v| v * v).sum::<f64>().sqrt();
         // Tolerance: a few roundings of sums of order 10.
-        assert!((norms[j] - norm).abs() < 1e-12 * norm.max(1.0));
+        assert!((atom_norm - norm).abs() < 1e-12 * norm.max(1.0));
         for (i, v) in a.iter().enumerate() {
             assert!((d.atoms[i * N_ATOMS + j] - v / norm).abs() < 1e-12);
         }
@@ -151,12 +149,12 @@ fn rereferencing_is_the_centring_matrix_with_the_scale_kept_in_the_norms() {
     d.rereference();
     let (n, m) = (d.n_channels, d.n_atoms);
     let norms = d.atom_norms.as_ref().unwrap();
-    for j in 0..m {
+    for (j, &atom_norm) in norms.iter().enumerate() {
         let col: Vec<f64> = (0..n).map(|i| before.atoms[i * m + j]).collect();
         let mean = col.iter().sum::<f64>() / n as f64;
         // norm' · a' = norm · (a − mean): the unnormalised atom is H a.
         for (i, v) in col.iter().enumerate() {
-            assert!((norms[j] * d.atoms[i * m + j] - (v - mean)).abs() < 1e-12);
+            assert!((atom_norm * d.atoms[i * m + j] - (v - mean)).abs() < 1e-12);
         }
         let unit: f64 = (0..n).map(|i| d.atoms[i * m + j].powi(2)).sum();
         assert!((unit - 1.0).abs() < 1e-12);
@@ -175,9 +173,9 @@ fn whitening_by_a_scaled_identity_divides_by_sigma() {
         .collect();
     let w = Whitener::new(&cov, n).unwrap();
     let scales = d.whiten(&w).unwrap();
-    for j in 0..d.n_atoms {
+    for (j, scale) in scales.iter().enumerate() {
         // Unit atoms divided by σ have norm 1/σ; rescaled, they are the same atoms.
-        assert!((scales[j] - 1.0 / sigma).abs() < 1e-12);
+        assert!((scale - 1.0 / sigma).abs() < 1e-12);
         let old = before.atom_norms.as_ref().unwrap()[j];
         assert!((d.atom_norms.as_ref().unwrap()[j] - old / sigma).abs() < 1e-12 * old);
     }
