@@ -8,12 +8,17 @@
 //! under a mixed ℓ1,2 penalty follows Haufe et al. 2011 (NeuroImage 54:851).
 //!
 //! The geodesic distances and the lead field come from other stages as plain
-//! inputs (a distance oracle closure, row-major gain slices), so this module
-//! depends on neither. It does no file I/O; `dictionary.h5` is written in `io`.
+//! inputs (a distance oracle closure, row-major gain slices), so building
+//! depends on neither. The artefact, [`PatchDictionary`], holds the
+//! [`crate::forward::LeadField`] model it came from and carries the
+//! operations that bring it into a fit's space (`restrict_to`,
+//! `rereference`, `whiten`). This module does no file I/O; `dictionary.h5`
+//! is read and written in `io`.
 
 mod atoms;
 mod build;
 mod error;
+mod model;
 mod params;
 mod patches;
 
@@ -23,6 +28,7 @@ pub use build::{
     POINT_SOURCE_AREA_M2,
 };
 pub use error::DictionaryError;
+pub use model::{PatchDictionary, RestrictError};
 pub use params::{
     AtomComponent, AtomOrientation, DictionaryParams, Profile, Seeds, DEFAULT_DROP_RELATIVE_NORM,
     DEFAULT_RADII_M,

@@ -30,9 +30,11 @@ pub enum Reference {
     None,
 }
 
-/// Scalp potentials of unit dipoles: the lead field.
+/// Scalp potentials of unit dipoles: the gain matrices [`lead_field`]
+/// computes. The lead field as an artefact (with its channels, sources and
+/// head) is [`super::LeadField`].
 #[derive(Debug, Clone, PartialEq)]
-pub struct LeadField {
+pub struct Gain {
     /// Number of channels (rows).
     pub n_channels: usize,
     /// Number of sources (columns).
@@ -67,7 +69,7 @@ pub fn lead_field(
     orientation: Orientation,
     reference: Reference,
     progress: &(dyn Fn(usize) + Sync),
-) -> Result<LeadField, ForwardError> {
+) -> Result<Gain, ForwardError> {
     let directions = validate(head, electrodes, sources, normals)?;
     let n_ch = electrodes.len();
     let n_src = sources.len();
@@ -129,7 +131,7 @@ pub fn lead_field(
     for outcome in outcomes {
         outcome?;
     }
-    Ok(LeadField {
+    Ok(Gain {
         n_channels: n_ch,
         n_sources: n_src,
         gain,

@@ -1,5 +1,7 @@
 //! The `dictionary.h5` layout of design.md: the lead field plus the atoms,
-//! their groups, seeds, radii, norms, components and the CSC profile matrix.
+//! their groups, seeds, radii, norms, components and the CSC profile matrix,
+//! read into the model [`crate::dictionary::PatchDictionary`] (validated
+//! here, once) and written from the dictionary the build returns.
 //!
 //! A dictionary made elsewhere needs only `/dictionary/atoms` (n_ch ×
 //! n_atoms) and `/dictionary/group` (n_atoms, 0..n_groups−1, every group
@@ -11,38 +13,10 @@ use std::path::Path;
 use sprs::CsMat;
 
 use super::error::IoError;
-use super::leadfield_file::{
-    in_groups, insert_leadfield, leadfield_from_store, LeadFieldFile, LEADFIELD_GROUPS,
-};
+use super::leadfield_file::{in_groups, insert_leadfield, leadfield_from_store, LEADFIELD_GROUPS};
 use super::store::{Attr, Dataset, Store};
-use crate::dictionary::{AtomComponent, Dictionary};
-
-/// What `dictionary.h5` holds.
-#[derive(Debug, Clone)]
-pub struct DictionaryFile {
-    /// The lead field and sources, when the file has them.
-    pub leadfield: Option<LeadFieldFile>,
-    /// Number of channels (rows of the atoms).
-    pub n_channels: usize,
-    /// Number of atoms.
-    pub n_atoms: usize,
-    /// Atoms, n_ch × n_atoms row-major.
-    pub atoms: Vec<f64>,
-    /// Group of each atom.
-    pub group: Vec<usize>,
-    /// Norm removed from each atom, when known.
-    pub atom_norms: Option<Vec<f64>>,
-    /// Seed source of each atom, when known.
-    pub seed: Option<Vec<usize>>,
-    /// Patch radius of each atom (mm), when known.
-    pub radius_mm: Option<Vec<f64>>,
-    /// Orientation component of each atom (0 normal, 1–3 x, y, z), when known.
-    pub component: Option<Vec<AtomComponent>>,
-    /// Source amplitudes per atom (CSC, n_src × n_atoms), when known.
-    pub profile: Option<CsMat<f64>>,
-    /// The dictionary parameters as JSON (attribute `params` of `/dictionary`).
-    pub params_json: String,
-}
+use crate::dictionary::{AtomComponent, Dictionary, PatchDictionary};
+use crate::forward::LeadField;
 
 fn component_code(c: AtomComponent) -> i64 {
     match c {
@@ -64,7 +38,7 @@ fn value_error(path: &Path, object: &str, message: String) -> IoError {
 /// Write `dictionary.h5` atomically: the lead field, then the dictionary.
 pub fn write_dictionary(
     path: &Path,
-    leadfield: &LeadFieldFile,
+    leadfield: &LeadField,
     dict: &Dictionary,
     params_json: &str,
 ) -> Result<(), IoError> {
@@ -138,7 +112,7 @@ pub fn write_dictionary(
 
 /// Read a dictionary file, ours or one made elsewhere, validating shapes,
 /// finiteness and the group partition.
-pub fn read_dictionary(path: &Path) -> Result<DictionaryFile, IoError> {
+pub fn read_dictionary(path: &Path) -> Result<PatchDictionary, IoError> {
     let store = Store::read_only(path, &|name| {
         in_groups(name, LEADFIELD_GROUPS) || in_groups(name, &["/dictionary"])
     })?;
@@ -270,7 +244,7 @@ pub fn read_dictionary(path: &Path) -> Result<DictionaryFile, IoError> {
             _ => None,
         })
         .unwrap_or_else(|| "{}".to_string());
-    Ok(DictionaryFile {
+    Ok(PatchDictionary {
         leadfield,
         n_channels,
         n_atoms,
@@ -289,7 +263,7 @@ fn read_profile(
     store: &Store,
     path: &Path,
     n_atoms: usize,
-    leadfield: Option<&LeadFieldFile>,
+    leadfield: Option<&LeadField>,
 ) -> Result<CsMat<f64>, IoError> {
     let obj = "/dictionary/profile";
     let indptr = store.i64s(path, "/dictionary/profile/indptr", Some(n_atoms + 1))?;

@@ -1,4 +1,5 @@
-//! The `leadfield.h5` layout of design.md: montage, sources and gain.
+//! The `leadfield.h5` layout of design.md: montage, sources and gain, read
+//! into and written from the model [`crate::forward::LeadField`].
 //!
 //! Positions are millimetres in the file (`*_mm`), metres in memory; areas
 //! are mm² in the file, m² in memory; the gain is V/(A·m) in both.
@@ -7,38 +8,8 @@ use std::path::Path;
 
 use super::error::IoError;
 use super::store::{Attr, Dataset, Store};
+use crate::forward::LeadField;
 use crate::geometry::{SourceSpace, Vec3};
-
-/// Everything `leadfield.h5` holds, in SI units.
-#[derive(Debug, Clone, PartialEq)]
-pub struct LeadFieldFile {
-    /// Channel labels (n_ch).
-    pub labels: Vec<String>,
-    /// Electrode positions (m).
-    pub electrode_positions: Vec<Vec3>,
-    /// The sources.
-    pub sources: SourceSpace,
-    /// Gain along the normals, n_ch × n_src row-major, V/(A·m).
-    pub gain: Vec<f64>,
-    /// Optional free-orientation gain, n_ch × n_src × 3 row-major.
-    pub gain_xyz: Option<Vec<f64>>,
-    /// Reference of the gain (`average` or `none`).
-    pub reference: String,
-    /// The head model as a JSON string.
-    pub head_model: String,
-}
-
-impl LeadFieldFile {
-    /// Number of channels.
-    pub fn n_channels(&self) -> usize {
-        self.labels.len()
-    }
-
-    /// Number of sources.
-    pub fn n_sources(&self) -> usize {
-        self.sources.len()
-    }
-}
 
 const MM: f64 = 1e3;
 
@@ -101,7 +72,7 @@ pub fn insert_sources(store: &mut Store, s: &SourceSpace) {
 }
 
 /// Put the lead-field datasets into `store` (used by the dictionary file too).
-pub fn insert_leadfield(store: &mut Store, lf: &LeadFieldFile) {
+pub fn insert_leadfield(store: &mut Store, lf: &LeadField) {
     let n_ch = lf.n_channels();
     let n_src = lf.n_sources();
     insert_montage(store, &lf.labels, &lf.electrode_positions);
@@ -123,7 +94,7 @@ pub fn insert_leadfield(store: &mut Store, lf: &LeadFieldFile) {
 }
 
 /// Write `leadfield.h5` atomically.
-pub fn write_leadfield(path: &Path, lf: &LeadFieldFile) -> Result<(), IoError> {
+pub fn write_leadfield(path: &Path, lf: &LeadField) -> Result<(), IoError> {
     let mut store = Store::new();
     insert_leadfield(&mut store, lf);
     super::cache::seal(&mut store);
@@ -132,7 +103,7 @@ pub fn write_leadfield(path: &Path, lf: &LeadFieldFile) -> Result<(), IoError> {
 
 /// Read `leadfield.h5` (or the lead-field part of `dictionary.h5`),
 /// checking shapes, finiteness, unit normals and region indices.
-pub fn read_leadfield(path: &Path) -> Result<LeadFieldFile, IoError> {
+pub fn read_leadfield(path: &Path) -> Result<LeadField, IoError> {
     let store = Store::read_only(path, &|name| in_groups(name, LEADFIELD_GROUPS))?;
     leadfield_from_store(&store, path)
 }
@@ -157,7 +128,7 @@ fn value_error(path: &Path, object: &str, message: String) -> IoError {
 }
 
 /// Extract the lead-field layout from a store read from `path`.
-pub fn leadfield_from_store(store: &Store, path: &Path) -> Result<LeadFieldFile, IoError> {
+pub fn leadfield_from_store(store: &Store, path: &Path) -> Result<LeadField, IoError> {
     let labels = store.strings(path, "/montage/labels", None)?;
     let n_ch = labels.len();
     let (gain, _, n_src) = store.f64_matrix(path, "/leadfield/gain", Some(n_ch), None)?;
@@ -189,7 +160,7 @@ pub fn leadfield_from_store(store: &Store, path: &Path) -> Result<LeadFieldFile,
             .attr_str(path, "/leadfield/gain", name)
             .unwrap_or_else(|_| default.to_string())
     };
-    Ok(LeadFieldFile {
+    Ok(LeadField {
         labels,
         electrode_positions: points_from(&epos, 1.0 / MM),
         sources,

@@ -6,7 +6,7 @@
 use std::path::Path;
 
 use super::error::IoError;
-use super::leadfield_file::{insert_montage, insert_sources, LeadFieldFile};
+use super::leadfield_file::{insert_montage, insert_sources};
 use super::store::{Attr, Dataset, Store};
 use crate::pipeline::FitOutcome;
 
@@ -37,7 +37,7 @@ pub struct ResultRecord<'a> {
     /// The fitted patterns D X in the units of `patterns` (n_ch × k).
     pub reconstruction: &'a [f64],
     /// The lead field the dictionary came from (for `/montage` and `/sources`), if known.
-    pub leadfield: Option<&'a LeadFieldFile>,
+    pub leadfield: Option<&'a crate::forward::LeadField>,
 }
 
 /// The caution stored with every result.

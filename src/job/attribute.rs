@@ -11,13 +11,13 @@ use super::observer::{staged, JobObserver};
 use super::params::AttributeParams;
 use super::perturb::perturbed_for_resamples;
 use super::prepare::{
-    check_channels, decoder_patterns, read_matrix, reconstruction, reference_atoms, restrict,
-    whiten,
+    check_channels, decoder_patterns, read_matrix, reconstruction, restrict, whitener_for,
 };
 use super::specs::Reference;
+use crate::dictionary::PatchDictionary;
 use crate::io::cache::file_sha256;
 use crate::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
-use crate::io::dictionary_file::{read_dictionary, DictionaryFile};
+use crate::io::dictionary_file::read_dictionary;
 use crate::pipeline::{fit_patterns, FitOutcome, LambdaRule, Problem};
 
 fn bad(message: String) -> JobError {
@@ -37,7 +37,7 @@ pub struct Attribution {
     /// Where the patterns came from.
     pub patterns_source: String,
     /// The dictionary used (restricted to the decoder's channels).
-    pub dictionary: DictionaryFile,
+    pub dictionary: PatchDictionary,
     /// The fit.
     pub outcome: FitOutcome,
     /// Input hashes.
@@ -149,7 +149,7 @@ pub fn attribute(
         }
     };
     if average {
-        reference_atoms(&mut dict);
+        dict.rereference();
     } else {
         notes.push("reference none: patterns and atoms used as given".to_string());
     }
@@ -161,8 +161,10 @@ pub fn attribute(
                 "noise_covariance".to_string(),
                 file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
             ));
+            let w = whitener_for(p, dict.n_channels)?;
+            let yw = w.apply(&patterns, k).input("whitening the patterns")?;
             let before = dict.atoms.clone();
-            let (yw, scales, w) = whiten(&mut dict, &patterns, k, p)?;
+            let scales = dict.whiten(&w).input("whitening the dictionary")?;
             unwhitened = Some((before, scales));
             whitener = Some(w);
             yw

@@ -11,12 +11,13 @@ use super::keyed_lock::cache_locks;
 use super::observer::JobObserver;
 use super::params::{ForwardParams, PatchParams};
 use super::specs::OrientationChoice;
-use crate::forward::Orientation;
+use crate::dictionary::PatchDictionary;
+use crate::forward::{LeadField, Orientation};
 use crate::geometry::SourceSpace;
 use crate::head::SphereHead;
 use crate::io::cache::{entry_path, ContentHash};
-use crate::io::dictionary_file::{read_dictionary, write_dictionary, DictionaryFile};
-use crate::io::leadfield_file::{read_leadfield, write_leadfield, LeadFieldFile};
+use crate::io::dictionary_file::{read_dictionary, write_dictionary};
+use crate::io::leadfield_file::{read_leadfield, write_leadfield};
 use crate::montage::Montage;
 
 /// The forward model a dictionary of this run was built from (for the
@@ -87,7 +88,7 @@ pub fn dictionary_for_channels(
     cache: &Path,
     hashes: &mut Vec<(String, String)>,
     observer: &dyn JobObserver,
-) -> Result<(DictionaryFile, ForwardModel), JobError> {
+) -> Result<(PatchDictionary, ForwardModel), JobError> {
     let (montage, sources, head) = forward.resolve(Some(labels), observer)?;
     let orientation = match patches.atom_orientation {
         OrientationChoice::Normal => Orientation::Normal,
@@ -148,7 +149,7 @@ pub fn cached_leadfield(
     (montage, sources, head): (&Montage, &SourceSpace, &SphereHead),
     orientation: Orientation,
     observer: &dyn JobObserver,
-) -> Result<LeadFieldFile, JobError> {
+) -> Result<LeadField, JobError> {
     let lf_path = entry_path(cache, "leadfield", lf_hash);
     cache_locks().with_lock(lf_hash, || match read_leadfield(&lf_path) {
         Ok(lf) if lf_path.is_file() => {
@@ -182,7 +183,7 @@ fn cached_dictionary(
     model: (&Montage, &SourceSpace, &SphereHead),
     orientation: Orientation,
     observer: &dyn JobObserver,
-) -> Result<DictionaryFile, JobError> {
+) -> Result<PatchDictionary, JobError> {
     let d_path = entry_path(cache, "dictionary", d_hash);
     if d_path.is_file() {
         match read_dictionary(&d_path) {

@@ -49,6 +49,19 @@ impl JobError {
         }
     }
 
+    /// `source` under `context`, as an error of `kind`.
+    pub fn wrap(
+        kind: ErrorKind,
+        context: impl fmt::Display,
+        source: impl std::error::Error + Send + Sync + 'static,
+    ) -> Self {
+        JobError {
+            kind,
+            message: context.to_string(),
+            source: Some(Box::new(source)),
+        }
+    }
+
     /// The same error under `context` (what was being done), same kind.
     pub fn context(self, context: impl fmt::Display) -> Self {
         JobError {

@@ -10,11 +10,10 @@ use super::observer::{staged, JobObserver};
 use super::params::{ForwardParams, PatchParams};
 use super::specs::{HeadChoice, MontageSpec, SourcesSpec};
 use crate::dictionary::{Dictionary, DictionaryInfo};
-use crate::forward::Orientation;
+use crate::forward::{LeadField, Orientation};
 use crate::geometry::SourceSpace;
 use crate::head::{HeadSpec, SphereHead};
 use crate::io::electrodes::read_electrodes;
-use crate::io::leadfield_file::LeadFieldFile;
 use crate::io::sources_file::{read_regions, read_sources, POINT_SOURCE_AREA_MM2};
 use crate::montage::{fit_sphere, standard, standard_names, Montage};
 use crate::pipeline::{dictionary_for, leadfield_for, DistanceKind};
@@ -48,7 +47,7 @@ pub fn compute_leadfield(
     head: &SphereHead,
     orientation: Orientation,
     observer: &dyn JobObserver,
-) -> Result<LeadFieldFile, JobError> {
+) -> Result<LeadField, JobError> {
     let (lf, warnings) = staged(observer, "lead field", sources.len(), |progress| {
         leadfield_for(montage, sources, head, orientation, progress)
     })
@@ -61,7 +60,7 @@ pub fn compute_leadfield(
 
 /// The patch dictionary of a lead field, with its progress and notes.
 pub fn build_dictionary(
-    lf: &LeadFieldFile,
+    lf: &LeadField,
     patches: &PatchParams,
     observer: &dyn JobObserver,
 ) -> Result<(Dictionary, DictionaryInfo), JobError> {

@@ -7,10 +7,11 @@ use super::cache::{cached_leadfield, leadfield_hash, ForwardModel};
 use super::error::{JobError, JobResult};
 use super::observer::JobObserver;
 use super::params::FitParams;
-use super::prepare::rescale_to_unit_norm;
-use crate::dictionary::{atoms_for_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM};
-use crate::io::dictionary_file::DictionaryFile;
+use crate::dictionary::{
+    atoms_for_channels, AtomComponent, PatchDictionary, DEFAULT_DROP_RELATIVE_NORM,
+};
 use crate::montage::Montage;
+use crate::numeric::rescale_to_unit_norm;
 use crate::patterns::Whitener;
 use crate::pipeline::{perturbed_model, ForwardPerturbation};
 
@@ -18,7 +19,7 @@ use crate::pipeline::{perturbed_model, ForwardPerturbation};
 /// own (average-referenced, whitened when the fit is, unit columns), when
 /// resamples run on a dictionary this run built; none otherwise, with a note.
 pub fn perturbed_for_resamples(
-    dict: &DictionaryFile,
+    dict: &PatchDictionary,
     forward: Option<&ForwardModel>,
     average: bool,
     whitener: Option<&Whitener>,

@@ -1,18 +1,17 @@
-//! Getting the decoder and the dictionary into the fit's space: patterns
-//! from weights (Haufe et al. 2014, NeuroImage 87:96, eq. 6), checked and
-//! average-referenced; the dictionary restricted to the decoder's channels,
-//! re-referenced and whitened with the patterns; and the fitted patterns
-//! mapped back to the patterns' units.
+//! The decoder's side of getting into the fit's space: patterns from
+//! weights (Haufe et al. 2014, NeuroImage 87:96, eq. 6), checked and
+//! average-referenced; the dictionary restricted to the decoder's channels
+//! (the messages around [`PatchDictionary::restrict_to`]); the whitener of
+//! a noise covariance file; and the fitted patterns mapped back to the
+//! patterns' units. The dictionary's own operations (`restrict_to`,
+//! `rereference`, `whiten`) are methods of [`PatchDictionary`].
 
 use std::path::Path;
 
 use super::error::{JobError, JobResult};
 use super::observer::JobObserver;
-use crate::dictionary::{
-    atoms_for_channels, select_channels, AtomComponent, DEFAULT_DROP_RELATIVE_NORM,
-};
+use crate::dictionary::{PatchDictionary, RestrictError};
 use crate::io::decoder_file::{DecoderContent, DecoderFile};
-use crate::io::dictionary_file::DictionaryFile;
 use crate::montage::Montage;
 use crate::patterns::{activation_patterns, average_reference, Whitener};
 
@@ -23,41 +22,6 @@ fn bad(message: String) -> JobError {
 /// A matrix file (.npy or .csv) as (row-major values, rows, columns).
 pub fn read_matrix(path: &Path) -> Result<(Vec<f64>, usize, usize), JobError> {
     crate::io::decoder_file::read_matrix(path).input("reading a matrix")
-}
-
-/// Scale column `j` of the row-major n × m `atoms` to unit 2-norm and fold
-/// the scale into `norm` (the atom's removed scale); a zero column stays zero.
-pub fn rescale_to_unit_norm(atoms: &mut [f64], n: usize, m: usize, j: usize, norm: &mut f64) {
-    let s = (0..n).map(|i| atoms[i * m + j].powi(2)).sum::<f64>().sqrt();
-    if s > 0.0 {
-        for i in 0..n {
-            atoms[i * m + j] /= s;
-        }
-    }
-    *norm *= s;
-}
-
-/// Re-reference atoms to the common average (subtract each column's
-/// channel mean) and rescale them to unit norm, folding the scale into the
-/// atom norms; columns already referenced are left as they are.
-#[allow(clippy::needless_range_loop)]
-pub fn reference_atoms(dict: &mut DictionaryFile) {
-    let (n, m) = (dict.n_channels, dict.n_atoms);
-    let mut norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);
-    for j in 0..m {
-        let mean = (0..n).map(|i| dict.atoms[i * m + j]).sum::<f64>() / n as f64;
-        let scale = (0..n)
-            .map(|i| dict.atoms[i * m + j].abs())
-            .fold(0.0, f64::max);
-        if mean.abs() <= 1e-12 * scale {
-            continue;
-        }
-        for i in 0..n {
-            dict.atoms[i * m + j] -= mean;
-        }
-        rescale_to_unit_norm(&mut dict.atoms, n, m, j, &mut norms[j]);
-    }
-    dict.atom_norms = Some(norms);
 }
 
 /// The decoder's patterns (n_ch x k), average-referenced over its channels
@@ -109,87 +73,57 @@ pub fn decoder_patterns(
     Ok(referenced)
 }
 
-/// Restrict a dictionary to `labels` (decoder order), recomputing atoms
-/// from the profiles when channels must be dropped or reordered.
+/// Restrict a dictionary read from `path` to `labels` (decoder order),
+/// recomputing atoms from the profiles when channels must be dropped or
+/// reordered; a dictionary without channel labels is taken as it is, with
+/// a note, when its row count matches.
 pub fn restrict(
-    dict: DictionaryFile,
+    dict: PatchDictionary,
     labels: &[String],
     path: &Path,
     observer: &dyn JobObserver,
-) -> Result<DictionaryFile, JobError> {
-    let Some(lf) = &dict.leadfield else {
-        if labels.len() != dict.n_channels {
-            return Err(bad(format!(
-                "{}: the dictionary has {} rows and no channel labels, but the patterns have {} channels",
-                path.display(),
-                dict.n_channels,
-                labels.len()
-            )));
+) -> Result<PatchDictionary, JobError> {
+    let unlabelled = dict.leadfield.is_none();
+    let rows = dict.n_channels;
+    let restricted = match dict.restrict_to(labels) {
+        Ok(d) => d,
+        Err(e @ RestrictError::Unlabelled { .. }) => {
+            return Err(bad(format!("{}: {e}", path.display())))
         }
+        Err(RestrictError::Labels(e)) => {
+            return Err(e).input(format!("{}: channel labels", path.display()))
+        }
+        Err(RestrictError::Match(e)) => {
+            return Err(e).input(format!(
+                "matching the decoder's channels to {}",
+                path.display()
+            ))
+        }
+        Err(RestrictError::NoProfile) => {
+            return Err(bad(format!(
+                "{}: channels differ from the decoder's and the file has no /dictionary/profile to recompute the atoms",
+                path.display()
+            )))
+        }
+        Err(RestrictError::Channels(e)) => return Err(e).input("selecting channels"),
+        Err(RestrictError::Atoms(e)) => {
+            return Err(e).input("recomputing atoms for the decoder's channels")
+        }
+    };
+    if unlabelled {
         observer.note(&format!(
             "note: {} has no channel labels: its {} rows are taken to be the decoder's channels in the decoder's order (matched by count only)",
             path.display(),
-            dict.n_channels
+            rows
         ));
-        return Ok(dict);
-    };
-    let montage = Montage::new(lf.labels.clone(), lf.electrode_positions.clone())
-        .input(format!("{}: channel labels", path.display()))?;
-    let idx = montage.select(labels).input(format!(
-        "matching the decoder's channels to {}",
-        path.display()
-    ))?;
-    if idx.iter().copied().eq(0..dict.n_channels) {
-        return Ok(dict);
     }
-    let (Some(profile), Some(_)) = (&dict.profile, &dict.atom_norms) else {
-        return Err(bad(format!(
-            "{}: channels differ from the decoder's and the file has no /dictionary/profile to recompute the atoms",
-            path.display()
-        )));
-    };
-    let gain = select_channels(&lf.gain, lf.n_channels(), &idx).input("selecting channels")?;
-    let gain_xyz = match &lf.gain_xyz {
-        Some(g) => Some(select_channels(g, lf.n_channels(), &idx).input("selecting channels")?),
-        None => None,
-    };
-    let component = dict
-        .component
-        .clone()
-        .unwrap_or_else(|| vec![AtomComponent::Normal; dict.n_atoms]);
-    let (atoms, norms) = atoms_for_channels(
-        profile,
-        &component,
-        &gain,
-        gain_xyz.as_deref(),
-        idx.len(),
-        true,
-        DEFAULT_DROP_RELATIVE_NORM,
-    )
-    .input("recomputing atoms for the decoder's channels")?;
-    let mut sub_lf = lf.clone();
-    sub_lf.labels = idx.iter().map(|&i| lf.labels[i].clone()).collect();
-    sub_lf.electrode_positions = idx.iter().map(|&i| lf.electrode_positions[i]).collect();
-    sub_lf.gain = gain;
-    sub_lf.gain_xyz = gain_xyz;
-    Ok(DictionaryFile {
-        leadfield: Some(sub_lf),
-        n_channels: idx.len(),
-        atoms,
-        atom_norms: Some(norms),
-        ..dict
-    })
+    Ok(restricted)
 }
 
-/// Whitened patterns and, per atom, the norm of its whitened column (the
-/// factor the unit-norm rescale removed), so fits can be mapped back.
-pub fn whiten(
-    dict: &mut DictionaryFile,
-    patterns: &[f64],
-    k: usize,
-    path: &Path,
-) -> Result<(Vec<f64>, Vec<f64>, Whitener), JobError> {
-    let n = dict.n_channels;
+/// The whitener of the noise covariance in `path` (n x n, the decoder's
+/// channels), average-referenced like the data and refused when its rank
+/// is below n - 1.
+pub fn whitener_for(path: &Path, n: usize) -> Result<Whitener, JobError> {
     let (cov, r, c) = read_matrix(path)?;
     if r != n || c != n {
         return Err(bad(format!(
@@ -214,22 +148,7 @@ pub fn whiten(
             w.rank()
         )));
     }
-    let yw = w.apply(patterns, k).input("whitening the patterns")?;
-    let m = dict.n_atoms;
-    let aw = w.apply(&dict.atoms, m).input("whitening the dictionary")?;
-    let mut norms = dict.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);
-    let mut atoms = aw;
-    let mut scales = vec![1.0; m];
-    for (j, norm) in norms.iter_mut().enumerate() {
-        let before = *norm;
-        rescale_to_unit_norm(&mut atoms, n, m, j, norm);
-        if before > 0.0 {
-            scales[j] = *norm / before;
-        }
-    }
-    dict.atoms = atoms;
-    dict.atom_norms = Some(norms);
-    Ok((yw, scales, w))
+    Ok(w)
 }
 
 /// The fitted patterns in the units of the (unwhitened) patterns: the fit's

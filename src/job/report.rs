@@ -4,7 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
-use super::error::{JobError, JobResult};
+use super::error::{ErrorKind, JobError, JobResult};
 use crate::io::compare_read::read_compare;
 use crate::io::result_file::read_result;
 use crate::render::compare_report::{build_compare_report, CompareReportOptions};
@@ -18,12 +18,8 @@ fn bad(message: String) -> JobError {
 /// input, a picture that fails is a compute failure.
 fn building(e: ReportError) -> JobError {
     match e {
-        ReportError::Shape { .. } => Err::<(), _>(e)
-            .input("checking the result's sizes")
-            .unwrap_err(),
-        other => Err::<(), _>(other)
-            .compute("building the report")
-            .unwrap_err(),
+        ReportError::Shape { .. } => JobError::input(e.to_string()),
+        other => JobError::wrap(ErrorKind::Compute, "building the report", other),
     }
 }
 

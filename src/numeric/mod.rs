@@ -9,15 +9,19 @@
 //! - [`average_reference_columns`] and [`centre_covariance`]: the common
 //!   average reference of a channel × column matrix and of a channel
 //!   covariance (H A and H C H with H = I − 11ᵀ/n the centring matrix).
+//! - [`rescale_to_unit_norm`]: one column of a channel × atom matrix to
+//!   unit 2-norm, its scale folded into the atom's norm.
 //!
 //! *Invariant:* no file I/O and no import of any other module of the crate;
 //! every sum runs in a fixed order, so results do not depend on the thread
 //! count.
 
+mod columns;
 pub(crate) mod eigen;
 mod reference;
 mod rng;
 
+pub use columns::rescale_to_unit_norm;
 pub(crate) use eigen::symmetric_eigen;
 pub use reference::{average_reference_columns, centre_covariance};
 pub use rng::SplitMix64;

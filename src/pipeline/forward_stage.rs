@@ -3,23 +3,22 @@
 use rayon::prelude::*;
 
 use crate::dictionary::{build_dictionary, Dictionary, DictionaryInfo, DictionaryParams, Seeds};
-use crate::forward::{lead_field, Orientation, Reference};
+use crate::forward::{lead_field, LeadField, Orientation, Reference};
 use crate::geometry::{farthest_point_seeds, norm, sub, GeodesicSolver, SourceSpace};
 use crate::head::SphereHead;
-use crate::io::leadfield_file::LeadFieldFile;
 use crate::montage::{Montage, ProjectionWarning};
 
 use super::PipelineError;
 
 /// The lead field of `montage` (projected radially onto the scalp sphere)
-/// for `sources` in `head`, average-referenced, packed in the file layout.
+/// for `sources` in `head`, average-referenced, as a [`LeadField`] model.
 pub fn leadfield_for(
     montage: &Montage,
     sources: &SourceSpace,
     head: &SphereHead,
     orientation: Orientation,
     progress: &(dyn Fn(usize) + Sync),
-) -> Result<(LeadFieldFile, Vec<ProjectionWarning>), PipelineError> {
+) -> Result<(LeadField, Vec<ProjectionWarning>), PipelineError> {
     let (projected, warnings) = montage.project_to_sphere(head.center(), head.outer_radius())?;
     let lf = lead_field(
         head,
@@ -31,7 +30,7 @@ pub fn leadfield_for(
         progress,
     )?;
     Ok((
-        LeadFieldFile {
+        LeadField {
             labels: projected.labels.clone(),
             electrode_positions: projected.positions.clone(),
             sources: sources.clone(),
@@ -57,7 +56,7 @@ pub enum DistanceKind {
 /// farthest-point seeds at `spacing_m`. Distances are geodesic on the
 /// source mesh when it has triangles, Euclidean otherwise.
 pub fn dictionary_for(
-    lf: &LeadFieldFile,
+    lf: &LeadField,
     params: &DictionaryParams,
     spacing_m: Option<f64>,
     progress: &(dyn Fn(usize) + Sync),

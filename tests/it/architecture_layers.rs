@@ -18,8 +18,8 @@ const ORDER: [&str; 20] = [
     "head",
     "montage",
     "patterns",
-    "dictionary",
     "forward",
+    "dictionary",
     "attribution",
     "dipole",
     "cohort",
@@ -33,11 +33,7 @@ const ORDER: [&str; 20] = [
 ];
 
 /// Arrows that still run up, each with what removes it. Keep this empty.
-const KNOWN_EXCEPTIONS: [(&str, &str); 1] = [
-    // The lead-field model moves out of io (the working type is still
-    // io's LeadFieldFile); then pipeline no longer needs io.
-    ("pipeline", "io"),
-];
+const KNOWN_EXCEPTIONS: [(&str, &str); 0] = [];
 
 fn src() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("src")

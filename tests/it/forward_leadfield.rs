@@ -1,7 +1,7 @@
 //! Checks of lead-field assembly: errors, references, orientations, thread
 //! independence and agreement with the head model's own potential.
 
-use patchwise::forward::{lead_field, ForwardError, LeadField, Orientation, Reference};
+use patchwise::forward::{lead_field, ForwardError, Gain, Orientation, Reference};
 use patchwise::geometry::Mesh;
 use patchwise::head::SphereHead;
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -37,7 +37,7 @@ fn setup() -> Setup {
     (head, electrodes, sources, normals)
 }
 
-fn run(orientation: Orientation, reference: Reference) -> LeadField {
+fn run(orientation: Orientation, reference: Reference) -> Gain {
     let (head, e, s, n) = setup();
     lead_field(&head, &e, &s, &n, orientation, reference, &|_| {}).unwrap()
 }

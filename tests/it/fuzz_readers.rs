@@ -26,12 +26,13 @@ use std::process::Command;
 
 use patchwise::attribution::rng::SplitMix64;
 use patchwise::dictionary::DictionaryParams;
+use patchwise::forward::LeadField;
 use patchwise::geometry::{Mesh, SourceSpace};
 use patchwise::io::dictionary_file::{read_dictionary, write_dictionary};
 use patchwise::io::gifti::{
     read_gifti_labels, read_gifti_surface, write_gifti_labels, write_gifti_surface, GiftiEncoding,
 };
-use patchwise::io::leadfield_file::{read_leadfield, write_leadfield, LeadFieldFile};
+use patchwise::io::leadfield_file::{read_leadfield, write_leadfield};
 use patchwise::io::npy::{read_npy, read_npz, write_npy_f64, write_npz, NpyArray, NpyData};
 use patchwise::io::ply::{read_ply, write_ply, PlyFormat};
 use patchwise::io::{Dataset, Store};
@@ -79,12 +80,12 @@ fn labels(n: usize) -> Vec<String> {
 }
 
 /// The lead field of the corpus: 8 channels on the 42 sources, seeded gain.
-fn leadfield() -> LeadFieldFile {
+fn leadfield() -> LeadField {
     let mesh = sphere();
     let sources = SourceSpace::from_mesh(&mesh);
     let mut rng = SplitMix64::new(1, 0);
     let n_src = sources.positions.len();
-    LeadFieldFile {
+    LeadField {
         labels: labels(8),
         electrode_positions: (0..8)
             .map(|i| {

@@ -22,6 +22,7 @@ mod cohort_reference;
 mod cohort_simulation;
 mod dictionary_atoms;
 mod dictionary_errors;
+mod dictionary_model;
 mod dictionary_profiles;
 mod dipole_cli;
 mod dipole_fit;

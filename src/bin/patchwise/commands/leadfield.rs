@@ -3,10 +3,10 @@
 use std::path::{Path, PathBuf};
 
 use patchwise::dictionary::POINT_SOURCE_AREA_M2;
-use patchwise::forward::Orientation;
+use patchwise::forward::{LeadField, Orientation};
 use patchwise::geometry::{norm, normalize, SourceSpace};
 use patchwise::io::electrodes::read_channel_list;
-use patchwise::io::leadfield_file::{write_leadfield, LeadFieldFile};
+use patchwise::io::leadfield_file::write_leadfield;
 use patchwise::io::npy::read_npy_f64;
 use patchwise::io::sources_file::read_regions;
 use patchwise::io::Store;
@@ -278,7 +278,7 @@ fn import(args: ImportArgs) -> Result<(), CliError> {
             args.reference
         )));
     }
-    let lf = LeadFieldFile {
+    let lf = LeadField {
         labels: channels,
         electrode_positions: vec![[0.0; 3]; n_ch],
         sources,
