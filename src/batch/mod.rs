@@ -23,11 +23,13 @@
 //! Keys have the meaning of `patchwise attribute`'s flags with `_` for `-`;
 //! a job's key overrides the same key of `[defaults]`; unknown keys are
 //! rejected with their line. Relative paths are relative to the script's
-//! folder. This module reads the script and hashes input files but runs
-//! nothing: executing the jobs is the binary's part.
+//! folder. [`run::run_batch`] runs the jobs (each one `job::attribute`),
+//! stages each job's folder with its marker, and writes the summary.
 
+mod checks;
 mod error;
 mod plan;
+pub mod run;
 mod script;
 mod shard;
 

@@ -93,6 +93,21 @@ impl JobError {
     }
 }
 
+impl From<crate::io::staging::StagingError> for JobError {
+    fn from(e: crate::io::staging::StagingError) -> Self {
+        let kind = if e.is_refusal() {
+            ErrorKind::Input
+        } else {
+            ErrorKind::Compute
+        };
+        JobError {
+            kind,
+            message: e.to_string(),
+            source: None,
+        }
+    }
+}
+
 /// Attach a context and a kind to a library result.
 pub trait JobResult<T> {
     /// Bad input, with `context` (what was being read or checked).

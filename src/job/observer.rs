@@ -9,6 +9,12 @@ use std::sync::Mutex;
 pub trait JobObserver: Sync {
     /// A one-line note (a cached file used, a warning, an assumption).
     fn note(&self, message: &str);
+    /// A line of the job's own record (a batch's "done job (2.1 s)"): the
+    /// command line prints it on standard output, above any bar. By
+    /// default a note.
+    fn line(&self, text: &str) {
+        self.note(text);
+    }
     /// A stage of `total` steps begins (`what` names it, e.g. "lead field").
     fn stage_start(&self, what: &str, total: usize) {
         let _ = (what, total);

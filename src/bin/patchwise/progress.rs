@@ -1,28 +1,14 @@
-//! Progress bars on stderr, drawn only when stderr is a terminal; a quiet
-//! switch silences the per-command bars and notes (batch runs draw one
-//! overall bar instead).
+//! Progress bars on stderr, drawn only when stderr is a terminal, and the
+//! command line's job observer. Batch jobs run with a silent observer, so
+//! a batch draws one overall bar.
 
 use std::io::IsTerminal;
-use std::sync::atomic::{AtomicBool, Ordering};
 
 use indicatif::{ProgressBar, ProgressStyle};
 
-/// Set by batch runs: the bars and notes of the jobs stay hidden so that
-/// parallel jobs do not interleave their output.
-static QUIET: AtomicBool = AtomicBool::new(false);
-
-/// Hide the bars of [`bar`] and the lines of [`note`] from now on (or show
-/// them again).
-pub fn set_quiet(quiet: bool) {
-    QUIET.store(quiet, Ordering::Relaxed);
-}
-
 /// A progress bar for `total` steps of `what`, hidden when stderr is not a
-/// terminal (pipes, CI logs and tests stay clean) or in quiet mode.
+/// terminal (pipes, CI logs and tests stay clean).
 pub fn bar(total: usize, what: &str) -> ProgressBar {
-    if QUIET.load(Ordering::Relaxed) {
-        return ProgressBar::hidden();
-    }
     terminal_bar(total, what)
 }
 
@@ -41,11 +27,9 @@ pub fn terminal_bar(total: usize, what: &str) -> ProgressBar {
     pb
 }
 
-/// A status line on stderr (short; silent in quiet mode).
+/// A status line on stderr (short).
 pub fn note(message: impl std::fmt::Display) {
-    if !QUIET.load(Ordering::Relaxed) {
-        errln!("{message}");
-    }
+    errln!("{message}");
 }
 
 /// The job observer of the command line: notes through [`note`], one bar
@@ -59,6 +43,13 @@ pub struct Console {
 impl patchwise::job::JobObserver for Console {
     fn note(&self, message: &str) {
         note(message);
+    }
+    fn line(&self, text: &str) {
+        let current = self.current.lock().ok();
+        match current.as_ref().and_then(|c| c.as_ref()) {
+            Some(pb) if !pb.is_hidden() => pb.println(text),
+            _ => outln!("{text}"),
+        }
     }
     fn stage_start(&self, what: &str, total: usize) {
         if let Ok(mut current) = self.current.lock() {

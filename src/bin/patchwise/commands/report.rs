@@ -3,7 +3,7 @@
 
 use std::path::{Path, PathBuf};
 
-pub use patchwise::job::report::{write_compare_report, write_report, write_report_as};
+pub use patchwise::job::report::{write_compare_report, write_report};
 
 use crate::CliError;
 

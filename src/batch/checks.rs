@@ -1,31 +1,20 @@
-//! One batch job: `attribute`'s arguments from the job, the run, and the
-//! output folder staged with its completion marker so that it appears whole
-//! or not at all.
+//! A batch's checks before any job runs and its view of the output folder:
+//! which job folders may be replaced, which are done (their marker's input
+//! hash), which outputs would overlap inputs (also through a glob pattern).
 
-use std::panic::{catch_unwind, AssertUnwindSafe};
 use std::path::{Path, PathBuf};
 
-use patchwise::batch::Job;
-use patchwise::io::cache::default_cache_dir;
-use patchwise::job::attribute;
+use super::{Job, MARKER_FILE as MARKER};
+use crate::job::JobError;
 
-use super::super::report::write_report_as;
-use crate::outputs::write_files;
-use crate::progress::Console;
-use crate::CliError;
-use patchwise::io::staging::{self, Staging};
-
-/// The completion marker, written last into the staged job folder.
-pub use patchwise::batch::MARKER_FILE as MARKER;
-
-fn bad(message: String) -> CliError {
-    CliError::bad_input(anyhow::anyhow!(message))
+fn bad(message: String) -> JobError {
+    JobError::input(message)
 }
 
 /// `out/<name>` may be replaced by this job only when it is missing or is
 /// this job's folder: its marker names the job, and it holds nothing but
 /// files patchwise writes. Anything else is the user's and is refused.
-pub fn check_job_folder(out: &Path, name: &str) -> Result<(), CliError> {
+pub fn check_job_folder(out: &Path, name: &str) -> Result<(), JobError> {
     let dir = out.join(name);
     let Ok(meta) = std::fs::symlink_metadata(&dir) else {
         return Ok(());
@@ -35,7 +24,7 @@ pub fn check_job_folder(out: &Path, name: &str) -> Result<(), CliError> {
         .and_then(|t| serde_json::from_str::<serde_json::Value>(&t).ok());
     let ours = meta.is_dir()
         && marker.is_some_and(|m| m["job"].as_str() == Some(name))
-        && staging::foreign_entries(&dir).is_ok_and(|f| f.is_empty());
+        && crate::io::staging::foreign_entries(&dir).is_ok_and(|f| f.is_empty());
     if ours {
         return Ok(());
     }
@@ -57,21 +46,24 @@ pub fn check_outputs(
     jobs: &[Job],
     mine: &[&Job],
     compare_out: Option<&Path>,
-) -> Result<(), CliError> {
-    staging::check_folder_path(out, "--out")?;
+) -> Result<(), JobError> {
+    crate::io::staging::check_folder_path(out, "--out")?;
     for job in mine {
         check_job_folder(out, &job.name)?;
     }
-    let out_resolved = staging::resolved(out);
+    let out_resolved = crate::io::staging::resolved(out);
     let mut written: Vec<PathBuf> = jobs.iter().map(|j| out.join(&j.name)).collect();
-    written.push(out.join(patchwise::batch::SUMMARY_FILE));
+    written.push(out.join(crate::batch::SUMMARY_FILE));
     if let Some(c) = compare_out {
         written.push(c.to_path_buf());
     }
-    let written: Vec<PathBuf> = written.iter().map(|w| staging::resolved(w)).collect();
+    let written: Vec<PathBuf> = written
+        .iter()
+        .map(|w| crate::io::staging::resolved(w))
+        .collect();
     for job in jobs {
         for (key, file) in job.input_files() {
-            let file_resolved = staging::resolved(&file);
+            let file_resolved = crate::io::staging::resolved(&file);
             if let Some(w) = written.iter().find(|w| file_resolved.starts_with(w)) {
                 return Err(bad(format!(
                     "job {} (line {}): {key} {} lies in {}, which this batch writes; keep inputs outside the batch's outputs",
@@ -84,7 +76,7 @@ pub fn check_outputs(
         }
         if let Some(pattern) = job.pattern.as_deref().and_then(absolute_pattern) {
             for j in jobs {
-                for f in staging::OUR_FILES {
+                for f in crate::io::staging::OUR_FILES {
                     let produced = out_resolved.join(&j.name).join(f);
                     if pattern.matches_path(&produced) {
                         return Err(bad(format!(
@@ -103,7 +95,7 @@ pub fn check_outputs(
         // Compared by path, before the job folders exist: the comparison is
         // replaced as a whole, so it may neither hold nor sit inside what
         // the jobs write.
-        let compare_resolved = staging::resolved(c);
+        let compare_resolved = crate::io::staging::resolved(c);
         let mut folders: Vec<PathBuf> = jobs.iter().map(|j| out_resolved.join(&j.name)).collect();
         folders.push(out_resolved.clone());
         for folder in &folders {
@@ -116,7 +108,7 @@ pub fn check_outputs(
                 )));
             }
         }
-        staging::check_output_folder(c, "[compare] out")?;
+        crate::io::staging::check_output_folder(c, "[compare] out")?;
     }
     Ok(())
 }
@@ -159,7 +151,7 @@ fn absolute_pattern(pattern: &str) -> Option<glob::Pattern> {
     let prefix: PathBuf = std::iter::once("/".to_string())
         .chain(parts[..n_literal].iter().map(|(p, _)| p.clone()))
         .collect();
-    let resolved_prefix = staging::resolved(&prefix);
+    let resolved_prefix = crate::io::staging::resolved(&prefix);
     let mut text = glob::Pattern::escape(&resolved_prefix.to_string_lossy());
     for (p, literal) in &parts[n_literal..] {
         if !text.ends_with('/') {
@@ -191,65 +183,5 @@ pub fn is_done(out: &Path, name: &str, hash: &str) -> bool {
 /// no longer exists. Those of live processes (another shard staging right
 /// now) are kept.
 pub fn clean_stale(out: &Path) {
-    patchwise::io::atomic::remove_dead_temporaries(out, None);
-}
-
-/// Run one job and stage its folder: result files, then the marker, then
-/// the rename that makes it visible (replacing an outdated folder).
-fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<(), CliError> {
-    let target = out.join(&job.name);
-    let params = &job.params;
-    let cache = cache.map_or_else(default_cache_dir, Path::to_path_buf);
-    let result = attribute(params, &cache, None, &Console::default())?;
-    let stage = Staging::new(&target).map_err(CliError::compute)?;
-    write_files(&stage, &result)?;
-    if !job.no_report {
-        // Inside the staged folder, before the marker: a job's folder has
-        // its report exactly when `attribute` would have written one.
-        let staged = stage.file("result.h5");
-        let dir = staged.parent().unwrap_or(out);
-        write_report_as(
-            dir,
-            Some(&stage.file("report.html")),
-            params.describe(),
-            Some(&target),
-        )?;
-    }
-    let marker = serde_json::json!({
-        "job": job.name,
-        "group": job.group,
-        "status": "done",
-        "input_hash": hash,
-        "decoder": job.decoder.display().to_string(),
-        "options": job.options_json(),
-        "software": format!("patchwise {}", env!("CARGO_PKG_VERSION")),
-    });
-    let text = serde_json::to_string_pretty(&marker).unwrap_or_default();
-    patchwise::io::atomic::write_atomic(&stage.file(MARKER), text.as_bytes())
-        .map_err(|e| CliError::compute(anyhow::anyhow!("writing {MARKER}: {e}")))?;
-    // The commit swaps the folder in whole; an outdated folder is replaced
-    // only when it is this job's (checked before the run, again here).
-    check_job_folder(out, &job.name)?;
-    stage.commit()?;
-    Ok(())
-}
-
-/// [`run_job`], with a panic reported as this job's failure so that the
-/// other jobs go on.
-pub fn run_job_catching(
-    job: &Job,
-    hash: &str,
-    out: &Path,
-    cache: Option<&Path>,
-) -> Result<(), CliError> {
-    catch_unwind(AssertUnwindSafe(|| run_job(job, hash, out, cache))).unwrap_or_else(|panic| {
-        let message = panic
-            .downcast_ref::<String>()
-            .cloned()
-            .or_else(|| panic.downcast_ref::<&str>().map(|s| s.to_string()))
-            .unwrap_or_default();
-        Err(CliError::compute(anyhow::anyhow!(
-            "internal error (panic) in the job: {message}"
-        )))
-    })
+    crate::io::atomic::remove_dead_temporaries(out, None);
 }
