@@ -17,6 +17,10 @@
 //! as a trained decoder would be; the Haufe transform recovers A up to
 //! those factors.
 
+mod simulate;
+
+pub use simulate::{simulate, SimulationError, SIMULATION_SKULL};
+
 use crate::geometry::{Mesh, Vec3};
 use faer::linalg::solvers::Solve;
 use faer::{Mat, Side};

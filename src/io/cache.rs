@@ -59,9 +59,14 @@ impl ContentHash {
 
 /// The SHA-256 of a file's bytes, as hexadecimal.
 pub fn file_sha256(path: &Path) -> std::io::Result<String> {
-    let bytes = super::input::read_input(path)?;
-    let digest = Sha256::digest(&bytes);
-    Ok(digest.iter().map(|b| format!("{b:02x}")).collect())
+    Ok(bytes_sha256(&super::input::read_input(path)?))
+}
+
+/// The SHA-256 of bytes, as hexadecimal (equal to [`file_sha256`] of a
+/// file holding them).
+pub fn bytes_sha256(bytes: &[u8]) -> String {
+    let digest = Sha256::digest(bytes);
+    digest.iter().map(|b| format!("{b:02x}")).collect()
 }
 
 /// The default cache folder: `$PATCHWISE_CACHE`, else

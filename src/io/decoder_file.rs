@@ -230,6 +230,14 @@ const DECODER_DATASETS: [&str; 8] = [
 
 fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     let store = Store::read_only(path, &|name| DECODER_DATASETS.contains(&name))?;
+    decoder_from_store(&store, path)
+}
+
+/// A decoder from a store laid out as a decoder file (`channels` with
+/// `patterns`, or `weights` and `covariance`; the extras when present):
+/// what [`read_decoder`] reads from .h5 and .mat files, for a store made in
+/// memory (the demo's). `path` names the file in messages.
+pub fn decoder_from_store(store: &Store, path: &Path) -> Result<DecoderFile, InputError> {
     let name = |n: &str| {
         if store.contains(n) {
             n.to_string()
@@ -241,7 +249,7 @@ fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     let n = channels.len();
     if store.contains(&name("patterns")) {
         let (values, _, k) = store.f64_matrix_or_vector(path, &name("patterns"), n)?;
-        let extras = extras_from_store(path, &store, n, k, None)?;
+        let extras = extras_from_store(path, store, n, k, None)?;
         return Ok(DecoderFile {
             channels,
             k,
@@ -257,7 +265,7 @@ fn read_store_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     }
     let (weights, _, k) = store.f64_matrix_or_vector(path, &name("weights"), n)?;
     let (covariance, _, _) = store.f64_matrix(path, &name("covariance"), Some(n), Some(n))?;
-    let extras = extras_from_store(path, &store, n, k, Some(&covariance))?;
+    let extras = extras_from_store(path, store, n, k, Some(&covariance))?;
     Ok(DecoderFile {
         channels,
         k,

@@ -2,7 +2,7 @@
 //! does a decoder rely on? The command line, batch jobs and the demo call
 //! [`attribute`]; the outputs are written by `io::attribution_files`.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 
 use super::cache::dictionary_for_channels;
 use super::error::{JobError, JobResult};
@@ -18,7 +18,7 @@ use crate::dictionary::PatchDictionary;
 use crate::io::cache::file_sha256;
 use crate::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
 use crate::io::dictionary_file::read_dictionary;
-use crate::pipeline::{fit_patterns, FitOutcome, LambdaRule, Problem};
+use crate::pipeline::{fit_patterns, FitOptions, FitOutcome, LambdaRule, Problem};
 
 fn bad(message: String) -> JobError {
     JobError::input(message)
@@ -67,8 +67,6 @@ pub fn attribute(
 ) -> Result<Attribution, JobError> {
     let options = params.validate()?;
     let inputs = &params.inputs;
-    let mut hashes = Vec::new();
-    let mut notes = Vec::new();
     // Inputs first: every bad input is found before anything is computed or written.
     let (decoder, input_path) = match (&inputs.decoder, &inputs.patterns) {
         (Some(d), _) => (
@@ -104,10 +102,58 @@ pub fn attribute(
             ))
         }
     };
-    hashes.push((
-        "decoder".to_string(),
-        file_sha256(&input_path).map_err(|e| bad(format!("{}: {e}", input_path.display())))?,
-    ));
+    let sha256 =
+        file_sha256(&input_path).map_err(|e| bad(format!("{}: {e}", input_path.display())))?;
+    let given = GivenDecoder {
+        decoder,
+        path: input_path,
+        sha256,
+    };
+    run(params, options, given, cache, component_names, observer)
+}
+
+/// A decoder already read (the demo's, made in memory): the decoder, the
+/// path that names it in messages, and the SHA-256 of its file's bytes for
+/// the hashes of the result.
+pub struct GivenDecoder {
+    /// The decoder.
+    pub decoder: DecoderFile,
+    /// Names the decoder in messages (the file it is saved as).
+    pub path: PathBuf,
+    /// SHA-256 of the decoder file's bytes, hexadecimal.
+    pub sha256: String,
+}
+
+/// [`attribute`] on a decoder already read; `params.inputs.decoder` only
+/// names it (in the job's description), and is not read.
+pub fn attribute_decoder(
+    params: &AttributeParams,
+    given: GivenDecoder,
+    cache: &Path,
+    component_names: Option<Vec<String>>,
+    observer: &dyn JobObserver,
+) -> Result<Attribution, JobError> {
+    let options = params.validate()?;
+    run(params, options, given, cache, component_names, observer)
+}
+
+/// The job after the decoder is read.
+fn run(
+    params: &AttributeParams,
+    options: FitOptions,
+    given: GivenDecoder,
+    cache: &Path,
+    component_names: Option<Vec<String>>,
+    observer: &dyn JobObserver,
+) -> Result<Attribution, JobError> {
+    let inputs = &params.inputs;
+    let GivenDecoder {
+        decoder,
+        path: input_path,
+        sha256,
+    } = given;
+    let mut hashes = vec![("decoder".to_string(), sha256)];
+    let mut notes = Vec::new();
     // Labels must be unique ignoring case and aliases.
     check_channels(&decoder.channels, &input_path)?;
     let average = params.fit.reference == Reference::Average;

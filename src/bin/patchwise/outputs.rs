@@ -80,8 +80,23 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
 /// Write result.h5, regions.csv and summary.json into `out` atomically and
 /// print the table. Returns the folder.
 pub fn write_outputs(out: &Path, a: &Attribution) -> Result<PathBuf, CliError> {
+    write_outputs_with(out, a, &[])
+}
+
+/// [`write_outputs`], with `extra` files (name, bytes) in the same folder
+/// (the demo's decoder).
+pub fn write_outputs_with(
+    out: &Path,
+    a: &Attribution,
+    extra: &[(&str, &[u8])],
+) -> Result<PathBuf, CliError> {
     let stage = Staging::new(out).map_err(CliError::compute)?;
     let rows = write_files(&stage, a)?;
+    for (name, bytes) in extra {
+        let path = stage.file(name);
+        patchwise::io::atomic::write_atomic(&path, bytes)
+            .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", path.display())))?;
+    }
     let dir = stage.commit()?;
     print_table(a, &rows, 6);
     outln!();

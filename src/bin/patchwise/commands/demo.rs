@@ -2,21 +2,19 @@
 
 use std::path::PathBuf;
 
-use patchwise::demo::{build, Scenario};
-use patchwise::forward::Orientation;
-use patchwise::geometry::{norm, sub, template, GeodesicSolver, SourceSpace, TemplateResolution};
-use patchwise::head::SphereHead;
+use patchwise::demo::{simulate, SIMULATION_SKULL};
+use patchwise::geometry::{norm, sub, TemplateResolution};
 use patchwise::io::{Dataset, Store};
-use patchwise::montage::standard;
-use patchwise::pipeline::leadfield_for;
 
-use patchwise::io::cache::default_cache_dir;
-use patchwise::job::{attribute, AttributeParams, MontageSpec, SourcesSpec};
+use patchwise::io::cache::{bytes_sha256, default_cache_dir};
+use patchwise::io::decoder_file::decoder_from_store;
+use patchwise::job::attribute::{attribute_decoder, GivenDecoder};
+use patchwise::job::{AttributeParams, MontageSpec, SourcesSpec};
 
 use crate::cli_error::OrExit;
 use patchwise::job::outputs::region_rows;
 
-use crate::outputs::write_outputs;
+use crate::outputs::write_outputs_with;
 use crate::progress::{note, Console};
 use crate::CliError;
 
@@ -38,41 +36,6 @@ pub struct Args {
     /// Do not write report.html into the output folder.
     #[arg(long)]
     pub no_report: bool,
-}
-
-/// Skull conductivity of the simulation head (S/m); the fit assumes the
-/// default head's 0.02 S/m, so the demo includes a head-model mismatch.
-const SIMULATION_SKULL: f64 = 0.015;
-
-fn simulate(res: TemplateResolution) -> Result<(Scenario, Vec<String>), CliError> {
-    let t = template(res);
-    let fit_head = SphereHead::default_adult();
-    let mut cond = fit_head.conductivities().to_vec();
-    cond[2] = SIMULATION_SKULL;
-    let sim_head = SphereHead::new(fit_head.center(), fit_head.radii().to_vec(), cond)
-        .compute("simulation head")?;
-    let full = standard("10-10", fit_head.outer_radius()).compute("demo montage")?;
-    let labels: Vec<String> = patchwise::demo::CHANNELS_64
-        .iter()
-        .map(|s| s.to_string())
-        .collect();
-    let idx = full.select(&labels).compute("demo channels")?;
-    let montage = full.subset(&idx);
-    let sources = SourceSpace::from_template(&t);
-    let (lf, _) = leadfield_for(&montage, &sources, &sim_head, Orientation::Normal, &|_| {})
-        .compute("simulation lead field")?;
-    let solver = GeodesicSolver::new(&t.mesh).compute("template mesh")?;
-    let oracle = |s: usize, r: f64| solver.distances_within(s, r);
-    let scenario = build(
-        &t.mesh,
-        &t.region,
-        &t.region_names,
-        &lf.gain,
-        lf.n_channels(),
-        &oracle,
-    )
-    .compute("building the demo scenario")?;
-    Ok((scenario, montage.labels))
 }
 
 /// Run `patchwise demo`.
@@ -103,12 +66,11 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         "  component; 64 channels of the 10-10 system; data simulated with a skull conductivity of"
     );
     outln!("  {SIMULATION_SKULL} S/m, fitted with the default head's 0.02 S/m.");
-    let (scenario, labels) = simulate(res)?;
+    let (scenario, labels) = simulate(res).map_err(CliError::compute)?;
     let k = scenario.component_names.len();
-    let scratch = std::env::temp_dir().join(format!("patchwise-demo-{}", std::process::id()));
-    std::fs::create_dir_all(&scratch)
-        .map_err(|e| CliError::compute(anyhow::anyhow!("{}: {e}", scratch.display())))?;
-    let decoder_path = scratch.join("decoder.h5");
+    // The decoder is handed to the job in memory and saved beside the
+    // results, under the name the job and the report give it.
+    let decoder_path = args.out.join("decoder.h5");
     let mut store = Store::new();
     store.insert("/channels", Dataset::strings(labels.clone()));
     store.insert(
@@ -126,33 +88,29 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         "/component_names",
         Dataset::strings(scenario.component_names.clone()),
     );
-    store
-        .write_atomic(&decoder_path)
+    let bytes = store
+        .to_hdf5_bytes(&decoder_path)
         .compute("writing the demo decoder")?;
+    let given = GivenDecoder {
+        decoder: decoder_from_store(&store, &decoder_path).compute("the demo decoder")?,
+        path: decoder_path.clone(),
+        sha256: bytes_sha256(&bytes),
+    };
     // The attribute defaults, on the demo's montage, sources and decoder.
     let mut params = AttributeParams::default();
-    params.inputs.decoder = Some(decoder_path.clone());
+    params.inputs.decoder = Some(decoder_path);
     params.forward.montage = MontageSpec::Standard("10-10".to_string());
     params.forward.sources = SourcesSpec::Template(res);
     params.fit.resamples = args.resamples;
     let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
-    let result = attribute(
+    let a = attribute_decoder(
         &params,
+        given,
         &cache,
         Some(scenario.component_names.clone()),
         &Console::default(),
-    )
-    .map_err(CliError::from);
-    let outcome = result.and_then(|a| write_outputs(&args.out, &a).map(|dir| (a, dir)));
-    let (a, dir) = match outcome {
-        Ok(v) => v,
-        Err(e) => {
-            let _ = std::fs::remove_dir_all(&scratch);
-            return Err(e);
-        }
-    };
-    let _ = std::fs::copy(&decoder_path, dir.join("decoder.h5"));
-    let _ = std::fs::remove_dir_all(&scratch);
+    )?;
+    let dir = write_outputs_with(&args.out, &a, &[("decoder.h5", &bytes)])?;
     // Did the fit find the generators?
     outln!();
     outln!("known generators:");
