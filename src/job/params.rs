@@ -135,7 +135,7 @@ pub struct FitParams {
     /// Seed of the resampling.
     #[arg(long, default_value_t = 20141)]
     pub seed: u64,
-    /// Perturbed forward models the resamples cycle through (electrodes moved by 4 mm per
+    /// Perturbed forward models the resamples cycle through (electrodes moved by 6 mm per
     /// coordinate, shell conductivities drawn around the head's), so the intervals also carry the
     /// head model's uncertainty; 0 = resample the pattern noise only.
     #[arg(long, default_value_t = 4)]
