@@ -1,32 +1,29 @@
 //! Shared helpers of the solver tests: a seeded generator and random problems.
 
+use patchwise::numeric::SplitMix64;
 use patchwise::solver::DenseDictionary;
 
-/// SplitMix64 (Steele, Lea & Flood 2014, OOPSLA), enough for seeded test data.
-pub struct Rng(u64);
+/// The library's SplitMix64 (Steele, Lea & Flood 2014, OOPSLA), stream 0
+/// of `seed`: the same numbers the tests' own copy used to draw.
+pub struct Rng(SplitMix64);
 
 impl Rng {
     pub fn new(seed: u64) -> Self {
-        Self(seed)
+        Self(SplitMix64::new(seed, 0))
     }
 
     pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
+        self.0.next_u64()
     }
 
     /// Uniform in (0, 1).
     pub fn uniform(&mut self) -> f64 {
-        ((self.next_u64() >> 11) as f64 + 0.5) / (1u64 << 53) as f64
+        self.0.uniform()
     }
 
     /// Standard normal by Box–Muller.
     pub fn normal(&mut self) -> f64 {
-        let (u, v) = (self.uniform(), self.uniform());
-        (-2.0 * u.ln()).sqrt() * (2.0 * std::f64::consts::PI * v).cos()
+        self.0.normal()
     }
 
     pub fn normals(&mut self, n: usize) -> Vec<f64> {
