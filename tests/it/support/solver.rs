@@ -16,11 +16,6 @@ impl Rng {
         self.0.next_u64()
     }
 
-    /// Uniform in (0, 1).
-    pub fn uniform(&mut self) -> f64 {
-        self.0.uniform()
-    }
-
     /// Standard normal by Box–Muller.
     pub fn normal(&mut self) -> f64 {
         self.0.normal()
