@@ -179,13 +179,24 @@ fn bad(message: String) -> JobError {
     JobError::input(message)
 }
 
+/// A number as a user can read it in a message: plain between 1e-4 and
+/// 1e6, else in exponent form (`1e300`, not three hundred digits).
+fn shown(v: f64) -> String {
+    if v == 0.0 || !v.is_finite() || (1e-4..1e6).contains(&v.abs()) {
+        format!("{v}")
+    } else {
+        format!("{v:e}")
+    }
+}
+
 impl PatchParams {
     /// Validated library parameters (radii in metres).
     pub fn params(&self) -> Result<DictionaryParams, JobError> {
         if let Some(s) = self.spacing_mm {
             if !(s.is_finite() && s > 0.0 && s <= MAX_PATCH_LENGTH_MM) {
                 return Err(bad(format!(
-                    "--spacing-mm {s}: expected a positive length in mm, at most {MAX_PATCH_LENGTH_MM}"
+                    "--spacing-mm {}: expected a positive length in mm, at most {MAX_PATCH_LENGTH_MM}",
+                    shown(s)
                 )));
             }
         }
@@ -195,7 +206,8 @@ impl PatchParams {
             .find(|r| !(r.is_finite() && **r > 0.0 && **r <= MAX_PATCH_LENGTH_MM))
         {
             return Err(bad(format!(
-                "--radii-mm {r}: expected positive lengths in mm, at most {MAX_PATCH_LENGTH_MM}"
+                "--radii-mm {}: expected positive lengths in mm, at most {MAX_PATCH_LENGTH_MM}",
+                shown(*r)
             )));
         }
         let params = DictionaryParams {
@@ -242,11 +254,17 @@ impl FitParams {
                 ))
             }
             (Some(r), _) if !(r.is_finite() && r > 0.0 && r <= 1.0) => {
-                return Err(bad(format!("--lambda-ratio {r}: expected 0 < R <= 1")))
+                return Err(bad(format!(
+                    "--lambda-ratio {}: expected 0 < R <= 1",
+                    shown(r)
+                )))
             }
             (Some(r), _) => LambdaRule::Ratio(r),
             (None, Some(l)) if !(l.is_finite() && l > 0.0) => {
-                return Err(bad(format!("--lambda {l}: expected a positive number")))
+                return Err(bad(format!(
+                    "--lambda {}: expected a positive number",
+                    shown(l)
+                )))
             }
             (None, Some(l)) => LambdaRule::Absolute(l),
             (None, None) => match self.lambda_rule {
@@ -271,12 +289,16 @@ impl FitParams {
         if let Some(sd) = self.noise_sd {
             if !(sd.is_finite() && sd > 0.0) {
                 return Err(bad(format!(
-                    "--noise-sd {sd}: expected a positive noise standard deviation in the patterns' units"
+                    "--noise-sd {}: expected a positive noise standard deviation in the patterns' units",
+                    shown(sd)
                 )));
             }
         }
         if !(self.tol.is_finite() && self.tol > 0.0 && self.tol < 1.0) {
-            return Err(bad(format!("--tol {}: expected 0 < tol < 1", self.tol)));
+            return Err(bad(format!(
+                "--tol {}: expected 0 < tol < 1",
+                shown(self.tol)
+            )));
         }
         check_count("--resamples", self.resamples as u64, RESAMPLE_RECORD_BYTES)
             .input("checking the options")?;

@@ -47,11 +47,7 @@ pub fn png_img(png: &[u8], width: u32, height: u32, alt: &str) -> String {
 /// A number with `digits` decimals, or an en dash when it is not finite
 /// (NaN marks "not computed" throughout the result file).
 pub fn fixed(value: f64, digits: usize) -> String {
-    if value.is_finite() {
-        format!("{value:.digits$}")
-    } else {
-        "\u{2013}".to_string()
-    }
+    crate::io::table::format_fixed(value, digits, "\u{2013}")
 }
 
 /// A fraction as a percentage with `digits` decimals (en dash when not finite).
