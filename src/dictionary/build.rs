@@ -105,8 +105,8 @@ pub const POINT_SOURCE_AREA_M2: f64 = 1e-6;
 /// - `seeds`: [`Seeds::All`] or a given list.
 /// - `distances`: the geodesic distance oracle (see [`DistanceOracle`]); it
 ///   is called once per seed with the largest radius.
-/// - `progress(n)`: called after each seed with the number done so far (out
-///   of the seed count), possibly from worker threads.
+/// - `progress(1)`: called after each seed (increments that add up to the
+///   seed count), possibly from worker threads.
 ///
 /// Atoms whose norm is at most `params.drop_relative_norm` × the largest
 /// norm, or zero, are dropped and listed in [`DictionaryInfo::dropped`] rather

@@ -1,8 +1,6 @@
 //! Patch profiles: per seed and radius, the source amplitudes (area-weighted
 //! moment density) of a geodesic disc, from a caller-supplied distance oracle.
 
-use std::sync::atomic::{AtomicUsize, Ordering};
-
 use rayon::prelude::*;
 
 use super::{DictionaryError, Profile};
@@ -34,8 +32,8 @@ pub(crate) struct PatchColumn {
 /// largest radius; the smaller patches are the subsets within their radius, so
 /// the oracle must honour any radius it is given.
 ///
-/// `progress(n)` is called after each seed with the number of seeds done so
-/// far; calls may come from worker threads and need not arrive in order.
+/// `progress(1)` is called after each seed (an increment, as every stage's
+/// progress is); calls may come from worker threads.
 pub(crate) fn build_patches(
     vertex_areas: &[f64],
     seeds: &[usize],
@@ -45,7 +43,6 @@ pub(crate) fn build_patches(
     progress: &(dyn Fn(usize) + Sync),
 ) -> Result<Vec<Vec<PatchColumn>>, DictionaryError> {
     let r_max = radii_m.iter().copied().fold(0.0, f64::max);
-    let done = AtomicUsize::new(0);
     let per_seed: Vec<Result<Vec<PatchColumn>, DictionaryError>> = seeds
         .par_iter()
         .map(|&seed| {
@@ -54,7 +51,7 @@ pub(crate) fn build_patches(
                 .iter()
                 .map(|&radius| patch_column(&neighbours, vertex_areas, radius, profile))
                 .collect();
-            progress(done.fetch_add(1, Ordering::Relaxed) + 1);
+            progress(1);
             Ok(columns)
         })
         .collect();

@@ -331,7 +331,8 @@ fn progress_reports_every_seed() {
         &|n| calls.lock().unwrap().push(n),
     )
     .unwrap();
-    let mut calls = calls.into_inner().unwrap();
-    calls.sort_unstable();
-    assert_eq!(calls, (1..=n_src).collect::<Vec<_>>());
+    // Increments of one per seed, adding up to the seed count (a progress
+    // bar's total): the contract of every stage's progress callback.
+    let calls = calls.into_inner().unwrap();
+    assert_eq!(calls, vec![1; n_src]);
 }
