@@ -1,6 +1,6 @@
 //! `attribute`, the main job, as one library call: which cortical regions
 //! does a decoder rely on? The command line, batch jobs and the demo call
-//! [`attribute`]; the outputs are written by `io::attribution_files`.
+//! [`attribute`]; the outputs are written by [`super::outputs`].
 
 use std::path::{Path, PathBuf};
 

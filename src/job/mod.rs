@@ -5,8 +5,9 @@
 //! reports through a [`JobObserver`] and fails with a [`JobError`] that
 //! says whether the input or the computation is at fault.
 //!
-//! Layer: above the pipeline stages, `io` and `batch`'s lock; below the
-//! command line, which parses flags, calls one job and prints.
+//! Layer: above the pipeline stages, `io` and `render`; below `batch`
+//! (job scripts and their runner) and the command line, which parses flags,
+//! calls one job and prints (docs/architecture.md).
 
 pub mod attribute;
 pub mod cache;
