@@ -50,6 +50,9 @@ pub struct Attribution {
     pub reconstruction: Vec<f64>,
     /// What was asked (name, value), for summary.json and the report.
     pub job: Vec<(String, String)>,
+    /// The parameters themselves (summary.json's `params`, readable back
+    /// into [`AttributeParams`] to rerun the same job).
+    pub params: AttributeParams,
     /// The λ rule in words (`noise`, `bic`, ..., or the fixed value).
     pub lambda_rule: String,
     /// Where the noise level came from, in words.
@@ -312,6 +315,7 @@ fn run(
         lambda_rule: options.lambda.name(),
         noise_level: options.noise.describe(),
         job: params.describe(),
+        params: params.clone(),
         reconstruction,
         labels: decoder.channels.clone(),
         patterns,

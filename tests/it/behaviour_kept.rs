@@ -4,7 +4,8 @@
 //! commit 50b4652 in `tests/it/expected/`; re-recorded once when the
 //! perturbed heads' default electrode step went from 4 to 6 mm, which
 //! moves the demo's and the batch's intervals only: every share, λ and
-//! explained variance stayed the same). Regression check against our
+//! explained variance stayed the same; and once more when summary.json
+//! gained the `params` block, an addition only). Regression check against our
 //! own earlier outputs, no outside source: strings must match exactly
 //! (paths, content hashes and the software line excepted), numbers within
 //! 1e-6 relative (bit-for-bit equal on the machine that recorded them; the
@@ -164,6 +165,19 @@ fn demo_batch_and_attribute_outputs_are_unchanged() {
     );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     check_folder(&dir.join("attr"), "attr-none", false);
+    // summary.json's params read back into the job's parameters: the flags
+    // given, and the defaults for the rest (common practice, no source).
+    let summary: Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("attr/summary.json")).unwrap())
+            .unwrap();
+    let params: patchwise::job::AttributeParams =
+        serde_json::from_value(summary["params"].clone()).unwrap();
+    assert_eq!(params.fit.lambda_ratio, Some(0.05));
+    assert_eq!(params.fit.resamples, 7);
+    assert_eq!(params.fit.reference, patchwise::job::Reference::None);
+    assert_eq!(params.forward.montage.to_string(), "10-10");
+    assert_eq!(params.forward.sources.to_string(), "template-5k");
+    assert_eq!(params.patches, patchwise::job::PatchParams::default());
 }
 
 /// How the expected files were made (kept for the next intended change).
