@@ -353,7 +353,10 @@ fn check_keys(
         .find(|(i, _)| {
             let before = &body[..*i];
             let line_start = before.rfind('\n').map_or(0, |n| n + 1);
+            // The whole key: `lam` must not be found at the start of `lambda`.
+            let after = body[*i + key.len()..].chars().next();
             before[line_start..].trim().is_empty()
+                && after.is_none_or(|c| c.is_whitespace() || c == '=' || c == '.')
         })
         .map_or(start, |(i, _)| start + i);
     let (line, column) = line_column(text, offset);

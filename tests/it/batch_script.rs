@@ -91,6 +91,13 @@ fn unknown_key_names_its_line_column_and_job() {
     }
     assert!(msg.contains("jobs.toml:8:1"), "{msg}");
     assert!(msg.contains("lamda_ratio"), "{msg}");
+    // A key that starts another key's name is found on its own line.
+    let p = script(
+        &dir,
+        "[[job]]\nname = \"a\"\ndecoder = \"decoders/a.npz\"\nlambda_rule = \"bic\"\nlam = 3\n",
+    );
+    let msg = load_script(&p).unwrap_err().to_string();
+    assert!(msg.contains("jobs.toml:5:1: unknown field `lam`"), "{msg}");
     // An unknown key in [defaults] too.
     let p = script(
         &dir,
