@@ -225,10 +225,8 @@ fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<()
     if !job.no_report {
         // Inside the staged folder, before the marker: a job's folder has
         // its report exactly when `attribute` would have written one.
-        let staged = stage.file("result.h5");
-        let dir = staged.parent().unwrap_or(out);
         write_report_as(
-            dir,
+            stage.dir(),
             Some(&stage.file("report.html")),
             params.describe(),
             Some(&target),

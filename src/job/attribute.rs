@@ -24,6 +24,11 @@ fn bad(message: String) -> JobError {
     JobError::input(message)
 }
 
+/// The SHA-256 of an input file for the result's hashes.
+fn input_hash(path: &Path) -> Result<String, JobError> {
+    file_sha256(path).map_err(|e| bad(format!("{}: {e}", path.display())))
+}
+
 /// Everything the outputs need.
 pub struct Attribution {
     /// Channel labels in decoder order.
@@ -48,10 +53,9 @@ pub struct Attribution {
     pub whitened: bool,
     /// The fitted patterns D X in the units of `patterns` (n_ch x k).
     pub reconstruction: Vec<f64>,
-    /// What was asked (name, value), for summary.json and the report.
-    pub job: Vec<(String, String)>,
-    /// The parameters themselves (summary.json's `params`, readable back
-    /// into [`AttributeParams`] to rerun the same job).
+    /// What was asked (summary.json's `params`, readable back into
+    /// [`AttributeParams`] to rerun the same job; in words by
+    /// [`AttributeParams::describe`]).
     pub params: AttributeParams,
     /// The λ rule in words (`noise`, `bic`, ..., or the fixed value).
     pub lambda_rule: String,
@@ -105,8 +109,7 @@ pub fn attribute(
             ))
         }
     };
-    let sha256 =
-        file_sha256(&input_path).map_err(|e| bad(format!("{}: {e}", input_path.display())))?;
+    let sha256 = input_hash(&input_path)?;
     let given = GivenDecoder {
         decoder,
         path: input_path,
@@ -166,10 +169,7 @@ fn run(
     let mut dict = match &inputs.dictionary {
         Some(p) => {
             let d = read_dictionary(p).input("reading the dictionary")?;
-            hashes.push((
-                "dictionary".to_string(),
-                file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
-            ));
+            hashes.push(("dictionary".to_string(), input_hash(p)?));
             if inputs.patterns.is_some() && inputs.channels.is_none() {
                 if decoder.channels.len() != d.n_channels {
                     return Err(bad(format!(
@@ -206,10 +206,7 @@ fn run(
     let mut whitener = None;
     let fit_y = match &inputs.noise_covariance {
         Some(p) => {
-            hashes.push((
-                "noise_covariance".to_string(),
-                file_sha256(p).map_err(|e| bad(format!("{}: {e}", p.display())))?,
-            ));
+            hashes.push(("noise_covariance".to_string(), input_hash(p)?));
             let w = whitener_for(p, dict.n_channels)?;
             let yw = w.apply(&patterns, k).input("whitening the patterns")?;
             let before = dict.atoms.clone();
@@ -314,7 +311,6 @@ fn run(
     Ok(Attribution {
         lambda_rule: options.lambda.name(),
         noise_level: options.noise.describe(),
-        job: params.describe(),
         params: params.clone(),
         reconstruction,
         labels: decoder.channels.clone(),

@@ -10,7 +10,7 @@ use std::path::{Path, PathBuf};
 use serde::{Deserialize, Serialize};
 
 use super::error::{JobError, JobResult};
-use super::params::declared_defaults;
+use super::params::declared_default;
 use crate::cohort;
 use crate::geometry::TemplateResolution;
 use crate::limits::{check_count, MAX_PATCH_LENGTH_MM, RESAMPLE_RECORD_BYTES};
@@ -64,11 +64,7 @@ pub struct CompareParams {
     pub no_transport: bool,
 }
 
-impl Default for CompareParams {
-    fn default() -> Self {
-        declared_defaults::<CompareParams>()
-    }
-}
+declared_default!(CompareParams);
 
 /// How one subject reaches the template.
 #[derive(Debug, Clone, PartialEq)]

@@ -54,11 +54,7 @@ pub struct ImportParams {
     pub reference: String,
 }
 
-impl Default for ImportParams {
-    fn default() -> Self {
-        super::params::declared_defaults::<ImportParams>()
-    }
-}
+super::params::declared_default!(ImportParams);
 
 impl ImportParams {
     /// The input files given, as (what, path).

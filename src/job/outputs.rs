@@ -160,7 +160,7 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
         "atoms": a.dictionary.n_atoms,
         "hashes": a.hashes.iter().map(|(k, v)| (k.clone(), serde_json::Value::String(v.clone()))).collect::<serde_json::Map<_, _>>(),
         "notes": a.notes,
-        "job": a.job.iter().map(|(k, v)| (k.clone(), serde_json::Value::String(v.clone()))).collect::<serde_json::Map<_, _>>(),
+        "job": a.params.describe().into_iter().map(|(k, v)| (k, serde_json::Value::String(v))).collect::<serde_json::Map<_, _>>(),
         "params": serde_json::to_value(&a.params).unwrap_or(serde_json::Value::Null),
         "units": {"patterns": "as given (V for patterns from a forward model)", "positions": "mm"},
     })

@@ -37,11 +37,12 @@ macro_rules! declared_default {
     ($($t:ty),*) => {$(
         impl Default for $t {
             fn default() -> Self {
-                declared_defaults::<$t>()
+                $crate::job::params::declared_defaults::<$t>()
             }
         }
     )*};
 }
+pub(crate) use declared_default;
 
 /// The input files of `attribute` (paths; positions inside are mm).
 #[derive(clap::Args, Debug, Clone, PartialEq, Serialize, Deserialize)]
