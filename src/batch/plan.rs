@@ -379,18 +379,8 @@ fn check_keys(
 /// The file-valued options of a job's parameters, as (key, path); built-in
 /// names (standard montages, the template, the default head) are left out.
 fn file_values(p: &AttributeParams) -> Vec<(&'static str, PathBuf)> {
-    let mut out = Vec::new();
-    if let MontageSpec::File(f) = &p.forward.montage {
-        out.push(("montage", f.clone()));
-    }
-    if let SourcesSpec::File(f) = &p.forward.sources {
-        out.push(("sources", f.clone()));
-    }
-    if let HeadChoice::File(f) = &p.forward.head {
-        out.push(("head", f.clone()));
-    }
+    let mut out = p.forward.files();
     let optional = [
-        ("regions", &p.forward.regions),
         ("channels", &p.inputs.channels),
         ("dictionary", &p.inputs.dictionary),
         ("noise_covariance", &p.inputs.noise_covariance),

@@ -360,6 +360,14 @@ impl ForwardParams {
     /// The options that name existing files (montage, sources, head,
     /// regions), as (what, path).
     pub fn input_files(&self) -> Vec<(&'static str, PathBuf)> {
+        let mut named = self.files();
+        named.retain(|(_, p)| p.is_file());
+        named
+    }
+
+    /// The options that name files rather than built-ins, as (key, path),
+    /// whether the files exist or not.
+    pub fn files(&self) -> Vec<(&'static str, PathBuf)> {
         let mut named = Vec::new();
         if let MontageSpec::File(p) = &self.montage {
             named.push(("montage", p.clone()));
@@ -373,7 +381,6 @@ impl ForwardParams {
         if let Some(r) = &self.regions {
             named.push(("regions", r.clone()));
         }
-        named.retain(|(_, p)| p.is_file());
         named
     }
 }
