@@ -15,6 +15,10 @@ fn column(table: &patchwise::io::table::Table, name: &str) -> usize {
 }
 
 #[test]
+#[cfg_attr(
+    no_reference_python,
+    ignore = "no usable Python here: reference check not run"
+)]
 fn compare_finds_the_shared_region_pairs_decoders_and_rejects_bad_input() {
     let dir = support::scratch("cohort_cli");
     let decoder = demo_decoder(&dir);
@@ -132,7 +136,8 @@ fn compare_finds_the_shared_region_pairs_decoders_and_rejects_bad_input() {
     // h5py 3.16 reads the layout of docs/cohort.md (interoperability, no
     // numerical tolerance: the p-values must equal regions.csv's to 1e-6,
     // the CSV's printed precision).
-    if let Some(py) = support::python::python() {
+    let py = support::python::python();
+    {
         let script = r#"
 import sys, csv, h5py, numpy as np
 f = h5py.File(sys.argv[1], "r")

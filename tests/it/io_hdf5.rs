@@ -171,10 +171,12 @@ fn accessors_check_shapes_and_values() {
 /// h5py 3.16.0 reads what we write: shapes, dtypes, values, and string
 /// attributes and datasets come back as `str` (vlen UTF-8), not bytes.
 #[test]
+#[cfg_attr(
+    no_reference_python,
+    ignore = "no usable Python here: reference check not run"
+)]
 fn works_like_h5py_reading_our_file() {
-    let Some(py) = support::python::python() else {
-        return;
-    };
+    let py = support::python::python();
     let dir = support::scratch("hdf5_h5py_reads");
     let path = dir.join("ours.h5");
     sample_store().write_atomic(&path).unwrap();
@@ -212,10 +214,12 @@ assert [str(x) for x in lf["names"]] == ["x", "y"]
 /// We read what h5py 3.16.0 writes: float32/int32/uint8/uint64 datasets,
 /// vlen and fixed-length strings, attributes of several kinds.
 #[test]
+#[cfg_attr(
+    no_reference_python,
+    ignore = "no usable Python here: reference check not run"
+)]
 fn works_like_h5py_writing_a_file_we_read() {
-    let Some(py) = support::python::python() else {
-        return;
-    };
+    let py = support::python::python();
     let dir = support::scratch("hdf5_h5py_writes");
     let path = dir.join("theirs.h5");
     let script = r#"
@@ -289,10 +293,12 @@ with h5py.File(sys.argv[1], "w") as f:
 /// the MAT-file text header, a char array as uint16 with attribute
 /// MATLAB_class = "char", and numeric m×n matrices stored transposed (n×m).
 #[test]
+#[cfg_attr(
+    no_reference_python,
+    ignore = "no usable Python here: reference check not run"
+)]
 fn reads_matlab_style_user_block_file() {
-    let Some(py) = support::python::python() else {
-        return;
-    };
+    let py = support::python::python();
     let dir = support::scratch("hdf5_matlab");
     let path = dir.join("matlab.mat");
     let script = r#"

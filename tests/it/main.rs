@@ -32,6 +32,7 @@ mod geometry_geodesic;
 mod geometry_mesh;
 mod geometry_sampling;
 mod geometry_validate;
+mod harness_honesty;
 mod head_series;
 mod head_spheres;
 mod io_gifti;
