@@ -11,10 +11,12 @@
 
 pub mod attribute;
 pub mod cache;
+pub mod check;
 pub mod compare;
 pub mod compare_inputs;
 pub mod compare_outputs;
 pub mod compare_params;
+pub mod demo;
 mod describe;
 pub mod dipole;
 pub mod error;
