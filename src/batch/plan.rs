@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 use super::error::BatchError;
 use super::script::{line_column, option_keys, LenientScript, RawScript, NO_REPORT};
 use crate::io::cache::{file_sha256, ContentHash};
-use crate::job::{AttributeParams, HeadChoice, MontageSpec, SourcesSpec};
+use crate::job::AttributeParams;
 
 /// One job, ready to run: its options are merged with `[defaults]` and its
 /// paths are absolute or relative to the working folder (resolved from the
@@ -376,45 +376,23 @@ fn check_keys(
     })
 }
 
-/// The file-valued options of a job's parameters, as (key, path); built-in
-/// names (standard montages, the template, the default head) are left out.
+/// The job's file-valued options (the decoder, which a job names apart,
+/// left out).
 fn file_values(p: &AttributeParams) -> Vec<(&'static str, PathBuf)> {
-    let mut out = p.forward.files();
-    let optional = [
-        ("channels", &p.inputs.channels),
-        ("dictionary", &p.inputs.dictionary),
-        ("noise_covariance", &p.inputs.noise_covariance),
-    ];
-    out.extend(
-        optional
-            .into_iter()
-            .filter_map(|(key, v)| v.clone().map(|v| (key, v))),
-    );
-    out
+    let mut files = p.files();
+    files.retain(|(key, _)| *key != "decoder" && *key != "patterns");
+    // The forward model's files first (the order the checks report in).
+    let forward: Vec<&str> = p.forward.files().iter().map(|(k, _)| *k).collect();
+    files.sort_by_key(|(key, _)| !forward.contains(key));
+    files
 }
 
 /// Resolve every file-valued option against the script's folder.
 fn resolve_files(p: &mut AttributeParams, folder: &Path) {
-    let fix = |f: &mut PathBuf| *f = resolve(folder, &f.to_string_lossy());
-    if let MontageSpec::File(f) = &mut p.forward.montage {
-        fix(f);
-    }
-    if let SourcesSpec::File(f) = &mut p.forward.sources {
-        fix(f);
-    }
-    if let HeadChoice::File(f) = &mut p.forward.head {
-        fix(f);
-    }
-    for f in [
-        &mut p.forward.regions,
-        &mut p.inputs.channels,
-        &mut p.inputs.dictionary,
-        &mut p.inputs.noise_covariance,
-    ]
-    .into_iter()
-    .flatten()
-    {
-        fix(f);
+    for (key, f) in p.files_mut() {
+        if key != "decoder" && key != "patterns" {
+            *f = resolve(folder, &f.to_string_lossy());
+        }
     }
 }
 

@@ -340,19 +340,48 @@ impl AttributeParams {
     /// for the checks that outputs never replace inputs. Built-in names
     /// (standard montages, the template, the default head) are left out.
     pub fn input_paths(&self) -> Vec<(&'static str, PathBuf)> {
-        let i = &self.inputs;
-        let mut out: Vec<(&'static str, PathBuf)> = [
-            ("decoder", &i.decoder),
-            ("patterns", &i.patterns),
-            ("channel list", &i.channels),
-            ("dictionary", &i.dictionary),
-            ("noise covariance", &i.noise_covariance),
+        let forward: Vec<&str> = self.forward.files().iter().map(|(k, _)| *k).collect();
+        self.files()
+            .into_iter()
+            .filter(|(key, path)| !forward.contains(key) || path.is_file())
+            .map(|(key, path)| {
+                let what = match key {
+                    "channels" => "channel list",
+                    "noise_covariance" => "noise covariance",
+                    other => other,
+                };
+                (what, path)
+            })
+            .collect()
+    }
+
+    /// Every option that names a file, as (key, path) for editing (a job
+    /// script resolves them against its folder): the decoder or patterns,
+    /// channels, dictionary, noise covariance, and the forward model's
+    /// files. The one listing of the file-valued options.
+    pub fn files_mut(&mut self) -> Vec<(&'static str, &mut PathBuf)> {
+        let i = &mut self.inputs;
+        let mut out: Vec<(&'static str, &mut PathBuf)> = [
+            ("decoder", &mut i.decoder),
+            ("patterns", &mut i.patterns),
+            ("channels", &mut i.channels),
+            ("dictionary", &mut i.dictionary),
+            ("noise_covariance", &mut i.noise_covariance),
         ]
         .into_iter()
-        .filter_map(|(what, p)| p.clone().map(|p| (what, p)))
+        .filter_map(|(key, p)| p.as_mut().map(|p| (key, p)))
         .collect();
-        out.extend(self.forward.input_files());
+        out.extend(self.forward.files_mut());
         out
+    }
+
+    /// [`Self::files_mut`], read only.
+    pub fn files(&self) -> Vec<(&'static str, PathBuf)> {
+        let mut copy = self.clone();
+        copy.files_mut()
+            .into_iter()
+            .map(|(key, path)| (key, path.clone()))
+            .collect()
     }
 }
 
@@ -368,18 +397,27 @@ impl ForwardParams {
     /// The options that name files rather than built-ins, as (key, path),
     /// whether the files exist or not.
     pub fn files(&self) -> Vec<(&'static str, PathBuf)> {
+        let mut copy = self.clone();
+        copy.files_mut()
+            .into_iter()
+            .map(|(key, path)| (key, path.clone()))
+            .collect()
+    }
+
+    /// [`Self::files`] for editing.
+    pub fn files_mut(&mut self) -> Vec<(&'static str, &mut PathBuf)> {
         let mut named = Vec::new();
-        if let MontageSpec::File(p) = &self.montage {
-            named.push(("montage", p.clone()));
+        if let MontageSpec::File(p) = &mut self.montage {
+            named.push(("montage", p));
         }
-        if let SourcesSpec::File(p) = &self.sources {
-            named.push(("sources", p.clone()));
+        if let SourcesSpec::File(p) = &mut self.sources {
+            named.push(("sources", p));
         }
-        if let HeadChoice::File(p) = &self.head {
-            named.push(("head", p.clone()));
+        if let HeadChoice::File(p) = &mut self.head {
+            named.push(("head", p));
         }
-        if let Some(r) = &self.regions {
-            named.push(("regions", r.clone()));
+        if let Some(r) = &mut self.regions {
+            named.push(("regions", r));
         }
         named
     }
