@@ -2,7 +2,7 @@
 //! top-1 where the truth decides, tie-tolerant top-1, coverage of the true
 //! share by the 95 % interval, and the calibration of the lead frequency.
 //!
-//! `cargo run --release --example trust -- [template|template-5k] [cases per cell] [resamples] [--rules noise,BIC] [--snr DB] [--head matched|mismatched] [--no-perturb] [--perturb-mm 3] [--perturb-skull 0.35] [--perturb-count 4]`
+//! `cargo run --release --example trust -- [template|template-5k] [cases per cell] [resamples] [--rules noise,BIC] [--snr DB] [--head matched|mismatched] [--no-perturb] [--perturb-mm 3] [--perturb-skull 0.35] [--perturb-count 4] [--dump cases.tsv]`
 //!
 //! Cases as in the recovery benchmark (`examples/recovery.rs`): 1 to 3
 //! Gaussian patches of 5–30 mm geodesic radius, 5 mm electrode jitter, 64
@@ -20,7 +20,12 @@
 //! leader is the truth's, and the expected calibration error
 //! ECE = Σ_b (n_b / N) |accuracy_b − mean support_b| (Guo, Pleiss, Sun &
 //! Weinberger 2017, ICML, "On calibration of modern neural networks", eq. 3;
-//! from memory).
+//! from memory). Beside it, what the ECE of a perfectly calibrated support
+//! would be on the same cases (consistency resampling: each case's outcome
+//! drawn as Bernoulli(its stated support), 2000 times; Bröcker & Smith 2007,
+//! Weather and Forecasting 22:651, "Increasing the reliability of
+//! reliability diagrams"; from memory): with tens of cases in four bins the
+//! ECE of a calibrated support is itself several hundredths.
 #![allow(clippy::unwrap_used)]
 
 use patchwise::geometry::TemplateResolution;
@@ -61,6 +66,32 @@ fn calibration(cases: &[&CaseResult]) -> (Vec<(f64, f64, usize, f64)>, f64) {
         bins.push((conf, acc, inside.len(), w[0]));
     }
     (bins, ece)
+}
+
+/// The ECE of `cases` had each leader been right with exactly its stated
+/// support: (mean, 95th percentile) over `draws` consistency resamples, and
+/// the fraction of draws at least as large as `observed`.
+fn calibrated_ece(cases: &[&CaseResult], observed: f64, draws: usize) -> (f64, f64, f64) {
+    let mut rng = patchwise::numeric::SplitMix64::new(0x5eed_ca1b, 0);
+    let mut eces: Vec<f64> = (0..draws)
+        .map(|_| {
+            let drawn: Vec<CaseResult> = cases
+                .iter()
+                .map(|r| {
+                    let mut c = (*r).clone();
+                    c.top1_correct = rng.uniform() < r.lead_support;
+                    c
+                })
+                .collect();
+            let refs: Vec<&CaseResult> = drawn.iter().collect();
+            calibration(&refs).1
+        })
+        .collect();
+    eces.sort_by(f64::total_cmp);
+    let mean = eces.iter().sum::<f64>() / draws as f64;
+    let q95 = eces[(0.95 * draws as f64) as usize];
+    let above = eces.iter().filter(|&&e| e >= observed).count() as f64 / draws as f64;
+    (mean, q95, above)
 }
 
 fn main() {
@@ -194,20 +225,43 @@ fn main() {
                     pct(holds, m.len()),
                     m.len()
                 );
+                // `--dump FILE`: one line per case (cell, stated support of
+                // the leader, whether it is the truth's, truth margin), for
+                // calibration studies outside this program.
+                if let Some(file) = flag("--dump") {
+                    use std::io::Write;
+                    let mut out = std::fs::OpenOptions::new()
+                        .create(true)
+                        .append(true)
+                        .open(file)
+                        .unwrap();
+                    for r in &patch {
+                        writeln!(
+                            out,
+                            "{head_name}\t{snr}\t{rule_name}\t{}\t{}\t{}",
+                            r.lead_support, r.top1_correct as u8, r.truth_margin
+                        )
+                        .unwrap();
+                    }
+                }
                 calib.push((format!("{head_name} {snr:.0} dB {rule_name}"), patch));
             }
         }
     }
     println!();
-    println!("| cases | support bin | cases in bin | mean stated support | observed top-1 | ECE |");
-    println!("|---|---|---|---|---|---|");
+    println!("| cases | support bin | cases in bin | mean stated support | observed top-1 | ECE | ECE if calibrated: mean, 95 % (share of draws ≥ observed) |");
+    println!("|---|---|---|---|---|---|---|");
     for (name, cases) in &calib {
-        let refs: Vec<&CaseResult> = cases.iter().collect();
+        let refs: Vec<&CaseResult> = cases
+            .iter()
+            .filter(|r| r.lead_support.is_finite())
+            .collect();
         let (bins, ece) = calibration(&refs);
+        let (null_mean, null_q95, p) = calibrated_ece(&refs, ece, 2000);
         for (i, (conf, acc, n, _)) in bins.iter().enumerate() {
             let label = ["< 0.5", "0.5–0.7", "0.7–0.9", "≥ 0.9"][i];
             println!(
-                "| {name} | {label} | {n} | {} | {} | {} |",
+                "| {name} | {label} | {n} | {} | {} | {} | {} |",
                 if conf.is_finite() {
                     format!("{conf:.2}")
                 } else {
@@ -220,6 +274,11 @@ fn main() {
                 },
                 if i == 0 {
                     format!("{ece:.3}")
+                } else {
+                    String::new()
+                },
+                if i == 0 {
+                    format!("{null_mean:.3}, {null_q95:.3} ({p:.2})")
                 } else {
                     String::new()
                 }

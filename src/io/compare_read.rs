@@ -293,7 +293,7 @@ pub fn compare_from_store(store: &Store, path: &Path) -> Result<CompareFile, IoE
         Ok(Attr::Str(s)) => vec![s.clone()],
         _ => Vec::new(),
     };
-    Ok(CompareFile {
+    let file = CompareFile {
         path: path.to_path_buf(),
         caution: str_or_empty(store, path, "/", "caution"),
         software: str_or_empty(store, path, "/", "software"),
@@ -314,7 +314,10 @@ pub fn compare_from_store(store: &Store, path: &Path) -> Result<CompareFile, IoE
         transport_epsilon_mm: f64_or_nan(store, path, "/similarity", "transport_epsilon_mm"),
         template_vertices: int_or(store, path, "/similarity", "template_vertices"),
         paired,
-    })
+    };
+    // Whole or refused: nothing downstream checks sizes again.
+    super::layout_checks::check_compare_layout(&file)?;
+    Ok(file)
 }
 
 #[cfg(test)]

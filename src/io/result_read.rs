@@ -344,7 +344,7 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
         noise_sd,
     };
     let dipoles = dipoles_from_store(store, path, k)?;
-    Ok(ResultFile {
+    let result = ResultFile {
         dipoles,
         path: path.to_path_buf(),
         hashes,
@@ -361,5 +361,8 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
         sources,
         fit,
         attribution,
-    })
+    };
+    // Whole or refused: nothing downstream checks sizes again.
+    super::layout_checks::check_result_layout(&result)?;
+    Ok(result)
 }

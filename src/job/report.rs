@@ -14,13 +14,10 @@ fn bad(message: String) -> JobError {
     JobError::input(message)
 }
 
-/// A report error as a job error: inconsistent sizes in the file are bad
-/// input, a picture that fails is a compute failure.
+/// A report error as a job error: the file was checked whole when read,
+/// so what is left (a picture that fails) is a compute failure.
 fn building(e: ReportError) -> JobError {
-    match e {
-        ReportError::Shape { .. } => JobError::input(e.to_string()),
-        other => JobError::wrap(ErrorKind::Compute, "building the report", other),
-    }
+    JobError::wrap(ErrorKind::Compute, "building the report", e)
 }
 
 /// Write the page atomically to `out` (default `dir`/report.html).

@@ -22,7 +22,6 @@ use super::page::{
     table, Frame, ReportError,
 };
 use super::report_html::{escape, fixed, percent, png_img, Html};
-use super::report_shapes::check_compare_shapes;
 use crate::geometry::{template, Template, TemplateResolution};
 use crate::io::compare_read::{CompareComponent, CompareFile};
 
@@ -236,7 +235,6 @@ pub fn build_compare_report(
     f: &CompareFile,
     options: &CompareReportOptions,
 ) -> Result<String, ReportError> {
-    check_compare_shapes(f)?;
     let figures: Vec<ComponentCharts> = if options.no_figures {
         f.components
             .iter()

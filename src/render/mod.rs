@@ -18,7 +18,6 @@ pub mod report;
 pub mod report_dipoles;
 pub mod report_figures;
 pub mod report_html;
-mod report_shapes;
 pub mod report_style;
 pub mod sheet;
 pub mod spline;

@@ -18,18 +18,6 @@ use crate::io::result_file::CAUTION;
 #[derive(Debug, thiserror::Error)]
 #[non_exhaustive]
 pub enum ReportError {
-    /// Two parts of the file disagree in size.
-    #[error("{}: {field} has {found} values, expected {expected}", path.display())]
-    Shape {
-        /// The result or comparison file.
-        path: PathBuf,
-        /// The dataset (e.g. `/fit/lambda`).
-        field: &'static str,
-        /// Its number of values.
-        found: usize,
-        /// What the rest of the file implies, in words.
-        expected: String,
-    },
     /// A picture could not be drawn.
     #[error("{}: drawing {figure}: {message}", path.display())]
     Figure {

@@ -19,7 +19,6 @@ use super::page::{
 };
 use super::report_figures::{component_figures, ComponentFigures};
 use super::report_html::{escape, fixed, percent, scientific, Html};
-use super::report_shapes::check_result_shapes;
 use crate::io::result_file::ResultFile;
 
 /// Choices for the report.
@@ -50,7 +49,6 @@ pub fn build_report(
     summary: Option<&serde_json::Value>,
     options: &ReportOptions,
 ) -> Result<String, ReportError> {
-    check_result_shapes(result)?;
     let facts: Vec<ComponentFacts> = (0..result.k)
         .map(|c| ComponentFacts::new(result, summary, c))
         .collect();

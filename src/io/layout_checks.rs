@@ -1,27 +1,28 @@
-//! The size checks of the report pages: every array a page indexes is
+//! The size checks of a result and a comparison as read: every array is
 //! checked against the counts the file states (components, channels,
-//! regions, subjects) before anything is drawn, so a page never indexes out
-//! of range and a malformed file is an error naming its dataset.
+//! regions, subjects) once, by the reader, so a `ResultFile` or
+//! `CompareFile` is whole and nothing downstream (the report pages, the
+//! comparison) checks or indexes out of range.
 
 use std::path::Path;
 
-use super::page::ReportError;
-use crate::io::compare_read::CompareFile;
-use crate::io::result_file::ResultFile;
+use super::compare_read::CompareFile;
+use super::error::IoError;
+use super::result_file::ResultFile;
 
 /// One check: the dataset, its number of values, the number expected and
 /// what the rest of the file implies, in words.
 type Check = (&'static str, usize, usize, String);
 
 /// The first check whose sizes differ, as an error naming the file `path`.
-fn check_sizes(path: &Path, checks: Vec<Check>) -> Result<(), ReportError> {
+fn check_sizes(path: &Path, checks: Vec<Check>) -> Result<(), IoError> {
     for (field, found, expected_len, expected) in checks {
         if found != expected_len {
-            return Err(ReportError::Shape {
+            return Err(IoError::Shape {
                 path: path.to_path_buf(),
-                field,
-                found,
-                expected,
+                dataset: field.to_string(),
+                found: vec![found],
+                expected: format!("{expected_len} values ({expected})"),
             });
         }
     }
@@ -30,7 +31,7 @@ fn check_sizes(path: &Path, checks: Vec<Check>) -> Result<(), ReportError> {
 
 /// Check that every per-component and per-region array has the size the
 /// component and region counts imply, so the page never indexes out of range.
-pub(crate) fn check_result_shapes(r: &ResultFile) -> Result<(), ReportError> {
+pub(crate) fn check_result_layout(r: &ResultFile) -> Result<(), IoError> {
     let k = r.k;
     let n_ch = r.labels.len();
     let n_reg = r.attribution.region_names.len();
@@ -176,7 +177,7 @@ pub(crate) fn check_result_shapes(r: &ResultFile) -> Result<(), ReportError> {
 
 /// Check every array against the subject and region counts, so the page
 /// never indexes out of range.
-pub(crate) fn check_compare_shapes(f: &CompareFile) -> Result<(), ReportError> {
+pub(crate) fn check_compare_layout(f: &CompareFile) -> Result<(), IoError> {
     let n_s = f.subjects.len();
     let n_r = f.region_names.len();
     let mut checks: Vec<Check> = Vec::new();
