@@ -78,7 +78,7 @@ fn calibrated_ece(cases: &[&CaseResult], observed: f64, draws: usize) -> (f64, f
             let drawn: Vec<CaseResult> = cases
                 .iter()
                 .map(|r| {
-                    let mut c = (*r).clone();
+                    let mut c = **r;
                     c.top1_correct = rng.uniform() < r.lead_support;
                     c
                 })

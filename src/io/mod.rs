@@ -17,7 +17,7 @@ pub mod gifti;
 pub mod hdf5_backend;
 pub mod input;
 pub mod kernel_file;
-mod layout_checks;
+pub(crate) mod layout_checks;
 pub mod leadfield_file;
 pub mod mapping_file;
 pub mod npy;

@@ -710,10 +710,13 @@ mod tests {
     }
 
     #[test]
-    fn inconsistent_sizes_are_an_error_naming_the_dataset() {
+    fn inconsistent_sizes_are_refused_by_the_reader_naming_the_dataset() {
+        // The reader runs this check, so the page never sees such a file.
+        use crate::io::layout_checks::check_compare_layout;
+        check_compare_layout(&tiny()).unwrap();
         let mut f = tiny();
         f.components[0].cosine.pop();
-        let err = build_compare_report(&f, &CompareReportOptions::default()).unwrap_err();
+        let err = check_compare_layout(&f).unwrap_err();
         let text = err.to_string();
         assert!(
             text.contains("grp/compare.h5") && text.contains("/similarity/cosine"),

@@ -648,10 +648,12 @@ mod tests {
     }
 
     #[test]
-    fn inconsistent_sizes_are_an_error_naming_the_dataset() {
+    fn inconsistent_sizes_are_refused_by_the_reader_naming_the_dataset() {
+        // The reader runs this check, so the page never sees such a file.
+        use crate::io::layout_checks::check_result_layout;
         let mut r = tiny();
         r.fit.lambda.push(0.2);
-        let err = build_report(&r, None, &ReportOptions::default()).unwrap_err();
+        let err = check_result_layout(&r).unwrap_err();
         let text = err.to_string();
         assert!(
             text.contains("tiny/result.h5") && text.contains("/fit/lambda"),
@@ -659,8 +661,13 @@ mod tests {
         );
         let mut r = tiny();
         r.attribution.share.pop();
-        let err = build_report(&r, None, &ReportOptions::default()).unwrap_err();
+        let err = check_result_layout(&r).unwrap_err();
         assert!(err.to_string().contains("/attribution/share"));
+    }
+
+    #[test]
+    fn the_fixture_is_whole() {
+        crate::io::layout_checks::check_result_layout(&tiny()).unwrap();
     }
 
     #[test]
