@@ -30,11 +30,16 @@ from . import _patchwise
 
 __all__ = [
     "CAUTION",
+    "Datasets",
     "Region",
     "Result",
     "attribute",
+    "compare",
     "default_options",
+    "dictionary",
+    "dipole",
     "from_estimator",
+    "leadfield",
     "read_result",
 ]
 
@@ -59,9 +64,9 @@ def default_options() -> Dict[str, Any]:
     return json.loads(_patchwise.default_params())
 
 
-def _options(given: Dict[str, Any]) -> Dict[str, Any]:
-    """The full option set: the defaults, with ``given`` (values not None)."""
-    options = default_options()
+def _options(given: Dict[str, Any], kind: str = "attribute") -> Dict[str, Any]:
+    """The full option set of job ``kind``: the defaults, with ``given`` (values not None)."""
+    options = json.loads(_patchwise.default_params(kind))
     for key, value in given.items():
         if value is None:
             continue
@@ -126,7 +131,51 @@ def _number(text: str) -> float:
     return float(text) if text not in ("", "n/a", "nan", "NaN") else float("nan")
 
 
-class Result:
+class Datasets:
+    """The datasets of an HDF5 file patchwise wrote (result.h5, leadfield.h5,
+    dictionary.h5, compare.h5), read into NumPy arrays (numbers) and lists
+    (strings), by absolute path: ``d["/leadfield/gain"]``; :meth:`names`
+    lists them and :attr:`attributes` holds the root attributes. Layouts:
+    docs/architecture.md (positions in mm, lead fields in V/(A·m))."""
+
+    def __init__(self, path: PathLike) -> None:
+        self._path = Path(path)
+        if not self._path.is_file():
+            raise ValueError(f"{self._path}: not found")
+        self._datasets, self._attributes = _patchwise.read_h5(os.fspath(self._path))
+
+    def __repr__(self) -> str:
+        return f"<patchwise.Datasets {self._path}: {len(self._datasets)} datasets>"
+
+    @property
+    def path(self) -> Path:
+        """The HDF5 file read."""
+        return self._path
+
+    def names(self) -> List[str]:
+        """The datasets, by absolute path."""
+        return sorted(self._datasets)
+
+    def __getitem__(self, name: str) -> Any:
+        key = name if name.startswith("/") else "/" + name
+        if key not in self._datasets:
+            raise KeyError(f"{name}: no such dataset in {self._path.name}; see names()")
+        return self._datasets[key]
+
+    def __contains__(self, name: str) -> bool:
+        return (name if name.startswith("/") else "/" + name) in self._datasets
+
+    def get(self, name: str, default: Any = None) -> Any:
+        """The dataset ``name``, or ``default`` when the file lacks it."""
+        return self[name] if name in self else default
+
+    @property
+    def attributes(self) -> Dict[str, Any]:
+        """The root attributes (input hashes, notes, caution, software)."""
+        return dict(self._attributes)
+
+
+class Result(Datasets):
     """An attribution: the folder the command line writes (result.h5,
     regions.csv, summary.json), read into NumPy arrays.
 
@@ -145,7 +194,7 @@ class Result:
                 f"{path}: not found (a result folder holds the result.h5 that "
                 "`patchwise attribute` or patchwise.attribute writes)"
             )
-        self._datasets, self._attributes = _patchwise.read_h5(os.fspath(path))
+        super().__init__(path)
         summary = self._folder / "summary.json"
         self._summary: Dict[str, Any] = (
             json.loads(summary.read_text(encoding="utf-8")) if summary.is_file() else {}
@@ -156,29 +205,6 @@ class Result:
             f"<patchwise.Result: {len(self.component_names)} component(s), "
             f"{len(self.region_names)} regions, {len(self.channels)} channels>"
         )
-
-    # The generic accessor: every dataset, present and future.
-    def names(self) -> List[str]:
-        """The datasets of result.h5, by absolute path."""
-        return sorted(self._datasets)
-
-    def __getitem__(self, name: str) -> Any:
-        key = name if name.startswith("/") else "/" + name
-        if key not in self._datasets:
-            raise KeyError(f"{name}: no such dataset in result.h5; see Result.names()")
-        return self._datasets[key]
-
-    def __contains__(self, name: str) -> bool:
-        return (name if name.startswith("/") else "/" + name) in self._datasets
-
-    def get(self, name: str, default: Any = None) -> Any:
-        """The dataset ``name``, or ``default`` when result.h5 lacks it."""
-        return self[name] if name in self else default
-
-    @property
-    def attributes(self) -> Dict[str, Any]:
-        """The root attributes of result.h5 (input hashes, notes, caution, software)."""
-        return dict(self._attributes)
 
     @property
     def summary(self) -> Dict[str, Any]:
@@ -527,3 +553,117 @@ def from_estimator(
         n_samples=data.shape[0],
         **options,
     )
+
+
+def _folder_of(result: Union[Result, PathLike]) -> str:
+    return os.fspath(result.folder if isinstance(result, Result) else result)
+
+
+def leadfield(
+    out: PathLike,
+    *,
+    montage: Any = None,
+    sources: Optional[PathLike] = None,
+    head: Optional[PathLike] = None,
+    regions: Optional[PathLike] = None,
+    free_orientation: bool = False,
+    progress: bool = False,
+) -> Datasets:
+    """The stage ``patchwise leadfield``: the lead field of a montage
+    (name or electrodes file) and a source space in a head, written to the
+    file ``out`` (leadfield.h5: gain in V/(A·m), average reference, positions
+    in mm). Returns its datasets (``/leadfield/gain`` is n_ch x n_src)."""
+    given = dict(montage=montage, sources=sources, head=head, regions=regions)
+    params = json.dumps(_options(given, "forward"), allow_nan=False)
+    path = _patchwise.leadfield(params, bool(free_orientation), os.fspath(out), bool(progress))
+    return Datasets(path)
+
+
+def dictionary(
+    leadfield: PathLike,
+    out: PathLike,
+    *,
+    progress: bool = False,
+    **options: Any,
+) -> Datasets:
+    """The stage ``patchwise dictionary``: the multi-scale patch dictionary
+    of the lead-field file ``leadfield``, written to the file ``out``.
+    Options: ``radii_mm``, ``spacing_mm``, ``profile``, ``atom_orientation``
+    (the flags of the command). Returns its datasets (``/dictionary/atoms``
+    is n_ch x n_atoms, unit-norm columns)."""
+    params = json.dumps(_options(options, "patches"), allow_nan=False)
+    path = _patchwise.dictionary(os.fspath(leadfield), params, os.fspath(out), bool(progress))
+    return Datasets(path)
+
+
+def dipole(
+    patterns: Any = None,
+    weights: Any = None,
+    covariance: Any = None,
+    channels: Optional[Sequence[str]] = None,
+    *,
+    out: PathLike,
+    decoder: Optional[PathLike] = None,
+    pairs: bool = False,
+    noise_sd: Optional[float] = None,
+    montage: Any = None,
+    sources: Optional[PathLike] = None,
+    head: Optional[PathLike] = None,
+    regions: Optional[PathLike] = None,
+    progress: bool = False,
+) -> Datasets:
+    """The stage ``patchwise dipole``: one equivalent dipole (or a symmetric
+    pair, ``pairs=True``) per component pattern, in the same head. The
+    decoder is given as for :func:`attribute` (arrays with ``channels``, or
+    ``decoder``, a file). Writes result.h5 (``/dipole/...``) and dipoles.csv
+    into the new folder ``out``; returns result.h5's datasets."""
+    work = tempfile.TemporaryDirectory(prefix="patchwise-")
+    try:
+        if decoder is None:
+            labels = _labels("channels", channels)
+            if labels is None:
+                raise ValueError("channels: the decoder's channel labels are needed (one per row)")
+            decoder = _patchwise.write_decoder(
+                os.path.join(work.name, "decoder.h5"),
+                labels,
+                patterns=_float_array("patterns", patterns, (1, 2)),
+                weights=_float_array("weights", weights, (1, 2)),
+                covariance=_float_array("covariance", covariance, (2,)),
+            )
+        params = dict(decoder=os.fspath(decoder), pairs=bool(pairs))
+        for key, value in dict(noise_sd=noise_sd, montage=montage, sources=sources,
+                               head=head, regions=regions).items():
+            if value is not None:
+                params[key] = os.fspath(value) if isinstance(value, os.PathLike) else value
+        folder = _patchwise.dipole(json.dumps(params, allow_nan=False), os.fspath(out),
+                                   bool(progress))
+    finally:
+        work.cleanup()
+    return Datasets(Path(folder) / "result.h5")
+
+
+def compare(
+    results: Iterable[Union[Result, PathLike]],
+    out: PathLike,
+    *,
+    cache: Optional[PathLike] = None,
+    progress: bool = False,
+    **options: Any,
+) -> Datasets:
+    """The stage ``patchwise compare``: attributions of several subjects
+    (saved result folders, or :class:`Result` objects; a folder's name names
+    its subject) compared on one template cortex. Options are the flags of
+    the command (``smoothing_mm``, ``bootstrap``, ``sign_flips``, ``alpha``,
+    ``seed``, ``pair``, ...). Writes compare.h5 and its tables into the new
+    folder ``out``; returns compare.h5's datasets (arrays lead with the
+    component axis)."""
+    params = json.dumps(_options(options, "compare"), allow_nan=False)
+    folders = [_folder_of(r) for r in results]
+    folder = _patchwise.compare(
+        folders,
+        params,
+        os.fspath(out),
+        os.fspath(cache) if cache is not None else _default_cache(),
+        bool(progress),
+    )
+    return Datasets(Path(folder) / "compare.h5")

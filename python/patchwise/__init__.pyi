@@ -3,7 +3,7 @@
 import os
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Dict, List, Optional, Sequence, Tuple, Union
+from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
 
 import numpy as np
 import numpy.typing as npt
@@ -29,14 +29,19 @@ class Region:
     peak_y_mm: float
     peak_z_mm: float
 
-class Result:
-    def __init__(self, folder: PathLike, _keep: Any = ...) -> None: ...
+class Datasets:
+    def __init__(self, path: PathLike) -> None: ...
+    @property
+    def path(self) -> Path: ...
     def names(self) -> List[str]: ...
     def __getitem__(self, name: str) -> Any: ...
     def __contains__(self, name: str) -> bool: ...
     def get(self, name: str, default: Any = ...) -> Any: ...
     @property
     def attributes(self) -> Dict[str, Any]: ...
+
+class Result(Datasets):
+    def __init__(self, folder: PathLike, _keep: Any = ...) -> None: ...
     @property
     def summary(self) -> Dict[str, Any]: ...
     @property
@@ -114,5 +119,54 @@ def attribute(
     no_refit: Optional[bool] = ...,
 ) -> Result: ...
 def from_estimator(
-    estimator: Any, X: ArrayLike, channels: Sequence[str], **options: Any
+    estimator: Any,
+    X: ArrayLike,
+    channels: Sequence[str],
+    *,
+    per_component: Optional[bool] = ...,
+    **options: Any,
 ) -> Result: ...
+def leadfield(
+    out: PathLike,
+    *,
+    montage: Union[str, PathLike, None] = ...,
+    sources: Optional[PathLike] = ...,
+    head: Optional[PathLike] = ...,
+    regions: Optional[PathLike] = ...,
+    free_orientation: bool = ...,
+    progress: bool = ...,
+) -> Datasets: ...
+def dictionary(
+    leadfield: PathLike,
+    out: PathLike,
+    *,
+    progress: bool = ...,
+    radii_mm: Optional[Sequence[float]] = ...,
+    spacing_mm: Optional[float] = ...,
+    profile: Optional[str] = ...,
+    atom_orientation: Optional[str] = ...,
+) -> Datasets: ...
+def dipole(
+    patterns: Optional[ArrayLike] = ...,
+    weights: Optional[ArrayLike] = ...,
+    covariance: Optional[ArrayLike] = ...,
+    channels: Optional[Sequence[str]] = ...,
+    *,
+    out: PathLike,
+    decoder: Optional[PathLike] = ...,
+    pairs: bool = ...,
+    noise_sd: Optional[float] = ...,
+    montage: Union[str, PathLike, None] = ...,
+    sources: Optional[PathLike] = ...,
+    head: Optional[PathLike] = ...,
+    regions: Optional[PathLike] = ...,
+    progress: bool = ...,
+) -> Datasets: ...
+def compare(
+    results: Iterable[Union[Result, PathLike]],
+    out: PathLike,
+    *,
+    cache: Optional[PathLike] = ...,
+    progress: bool = ...,
+    **options: Any,
+) -> Datasets: ...

@@ -22,13 +22,14 @@ use patchwise::job::observer::interrupted;
 use patchwise::job::outputs::write_attribution_files;
 use patchwise::job::{AttributeParams, JobError, JobObserver};
 
+mod stages;
 mod worker;
 
 use worker::run_job;
 
 /// A job error as the Python exception of its kind, with the whole cause
 /// chain on one line (the command line's text).
-fn job_error(e: JobError) -> PyErr {
+pub(crate) fn job_error(e: JobError) -> PyErr {
     if e.is_input() {
         PyValueError::new_err(e.chain_text())
     } else {
@@ -51,22 +52,22 @@ fn float_dataset(array: &PyReadonlyArrayDyn<'_, f64>) -> Dataset {
 }
 
 /// The arrays of a decoder given from Python.
-struct DecoderArrays<'py> {
-    channels: Vec<String>,
-    patterns: Option<PyReadonlyArrayDyn<'py, f64>>,
-    weights: Option<PyReadonlyArrayDyn<'py, f64>>,
-    covariance: Option<PyReadonlyArrayDyn<'py, f64>>,
-    n_samples: Option<f64>,
-    folds: Option<PyReadonlyArrayDyn<'py, f64>>,
-    fold_covariances: Option<PyReadonlyArrayDyn<'py, f64>>,
-    component_names: Option<Vec<String>>,
+pub(crate) struct DecoderArrays<'py> {
+    pub(crate) channels: Vec<String>,
+    pub(crate) patterns: Option<PyReadonlyArrayDyn<'py, f64>>,
+    pub(crate) weights: Option<PyReadonlyArrayDyn<'py, f64>>,
+    pub(crate) covariance: Option<PyReadonlyArrayDyn<'py, f64>>,
+    pub(crate) n_samples: Option<f64>,
+    pub(crate) folds: Option<PyReadonlyArrayDyn<'py, f64>>,
+    pub(crate) fold_covariances: Option<PyReadonlyArrayDyn<'py, f64>>,
+    pub(crate) component_names: Option<Vec<String>>,
 }
 
 /// The decoder as the store of a decoder file (`channels`, `patterns` or
 /// `weights` + `covariance`, and the extras): read back by the same code as
 /// a file, so shapes, values and extras are checked as the command line
 /// checks them.
-fn decoder_store(d: &DecoderArrays<'_>) -> Store {
+pub(crate) fn decoder_store(d: &DecoderArrays<'_>) -> Store {
     let mut store = Store::new();
     store.insert("/channels", Dataset::strings(d.channels.clone()));
     let arrays = [
@@ -165,11 +166,20 @@ fn attribute<'py>(
     })
 }
 
-/// The default parameters of `attribute` as JSON (the command line's).
+/// The default parameters of a job as JSON (the command line's): `kind` is
+/// `attribute`, `compare`, `forward` (montage, sources, head, regions) or
+/// `patches` (the dictionary's options).
 #[pyfunction]
-fn default_params() -> PyResult<String> {
-    serde_json::to_string(&AttributeParams::default())
-        .map_err(|e| PyRuntimeError::new_err(e.to_string()))
+#[pyo3(signature = (kind="attribute"))]
+fn default_params(kind: &str) -> PyResult<String> {
+    let value = match kind {
+        "attribute" => serde_json::to_string(&AttributeParams::default()),
+        "compare" => serde_json::to_string(&patchwise::job::CompareParams::default()),
+        "forward" => serde_json::to_string(&patchwise::job::ForwardParams::default()),
+        "patches" => serde_json::to_string(&patchwise::job::PatchParams::default()),
+        other => return Err(PyValueError::new_err(format!("no job {other:?}"))),
+    };
+    value.map_err(|e| PyRuntimeError::new_err(e.to_string()))
 }
 
 /// Check parameters given as JSON (every value, as the command line does);
@@ -276,6 +286,11 @@ fn _patchwise(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(read_h5, m)?)?;
     m.add_function(wrap_pyfunction!(copy_folder, m)?)?;
     m.add_function(wrap_pyfunction!(report, m)?)?;
+    m.add_function(wrap_pyfunction!(stages::leadfield, m)?)?;
+    m.add_function(wrap_pyfunction!(stages::dictionary, m)?)?;
+    m.add_function(wrap_pyfunction!(stages::dipole, m)?)?;
+    m.add_function(wrap_pyfunction!(stages::compare, m)?)?;
+    m.add_function(wrap_pyfunction!(stages::write_decoder, m)?)?;
     m.add("CAUTION", patchwise::io::result_file::CAUTION)?;
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
     Ok(())
