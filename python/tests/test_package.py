@@ -328,3 +328,21 @@ def test_keyboard_interrupt_stops_the_job(decoder, tmp_path):
         time.sleep(5)  # the interrupt lands here if the job ended first
     timer.cancel()
     assert not returned, "the job ended before the interrupt: nothing was checked"
+
+
+def test_lambda_keyword_is_the_flag_lambda(decoder, cache):
+    weights, covariance = decoder
+    with pytest.raises(ValueError, match="--lambda -1"):
+        patchwise.attribute(weights=weights, covariance=covariance, channels=CHANNELS,
+                            cache=cache, lambda_=-1.0, **SMALL)
+
+
+def test_noise_covariance_as_an_array_whitens_the_fit(decoder, cache):
+    weights, covariance = decoder
+    r = patchwise.attribute(weights=weights, covariance=covariance, channels=CHANNELS,
+                            noise_covariance=np.eye(len(CHANNELS)), cache=cache, **SMALL)
+    assert "noise_covariance" in r.summary["hashes"]
+    assert not any("no noise covariance" in n for n in r.summary["notes"])
+    with pytest.raises(ValueError, match="noise_covariance"):
+        patchwise.attribute(weights=weights, covariance=covariance, channels=CHANNELS,
+                            noise_covariance=np.eye(3), cache=cache, **SMALL)
