@@ -19,7 +19,6 @@ import json
 import os
 import shutil
 import tempfile
-import weakref
 from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
@@ -417,8 +416,9 @@ def attribute(
     """
     if "lambda_" in options:
         options["lambda"] = options.pop("lambda_")
+    # The result lives in a temporary folder as long as its Result does
+    # (TemporaryDirectory removes it when collected, or at exit).
     work = tempfile.TemporaryDirectory(prefix="patchwise-")
-    keep = weakref.finalize(work, work.cleanup)
     folder = Path(work.name)
     given: Dict[str, Any] = dict(options)
     labels = _labels("channels", channels)
@@ -471,7 +471,7 @@ def attribute(
         component_names=_labels("component_names", component_names),
         **arrays,
     )
-    return Result(out, _keep=keep)
+    return Result(out, _keep=work)
 
 
 def _component_names_of(estimator: Any, k: int) -> Optional[List[str]]:

@@ -346,3 +346,16 @@ def test_noise_covariance_as_an_array_whitens_the_fit(decoder, cache):
     with pytest.raises(ValueError, match="noise_covariance"):
         patchwise.attribute(weights=weights, covariance=covariance, channels=CHANNELS,
                             noise_covariance=np.eye(3), cache=cache, **SMALL)
+
+
+def test_an_unsaved_result_leaves_no_temporary_folder(decoder, cache):
+    import gc
+
+    weights, covariance = decoder
+    r = patchwise.attribute(weights=weights, covariance=covariance, channels=CHANNELS,
+                            cache=cache, **SMALL)
+    folder = r.folder.parent
+    assert folder.is_dir()
+    del r
+    gc.collect()
+    assert not folder.exists()
