@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 use super::cache::dictionary_for_channels;
 use super::error::{JobError, JobResult};
 use super::noise::{pattern_noise, NoiseInputs};
-use super::observer::{staged, JobObserver};
+use super::observer::{interrupted, staged, JobObserver};
 use super::params::AttributeParams;
 use super::perturb::perturbed_for_resamples;
 use super::prepare::{
@@ -165,6 +165,7 @@ fn run(
     let average = params.fit.reference == Reference::Average;
     let patterns = decoder_patterns(&decoder, &input_path, average)?;
     let k = decoder.k;
+    interrupted(observer)?;
     let mut forward = None;
     let mut dict = match &inputs.dictionary {
         Some(p) => {
@@ -239,6 +240,7 @@ fn run(
         .atom_norms
         .clone()
         .unwrap_or_else(|| vec![1.0; dict.n_atoms]);
+    interrupted(observer)?;
     let perturbed = perturbed_for_resamples(
         &dict,
         forward.as_ref(),
@@ -274,6 +276,7 @@ fn run(
             options.noise.describe()
         ));
     }
+    interrupted(observer)?;
     let outcome = staged(
         observer,
         "resampling",

@@ -25,6 +25,21 @@ pub trait JobObserver: Sync {
     }
     /// The current stage is over.
     fn stage_end(&self) {}
+    /// Whether the caller asked the job to stop (the Python package's
+    /// keyboard interrupt). Jobs look between stages and then stop with
+    /// [`interrupted`]; by default never.
+    fn cancelled(&self) -> bool {
+        false
+    }
+}
+
+/// The error of a job its caller stopped; `Ok` while it may go on.
+pub fn interrupted(observer: &dyn JobObserver) -> Result<(), super::error::JobError> {
+    if observer.cancelled() {
+        Err(super::error::JobError::compute("interrupted by the caller"))
+    } else {
+        Ok(())
+    }
 }
 
 /// An observer that ignores everything.

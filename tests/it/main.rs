@@ -45,6 +45,7 @@ mod montage_electrodes_io;
 mod montage_matching;
 mod montage_standard;
 mod patterns_haufe;
+mod python_package;
 mod reliability_cache;
 mod reliability_exit_codes;
 mod reliability_limits;

@@ -4,7 +4,10 @@
 //!
 //! Order: the interpreter named by `PATCHWISE_PYTHON`; else a virtual
 //! environment at `target/pyenv`, created once (guarded by a lock file) with
-//! `pip install` of the pinned versions; the search runs once per test run.
+//! `pip install` of the pinned versions, and updated when the pins change
+//! (the installed pins are kept as `target/pyenv/requirements.txt`); the
+//! search runs once per test run. [`install_package`] builds and installs
+//! the Python package (`python/`) into it.
 //! When neither works, a test calling [`python`] fails. Where the build
 //! found no Python at all (`build.rs` sets `no_reference_python`), every
 //! such test carries `#[cfg_attr(no_reference_python, ignore = ...)]` and
@@ -40,7 +43,9 @@ fn create_venv() -> Result<PathBuf, String> {
     // 1.89, which hdf5-pure 0.47 already requires of the whole crate.
     #[allow(clippy::incompatible_msrv)]
     lock.lock().map_err(|e| e.to_string())?;
-    if has_references(&python) {
+    let pins = std::fs::read_to_string(requirements()).map_err(|e| e.to_string())?;
+    let installed = venv.join("requirements.txt");
+    if has_references(&python) && std::fs::read_to_string(&installed).is_ok_and(|p| p == pins) {
         return Ok(python);
     }
     let status = Command::new("python3")
@@ -59,7 +64,69 @@ fn create_venv() -> Result<PathBuf, String> {
     if !status.success() || !has_references(&python) {
         return Err("pip install -r tests/reference/requirements.txt failed".to_string());
     }
+    std::fs::write(&installed, pins).map_err(|e| e.to_string())?;
     Ok(python)
+}
+
+/// Build the Python package (`python/`, by maturin, the crate into
+/// `target/python`) and install it into `python`'s environment, one test run
+/// at a time (a lock file). An unchanged crate makes cargo's part a no-op.
+/// `Ok(false)` when that environment lacks maturin or pytest (a
+/// `PATCHWISE_PYTHON` of the user's); an `Err` holds pip's output.
+pub fn install_package(python: &Path) -> Result<bool, String> {
+    let has_tools = Command::new(python)
+        .args(["-c", "import maturin, pytest, sklearn"])
+        .output()
+        .is_ok_and(|o| o.status.success());
+    if !has_tools {
+        return Ok(false);
+    }
+    let root = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let target = root.join("target");
+    let lock =
+        std::fs::File::create(target.join("python-package.lock")).map_err(|e| e.to_string())?;
+    #[allow(clippy::incompatible_msrv)]
+    lock.lock().map_err(|e| e.to_string())?;
+    let mut pip = Command::new(python);
+    pip.args([
+        "-m",
+        "pip",
+        "install",
+        "--quiet",
+        "--no-deps",
+        "--no-build-isolation",
+    ])
+    .arg(root.join("python"))
+    .env("CARGO_TARGET_DIR", target.join("python"));
+    // pip runs the build backend's `maturin` command from the environment's
+    // own bin folder, which need not be on PATH.
+    if let Some(bin) = python.parent() {
+        let path = std::env::var_os("PATH").unwrap_or_default();
+        let mut paths = vec![bin.to_path_buf()];
+        paths.extend(std::env::split_paths(&path));
+        if let Ok(joined) = std::env::join_paths(paths) {
+            pip.env("PATH", joined);
+        }
+    }
+    // The test harness's own CARGO_* variables would describe this crate,
+    // not the package's; cargo under maturin sets its own.
+    for (name, _) in std::env::vars_os() {
+        let name = name.to_string_lossy().to_string();
+        if name.starts_with("CARGO_") && name != "CARGO_HOME" {
+            pip.env_remove(&name);
+        }
+    }
+    let out = pip
+        .output()
+        .map_err(|e| format!("pip install ./python: {e}"))?;
+    if !out.status.success() {
+        return Err(format!(
+            "pip install ./python failed:\nstdout:\n{}\nstderr:\n{}",
+            String::from_utf8_lossy(&out.stdout),
+            String::from_utf8_lossy(&out.stderr)
+        ));
+    }
+    Ok(true)
 }
 
 /// A Python with numpy and h5py; panics (the test fails) when there is
