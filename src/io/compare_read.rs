@@ -10,6 +10,7 @@
 use std::path::{Path, PathBuf};
 
 use super::error::IoError;
+use super::layout_checks::{check_sizes, Check};
 use super::store::{normalise_path, Array, Attr, Store};
 
 /// Everything `compare.h5` holds.
@@ -316,8 +317,75 @@ pub fn compare_from_store(store: &Store, path: &Path) -> Result<CompareFile, IoE
         paired,
     };
     // Whole or refused: nothing downstream checks sizes again.
-    super::layout_checks::check_compare_layout(&file)?;
+    check_compare_layout(&file)?;
     Ok(file)
+}
+
+/// Check every array against the subject and region counts, so the page
+/// never indexes out of range.
+pub(crate) fn check_compare_layout(f: &CompareFile) -> Result<(), IoError> {
+    let n_s = f.subjects.len();
+    let n_r = f.region_names.len();
+    let mut checks: Vec<Check> = Vec::new();
+    let per_region = format!("n_regions = {n_r}");
+    for c in &f.components {
+        let fields: [(&'static str, &Vec<f64>); 8] = [
+            ("/group/consistency", &c.consistency),
+            (
+                "/group/mean_selection_frequency",
+                &c.mean_selection_frequency,
+            ),
+            ("/group/mean_share", &c.mean_share),
+            ("/group/mean_low", &c.mean_low),
+            ("/group/mean_high", &c.mean_high),
+            ("/group/t", &c.t),
+            ("/group/p_raw", &c.p_raw),
+            ("/group/p_corrected", &c.p_corrected),
+        ];
+        for (field, v) in fields {
+            checks.push((field, v.len(), n_r, per_region.clone()));
+        }
+        let square = format!("n_subjects x n_subjects = {n_s} x {n_s}");
+        checks.push((
+            "/group/share",
+            c.share.len(),
+            n_s * n_r,
+            format!("n_subjects x n_regions = {n_s} x {n_r}"),
+        ));
+        checks.push((
+            "/similarity/cosine",
+            c.cosine.len(),
+            n_s * n_s,
+            square.clone(),
+        ));
+        checks.push((
+            "/similarity/transport_mm",
+            c.transport_mm.len(),
+            n_s * n_s,
+            square,
+        ));
+    }
+    if let Some(p) = &f.paired {
+        let n_p = p.subjects.len();
+        for c in &p.components {
+            checks.push((
+                "/paired/difference",
+                c.difference.len(),
+                n_p * n_r,
+                format!("n_pairs x n_regions = {n_p} x {n_r}"),
+            ));
+            for (field, v) in [
+                ("/paired/mean_difference", &c.mean_difference),
+                ("/paired/mean_low", &c.mean_low),
+                ("/paired/mean_high", &c.mean_high),
+                ("/paired/p_raw", &c.p_raw),
+                ("/paired/p_corrected", &c.p_corrected),
+            ] {
+                checks.push((field, v.len(), n_r, per_region.clone()));
+            }
+        }
+    }
+    check_sizes(&f.path, checks)
 }
 
 #[cfg(test)]

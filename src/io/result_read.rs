@@ -8,6 +8,7 @@
 use std::path::{Path, PathBuf};
 
 use super::error::IoError;
+use super::layout_checks::{check_sizes, Check};
 use super::leadfield_file::{montage_from_store, sources_from_store};
 use super::store::{Attr, Store};
 use crate::geometry::{SourceSpace, Vec3};
@@ -363,6 +364,152 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
         attribution,
     };
     // Whole or refused: nothing downstream checks sizes again.
-    super::layout_checks::check_result_layout(&result)?;
+    check_result_layout(&result)?;
     Ok(result)
+}
+
+/// Check that every per-component and per-region array has the size the
+/// component and region counts imply, so the page never indexes out of range.
+pub(crate) fn check_result_layout(r: &ResultFile) -> Result<(), IoError> {
+    let k = r.k;
+    let n_ch = r.labels.len();
+    let n_reg = r.attribution.region_names.len();
+    let a = &r.attribution;
+    let f = &r.fit;
+    let mut checks: Vec<Check> = vec![
+        (
+            "/patterns/component_names",
+            r.component_names.len(),
+            k,
+            format!("k = {k}"),
+        ),
+        (
+            "/patterns/values",
+            r.patterns.len(),
+            n_ch * k,
+            format!("n_ch x k = {n_ch} x {k}"),
+        ),
+        ("/fit/lambda", f.lambda.len(), k, format!("k = {k}")),
+        ("/fit/lambda_max", f.lambda_max.len(), k, format!("k = {k}")),
+        (
+            "/fit/duality_gap",
+            f.duality_gap.len(),
+            k,
+            format!("k = {k}"),
+        ),
+        ("/fit/iterations", f.iterations.len(), k, format!("k = {k}")),
+        (
+            "/fit/explained_variance",
+            f.explained_variance.len(),
+            k,
+            format!("k = {k}"),
+        ),
+        (
+            "/fit/residual",
+            f.residual.len(),
+            n_ch * k,
+            format!("n_ch x k = {n_ch} x {k}"),
+        ),
+        (
+            "/fit/coefficients",
+            f.coefficients.len(),
+            f.n_atoms * k,
+            format!("n_atoms x k = {} x {k}", f.n_atoms),
+        ),
+        (
+            "/attribution/share",
+            a.share.len(),
+            n_reg * k,
+            format!("n_regions x k = {n_reg} x {k}"),
+        ),
+        (
+            "/attribution/peak_mm",
+            a.peak_mm.len(),
+            k,
+            format!("k = {k} rows"),
+        ),
+        (
+            "/attribution/peak_region",
+            a.peak_region.len(),
+            k,
+            format!("k = {k}"),
+        ),
+        (
+            "/attribution/unassigned_share",
+            a.unassigned_share.len(),
+            k,
+            format!("k = {k}"),
+        ),
+    ];
+    let region_arrays = [
+        ("/attribution/share_low", &a.share_low),
+        ("/attribution/share_high", &a.share_high),
+        ("/attribution/selection_frequency", &a.selection_frequency),
+        ("/attribution/lead_frequency", &a.lead_frequency),
+    ];
+    for (field, values) in region_arrays {
+        if let Some(v) = values {
+            checks.push((
+                field,
+                v.len(),
+                n_reg * k,
+                format!("n_regions x k = {n_reg} x {k}"),
+            ));
+        }
+    }
+    if let Some(v) = &a.noise_sd {
+        checks.push(("/attribution/noise_sd", v.len(), k, format!("k = {k}")));
+    }
+    if let Some(v) = &f.reconstruction {
+        checks.push((
+            "/fit/reconstruction",
+            v.len(),
+            n_ch * k,
+            format!("n_ch x k = {n_ch} x {k}"),
+        ));
+    }
+    if let Some(p) = &f.path {
+        let n = p.n_points * k;
+        let expected = format!("n_path x k = {} x {k}", p.n_points);
+        checks.push(("/fit/path/ratio", p.ratio.len(), n, expected.clone()));
+        checks.push((
+            "/fit/path/explained_variance",
+            p.explained_variance.len(),
+            n,
+            expected.clone(),
+        ));
+        checks.push((
+            "/fit/path/active_patches",
+            p.active_patches.len(),
+            n,
+            expected.clone(),
+        ));
+        checks.push(("/fit/path/bic", p.bic.len(), n, expected));
+    }
+    if let Some(e) = &r.electrode_positions {
+        checks.push((
+            "/montage/positions_mm",
+            e.len(),
+            n_ch,
+            format!("n_ch = {n_ch} rows"),
+        ));
+    }
+    if let Some(s) = &r.sources {
+        let n_src = s.len();
+        if !a.source_map.is_empty() {
+            checks.push((
+                "/attribution/source_map",
+                a.source_map.len(),
+                n_src * k,
+                format!("n_src x k = {n_src} x {k}"),
+            ));
+        }
+        checks.push((
+            "/sources/region",
+            s.region.len(),
+            n_src,
+            format!("n_src = {n_src}"),
+        ));
+    }
+    check_sizes(&r.path, checks)
 }

@@ -712,7 +712,7 @@ mod tests {
     #[test]
     fn inconsistent_sizes_are_refused_by_the_reader_naming_the_dataset() {
         // The reader runs this check, so the page never sees such a file.
-        use crate::io::layout_checks::check_compare_layout;
+        use crate::io::compare_read::check_compare_layout;
         check_compare_layout(&tiny()).unwrap();
         let mut f = tiny();
         f.components[0].cosine.pop();

@@ -650,7 +650,7 @@ mod tests {
     #[test]
     fn inconsistent_sizes_are_refused_by_the_reader_naming_the_dataset() {
         // The reader runs this check, so the page never sees such a file.
-        use crate::io::layout_checks::check_result_layout;
+        use crate::io::result_read::check_result_layout;
         let mut r = tiny();
         r.fit.lambda.push(0.2);
         let err = check_result_layout(&r).unwrap_err();
@@ -667,7 +667,7 @@ mod tests {
 
     #[test]
     fn the_fixture_is_whole() {
-        crate::io::layout_checks::check_result_layout(&tiny()).unwrap();
+        crate::io::result_read::check_result_layout(&tiny()).unwrap();
     }
 
     #[test]
