@@ -1,6 +1,6 @@
 //! A job on a worker thread while the calling thread waits with the GIL
 //! released: every 100 ms it takes the GIL back to check Python's signals
-//! (a keyboard interrupt asks the job to stop at its next stage and raises
+//! (a keyboard interrupt asks the job to stop at its next step and raises
 //! at once) and to write the job's progress lines to `sys.stderr` (so they
 //! show in notebooks too). A panic on the worker becomes a `RuntimeError`,
 //! never a crash of the interpreter.
@@ -142,7 +142,7 @@ where
             Ok(outcome) => return outcome.map_err(super::job_error),
             Err(RecvTimeoutError::Timeout) => {
                 if let Err(e) = py.check_signals() {
-                    // The job stops at its next stage and writes nothing.
+                    // The job stops at its next step and writes nothing.
                     relay.cancel.store(true, Ordering::Relaxed);
                     return Err(e);
                 }

@@ -124,7 +124,7 @@ pub fn build_dictionary(
     seeds: &Seeds,
     distances: &DistanceOracle<'_>,
     params: &DictionaryParams,
-    progress: &(dyn Fn(usize) + Sync),
+    progress: &dyn crate::numeric::Progress,
 ) -> Result<(Dictionary, DictionaryInfo), DictionaryError> {
     params.validate()?;
     let n_src = check_mesh(mesh)?;

@@ -9,6 +9,9 @@ use thiserror::Error;
 #[derive(Debug, Clone, PartialEq, Error)]
 #[non_exhaustive]
 pub enum DictionaryError {
+    /// The caller asked the computation to stop.
+    #[error("stopped by the caller")]
+    Cancelled,
     /// `radii_m` is empty.
     #[error("dictionary parameter `radii_m` is empty: give at least one patch radius in metres")]
     NoRadii,

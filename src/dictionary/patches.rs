@@ -40,18 +40,21 @@ pub(crate) fn build_patches(
     radii_m: &[f64],
     profile: Profile,
     distances: &DistanceOracle<'_>,
-    progress: &(dyn Fn(usize) + Sync),
+    progress: &dyn crate::numeric::Progress,
 ) -> Result<Vec<Vec<PatchColumn>>, DictionaryError> {
     let r_max = radii_m.iter().copied().fold(0.0, f64::max);
     let per_seed: Vec<Result<Vec<PatchColumn>, DictionaryError>> = seeds
         .par_iter()
         .map(|&seed| {
+            if progress.cancelled() {
+                return Err(DictionaryError::Cancelled);
+            }
             let neighbours = checked_neighbours(seed, r_max, vertex_areas.len(), distances)?;
             let columns = radii_m
                 .iter()
                 .map(|&radius| patch_column(&neighbours, vertex_areas, radius, profile))
                 .collect();
-            progress(1);
+            progress.advance(1);
             Ok(columns)
         })
         .collect();

@@ -8,6 +8,9 @@ use crate::head::HeadError;
 #[derive(Debug, Error, Clone, PartialEq)]
 #[non_exhaustive]
 pub enum ForwardError {
+    /// The caller asked the computation to stop.
+    #[error("stopped by the caller")]
+    Cancelled,
     /// Fewer than three electrodes: no meaningful average reference or fit.
     #[error("a lead field needs at least 3 electrodes, got {count}")]
     TooFewElectrodes {

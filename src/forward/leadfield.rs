@@ -68,7 +68,7 @@ pub fn lead_field(
     normals: &[Vec3],
     orientation: Orientation,
     reference: Reference,
-    progress: &(dyn Fn(usize) + Sync),
+    progress: &dyn crate::numeric::Progress,
 ) -> Result<Gain, ForwardError> {
     let directions = validate(head, electrodes, sources, normals)?;
     let n_ch = electrodes.len();
@@ -105,6 +105,9 @@ pub fn lead_field(
         .zip(xyz_parts)
         .enumerate()
         .map(|(chunk, (mut gain_rows, mut xyz_rows))| {
+            if progress.cancelled() {
+                return Err(ForwardError::Cancelled);
+            }
             let start = chunk * CHUNK;
             let end = (start + CHUNK).min(n_src);
             let block = Block {
@@ -123,7 +126,7 @@ pub fn lead_field(
                 index: start + offset,
                 inner,
             })?;
-            progress(end - start);
+            progress.advance(end - start);
             Ok(())
         })
         .collect();

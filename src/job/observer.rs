@@ -4,6 +4,8 @@
 
 use std::sync::Mutex;
 
+use crate::numeric::Progress;
+
 /// Receives a job's notes and stage progress. Implementations must be
 /// `Sync`: stages advance from worker threads.
 pub trait JobObserver: Sync {
@@ -27,7 +29,9 @@ pub trait JobObserver: Sync {
     fn stage_end(&self) {}
     /// Whether the caller asked the job to stop (the Python package's
     /// keyboard interrupt). Jobs look between stages and then stop with
-    /// [`interrupted`]; by default never.
+    /// [`interrupted`], and the long stages (lead field, dictionary,
+    /// resamples) look between their steps through [`staged`]; by default
+    /// never.
     fn cancelled(&self) -> bool {
         false
     }
@@ -72,16 +76,30 @@ impl JobObserver for NoteKeeper {
     }
 }
 
+/// A job's observer as the [`Progress`] the pipeline stages take: steps
+/// advance the current stage, and the caller's wish to stop reaches the
+/// stage between its steps.
+struct StageProgress<'a>(&'a dyn JobObserver);
+
+impl Progress for StageProgress<'_> {
+    fn advance(&self, n: usize) {
+        self.0.stage_advance(n);
+    }
+    fn cancelled(&self) -> bool {
+        self.0.cancelled()
+    }
+}
+
 /// Run `work` as a stage of `total` steps of `observer`, handing it the
-/// per-step callback the pipeline functions take.
+/// [`Progress`] the pipeline functions take.
 pub fn staged<T>(
     observer: &dyn JobObserver,
     what: &str,
     total: usize,
-    work: impl FnOnce(&(dyn Fn(usize) + Sync)) -> T,
+    work: impl FnOnce(&dyn Progress) -> T,
 ) -> T {
     observer.stage_start(what, total);
-    let out = work(&|n| observer.stage_advance(n));
+    let out = work(&StageProgress(observer));
     observer.stage_end();
     out
 }

@@ -28,4 +28,7 @@ pub enum PipelineError {
     /// Inputs that disagree.
     #[error("{0}")]
     Inconsistent(String),
+    /// The caller asked the computation to stop.
+    #[error("stopped by the caller")]
+    Cancelled,
 }

@@ -265,7 +265,7 @@ pub fn fit_patterns(
     patterns: &[f64],
     k: usize,
     options: &FitOptions,
-    progress: &(dyn Fn(usize) + Sync),
+    progress: &dyn crate::numeric::Progress,
 ) -> Result<FitOutcome, PipelineError> {
     let n_ch = problem.n_channels;
     let n_atoms = problem.group.len();
@@ -383,7 +383,7 @@ fn resample(
     k: usize,
     options: &FitOptions,
     attribution: &Attribution,
-    progress: &(dyn Fn(usize) + Sync),
+    progress: &dyn crate::numeric::Progress,
 ) -> Result<ResampleSummary, PipelineError> {
     let n_ch = problem.n_channels;
     let n_atoms = problem.group.len();
@@ -454,6 +454,9 @@ fn resample(
     let runs: Vec<Result<Vec<Vec<f64>>, PipelineError>> = (0..opts.n_resamples)
         .into_par_iter()
         .map(|b| {
+            if progress.cancelled() {
+                return Err(PipelineError::Cancelled);
+            }
             let mut rng = SplitMix64::new(opts.seed, b as u64);
             let y_star = match &options.noise.fold_deviations {
                 // Noise of the folds' own shape: Σ_f g_f d_f has the
@@ -511,7 +514,7 @@ fn resample(
             budget_stops.fetch_add(stops, std::sync::atomic::Ordering::Relaxed);
             let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
             if n % 4 == 3 {
-                progress(4);
+                progress.advance(4);
             }
             Ok(shares)
         })

@@ -17,7 +17,7 @@ pub fn leadfield_for(
     sources: &SourceSpace,
     head: &SphereHead,
     orientation: Orientation,
-    progress: &(dyn Fn(usize) + Sync),
+    progress: &dyn crate::numeric::Progress,
 ) -> Result<(LeadField, Vec<ProjectionWarning>), PipelineError> {
     let (projected, warnings) = montage.project_to_sphere(head.center(), head.outer_radius())?;
     let lf = lead_field(
@@ -59,7 +59,7 @@ pub fn dictionary_for(
     lf: &LeadField,
     params: &DictionaryParams,
     spacing_m: Option<f64>,
-    progress: &(dyn Fn(usize) + Sync),
+    progress: &dyn crate::numeric::Progress,
 ) -> Result<(Dictionary, DictionaryInfo, DistanceKind), PipelineError> {
     let mesh = lf.sources.mesh();
     let seeds = match spacing_m {

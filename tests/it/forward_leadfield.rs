@@ -170,6 +170,33 @@ fn progress_counts_every_source_once() {
     assert!(calls.load(Ordering::Relaxed) >= 1);
 }
 
+/// A caller that asks to stop from the start.
+struct StopNow;
+
+impl patchwise::numeric::Progress for StopNow {
+    fn advance(&self, _n: usize) {}
+    fn cancelled(&self) -> bool {
+        true
+    }
+}
+
+// A stage stops between its steps when its caller asks, with its own
+// error, not a partial result (behaviour, common practice, no source).
+#[test]
+fn a_caller_can_stop_the_assembly() {
+    let (head, e, s, n) = setup();
+    let out = lead_field(
+        &head,
+        &e,
+        &s,
+        &n,
+        Orientation::Normal,
+        Reference::None,
+        &StopNow,
+    );
+    assert_eq!(out.unwrap_err(), ForwardError::Cancelled);
+}
+
 #[test]
 fn bad_inputs_are_typed_errors_naming_the_index() {
     let (head, e, s, n) = setup();
