@@ -63,6 +63,7 @@ fn data() -> &'static Data {
                     selection_frequency: Some(share.iter().map(|x| x.min(1.0)).collect()),
                     share,
                     source_map: map,
+                    filter_gain: None,
                 }
             })
             .collect();

@@ -116,6 +116,7 @@ fn result_20k() -> ResultFile {
     let n_atoms = 3 * n_src;
     ResultFile {
         dipoles: None,
+        filter_gain: None,
         path: "bench/result.h5".into(),
         hashes: vec![("decoder".into(), "0".repeat(64))],
         caution: CAUTION.to_string(),

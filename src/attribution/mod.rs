@@ -7,14 +7,22 @@
 //! variance decomposition of the reconstruction; shares may be negative when
 //! patches cancel). A patch's share is spread over regions in proportion to
 //! the profile mass the patch has in each region.
+//!
+//! Beside the shares, [`filter_gain`] reads the filters themselves: the
+//! lead field passed through the weights, where each filter listens.
 
 pub mod rng {
     //! Moved to [`crate::numeric`]; this path is kept for code written against it.
     pub use crate::numeric::SplitMix64;
 }
+mod gain;
 mod shares;
 mod uncertainty;
 
+pub use gain::{
+    filter_gain, gain_agreement, order_decreasing, spearman, FilterGain, GainAgreement, GainError,
+    GainInput, TOP_REGIONS,
+};
 pub use shares::{
     attribute, attribute_with, component_shares, Attribution, AttributionError, AttributionInput,
     ComponentAttribution, ComponentShares, RegionMass,

@@ -34,6 +34,10 @@ pub struct SubjectResult {
     pub selection_frequency: Option<Vec<f64>>,
     /// Source map on the template (A·m per template vertex), n_template × k.
     pub source_map: Vec<f64>,
+    /// Area-weighted mean gain of the decoder's filters per region
+    /// (n_regions × k, `/filter_gain/region_mean`), when the decoder was
+    /// given as weights and the lead field was known.
+    pub filter_gain: Option<Vec<f64>>,
 }
 
 impl SubjectResult {
@@ -104,6 +108,46 @@ pub struct ComponentComparison {
     /// Entropic transport cost (m) between region masses, n_subjects ×
     /// n_subjects (NaN when skipped).
     pub transport_m: Vec<f64>,
+    /// The filters' region gain of each subject relative to its largest
+    /// region (so weights of any scale compare), n_subjects × n_regions;
+    /// `None` unless every subject has a gain map.
+    pub relative_filter_gain: Option<Vec<f64>>,
+    /// Per region, the mean over subjects of `relative_filter_gain`.
+    pub mean_relative_filter_gain: Option<Vec<f64>>,
+    /// Per subject, the Spearman rank correlation of its region gain with
+    /// its region shares (NaN where undefined, e.g. a constant side).
+    pub filter_gain_rank_correlation: Option<Vec<f64>>,
+}
+
+/// Per component, the relative region gain (n_s × n_r), its mean over
+/// subjects (n_r) and each subject's rank correlation of gain with share;
+/// `None` unless every subject has a gain map.
+#[allow(clippy::type_complexity)]
+fn gain_comparison(
+    subjects: &[SubjectResult],
+    c: usize,
+    n_r: usize,
+) -> Option<(Vec<f64>, Vec<f64>, Vec<f64>)> {
+    let k = subjects[0].k();
+    let n_s = subjects.len();
+    let mut relative = Vec::with_capacity(n_s * n_r);
+    let mut rho = Vec::with_capacity(n_s);
+    for s in subjects {
+        let gain = column(s.filter_gain.as_ref()?, k, c);
+        let largest = gain
+            .iter()
+            .filter(|g| g.is_finite())
+            .fold(0.0f64, |m, &g| m.max(g));
+        relative.extend(
+            gain.iter()
+                .map(|&g| if largest > 0.0 { g / largest } else { f64::NAN }),
+        );
+        rho.push(crate::attribution::spearman(&gain, &column(&s.share, k, c)).unwrap_or(f64::NAN));
+    }
+    let mean = (0..n_r)
+        .map(|r| (0..n_s).map(|s| relative[s * n_r + r]).sum::<f64>() / n_s as f64)
+        .collect();
+    Some((relative, mean, rho))
 }
 
 /// The comparison of all components.
@@ -184,6 +228,7 @@ pub(crate) fn check_subjects(
             ("share_low", &s.share_low),
             ("share_high", &s.share_high),
             ("selection_frequency", &s.selection_frequency),
+            ("filter_gain", &s.filter_gain),
         ] {
             if let Some(a) = a {
                 arrays.push((name, a, n_r * k));
@@ -432,7 +477,11 @@ pub fn compare(
         } else {
             vec![f64::NAN; n_r]
         };
+        let gain = gain_comparison(subjects, c, n_r);
         components.push(ComponentComparison {
+            relative_filter_gain: gain.as_ref().map(|g| g.0.clone()),
+            mean_relative_filter_gain: gain.as_ref().map(|g| g.1.clone()),
+            filter_gain_rank_correlation: gain.map(|g| g.2),
             name: first.component_names[c].clone(),
             share,
             consistency: cons,

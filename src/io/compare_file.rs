@@ -95,6 +95,35 @@ pub fn write_compare(path: &Path, r: &CompareRecord<'_>) -> Result<(), IoError> 
     s.insert("/group/t", comp(|x| &x.test.statistic));
     s.insert("/group/p_raw", comp(|x| &x.test.p_raw));
     s.insert("/group/p_corrected", comp(|x| &x.test.p_corrected));
+    // Where the subjects' filters listen, when every subject has a gain map
+    // (then every component has all three arrays).
+    let all = |f: fn(&crate::cohort::ComponentComparison) -> &Option<Vec<f64>>| {
+        c.components
+            .iter()
+            .map(|x| f(x).clone())
+            .collect::<Option<Vec<Vec<f64>>>>()
+            .map(|v| v.concat())
+    };
+    if let (Some(relative), Some(mean), Some(rho)) = (
+        all(|x| &x.relative_filter_gain),
+        all(|x| &x.mean_relative_filter_gain),
+        all(|x| &x.filter_gain_rank_correlation),
+    ) {
+        if k > 0 {
+            s.insert(
+                "/group/relative_filter_gain",
+                Dataset::f64(vec![k, n_s, n_r], relative),
+            );
+            s.insert(
+                "/group/mean_relative_filter_gain",
+                Dataset::f64(vec![k, n_r], mean),
+            );
+            s.insert(
+                "/group/filter_gain_rank_correlation",
+                Dataset::f64(vec![k, n_s], rho),
+            );
+        }
+    }
     s.set_group_attr("/group", "null", Attr::Str(GROUP_NULL.to_string()));
     s.set_group_attr(
         "/group",

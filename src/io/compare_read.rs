@@ -425,6 +425,9 @@ mod tests {
             test: test(n_r, c as f64),
             cosine: vec![1.0, 0.9, 0.8, 0.9, 1.0, 0.7, 0.8, 0.7, 1.0],
             transport_m: vec![f64::NAN; n_s * n_s],
+            relative_filter_gain: None,
+            mean_relative_filter_gain: None,
+            filter_gain_rank_correlation: None,
         };
         Comparison {
             subjects: vec!["s0".into(), "s1".into(), "s2".into()],

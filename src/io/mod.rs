@@ -13,6 +13,7 @@ pub mod dictionary_file;
 pub mod dipole_file;
 pub mod electrodes;
 pub mod error;
+pub mod filter_gain_file;
 pub mod gifti;
 pub mod hdf5_backend;
 pub mod input;

@@ -38,6 +38,8 @@ pub struct ResultRecord<'a> {
     pub reconstruction: &'a [f64],
     /// The lead field the dictionary came from (for `/montage` and `/sources`), if known.
     pub leadfield: Option<&'a crate::forward::LeadField>,
+    /// The filters' gain over the cortex (`/filter_gain`), when computed.
+    pub filter_gain: Option<&'a crate::attribution::FilterGain>,
 }
 
 /// The caution stored with every result.
@@ -280,6 +282,9 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
             "/attribution/noise_sd",
             Dataset::f64(vec![k], rs.noise_sd.clone()),
         );
+    }
+    if let Some(g) = r.filter_gain {
+        super::filter_gain_file::insert_filter_gain(&mut s, g);
     }
     s.write_atomic(path)
 }

@@ -49,6 +49,9 @@ pub struct ResultFile {
     pub attribution: ResultAttribution,
     /// The equivalent dipoles `patchwise dipole` added, if any.
     pub dipoles: Option<ResultDipoles>,
+    /// The filters' gain over the cortex (`/filter_gain`), when the decoder
+    /// gave weights and the lead field was known.
+    pub filter_gain: Option<crate::attribution::FilterGain>,
 }
 
 /// The `/dipole` group: one row per dipole (two per component for a
@@ -345,7 +348,14 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
         noise_sd,
     };
     let dipoles = dipoles_from_store(store, path, k)?;
+    let filter_gain = super::filter_gain_file::filter_gain_from_store(
+        store,
+        path,
+        k,
+        attribution.region_names.len(),
+    )?;
     let result = ResultFile {
+        filter_gain,
         dipoles,
         path: path.to_path_buf(),
         hashes,
@@ -459,6 +469,15 @@ pub(crate) fn check_result_layout(r: &ResultFile) -> Result<(), IoError> {
     }
     if let Some(v) = &a.noise_sd {
         checks.push(("/attribution/noise_sd", v.len(), k, format!("k = {k}")));
+    }
+    if let (Some(g), Some(s)) = (&r.filter_gain, &r.sources) {
+        let n_src = s.len();
+        checks.push((
+            "/filter_gain/source",
+            g.source.len(),
+            n_src * k,
+            format!("n_src x k = {n_src} x {k}"),
+        ));
     }
     if let Some(v) = &f.reconstruction {
         checks.push((

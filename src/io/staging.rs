@@ -50,6 +50,7 @@ fn io_error(context: String) -> impl FnOnce(std::io::Error) -> StagingError {
 pub const OUR_FILES: &[&str] = &[
     "result.h5",
     "regions.csv",
+    "filter_gain.csv",
     "summary.json",
     "report.html",
     "dipoles.csv",

@@ -11,7 +11,8 @@ use super::observer::{interrupted, staged, JobObserver};
 use super::params::AttributeParams;
 use super::perturb::perturbed_for_resamples;
 use super::prepare::{
-    check_channels, decoder_patterns, read_matrix, reconstruction, restrict, whitener_for,
+    check_channels, decoder_gain, decoder_patterns, read_matrix, reconstruction, restrict,
+    whitener_for,
 };
 use super::specs::Reference;
 use crate::dictionary::PatchDictionary;
@@ -61,6 +62,12 @@ pub struct Attribution {
     pub lambda_rule: String,
     /// Where the noise level came from, in words.
     pub noise_level: String,
+    /// The gain of the decoder's filters over the cortex, when the decoder
+    /// gives weights and the dictionary its lead field
+    /// ([`crate::attribution::filter_gain`]).
+    pub filter_gain: Option<crate::attribution::FilterGain>,
+    /// Why `filter_gain` is `None`, in words (`None` when it was computed).
+    pub filter_gain_missing: Option<String>,
 }
 
 /// The whole job: read and check the inputs, build or fetch the forward
@@ -302,6 +309,10 @@ fn run(
             ));
         }
     }
+    let (filter_gain, filter_gain_missing) = match decoder_gain(&decoder, &dict, average)? {
+        Ok(g) => (Some(g), None),
+        Err(why) => (None, Some(why)),
+    };
     let reconstruction = reconstruction(
         &outcome.fit,
         &fit_y,
@@ -326,5 +337,7 @@ fn run(
         hashes,
         notes,
         whitened: inputs.noise_covariance.is_some(),
+        filter_gain,
+        filter_gain_missing,
     })
 }

@@ -203,6 +203,7 @@ pub fn subject_result(name: String, r: &ResultFile, source_map: Vec<f64>) -> Sub
         share_high: r.attribution.share_high.clone(),
         selection_frequency: r.attribution.selection_frequency.clone(),
         source_map,
+        filter_gain: r.filter_gain.as_ref().map(|g| g.region_mean.clone()),
     }
 }
 

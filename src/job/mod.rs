@@ -21,6 +21,7 @@ mod describe;
 pub mod dipole;
 pub mod error;
 pub mod forward;
+pub mod gain_outputs;
 pub mod keyed_lock;
 pub mod leadfield_import;
 pub mod noise;

@@ -1,6 +1,7 @@
 //! The file layouts of an attribution (design.md): result.h5 through
 //! `io::result_file`, regions.csv (one row per component and region, by
-//! decreasing share; shares unitless, peaks in mm) and summary.json.
+//! decreasing share; shares unitless, peaks in mm), summary.json, and with
+//! a decoder given as weights filter_gain.csv (`super::gain_outputs`).
 
 use std::path::Path;
 
@@ -163,6 +164,7 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
         "job": a.params.describe().into_iter().map(|(k, v)| (k, serde_json::Value::String(v))).collect::<serde_json::Map<_, _>>(),
         "params": serde_json::to_value(&a.params).unwrap_or(serde_json::Value::Null),
         "units": {"patterns": "as given (V for patterns from a forward model)", "positions": "mm"},
+        "filter_gain": super::gain_outputs::summary_block(a),
     })
 }
 
@@ -187,6 +189,7 @@ pub fn write_attribution_files(
         notes_json: &notes,
         reconstruction: &a.reconstruction,
         leadfield: a.dictionary.leadfield.as_ref(),
+        filter_gain: a.filter_gain.as_ref(),
     };
     write_result(&dir.join("result.h5"), &record).compute("writing the result")?;
     let header = [
@@ -224,6 +227,7 @@ pub fn write_attribution_files(
         .collect();
     write_table(&dir.join("regions.csv"), Delimiter::Comma, &header, &csv)
         .compute("writing the result")?;
+    super::gain_outputs::write_gain_table(dir, a)?;
     let summary = serde_json::to_string_pretty(&summary_json(a, &rows)).unwrap_or_default();
     crate::io::atomic::write_atomic(&dir.join("summary.json"), summary.as_bytes())
         .compute("writing summary.json")?;

@@ -2,15 +2,17 @@
 //! weights (Haufe et al. 2014, NeuroImage 87:96, eq. 6), checked and
 //! average-referenced; the dictionary restricted to the decoder's channels
 //! (the messages around [`PatchDictionary::restrict_to`]); the whitener of
-//! a noise covariance file; and the fitted patterns mapped back to the
-//! patterns' units. The dictionary's own operations (`restrict_to`,
+//! a noise covariance file; the fitted patterns mapped back to the
+//! patterns' units; and the gain of the decoder's filters over the
+//! dictionary's sources in the fit's reference. The dictionary's own operations (`restrict_to`,
 //! `rereference`, `whiten`) are methods of [`PatchDictionary`].
 
 use std::path::Path;
 
 use super::error::{JobError, JobResult};
 use super::observer::JobObserver;
-use crate::dictionary::{PatchDictionary, RestrictError};
+use crate::attribution::{filter_gain, FilterGain, GainInput};
+use crate::dictionary::{AtomComponent, PatchDictionary, RestrictError};
 use crate::io::decoder_file::{DecoderContent, DecoderFile};
 use crate::montage::Montage;
 use crate::patterns::{activation_patterns, average_reference, Whitener};
@@ -204,4 +206,57 @@ pub fn check_channels(labels: &[String], path: &Path) -> Result<(), JobError> {
     Montage::new(labels.to_vec(), vec![[0.0, 0.0, 1.0]; labels.len()])
         .input(format!("{}: channel labels", path.display()))?;
     Ok(())
+}
+
+/// Why there is no gain map when the decoder gives patterns only.
+pub const NEEDS_FILTERS: &str =
+    "no filter gain: the decoder gives patterns only; the gain needs the filters (weights)";
+
+/// Why there is no gain map when the dictionary has no lead field.
+pub const NEEDS_LEADFIELD: &str = "no filter gain: the dictionary has no lead field (/leadfield/gain) or no source space; the gain needs the forward model";
+
+/// The gain of the decoder's filters over the dictionary's sources, or the
+/// reason it cannot be computed. The weights are average-referenced when
+/// `average` (Wᵀ H L = (H W)ᵀ L with H the centring matrix, so the lead
+/// field's own reference does not matter then); otherwise the weights and
+/// the lead field are used as given.
+pub fn decoder_gain(
+    decoder: &DecoderFile,
+    dict: &PatchDictionary,
+    average: bool,
+) -> Result<Result<FilterGain, String>, JobError> {
+    let DecoderContent::Weights { weights, .. } = &decoder.content else {
+        return Ok(Err(NEEDS_FILTERS.to_string()));
+    };
+    let Some(lf) = &dict.leadfield else {
+        return Ok(Err(NEEDS_LEADFIELD.to_string()));
+    };
+    if lf.n_channels() != decoder.channels.len() || lf.n_sources() == 0 {
+        return Ok(Err(NEEDS_LEADFIELD.to_string()));
+    }
+    let mut referenced = weights.clone();
+    if average {
+        crate::numeric::average_reference_columns(&mut referenced, decoder.k);
+    }
+    // The orientation of the fit: free when its atoms use x, y, z.
+    let free = dict
+        .component
+        .as_ref()
+        .is_some_and(|c| c.iter().any(|&a| a != AtomComponent::Normal));
+    let (leadfield, orientations) = match (&lf.gain_xyz, free) {
+        (Some(g), true) => (g.as_slice(), 3),
+        _ => (lf.gain.as_slice(), 1),
+    };
+    let gain = filter_gain(&GainInput {
+        weights: &referenced,
+        n_channels: decoder.channels.len(),
+        n_components: decoder.k,
+        leadfield,
+        orientations,
+        source_areas: &lf.sources.areas,
+        source_region: &lf.sources.region,
+        n_regions: lf.sources.region_names.len(),
+    })
+    .compute("computing the filter gain")?;
+    Ok(Ok(gain))
 }

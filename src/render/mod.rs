@@ -17,6 +17,7 @@ pub mod raster;
 pub mod report;
 pub mod report_dipoles;
 pub mod report_figures;
+pub mod report_gain;
 pub mod report_html;
 pub mod report_style;
 pub mod sheet;

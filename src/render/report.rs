@@ -18,6 +18,7 @@ use super::page::{
     region_row, section, table, Frame,
 };
 use super::report_figures::{component_figures, ComponentFigures};
+use super::report_gain::gain_views;
 use super::report_html::{escape, fixed, percent, scientific, Html};
 use crate::io::result_file::ResultFile;
 
@@ -61,7 +62,17 @@ pub fn build_report(
                 let shown = (0..facts[c].order.len())
                     .filter(|&rank| is_shown(result, &facts[c], c, rank))
                     .count();
-                component_figures(result, c, &facts[c].order, shown)
+                let mut figs = component_figures(result, c, &facts[c].order, shown)?;
+                // The filter's gain right after the source map (or why there is none).
+                if let Some(g) = gain_views(result, c)? {
+                    let at = figs
+                        .groups
+                        .iter()
+                        .position(|g| g.title.starts_with("Source map"))
+                        .map_or(figs.groups.len().min(1), |i| i + 1);
+                    figs.groups.insert(at, g);
+                }
+                Ok(figs)
             })
             .collect::<Result<_, _>>()?
     };
@@ -510,7 +521,9 @@ fn component_section(
                 .figures
                 .iter()
                 .map(|fig| (fig.markup.as_str(), fig.caption.as_str()));
-            figures(h, group.layout, items);
+            if !group.figures.is_empty() {
+                figures(h, group.layout, items);
+            }
             if !group.note.is_empty() {
                 h.element("p", "note", &group.note);
             }
@@ -595,6 +608,7 @@ mod tests {
     fn tiny() -> ResultFile {
         ResultFile {
             dipoles: None,
+            filter_gain: None,
             path: "tiny/result.h5".into(),
             hashes: vec![("decoder".into(), "ab".into())],
             caution: CAUTION.to_string(),

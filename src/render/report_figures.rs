@@ -293,18 +293,22 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
 
 /// A vertical colour bar of the diverging map from −1 to 1, `height` px tall.
 fn signed_colour_bar(height: u32) -> String {
-    let width = 84;
-    let mut svg = Svg::new(width, height);
-    let map = |t: f64| diverging(2.0 * t - 1.0);
+    relative_colour_bar(height, -1.0, &|t: f64| diverging(2.0 * t - 1.0))
+}
+
+/// A vertical colour bar labelled "relative" from `lo` to 1, `height` px
+/// tall, of `map` (which takes the position 0..1 along the bar).
+pub(crate) fn relative_colour_bar(height: u32, lo: f64, map: &dyn Fn(f64) -> [u8; 3]) -> String {
+    let mut svg = Svg::new(84, height);
     colour_bar(
         &mut svg,
         12.0,
         28.0,
         14.0,
         f64::from(height) - 48.0,
-        -1.0,
+        lo,
         1.0,
-        &map,
+        map,
         "relative",
     );
     svg.finish().svg

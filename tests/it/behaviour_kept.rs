@@ -5,7 +5,9 @@
 //! perturbed heads' default electrode step went from 4 to 6 mm, which
 //! moves the demo's and the batch's intervals only: every share, λ and
 //! explained variance stayed the same; and once more when summary.json
-//! gained the `params` block, an addition only). Regression check against our
+//! gained the `params` block, an addition only; and when it gained the
+//! `filter_gain` block of issue 27, an addition only: the block's lines
+//! inserted, no other line changed). Regression check against our
 //! own earlier outputs, no outside source: strings must match exactly
 //! (paths, content hashes and the software line excepted), numbers within
 //! 1e-6 relative (bit-for-bit equal on the machine that recorded them; the

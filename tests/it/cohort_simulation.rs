@@ -95,6 +95,7 @@ fn subject(s: &Setup, name: &str, region: usize, rng: &mut SplitMix64) -> Subjec
         ),
         share,
         source_map: map,
+        filter_gain: None,
     }
 }
 
@@ -274,4 +275,58 @@ fn paired_comparison_finds_a_shifted_share() {
     assert!(!out.warnings.is_empty());
     // Unequal lists are refused.
     assert!(patchwise::cohort::compare_paired(&names, &a, &b[..7], &params()).is_err());
+}
+
+/// Gain maps compared across subjects like shares (issue 27): each
+/// subject's region gain relative to its own largest region (the weights'
+/// scale differs between subjects), the mean over subjects, and each
+/// subject's Spearman correlation of gain with share, which must equal the
+/// single-subject measure (`attribution::spearman`); a subject without a
+/// gain map leaves the comparison without one (identities, common practice,
+/// no source).
+#[test]
+fn gain_maps_are_compared_relative_to_each_subjects_largest_region() {
+    let s = setup();
+    let n_r = s.t.region_names.len();
+    let target =
+        s.t.region_names
+            .iter()
+            .position(|n| n == "left-precentral")
+            .unwrap();
+    let mut rng = SplitMix64::new(27, 0);
+    let mut subjects: Vec<SubjectResult> = (0..4)
+        .map(|i| subject(s, &format!("g{i}"), target, &mut rng))
+        .collect();
+    for (i, sub) in subjects.iter_mut().enumerate() {
+        // Gains of different scales per subject: 10^i times (1 + region index / n_r).
+        let scale = 10f64.powi(i as i32);
+        sub.filter_gain = Some(
+            (0..n_r)
+                .map(|r| scale * (1.0 + (r as f64 + rng.uniform()) / n_r as f64))
+                .collect(),
+        );
+    }
+    let out = compare(&subjects, &s.kernel, &s.t.region, None, &params()).unwrap();
+    let comp = &out.components[0];
+    let relative = comp.relative_filter_gain.as_ref().unwrap();
+    let mean = comp.mean_relative_filter_gain.as_ref().unwrap();
+    let rho = comp.filter_gain_rank_correlation.as_ref().unwrap();
+    for (i, sub) in subjects.iter().enumerate() {
+        let g = sub.filter_gain.as_ref().unwrap();
+        let largest = g.iter().fold(0.0f64, |m, &v| m.max(v));
+        for r in 0..n_r {
+            let want = g[r] / largest;
+            assert!((relative[i * n_r + r] - want).abs() <= 1e-15 * want);
+        }
+        let want = patchwise::attribution::spearman(g, &sub.share).unwrap();
+        assert_eq!(rho[i], want);
+    }
+    for r in 0..n_r {
+        let want = (0..4).map(|i| relative[i * n_r + r]).sum::<f64>() / 4.0;
+        assert!((mean[r] - want).abs() <= 1e-15);
+    }
+    subjects[2].filter_gain = None;
+    let out = compare(&subjects, &s.kernel, &s.t.region, None, &params()).unwrap();
+    assert!(out.components[0].relative_filter_gain.is_none());
+    assert!(out.components[0].filter_gain_rank_correlation.is_none());
 }

@@ -6,6 +6,7 @@
 mod support;
 
 mod architecture_layers;
+mod attribution_gain;
 mod batch_changes;
 mod batch_compare;
 mod batch_errors;

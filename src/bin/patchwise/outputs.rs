@@ -65,6 +65,9 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
         let lead: Vec<f64> = a.outcome.resample.as_ref().map_or(Vec::new(), |s| {
             s.intervals[c].iter().map(|i| i.lead_frequency).collect()
         });
+        for line in patchwise::job::gain_outputs::gain_lines(a, c) {
+            outln!("{line}");
+        }
         let leaders = patchwise::attribution::leaders(&lead);
         if !leaders.is_empty() && names.len() == lead.len() {
             let list: Vec<String> = leaders
@@ -100,8 +103,13 @@ pub fn write_outputs_with(
     let dir = stage.commit()?;
     print_table(a, &rows, 6);
     outln!();
+    let gain_table = if a.filter_gain.is_some() {
+        ", filter_gain.csv"
+    } else {
+        ""
+    };
     outln!(
-        "results in {} (result.h5, regions.csv, summary.json)",
+        "results in {} (result.h5, regions.csv, summary.json{gain_table})",
         dir.display()
     );
     outln!("caution: {CAUTION}");
