@@ -228,7 +228,8 @@ fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[Com
          contributions projected on the fitted pattern, split over regions by the patch \
          profiles); shares and the unassigned part sum to 100 %. A negative share means the \
          region's patches cancel part of the fitted pattern. Intervals are 95 % bootstrap \
-         intervals (resamples of the noise and of the head model) centred on the share.";
+         intervals (resamples of the noise and of the head model) that hold the share and the \
+         range of the resampled shares.";
     let note = (!r.attribution.region_names.is_empty()).then_some(note);
     glance_section(h, cards, note);
 }

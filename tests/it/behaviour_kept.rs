@@ -90,6 +90,20 @@ fn same_csv(got: &str, want: &str, what: &str) {
 
 fn check_folder(dir: &Path, prefix: &str, with_job: bool) {
     let read = |f: &str| std::fs::read_to_string(dir.join(f)).unwrap();
+    // `PATCHWISE_RECORD_EXPECTED=1`: write this run's files as the expected
+    // ones (for a change meant to move them; then the test fails, so a
+    // recording run never passes by itself: rerun without the variable).
+    if std::env::var_os("PATCHWISE_RECORD_EXPECTED").is_some() {
+        let to = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/it/expected");
+        let mut files = vec!["regions.csv", "summary.json"];
+        if with_job {
+            files.push("job.json");
+        }
+        for f in files {
+            std::fs::write(to.join(format!("{prefix}-{f}")), read(f)).unwrap();
+        }
+        return;
+    }
     same_csv(
         &read("regions.csv"),
         &expected(&format!("{prefix}-regions.csv")),
@@ -180,9 +194,15 @@ fn demo_batch_and_attribute_outputs_are_unchanged() {
     assert_eq!(params.forward.montage.to_string(), "10-10");
     assert_eq!(params.forward.sources.to_string(), "template-5k");
     assert_eq!(params.patches, patchwise::job::PatchParams::default());
+    assert!(
+        std::env::var_os("PATCHWISE_RECORD_EXPECTED").is_none(),
+        "recorded tests/it/expected: rerun without PATCHWISE_RECORD_EXPECTED"
+    );
 }
 
-/// How the expected files were made (kept for the next intended change).
+/// How the expected files were made (kept for the next intended change;
+/// `PATCHWISE_RECORD_EXPECTED=1 cargo test --release --test it --
+/// behaviour_kept` rewrites them from this test's own runs).
 #[allow(dead_code)]
 const RECORD_HINT: &str = "patchwise demo --sources template-5k --resamples 10 --out demo5k; \
     the batch script above; patchwise attribute ... --out attr (see the test)";

@@ -47,7 +47,8 @@ enum Command {
     /// A region's share is the projection of its patches' part of the fitted pattern onto the whole
     /// fitted pattern, <D_g x_g, D x> / ||D x||^2, spread over regions by source amplitude; shares
     /// and the unassigned share sum to 1, and a negative share means the region's patches cancel
-    /// part of the fitted pattern. Intervals are 95 % bootstrap intervals centred on the share.
+    /// part of the fitted pattern. Intervals are 95 % bootstrap intervals that hold the share and
+    /// the range of the resampled shares.
     /// A component whose explained variance is below 50 % is flagged "poorly explained".
     Attribute(Box<commands::attribute::Args>),
     /// Equivalent-dipole fits of a decoder's patterns (single dipoles or symmetric pairs).
