@@ -7,7 +7,9 @@
 //! explained variance stayed the same; and once more when summary.json
 //! gained the `params` block, an addition only; and when it gained the
 //! `filter_gain` block of issue 27, an addition only: the block's lines
-//! inserted, no other line changed). Regression check against our
+//! inserted, no other line changed; and when the interval became the
+//! centred interval joined with the resampled range: only `share_low` and
+//! `share_high` moved). Regression check against our
 //! own earlier outputs, no outside source: strings must match exactly
 //! (paths, content hashes and the software line excepted), numbers within
 //! 1e-6 relative (bit-for-bit equal on the machine that recorded them; the
