@@ -288,6 +288,28 @@ class Result(Datasets):
         """Each component's peak source position in mm (k x 3)."""
         return self["/attribution/peak_mm"]
 
+    @property
+    def filter_gain(self) -> Optional[np.ndarray]:
+        """Where each filter listens: its gain |w^T l_j| at every source
+        (n_src x k, filter output per A*m); None when the decoder gave no
+        weights (summary["filter_gain"] says why)."""
+        return self.get("/filter_gain/source")
+
+    @property
+    def filter_gain_normalised(self) -> Optional[np.ndarray]:
+        """The gain divided by each source's lead-field norm (n_src x k), so
+        deep sources are not at a disadvantage; None without weights."""
+        return self.get("/filter_gain/source_normalised")
+
+    @property
+    def region_gain(self) -> Optional[Tuple[np.ndarray, np.ndarray]]:
+        """(area-weighted mean, maximum) gain of each region (n_regions x k,
+        regions as region_names); None without weights."""
+        mean = self.get("/filter_gain/region_mean")
+        if mean is None:
+            return None
+        return mean, self["/filter_gain/region_max"]
+
     def table(self, top: Optional[int] = None) -> List[Region]:
         """The leading regions of each component (regions.csv), largest
         share first within a component; ``top`` keeps that many per component."""

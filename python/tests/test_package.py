@@ -359,3 +359,21 @@ def test_an_unsaved_result_leaves_no_temporary_folder(decoder, cache):
     del r
     gc.collect()
     assert not folder.exists()
+
+
+# The filters' gain maps come back as arrays, the same as result.h5's
+# datasets (their values are checked against |W^T L| in NumPy by
+# tests/it/attribution_gain.rs; here shapes, the mean below the maximum, and
+# equality with the file; common practice, no source).
+def test_filter_gain_arrays(result):
+    gain = result.filter_gain
+    n_src, k = result.source_map.shape
+    assert gain is not None and gain.shape == (n_src, k)
+    assert np.all(gain >= 0)
+    mean, peak = result.region_gain
+    assert mean.shape == (len(result.region_names), k) and peak.shape == mean.shape
+    assert np.all(peak >= mean - 1e-15)
+    assert result.filter_gain_normalised.shape == (n_src, k)
+    with h5py.File(result.folder / "result.h5", "r") as f:
+        np.testing.assert_array_equal(f["/filter_gain/source"][()], gain)
+
