@@ -333,6 +333,15 @@ fn job(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &Re
     section(h, "job", "The job", |h| job_facts(h, r, summary, o));
 }
 
+/// The words of a key of summary.json's `job` (an identifier, e.g.
+/// `stopping_rule`) as the page shows them.
+fn asked_label(key: &str) -> String {
+    match key {
+        "lambda_rule_asked" => "\u{03bb} rule (asked)".to_string(),
+        other => other.replace('_', " "),
+    }
+}
+
 /// The facts of the job section: what was asked, then what the fit records.
 fn job_facts(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &ReportOptions) {
     h.raw("<dl class=\"facts\">\n");
@@ -346,7 +355,7 @@ fn job_facts(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, 
         }
     }
     for (name, value) in &asked {
-        fact(h, name, value);
+        fact(h, &asked_label(name), value);
     }
     fact(h, "\u{03bb} rule (as fitted)", &lambda_rule(r));
     let joint = summary
