@@ -135,7 +135,8 @@ pub struct FitParams {
     /// Relative duality-gap tolerance.
     #[arg(long, allow_negative_numbers = true, default_value = "1e-8")]
     pub tol: f64,
-    /// Number of bootstrap resamples for the intervals (0 = none).
+    /// Number of bootstrap resamples for the intervals and the selection frequency (the percentage
+    /// of resamples in which a region is selected: its share >= 5 %) (0 = none).
     #[arg(long, default_value_t = 100)]
     pub resamples: usize,
     /// Seed of the resampling.

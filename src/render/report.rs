@@ -599,11 +599,14 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
         h.element(
             "p",
             "note",
-            "Interval: 2.5\u{2013}97.5 % percentiles of the share over a parametric bootstrap (the fit plus \
-             resampled noise at the residual's level, refitted at the same \u{03bb}). Selected in: the fraction \
-             of resamples in which the region's share reached 5 %. Leads in: the fraction of resamples in which \
-             the region had the largest share; support split between regions means the data do not decide \
-             which of them leads.",
+            &format!(
+                "Interval: 2.5\u{2013}97.5 % percentiles of the share over a parametric bootstrap (the fit plus \
+                 resampled noise at the residual's level, refitted at the same \u{03bb}). Selected in: the percentage \
+                 of resamples in which the region's share reached {:.0} %. Leads in: the percentage of resamples in which \
+                 the region had the largest share; support split between regions means the data do not decide \
+                 which of them leads.",
+                100.0 * crate::pipeline::SELECTION_THRESHOLD
+            ),
         );
     }
 }

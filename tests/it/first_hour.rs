@@ -1,6 +1,6 @@
 //! Issue 22, the rough edges a new user meets in the first hour: negative
 //! numbers reach the range checks and `--help` shows the tolerance as
-//! written.
+//! written and says what "selected" counts.
 
 use std::path::Path;
 
@@ -53,4 +53,6 @@ fn help_shows_the_tolerance_as_written() {
     assert!(o.status.success());
     assert!(text.contains("[default: 1e-8]"), "{text}");
     assert!(!text.contains("0.00000001"), "{text}");
+    // "selected" is explained where the resamples are.
+    assert!(text.contains("share >= 5 %"), "{text}");
 }
