@@ -1,6 +1,7 @@
 //! Issue 22, the rough edges a new user meets in the first hour: negative
 //! numbers reach the range checks and `--help` shows the tolerance as
-//! written and says what "selected" counts.
+//! written and says what "selected" counts; electrodes in another frame
+//! are named as the cause.
 
 use std::path::Path;
 
@@ -55,4 +56,41 @@ fn help_shows_the_tolerance_as_written() {
     assert!(!text.contains("0.00000001"), "{text}");
     // "selected" is explained where the resamples are.
     assert!(text.contains("share >= 5 %"), "{text}");
+}
+
+/// Electrodes shifted 40 mm toward the nose: the head centre fitted to them
+/// leaves the template cortex half outside, and the message says so once,
+/// about the electrodes, with what to check.
+#[test]
+fn electrodes_in_another_frame_are_named_as_the_cause_once() {
+    let dir = scratch("first-hour-shifted");
+    decoder_10_20(&dir, 2);
+    let o = patchwise(&["montage", "export", "10-20", "--out", "e.tsv"], &dir);
+    assert!(o.status.success(), "{}", stderr(&o));
+    let text = std::fs::read_to_string(dir.join("e.tsv")).unwrap();
+    let mut shifted = String::new();
+    for (i, line) in text.lines().enumerate() {
+        if i == 0 {
+            shifted.push_str(line);
+        } else {
+            let f: Vec<&str> = line.split('\t').collect();
+            let y: f64 = f[2].parse().unwrap();
+            shifted.push_str(&format!("{}\t{}\t{}\t{}", f[0], f[1], y + 40.0, f[3]));
+        }
+        shifted.push('\n');
+    }
+    std::fs::write(dir.join("shifted.tsv"), shifted).unwrap();
+    let o = attribute(
+        &dir,
+        &["--montage", "shifted.tsv", "--sources", "template-5k"],
+    );
+    let text = stderr(&o);
+    assert_eq!(o.status.code(), Some(2), "{text}");
+    assert!(text.contains("the electrodes of shifted.tsv"), "{text}");
+    assert!(text.contains("sphere fitted to the electrodes"), "{text}");
+    assert!(text.contains("units") && text.contains("shift"), "{text}");
+    assert_eq!(text.matches("inner sphere").count(), 1, "{text}");
+    // Refused before any lead field was computed.
+    assert!(!dir.join("r").exists());
+    assert!(!dir.join("cache").exists(), "computed before refusing");
 }
