@@ -1,7 +1,8 @@
 //! Issue 22, the rough edges a new user meets in the first hour: negative
-//! numbers reach the range checks and `--help` shows the tolerance as
-//! written and says what "selected" counts; electrodes in another frame
-//! are named as the cause.
+//! numbers reach the range checks, `--help` shows the tolerance as written
+//! and says what "selected" counts, electrodes in another frame are named
+//! as the cause, and sources without regions are refused instead of giving
+//! empty tables.
 
 use std::path::Path;
 
@@ -93,4 +94,33 @@ fn electrodes_in_another_frame_are_named_as_the_cause_once() {
     // Refused before any lead field was computed.
     assert!(!dir.join("r").exists());
     assert!(!dir.join("cache").exists(), "computed before refusing");
+}
+
+#[test]
+fn own_sources_without_regions_are_refused_with_the_fix() {
+    let dir = scratch("first-hour-no-regions");
+    decoder_10_20(&dir, 3);
+    // A point cloud on a 70 mm hemisphere (mm), no region column.
+    let mut table = String::from("x,y,z\n");
+    for i in 0..200 {
+        let z = (i as f64 + 0.5) / 200.0;
+        let r = (1.0 - z * z).sqrt();
+        let phi = i as f64 * 2.399_963;
+        table.push_str(&format!(
+            "{},{},{}\n",
+            70.0 * r * phi.cos(),
+            70.0 * r * phi.sin(),
+            70.0 * z
+        ));
+    }
+    std::fs::write(dir.join("own.csv"), table).unwrap();
+    let o = attribute(&dir, &["--montage", "10-20", "--sources", "own.csv"]);
+    let text = stderr(&o);
+    assert_eq!(o.status.code(), Some(2), "{text}");
+    assert!(
+        text.contains("no source has a region") && text.contains("--regions"),
+        "{text}"
+    );
+    assert!(String::from_utf8_lossy(&o.stdout).trim().is_empty());
+    assert!(!dir.join("r").exists());
 }
