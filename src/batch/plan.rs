@@ -15,7 +15,8 @@ use crate::job::AttributeParams;
 #[derive(Debug, Clone, PartialEq)]
 pub struct Job {
     /// The job's name, also its output folder's name. A job from a glob
-    /// pattern is named `<table name>-<file stem>`.
+    /// pattern is named `<table name>-<file stem>`, or `<file stem>` when
+    /// the stem already starts with `<table name>-` or `<table name>_`.
     pub name: String,
     /// The `name` of the `[[job]]` table it came from (equal to `name`
     /// unless the decoder was a glob pattern).
@@ -585,7 +586,15 @@ fn expand(
             .file_stem()
             .map(|s| s.to_string_lossy().into_owned())
             .unwrap_or_default();
-        let name = format!("{group}-{stem}");
+        // A stem that already starts with the table's name (`sub` and
+        // `sub-01_csp.npz`) is the job's name as it is: `sub-01_csp`, not
+        // `sub-sub-01_csp`.
+        let name =
+            if stem.starts_with(&format!("{group}-")) || stem.starts_with(&format!("{group}_")) {
+                stem
+            } else {
+                format!("{group}-{stem}")
+            };
         check_name(&name).map_err(|m| err(&name, format!("{m} (from {})", file.display())))?;
         let mut params = params.clone();
         params.inputs.decoder = Some(file.clone());

@@ -129,9 +129,10 @@ pub fn run_batch(
         .iter()
         .partition(|(job, hash)| is_done(out, &job.name, hash));
     observer.line(&format!(
-        "batch {}: {} jobs{}, {} already done, {} to run, {} at a time",
+        "batch {}: {} job{}{}, {} already done, {} to run, {} at a time",
         script.path.display(),
         mine.len(),
+        if mine.len() == 1 { "" } else { "s" },
         shard.map_or(String::new(), |s| format!(
             " in shard {}/{}",
             s.index, s.count

@@ -90,6 +90,16 @@ pub fn dictionary_for_channels(
     observer: &dyn JobObserver,
 ) -> Result<(PatchDictionary, ForwardModel), JobError> {
     let (montage, sources, head) = forward.resolve(Some(labels), observer)?;
+    // Without regions every share would be unassigned: refuse before the
+    // lead field instead of printing empty tables.
+    if !sources.region.iter().any(|&r| r >= 0) {
+        return Err(JobError::input(format!(
+            "sources {}: no source has a region, so there is nothing to attribute to; pass \
+             --regions FILE with one region label per source (a GIFTI label array or a text \
+             file with one label a line, in the sources' order)",
+            forward.sources
+        )));
+    }
     let orientation = match patches.atom_orientation {
         OrientationChoice::Normal => Orientation::Normal,
         OrientationChoice::Free => Orientation::Free,

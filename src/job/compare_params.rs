@@ -39,10 +39,10 @@ pub struct CompareParams {
     #[arg(long)]
     pub template: Option<String>,
     /// Geodesic Gaussian width σ (mm) of the smoothing before the cosine.
-    #[arg(long, default_value_t = 10.0)]
+    #[arg(long, allow_negative_numbers = true, default_value_t = 10.0)]
     pub smoothing_mm: f64,
     /// Cut the smoothing kernel at this many σ.
-    #[arg(long, default_value_t = 3.0)]
+    #[arg(long, allow_negative_numbers = true, default_value_t = 3.0)]
     pub smoothing_cutoff: f64,
     /// Bootstrap resamples of the subjects for the group mean's interval.
     #[arg(long, default_value_t = 2000)]
@@ -51,13 +51,13 @@ pub struct CompareParams {
     #[arg(long, default_value_t = 10_000)]
     pub sign_flips: usize,
     /// Family-wise error level for the table of surviving regions.
-    #[arg(long, default_value_t = 0.05)]
+    #[arg(long, allow_negative_numbers = true, default_value_t = 0.05)]
     pub alpha: f64,
     /// Seed of the bootstrap and the sign flips.
     #[arg(long, default_value_t = 2002)]
     pub seed: u64,
     /// Entropic transport ε relative to the mean centroid distance.
-    #[arg(long, default_value_t = 0.05)]
+    #[arg(long, allow_negative_numbers = true, default_value_t = 0.05)]
     pub transport_epsilon: f64,
     /// Skip the transport distance.
     #[arg(long)]

@@ -5,7 +5,8 @@ use super::params::AttributeParams;
 use super::specs::LambdaRuleName;
 
 impl AttributeParams {
-    /// The parameters as (name, value) lines, in the order the report shows them.
+    /// The parameters as (name, value) lines, in the order the report shows them; the names
+    /// are identifiers (letters, digits, `_`) because they are summary.json's `job` keys.
     pub fn describe(&self) -> Vec<(String, String)> {
         let mut job = Vec::new();
         let mut put = |name: &str, value: String| job.push((name.to_string(), value));
@@ -17,7 +18,7 @@ impl AttributeParams {
             put("patterns", p.display().to_string());
         }
         if let Some(c) = &inputs.channels {
-            put("channel labels", c.display().to_string());
+            put("channel_labels", c.display().to_string());
         }
         match &inputs.dictionary {
             Some(d) => put("dictionary", format!("{} (given)", d.display())),
@@ -46,14 +47,14 @@ impl AttributeParams {
         let fit = &self.fit;
         put("reference", fit.reference.to_string());
         put(
-            "noise covariance",
+            "noise_covariance",
             inputs
                 .noise_covariance
                 .as_ref()
                 .map_or("none".to_string(), |p| p.display().to_string()),
         );
         put(
-            "\u{03bb} rule (asked)",
+            "lambda_rule_asked",
             match (fit.lambda_ratio, fit.lambda) {
                 (Some(r), _) => format!("\u{03bb} = {r} \u{00b7} \u{03bb}max"),
                 (None, Some(l)) => format!("\u{03bb} = {l}"),
@@ -69,7 +70,7 @@ impl AttributeParams {
             },
         );
         put(
-            "stopping rule",
+            "stopping_rule",
             format!("relative duality gap \u{2264} {:e}", fit.tol),
         );
         put(
@@ -97,5 +98,33 @@ impl AttributeParams {
             },
         );
         job
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::path::PathBuf;
+
+    /// Issue 22: summary.json's `job` keys are identifiers a script can index by.
+    #[test]
+    fn every_job_key_is_an_identifier() {
+        let mut p = AttributeParams::default();
+        p.inputs.decoder = Some(PathBuf::from("d.npz"));
+        p.inputs.channels = Some(PathBuf::from("ch.txt"));
+        p.inputs.noise_covariance = Some(PathBuf::from("noise.npy"));
+        p.forward.regions = Some(PathBuf::from("labels.gii"));
+        let keys: Vec<String> = p.describe().into_iter().map(|(k, _)| k).collect();
+        assert!(keys.len() >= 12, "{keys:?}");
+        for key in &keys {
+            let mut chars = key.chars();
+            let first_ok = chars
+                .next()
+                .is_some_and(|c| c.is_ascii_alphabetic() || c == '_');
+            assert!(
+                first_ok && chars.all(|c| c.is_ascii_alphanumeric() || c == '_'),
+                "summary.json job key {key:?} is not an identifier"
+            );
+        }
     }
 }

@@ -40,7 +40,7 @@ pub struct DipoleParams {
     #[serde(default)]
     pub pairs: bool,
     /// Noise standard deviation per channel, in the units of the patterns (default: estimated from the residual).
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     #[serde(default)]
     pub noise_sd: Option<f64>,
 }

@@ -36,8 +36,96 @@ impl ForwardParams {
         }
         let sources = load_sources(&self.sources, self.regions.as_deref(), observer)?;
         let head = load_head(&self.head, &montage, from_file)?;
+        check_sources_inside(&sources, &head, &montage, from_file, self)?;
         Ok((montage, sources, head))
     }
+}
+
+/// Refuse sources that reach out of the head's inner sphere, saying why
+/// (once, before any lead field): when the electrodes file set the head
+/// centre, the usual cause is electrodes in another frame or unit, so the
+/// message compares the electrodes' fitted sphere with the sources'.
+fn check_sources_inside(
+    sources: &SourceSpace,
+    head: &SphereHead,
+    montage: &Montage,
+    montage_from_file: bool,
+    params: &ForwardParams,
+) -> Result<(), JobError> {
+    let center = head.center();
+    let inner = head.inner_radius();
+    let distance = |p: &[f64; 3]| {
+        ((p[0] - center[0]).powi(2) + (p[1] - center[1]).powi(2) + (p[2] - center[2]).powi(2))
+            .sqrt()
+    };
+    let outside = sources
+        .positions
+        .iter()
+        .filter(|p| p.iter().all(|c| c.is_finite()) && distance(p) >= inner)
+        .count();
+    let Some((index, far)) = sources
+        .positions
+        .iter()
+        .enumerate()
+        .filter(|(_, p)| p.iter().all(|c| c.is_finite()))
+        .map(|(i, p)| (i, distance(p)))
+        .max_by(|a, b| a.1.total_cmp(&b.1))
+    else {
+        return Ok(());
+    };
+    if far < inner {
+        return Ok(());
+    }
+    let n = sources.positions.len().max(1) as f64;
+    let mut mean = [0.0; 3];
+    for p in &sources.positions {
+        for (m, c) in mean.iter_mut().zip(p) {
+            *m += c / n;
+        }
+    }
+    // Rounded before printing, and + 0.0 so that -0.3 mm reads "0", not "-0".
+    let mm = |v: [f64; 3]| {
+        let r = v.map(|c| (c * 1e3).round() + 0.0);
+        format!("({}, {}, {}) mm", r[0], r[1], r[2])
+    };
+    let what = format!(
+        "{outside} of {} sources lie outside the head's inner sphere (centre {}, radius {:.0} mm; \
+         the farthest, source {index}, is {:.1} mm from the centre); the sources' mean position is {}",
+        sources.positions.len(),
+        mm(center),
+        inner * 1e3,
+        far * 1e3,
+        mm(mean)
+    );
+    let message = if montage_from_file {
+        let radius = fit_sphere(&montage.positions)
+            .map(|(_, r)| {
+                format!(
+                    ", radius {:.0} mm (the head's scalp sphere: {:.0} mm)",
+                    r * 1e3,
+                    head.outer_radius() * 1e3
+                )
+            })
+            .unwrap_or_default();
+        format!(
+            "the electrodes of {} do not sit around the sources: {what}. The head centre is the centre \
+             of a sphere fitted to the electrodes, {}{radius}, {:.0} mm from the sources' mean; \
+             the electrodes are probably in another frame or unit. Positions must be in mm, in head \
+             coordinates (origin at the head centre, +x toward the right ear, +y toward the nose, \
+             +z up): check the file's units (metres or cm read as mm), move the positions so the \
+             nasion and the ears sit around the origin (remove a shift), or give a head file with \
+             center_mm (--head)",
+            params.montage,
+            mm(center),
+            distance(&mean) * 1e3
+        )
+    } else {
+        format!(
+            "the sources do not fit inside the head: {what}. Check the sources' units (mm) and \
+             frame (origin at the head centre), or the head's center_mm and radii_mm (--head)"
+        )
+    };
+    Err(JobError::input(message))
 }
 
 /// The lead field, with its progress and the projection warnings as notes.

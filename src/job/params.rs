@@ -89,10 +89,15 @@ pub struct ForwardParams {
 #[serde(default)]
 pub struct PatchParams {
     /// Geodesic patch radii in mm, comma-separated.
-    #[arg(long, value_delimiter = ',', default_value = "5,10,20")]
+    #[arg(
+        long,
+        allow_negative_numbers = true,
+        value_delimiter = ',',
+        default_value = "5,10,20"
+    )]
     pub radii_mm: Vec<f64>,
     /// Seed spacing in mm (farthest-point sampling); default: every source is a seed.
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     pub spacing_mm: Option<f64>,
     /// Patch profile over geodesic distance.
     #[arg(long, value_enum, default_value_t = ProfileChoice::Gaussian)]
@@ -119,18 +124,19 @@ pub struct FitParams {
     pub lambda_rule: LambdaRuleName,
     /// Noise standard deviation per channel of the patterns, in their units (after average
     /// referencing); used by the noise rule and the resamples instead of an estimate.
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     pub noise_sd: Option<f64>,
     /// lambda = R * lambda_max (0 < R <= 1) instead of the lambda rule.
-    #[arg(long, conflicts_with = "lambda")]
+    #[arg(long, allow_negative_numbers = true, conflicts_with = "lambda")]
     pub lambda_ratio: Option<f64>,
     /// An absolute lambda (units of the whitened patterns).
-    #[arg(long)]
+    #[arg(long, allow_negative_numbers = true)]
     pub lambda: Option<f64>,
     /// Relative duality-gap tolerance.
-    #[arg(long, default_value_t = 1e-8)]
+    #[arg(long, allow_negative_numbers = true, default_value = "1e-8")]
     pub tol: f64,
-    /// Number of bootstrap resamples for the intervals (0 = none).
+    /// Number of bootstrap resamples for the intervals and the selection frequency (the percentage
+    /// of resamples in which a region is selected: its share >= 5 %) (0 = none).
     #[arg(long, default_value_t = 100)]
     pub resamples: usize,
     /// Seed of the resampling.

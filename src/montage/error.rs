@@ -71,10 +71,7 @@ pub enum MontageError {
         center: Vec3,
     },
     /// Some requested labels are not in the montage, or are requested twice.
-    #[error(
-        "channel selection: {} unknown [{}], {} duplicated [{}]",
-        unknown.len(), unknown.join(", "), duplicates.len(), duplicates.join(", ")
-    )]
+    #[error("channel selection: {}", selection_problems(unknown, duplicates))]
     Selection {
         /// Labels not found, as given.
         unknown: Vec<String>,
@@ -138,5 +135,64 @@ impl std::fmt::Display for ProjectionWarning {
             self.distance_m * 1e3,
             PROJECTION_WARNING_M * 1e3
         )
+    }
+}
+
+/// The parts of a failed channel selection that are not empty, e.g. "2 labels not in the
+/// montage [EOG1, M1]; remove those channels from the input or give a montage that has them".
+fn selection_problems(unknown: &[String], duplicates: &[String]) -> String {
+    let mut parts = Vec::new();
+    if !unknown.is_empty() {
+        parts.push(format!(
+            "{} not in the montage [{}]",
+            labels_counted(unknown.len()),
+            unknown.join(", ")
+        ));
+    }
+    if !duplicates.is_empty() {
+        parts.push(format!(
+            "{} asked for twice [{}]",
+            labels_counted(duplicates.len()),
+            duplicates.join(", ")
+        ));
+    }
+    let mut message = parts.join(", ");
+    if !unknown.is_empty() {
+        message.push_str("; remove those channels from the input or give a montage that has them");
+    }
+    message
+}
+
+fn labels_counted(n: usize) -> String {
+    if n == 1 {
+        "1 label".to_string()
+    } else {
+        format!("{n} labels")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Issue 22: a selection error lists only what went wrong.
+    #[test]
+    fn selection_errors_name_only_the_problems_found() {
+        let unknown = MontageError::Selection {
+            unknown: vec!["EOG1".to_string(), "M1".to_string()],
+            duplicates: Vec::new(),
+        }
+        .to_string();
+        assert_eq!(
+            unknown,
+            "channel selection: 2 labels not in the montage [EOG1, M1]; remove those channels \
+             from the input or give a montage that has them"
+        );
+        let twice = MontageError::Selection {
+            unknown: Vec::new(),
+            duplicates: vec!["Cz".to_string()],
+        }
+        .to_string();
+        assert_eq!(twice, "channel selection: 1 label asked for twice [Cz]");
     }
 }

@@ -20,4 +20,4 @@ pub use noise_rule::{PatternNoise, NULL_QUANTILE, RATIO_FLOOR};
 pub use outcome::{FitOutcome, FittedComponent};
 pub use perturb::{perturbed_atoms, perturbed_model, ForwardPerturbation};
 pub use quality::{component_flags, is_poorly_explained, POORLY_EXPLAINED_EV};
-pub use resample::{ResampleOptions, ResampleSummary};
+pub use resample::{ResampleOptions, ResampleSummary, SELECTION_THRESHOLD};

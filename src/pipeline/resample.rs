@@ -11,6 +11,11 @@
 //! share is at least the selection threshold. Resample i uses random
 //! stream i of the seed, so results do not depend on the thread count.
 
+/// Share at or above which a region counts as selected in a resample (5 %;
+/// the default of [`ResampleOptions::selection_threshold`], which the
+/// terminal legend, the report and the README quote).
+pub const SELECTION_THRESHOLD: f64 = 0.05;
+
 /// Options of the resampling.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ResampleOptions {
@@ -27,7 +32,7 @@ impl Default for ResampleOptions {
         ResampleOptions {
             n_resamples: 100,
             seed: 20141,
-            selection_threshold: 0.05,
+            selection_threshold: SELECTION_THRESHOLD,
         }
     }
 }

@@ -333,6 +333,15 @@ fn job(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &Re
     section(h, "job", "The job", |h| job_facts(h, r, summary, o));
 }
 
+/// The words of a key of summary.json's `job` (an identifier, e.g.
+/// `stopping_rule`) as the page shows them.
+fn asked_label(key: &str) -> String {
+    match key {
+        "lambda_rule_asked" => "\u{03bb} rule (asked)".to_string(),
+        other => other.replace('_', " "),
+    }
+}
+
 /// The facts of the job section: what was asked, then what the fit records.
 fn job_facts(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, o: &ReportOptions) {
     h.raw("<dl class=\"facts\">\n");
@@ -346,7 +355,7 @@ fn job_facts(h: &mut Html, r: &ResultFile, summary: Option<&serde_json::Value>, 
         }
     }
     for (name, value) in &asked {
-        fact(h, name, value);
+        fact(h, &asked_label(name), value);
     }
     fact(h, "\u{03bb} rule (as fitted)", &lambda_rule(r));
     let joint = summary
@@ -590,11 +599,14 @@ fn region_table(h: &mut Html, r: &ResultFile, f: &ComponentFacts, c: usize) {
         h.element(
             "p",
             "note",
-            "Interval: 2.5\u{2013}97.5 % percentiles of the share over a parametric bootstrap (the fit plus \
-             resampled noise at the residual's level, refitted at the same \u{03bb}). Selected in: the fraction \
-             of resamples in which the region's share reached 5 %. Leads in: the fraction of resamples in which \
-             the region had the largest share; support split between regions means the data do not decide \
-             which of them leads.",
+            &format!(
+                "Interval: 2.5\u{2013}97.5 % percentiles of the share over a parametric bootstrap (the fit plus \
+                 resampled noise at the residual's level, refitted at the same \u{03bb}). Selected in: the percentage \
+                 of resamples in which the region's share reached {:.0} %. Leads in: the percentage of resamples in which \
+                 the region had the largest share; support split between regions means the data do not decide \
+                 which of them leads.",
+                100.0 * crate::pipeline::SELECTION_THRESHOLD
+            ),
         );
     }
 }

@@ -138,6 +138,24 @@ fn glob_expands_to_one_job_per_file_named_group_dash_stem() {
     );
 }
 
+/// Issue 22: a stem that already carries the table's name is not prefixed twice.
+#[test]
+fn glob_stems_that_start_with_the_table_name_are_not_prefixed_twice() {
+    let dir = scratch("batch-glob-prefix");
+    for s in ["sub-01_csp", "sub-02_csp", "subject3_csp"] {
+        touch(&dir.join(format!("decoders/{s}.npz")), s.as_bytes());
+    }
+    let p = script(
+        &dir,
+        "[[job]]\nname = \"sub\"\ndecoder = \"decoders/*_csp.npz\"\n",
+    );
+    let s = load_script(&p).unwrap();
+    let names: Vec<&str> = s.jobs.iter().map(|j| j.name.as_str()).collect();
+    // `subject3` starts with "sub" but not with "sub-" or "sub_": it keeps the prefix.
+    assert_eq!(names, ["sub-01_csp", "sub-02_csp", "sub-subject3_csp"]);
+    assert!(s.jobs.iter().all(|j| j.group == "sub"));
+}
+
 #[test]
 fn duplicate_names_after_expansion_and_missing_files_name_the_job() {
     let dir = scratch("batch-dupes");

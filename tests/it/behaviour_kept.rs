@@ -9,7 +9,9 @@
 //! `filter_gain` block of issue 27, an addition only: the block's lines
 //! inserted, no other line changed; and when the interval became the
 //! centred interval joined with the resampled range: only `share_low` and
-//! `share_high` moved). Regression check against our
+//! `share_high` moved; and when summary.json's `job` keys became
+//! identifiers (issue 22: `noise_covariance`, `lambda_rule_asked`,
+//! `stopping_rule`): keys renamed, no value changed). Regression check against our
 //! own earlier outputs, no outside source: strings must match exactly
 //! (paths, content hashes and the software line excepted), numbers within
 //! 1e-6 relative (bit-for-bit equal on the machine that recorded them; the

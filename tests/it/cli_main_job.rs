@@ -41,6 +41,18 @@ fn demo_finds_its_generators_and_writes_a_consistent_table() {
     let text = stdout(&out);
     assert_eq!(text.matches("FOUND").count(), 3, "{text}");
     assert!(!text.contains("MISSED"), "{text}");
+    // Issue 22: the legend says what "selected" counts.
+    assert!(
+        text.contains(
+            "selected: the percentage of resamples in which the region's share was \u{2265} 5 %"
+        ),
+        "{text}"
+    );
+    // Issue 22: the verdict goes to stdout with the tables it sums up.
+    assert!(
+        text.contains("all known generators were found as the leading region"),
+        "{text}"
+    );
     for f in ["result.h5", "regions.csv", "summary.json", "decoder.h5"] {
         assert!(dir.join("demo").join(f).is_file(), "missing {f}");
     }

@@ -27,6 +27,7 @@ mod dictionary_model;
 mod dictionary_profiles;
 mod dipole_cli;
 mod dipole_fit;
+mod first_hour;
 mod forward_leadfield;
 mod fuzz_readers;
 mod geometry_geodesic;

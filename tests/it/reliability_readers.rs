@@ -109,6 +109,12 @@ fn table_sources_without_triangles_get_a_documented_point_area() {
         text.push_str(&format!("{},{},{}\n", p[0], p[1], p[2]));
     }
     let table = write(&dir, "sources.csv", &text);
+    // Two regions by hemisphere: without regions `attribute` refuses (issue 22).
+    let labels: String = hemisphere_points(300)
+        .iter()
+        .map(|p| if p[0] < 0.0 { "left\n" } else { "right\n" })
+        .collect();
+    write(&dir, "regions.txt", &labels);
     let sources = patchwise::io::sources_file::read_sources(&table).unwrap();
     assert!(sources
         .areas
@@ -122,6 +128,8 @@ fn table_sources_without_triangles_get_a_documented_point_area() {
             "10-20",
             "--sources",
             "sources.csv",
+            "--regions",
+            "regions.txt",
             "--radii-mm",
             "15",
         ],

@@ -78,6 +78,28 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
             outln!("  leading region in the resamples: {}", list.join(", "));
         }
     }
+    outln!();
+    for line in legend(a) {
+        outln!("{line}");
+    }
+}
+
+/// What the table's columns mean, under the tables.
+fn legend(a: &Attribution) -> Vec<String> {
+    let resamples = a.outcome.resample.as_ref().map_or(0, |r| r.n_resamples);
+    let mut lines = vec![
+        "share: the region's part of the fitted pattern (the shares and the unassigned share sum to 1)"
+            .to_string(),
+    ];
+    if resamples > 0 {
+        lines.push(format!(
+            "95 % interval: of the share over {resamples} bootstrap resamples; selected: the percentage of resamples in which the region's share was \u{2265} {:.0} %",
+            100.0 * patchwise::pipeline::SELECTION_THRESHOLD
+        ));
+    } else {
+        lines.push("95 % interval and selected: n/a without resamples (--resamples 0)".to_string());
+    }
+    lines
 }
 
 /// Write result.h5, regions.csv and summary.json into `out` atomically and

@@ -64,9 +64,10 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         return Err(CliError {
             code,
             error: anyhow::anyhow!(
-                "{} of {} jobs failed",
+                "{} of {} job{} failed",
                 outcome.failures.len(),
-                outcome.to_run
+                outcome.to_run,
+                if outcome.to_run == 1 { "" } else { "s" }
             ),
         });
     }

@@ -8,7 +8,7 @@ use patchwise::io::cache::default_cache_dir;
 use patchwise::job::demo::{demo, scenario_lines};
 
 use crate::outputs::write_outputs_with;
-use crate::progress::{note, Console};
+use crate::progress::Console;
 use crate::CliError;
 
 /// Arguments of `patchwise demo`.
@@ -77,6 +77,14 @@ pub fn exec(args: Args) -> Result<(), CliError> {
                 .unwrap_or_default()
         );
     }
+    outln!(
+        "{}",
+        if run.found_all() {
+            "all known generators were found as the leading region of their component"
+        } else {
+            "some known generators were not the leading region of their component"
+        }
+    );
     if !args.no_report {
         let mut job = run.params.describe();
         if let Some(entry) = job.iter_mut().find(|(name, _)| name == "decoder") {
@@ -87,11 +95,6 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         }
         super::report::report_after_outputs(&dir, job)?;
     }
-    note(if run.found_all() {
-        "all known generators were found as the leading region of their component"
-    } else {
-        "some known generators were not the leading region of their component"
-    });
     outln!(
         "the demo decoder is in {}",
         dir.join("decoder.h5").display()
