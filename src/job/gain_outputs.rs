@@ -106,7 +106,8 @@ pub fn summary_block(a: &Attribution) -> serde_json::Value {
 }
 
 /// Write `filter_gain.csv` into `dir` (nothing without a gain map): one row
-/// per component and region by decreasing mean gain; `rank` from 1.
+/// per component and region by decreasing mean gain; `rank` from 1; the
+/// component's name last, as in regions.csv.
 pub fn write_gain_table(dir: &Path, a: &Attribution) -> Result<(), JobError> {
     let Some(gain) = &a.filter_gain else {
         return Ok(());
@@ -124,6 +125,7 @@ pub fn write_gain_table(dir: &Path, a: &Attribution) -> Result<(), JobError> {
                 sci(gain.region_max[at]),
                 sci(gain.region_normalised_mean[at]),
                 (rank + 1).to_string(),
+                a.component_names.get(c).cloned().unwrap_or_default(),
             ]);
         }
     }
@@ -134,6 +136,7 @@ pub fn write_gain_table(dir: &Path, a: &Attribution) -> Result<(), JobError> {
         "max_gain",
         "normalised_mean_gain",
         "rank",
+        "component_name",
     ];
     write_table(
         &dir.join("filter_gain.csv"),

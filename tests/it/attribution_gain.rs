@@ -295,6 +295,7 @@ for c in range(W.shape[1]):
     order = np.argsort(-mean[:, c], kind="stable")
     assert [t["region"] for t in mine] == [names[i] for i in order]
     assert [int(t["rank"]) for t in mine] == list(range(1, len(names) + 1))
+    assert len({t["component_name"] for t in mine}) == 1 and mine[0]["component_name"] != ""
     assert np.allclose([float(t["mean_gain"]) for t in mine], mean[order, c], rtol=1e-8)
 # Free orientation: the 2-norm over x, y, z of (H W)^T L_j, L_j the n_ch x 3 block.
 lf = h5py.File(os.path.join(d, "lf_free.h5"), "r")
