@@ -22,6 +22,7 @@
 //! *Invariant:* no file I/O; the products run sequentially (faer with
 //! `Par::Seq`), so the numbers do not depend on the thread count.
 
+use crate::numeric::average_ranks;
 use faer::linalg::matmul::matmul;
 use faer::{Accum, Mat, MatRef, Par};
 
@@ -309,26 +310,6 @@ pub fn gain_agreement(region_gain: &[f64], region_share: &[f64]) -> GainAgreemen
         listens_elsewhere,
         also_listens_to,
     }
-}
-
-/// Ranks from 1, ties given their average rank.
-fn average_ranks(values: &[f64]) -> Vec<f64> {
-    let mut order: Vec<usize> = (0..values.len()).collect();
-    order.sort_by(|&a, &b| values[a].total_cmp(&values[b]).then(a.cmp(&b)));
-    let mut ranks = vec![0.0; values.len()];
-    let mut i = 0;
-    while i < order.len() {
-        let mut j = i;
-        while j + 1 < order.len() && values[order[j + 1]] == values[order[i]] {
-            j += 1;
-        }
-        let rank = (i + j) as f64 / 2.0 + 1.0;
-        for &o in &order[i..=j] {
-            ranks[o] = rank;
-        }
-        i = j + 1;
-    }
-    ranks
 }
 
 /// Spearman's rank correlation of `a` and `b` over the indices where both

@@ -383,12 +383,17 @@ impl AttributeParams {
 
     /// [`Self::files_mut`], read only.
     pub fn files(&self) -> Vec<(&'static str, PathBuf)> {
-        let mut copy = self.clone();
-        copy.files_mut()
-            .into_iter()
-            .map(|(key, path)| (key, path.clone()))
-            .collect()
+        owned(self.clone().files_mut())
     }
+}
+
+/// A `files_mut` listing as owned paths (the read-only `files`, derived
+/// from the one listing).
+fn owned(files: Vec<(&'static str, &mut PathBuf)>) -> Vec<(&'static str, PathBuf)> {
+    files
+        .into_iter()
+        .map(|(key, path)| (key, path.clone()))
+        .collect()
 }
 
 impl ForwardParams {
@@ -403,11 +408,7 @@ impl ForwardParams {
     /// The options that name files rather than built-ins, as (key, path),
     /// whether the files exist or not.
     pub fn files(&self) -> Vec<(&'static str, PathBuf)> {
-        let mut copy = self.clone();
-        copy.files_mut()
-            .into_iter()
-            .map(|(key, path)| (key, path.clone()))
-            .collect()
+        owned(self.clone().files_mut())
     }
 
     /// [`Self::files`] for editing.

@@ -11,6 +11,8 @@
 //!   covariance (H A and H C H with H = I − 11ᵀ/n the centring matrix).
 //! - [`rescale_to_unit_norm`]: one column of a channel × atom matrix to
 //!   unit 2-norm, its scale folded into the atom's norm.
+//! - [`average_ranks`]: ranks with ties averaged (Spearman's correlation in
+//!   attribution, the ROC area of the recovery benchmark).
 //! - [`Progress`]: how every long stage reports its steps and hears that
 //!   its caller wants it to stop (the job's observer is one).
 //!
@@ -21,11 +23,13 @@
 mod columns;
 pub(crate) mod eigen;
 mod progress;
+mod ranks;
 mod reference;
 mod rng;
 
 pub use columns::rescale_to_unit_norm;
 pub(crate) use eigen::symmetric_eigen;
 pub use progress::{Progress, Quiet};
+pub use ranks::average_ranks;
 pub use reference::{average_reference_columns, centre_covariance};
 pub use rng::SplitMix64;

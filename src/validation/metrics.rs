@@ -4,22 +4,7 @@
 /// (Mann–Whitney U statistic divided by n₊·n₋; ties count one half;
 /// Hanley & McNeil 1982, Radiology 143:29). NaN without both classes.
 pub fn roc_auc(scores: &[f64], truth: &[bool]) -> f64 {
-    let mut order: Vec<usize> = (0..scores.len()).collect();
-    order.sort_by(|&a, &b| scores[a].total_cmp(&scores[b]));
-    // Average ranks over ties.
-    let mut ranks = vec![0.0; scores.len()];
-    let mut i = 0;
-    while i < order.len() {
-        let mut j = i;
-        while j + 1 < order.len() && scores[order[j + 1]] == scores[order[i]] {
-            j += 1;
-        }
-        let rank = (i + j) as f64 / 2.0 + 1.0;
-        for &o in &order[i..=j] {
-            ranks[o] = rank;
-        }
-        i = j + 1;
-    }
+    let ranks = crate::numeric::average_ranks(scores);
     let n_pos = truth.iter().filter(|&&t| t).count() as f64;
     let n_neg = truth.len() as f64 - n_pos;
     if n_pos == 0.0 || n_neg == 0.0 {

@@ -7,7 +7,7 @@
 use std::path::Path;
 
 use crate::support::cli::patchwise;
-use crate::support::files::decoder_10_20;
+use crate::support::files::{attribute_quickly_output, decoder_10_20};
 use crate::support::scratch;
 
 fn stderr(o: &std::process::Output) -> String {
@@ -15,18 +15,7 @@ fn stderr(o: &std::process::Output) -> String {
 }
 
 fn attribute(dir: &Path, extra: &[&str]) -> std::process::Output {
-    let mut args = vec![
-        "attribute",
-        "--decoder",
-        "decoder.h5",
-        "--resamples",
-        "0",
-        "--no-report",
-        "--out",
-        "r",
-    ];
-    args.extend_from_slice(extra);
-    patchwise(&args, dir)
+    attribute_quickly_output(dir, "r", extra)
 }
 
 #[test]

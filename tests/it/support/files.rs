@@ -52,6 +52,15 @@ pub fn assert_value_error<T: std::fmt::Debug>(
 /// --out OUT` with `extra` options in `dir`; returns whether it succeeded
 /// and its stderr.
 pub fn attribute_quickly(dir: &Path, out: &str, extra: &[&str]) -> (bool, String) {
+    let run = attribute_quickly_output(dir, out, extra);
+    (
+        run.status.success(),
+        String::from_utf8_lossy(&run.stderr).into_owned(),
+    )
+}
+
+/// [`attribute_quickly`], the whole output (exit code, stdout, stderr).
+pub fn attribute_quickly_output(dir: &Path, out: &str, extra: &[&str]) -> std::process::Output {
     let mut args = vec![
         "attribute",
         "--decoder",
@@ -63,9 +72,5 @@ pub fn attribute_quickly(dir: &Path, out: &str, extra: &[&str]) -> (bool, String
         out,
     ];
     args.extend_from_slice(extra);
-    let run = super::cli::patchwise(&args, dir);
-    (
-        run.status.success(),
-        String::from_utf8_lossy(&run.stderr).into_owned(),
-    )
+    super::cli::patchwise(&args, dir)
 }
