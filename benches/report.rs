@@ -159,6 +159,7 @@ fn result_20k() -> ResultFile {
             peak_region,
             unassigned_share: vec![0.0; K],
             noise_sd: Some(vec![1e-3; K]),
+            leader_probability: Some(vec![0.8; K]),
         },
     }
 }

@@ -24,6 +24,7 @@ tests/reference/requirements.txt):
     python benches/reference/trained_decoders.py run OUT target/release/patchwise [resamples]
         # attributes each decoder four ways (folds, n_samples only, neither, and
         # --noise-sd at the folds' sigma), prints table 6 and writes OUT/rows.json
+    python benches/reference/trained_decoders.py dump OUT cases.tsv   # per-case lines for calib.py
     python benches/reference/trained_decoders.py sigma lf.h5 OUT   # assumed against true noise
     python benches/reference/trained_decoders.py one lf.h5 OUT trials   # the CI test's case
 
@@ -371,6 +372,7 @@ def run(out, binary, resamples=100):
                 ratio=comp["lambda_ratio"], at_end=bool(comp["lambda_at_range_end"]),
                 poor=bool(comp["poorly_explained"]), noise_level=summary["noise_level"],
                 lead_frequency=comp["top_regions"][0]["lead_frequency"] if comp["top_regions"] else None,
+                leader_probability=comp.get("leader_probability"),
                 ev=comp["explained_variance"]))
     with open(os.path.join(out, "rows.json"), "w") as f:
         json.dump(rows, f, indent=1)
@@ -410,6 +412,19 @@ def table(rows):
     print("\nnoise_level strings seen:", *levels, sep="\n  ", file=sys.stderr)
 
 
+def dump(out, path):
+    """Per-case lines for benches/reference/calib.py (head "trained-<decoder>", the trial count
+    in the SNR column, the variant as the rule; stated support = the leader's lead frequency)."""
+    rows = json.load(open(os.path.join(out, "rows.json")))
+    with open(path, "w") as f:
+        for r in rows:
+            if r["failed"] or r["lead_frequency"] is None or r["lead"] is None:
+                continue
+            t = r["truth"]
+            f.write(f"trained-{t['kind']}\t{t['trials']}\t{r['variant']}\t{r['lead_frequency']}\t"
+                    f"{int(r['top1'])}\t{t['margin']}\n")
+
+
 if __name__ == "__main__":
     cmd = sys.argv[1]
     if cmd == "make":
@@ -419,9 +434,11 @@ if __name__ == "__main__":
              tuple(sys.argv[6].split(",")) if len(sys.argv) > 6 else ("lda", "csp"))
     elif cmd == "run":
         run(sys.argv[2], sys.argv[3], int(sys.argv[4]) if len(sys.argv) > 4 else 100)
+    elif cmd == "dump":
+        dump(sys.argv[2], sys.argv[3])
     elif cmd == "sigma":
         sigma(sys.argv[2], sys.argv[3])
     elif cmd == "one":
         one(sys.argv[2], sys.argv[3], int(sys.argv[4]))
     else:
-        sys.exit(f"unknown command {cmd}; expected make, run, sigma or one")
+        sys.exit(f"unknown command {cmd}; expected make, run, dump, sigma or one")

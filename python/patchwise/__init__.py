@@ -254,6 +254,13 @@ class Result(Datasets):
         return self["/attribution/lead_frequency"]
 
     @property
+    def leader_probability(self) -> np.ndarray:
+        """Per component (k), the probability that the leading region is right: its lead
+        frequency calibrated on simulated cases (docs/validation.md, table 13); NaN where no
+        region leads."""
+        return self["/attribution/leader_probability"]
+
+    @property
     def source_map(self) -> np.ndarray:
         """Source amplitudes (n_src x k)."""
         return self["/attribution/source_map"]

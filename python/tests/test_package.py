@@ -107,6 +107,10 @@ def test_result_arrays_have_the_documented_shapes(result):
     assert np.all(low <= result.shares + 1e-12) and np.all(result.shares <= high + 1e-12)
     assert result.selection_frequency.shape == (n_regions, k)
     assert result.lead_frequency.shape == (n_regions, k)
+    assert result.leader_probability.shape == (k,)
+    # A probability per component (NaN only where no region leads).
+    p = result.leader_probability[np.isfinite(result.leader_probability)]
+    assert np.all((p >= 0) & (p <= 1))
     assert result.source_map.shape[1] == k
     assert result.explained_variance.shape == (k,)
     assert result.lambda_path.shape[1] == k

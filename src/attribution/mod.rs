@@ -15,10 +15,12 @@ pub mod rng {
     //! Moved to [`crate::numeric`]; this path is kept for code written against it.
     pub use crate::numeric::SplitMix64;
 }
+mod calibration;
 mod gain;
 mod shares;
 mod uncertainty;
 
+pub use calibration::{leader_probability, leading_region, PlattMap, LEADER_CALIBRATION};
 pub use gain::{
     filter_gain, gain_agreement, order_decreasing, spearman, FilterGain, GainAgreement, GainError,
     GainInput, TOP_REGIONS,

@@ -282,6 +282,10 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
             "/attribution/noise_sd",
             Dataset::f64(vec![k], rs.noise_sd.clone()),
         );
+        s.insert(
+            "/attribution/leader_probability",
+            Dataset::f64(vec![k], rs.leader_probability.clone()),
+        );
     }
     if let Some(g) = r.filter_gain {
         super::filter_gain_file::insert_filter_gain(&mut s, g);

@@ -192,6 +192,10 @@ pub struct ResultAttribution {
     pub unassigned_share: Vec<f64>,
     /// Noise level of the resampling per component.
     pub noise_sd: Option<Vec<f64>>,
+    /// Per component, the calibrated probability that the leading region is
+    /// the truth's (absent in results written before it existed or without
+    /// resamples; NaN where no region leads).
+    pub leader_probability: Option<Vec<f64>>,
 }
 
 fn root_str(store: &Store, path: &Path, name: &str) -> String {
@@ -328,6 +332,16 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
     } else {
         None
     };
+    let leader_probability = if store.contains("/attribution/leader_probability") {
+        Some(per_component(
+            store,
+            path,
+            "/attribution/leader_probability",
+            k,
+        )?)
+    } else {
+        None
+    };
     let attribution = ResultAttribution {
         share_low: optional(store, path, "/attribution/share_low", n_regions, k)?,
         share_high: optional(store, path, "/attribution/share_high", n_regions, k)?,
@@ -346,6 +360,7 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
         peak_region,
         unassigned_share,
         noise_sd,
+        leader_probability,
     };
     let dipoles = dipoles_from_store(store, path, k)?;
     let filter_gain = super::filter_gain_file::filter_gain_from_store(
@@ -469,6 +484,14 @@ pub(crate) fn check_result_layout(r: &ResultFile) -> Result<(), IoError> {
     }
     if let Some(v) = &a.noise_sd {
         checks.push(("/attribution/noise_sd", v.len(), k, format!("k = {k}")));
+    }
+    if let Some(v) = &a.leader_probability {
+        checks.push((
+            "/attribution/leader_probability",
+            v.len(),
+            k,
+            format!("k = {k}"),
+        ));
     }
     if let (Some(g), Some(s)) = (&r.filter_gain, &r.sources) {
         let n_src = s.len();

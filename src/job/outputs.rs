@@ -142,6 +142,12 @@ pub fn summary_json(a: &Attribution, rows: &[Vec<RegionRow>]) -> serde_json::Val
             "peak_region": peak_region,
             "unassigned_share": comp.unassigned_share,
             "noise_sd": o.resample.as_ref().map(|r| r.noise_sd[c]),
+            "leading_region": crate::attribution::leading_region(&comp.region_share)
+                .and_then(|r| region_names(a).get(r).cloned()),
+            "leader_probability": o.resample.as_ref().and_then(|r| {
+                let p = r.leader_probability[c];
+                p.is_finite().then_some(p)
+            }),
             "top_regions": top,
         }));
     }

@@ -4,8 +4,8 @@ use rayon::prelude::*;
 use sprs::CsMat;
 
 use crate::attribution::{
-    attribute, component_shares, lead_frequencies, percentile, Attribution, AttributionInput,
-    RegionInterval, RegionMass,
+    attribute, component_shares, lead_frequencies, leader_probability, percentile, Attribution,
+    AttributionInput, RegionInterval, RegionMass,
 };
 use crate::geometry::Vec3;
 use crate::numeric::{average_reference_columns, SplitMix64};
@@ -535,7 +535,7 @@ fn resample(
             .copied()
             .unwrap_or(0.0)
     };
-    let intervals = shares
+    let intervals: Vec<Vec<RegionInterval>> = shares
         .iter()
         .enumerate()
         .map(|(c, per_region)| {
@@ -565,7 +565,16 @@ fn resample(
                 .collect()
         })
         .collect();
+    let leader_probability = intervals
+        .iter()
+        .enumerate()
+        .map(|(c, per_region)| {
+            let lead: Vec<f64> = per_region.iter().map(|i| i.lead_frequency).collect();
+            leader_probability(&attribution.components[c].region_share, &lead)
+        })
+        .collect();
     Ok(ResampleSummary {
+        leader_probability,
         budget_stops: budget_stops.into_inner(),
         intervals,
         noise_sd,

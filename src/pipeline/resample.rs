@@ -49,4 +49,8 @@ pub struct ResampleSummary {
     /// Resampled block fits that stopped on their iteration or time budget
     /// (their shares are used as they are, with the gap they reached).
     pub budget_stops: usize,
+    /// Per component, the probability that the estimate's leading region is
+    /// the truth's: its lead frequency through the calibration map
+    /// (`attribution::leader_probability`); NaN without a leader.
+    pub leader_probability: Vec<f64>,
 }

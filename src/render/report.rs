@@ -263,6 +263,17 @@ fn glance_card(
             if lead.is_finite() {
                 detail.push(format!("leads in {}", percent(lead, 0)));
             }
+            let probability = r
+                .attribution
+                .leader_probability
+                .as_ref()
+                .and_then(|p| p.get(c).copied())
+                .filter(|p| p.is_finite() && r.attribution.share[reg * r.k + c] > 0.0);
+            if let Some(p) = probability {
+                detail.push(format!(
+                    "probability it truly leads {p:.2} (lead frequency calibrated on simulated cases)"
+                ));
+            }
             if !detail.is_empty() {
                 h.element("p", "small", &detail.join(" \u{00b7} "));
             }
@@ -659,6 +670,7 @@ mod tests {
                 peak_region: vec![-1],
                 unassigned_share: vec![0.0],
                 noise_sd: None,
+                leader_probability: None,
             },
         }
     }

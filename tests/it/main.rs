@@ -67,5 +67,6 @@ mod solver_reference;
 mod solver_warm_start;
 mod template;
 mod trust_answer;
+mod trust_calibration;
 mod validation_recovery;
 mod validation_trained_decoders;

@@ -77,11 +77,28 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
                 .collect();
             outln!("  leading region in the resamples: {}", list.join(", "));
         }
+        if let Some(line) = leader_line(a, &names, c) {
+            outln!("{line}");
+        }
     }
     outln!();
     for line in legend(a) {
         outln!("{line}");
     }
+}
+
+/// The estimate's leader and the calibrated probability that it is the
+/// truth's leader (None without resamples or without a leader).
+fn leader_line(a: &Attribution, names: &[String], c: usize) -> Option<String> {
+    let p = a.outcome.resample.as_ref()?.leader_probability[c];
+    let r =
+        patchwise::attribution::leading_region(&a.outcome.attribution.components[c].region_share)?;
+    (p.is_finite() && r < names.len()).then(|| {
+        format!(
+            "  probability that {} truly leads: {:.2} (its lead frequency, calibrated on simulated cases)",
+            names[r], p
+        )
+    })
 }
 
 /// What the table's columns mean, under the tables.
