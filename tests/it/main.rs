@@ -28,6 +28,7 @@ mod dictionary_profiles;
 mod dipole_cli;
 mod dipole_fit;
 mod first_hour;
+mod first_hour_demo;
 mod forward_leadfield;
 mod fuzz_readers;
 mod geometry_geodesic;
