@@ -29,6 +29,7 @@ mod dipole_cli;
 mod dipole_fit;
 mod first_hour;
 mod first_hour_demo;
+mod first_hour_dipoles;
 mod forward_leadfield;
 mod fuzz_readers;
 mod geometry_geodesic;
