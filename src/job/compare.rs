@@ -207,6 +207,10 @@ pub fn compare(
         }
         None => (subjects, None, mapping, inputs, Vec::new(), Vec::new()),
     };
+    // Too few subjects (or pairs) and no p can fall below alpha.
+    if let Some(w) = cohort::too_few_subjects_warning(group.len(), stats.alpha) {
+        observer.note(&format!("warning: {w}"));
+    }
     let mesh = template.sources.mesh();
     let solver = GeodesicSolver::new(&mesh).input("the template mesh")?;
     let kernel = cached_kernel(params, &template.sources, &solver, cache, observer)?;

@@ -1,6 +1,7 @@
 //! Issue 22, a paired comparison as a user reads it: the B results are
 //! recorded in compare.h5's /inputs and on the page, the terminal counts
-//! subjects and results (item 11).
+//! subjects and results (item 11), and too few subjects for p < 0.05 with
+//! sign flips is said, with the 2^n reasoning (item 13).
 
 use std::process::Output;
 
@@ -19,7 +20,7 @@ fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
-/// Item 11: three subjects with an A and a B result each.
+/// Items 11 and 13: three subjects with an A and a B result each.
 #[test]
 fn paired_compare_keeps_the_b_results_and_counts_subjects() {
     let dir = scratch("first-hour-paired");
@@ -56,6 +57,15 @@ fn paired_compare_keeps_the_b_results_and_counts_subjects() {
         "{}",
         stdout(&run)
     );
+    // Three subjects: 2^3 = 8 sign vectors, smallest two-sided p 2/8.
+    let err = stderr(&run);
+    assert!(
+        err.contains("3 subjects: a sign-flip test has 2^3 = 8 sign vectors"),
+        "{err}"
+    );
+    assert!(err.contains("2/8 = 0.250"), "{err}");
+    assert!(err.contains("at least 6 subjects are needed"), "{err}");
+
     let path = dir.join("paired/compare.h5");
     let store = Store::read(&path).unwrap();
     let a = store.strings(&path, "/inputs/results", Some(3)).unwrap();
