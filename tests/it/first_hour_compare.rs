@@ -3,6 +3,7 @@
 //! subjects and results (item 11), and too few subjects for p < 0.05 with
 //! sign flips is said, with the 2^n reasoning (item 13).
 
+use std::path::Path;
 use std::process::Output;
 
 use crate::support::cli::patchwise;
@@ -76,6 +77,28 @@ fn paired_compare_keeps_the_b_results_and_counts_subjects() {
         assert!(b[i].contains(&format!("s{i}-B")), "{}", b[i]);
         let file = dir.join(format!("s{i}-B/result.h5"));
         assert_eq!(b_hash[i], file_sha256(&file).unwrap());
+    }
+    // Item 14: one documented axis order (docs/result_files.md): a result
+    // puts the component last (/attribution/share, n_regions × k), a
+    // comparison first (/group/share, k × n_s × n_r); the same numbers.
+    let (group, shape) = store.f64_array(&path, "/group/share").unwrap();
+    let (k, n_s, n_r) = (shape[0], shape[1], shape[2]);
+    assert_eq!((k, n_s), (1, 3));
+    for (s, result) in a.iter().enumerate() {
+        let file = Path::new(result);
+        let file = if file.is_absolute() {
+            file.to_path_buf()
+        } else {
+            dir.join(file)
+        };
+        let one = Store::read(&file).unwrap();
+        let (share, shape) = one.f64_array(&file, "/attribution/share").unwrap();
+        assert_eq!(shape, vec![n_r, k]);
+        for r in 0..n_r {
+            for c in 0..k {
+                assert_eq!(group[(c * n_s + s) * n_r + r], share[r * k + c]);
+            }
+        }
     }
     let page = std::fs::read_to_string(dir.join("paired/report.html")).unwrap();
     let inputs = &page[page.find("id=\"inputs\"").unwrap()..];

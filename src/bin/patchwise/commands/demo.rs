@@ -20,7 +20,8 @@ pub struct Args {
     /// Sources: template (about 20k vertices) or template-5k (faster).
     #[arg(long, default_value = "template")]
     pub sources: String,
-    /// Bootstrap resamples for the intervals.
+    /// Bootstrap resamples for the intervals. Fewer than attribute's 100 so that the demo is
+    /// a quick first look; give --resamples 100 for attribute's intervals.
     #[arg(long, default_value_t = 30)]
     pub resamples: usize,
     /// Cache folder for lead fields and dictionaries.
