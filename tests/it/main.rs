@@ -51,6 +51,7 @@ mod montage_matching;
 mod montage_standard;
 mod patterns_haufe;
 mod python_package;
+mod readme_commands;
 mod reliability_cache;
 mod reliability_exit_codes;
 mod reliability_limits;
