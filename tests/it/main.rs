@@ -31,6 +31,7 @@ mod first_hour;
 mod first_hour_compare;
 mod first_hour_demo;
 mod first_hour_dipoles;
+mod first_hour_matlab;
 mod forward_leadfield;
 mod fuzz_readers;
 mod geometry_geodesic;
