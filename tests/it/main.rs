@@ -28,6 +28,7 @@ mod dictionary_profiles;
 mod dipole_cli;
 mod dipole_fit;
 mod first_hour;
+mod first_hour_check;
 mod first_hour_compare;
 mod first_hour_demo;
 mod first_hour_dipoles;
