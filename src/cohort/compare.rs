@@ -564,13 +564,15 @@ mod tests {
         };
         let cost = [0.0, 0.1, 0.1, 0.0];
         assert!(transport_warning(0, &[(1.0, 1e-7), (1.0, 5e-5)], &sp, &cost).is_none());
-        let w = transport_warning(2, &[(1.0, 2e-3), (1.0, 1e-7), (1.0, 1e-3)], &sp, &cost)
-            .unwrap();
+        let w = transport_warning(2, &[(1.0, 2e-3), (1.0, 1e-7), (1.0, 1e-3)], &sp, &cost).unwrap();
         assert!(w.starts_with("component 2:"), "{w}");
         assert!(w.contains("limit of 7 iterations for 2 of 3 pairs"), "{w}");
         assert!(w.contains("largest L1 error 2.0e-3"), "{w}");
         // 2e-3 × 100 mm.
         assert!(w.contains("up to 0.20 mm"), "{w}");
-        assert!(w.contains("(the error times the largest centroid distance, 100 mm)"), "{w}");
+        assert!(
+            w.contains("(the error times the largest centroid distance, 100 mm)"),
+            "{w}"
+        );
     }
 }

@@ -96,7 +96,7 @@ fn readme_links_name_files_that_exist() {
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
     let text = std::fs::read_to_string(root.join("README.md")).unwrap();
     let mut seen = 0;
-    for piece in text.split(|c: char| c == '`' || c == '(' || c == ')' || c == ' ') {
+    for piece in text.split(['`', '(', ')', ' ']) {
         let piece = piece.trim_end_matches(['.', ',', ';', ':']);
         if piece.starts_with("docs/") && piece.ends_with(".md") {
             assert!(root.join(piece).is_file(), "README names {piece}");
