@@ -28,6 +28,7 @@
 
 mod checks;
 mod error;
+pub mod inspect;
 mod plan;
 pub mod run;
 mod script;

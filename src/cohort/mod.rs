@@ -30,13 +30,14 @@ mod transport;
 
 pub use compare::{
     compare, CompareParams, Comparison, ComponentComparison, SubjectResult, MIN_GROUP_SHARE,
+    TRANSPORT_ITERATIONS, TRANSPORT_MARGINAL_WARNING,
 };
 pub use error::CohortError;
 pub use paired::{compare_paired, PairedComparison, PairedComponent};
 pub use similarity::{cosine, SmoothingKernel};
 pub use stats::{
     bootstrap_draw, bootstrap_mean_interval, sign_flip_max_test, sign_flip_max_test_greater,
-    SignFlipTest,
+    smallest_exact_sign_flip_p, too_few_subjects_warning, SignFlipTest,
 };
 pub use transport::{
     region_transport_costs, sinkhorn, SinkhornParams, SinkhornResult, TransportCosts,

@@ -256,10 +256,63 @@ fn sign_flip(
     }
 }
 
+/// The smallest two-sided p-value an exact sign-flip test of `n_subjects`
+/// can give: of its 2^n sign vectors, the observed one and its negation
+/// (every sign flipped) give the same |t|, so p ≥ 2 / 2^n = 2^(1−n)
+/// (Nichols & Holmes 2002, Hum Brain Mapp 15:1, on the exact permutation
+/// distribution; the count of relabelings is plain combinatorics).
+pub fn smallest_exact_sign_flip_p(n_subjects: usize) -> f64 {
+    let exponent = i32::try_from(n_subjects).unwrap_or(i32::MAX);
+    2f64.powi(1 - exponent.min(1100))
+}
+
+/// When `n_subjects` is too few for any region to reach p < `alpha` with
+/// sign flips, the warning that says so and how many subjects would be
+/// needed; `None` otherwise.
+pub fn too_few_subjects_warning(n_subjects: usize, alpha: f64) -> Option<String> {
+    let p = smallest_exact_sign_flip_p(n_subjects);
+    if p < alpha {
+        return None;
+    }
+    let needed = (1..=1100usize)
+        .find(|&n| smallest_exact_sign_flip_p(n) < alpha)
+        .unwrap_or(1100);
+    Some(format!(
+        "{n_subjects} subjects: a sign-flip test has 2^{n_subjects} = {} sign vectors, and the observed one and its negation give the same |t|, so the smallest two-sided p is 2/{} = {p:.3}, not below --alpha {alpha}; no region can survive the correction: at least {needed} subjects are needed",
+        1u128 << n_subjects.min(100),
+        1u128 << n_subjects.min(100),
+    ))
+}
+
 #[cfg(test)]
 mod tests {
     #![allow(clippy::unwrap_used)]
     use super::*;
+
+    /// Issue 22, item 13: the smallest exact two-sided p is 2/2^n (the
+    /// observed signs and their negation), so 5 subjects give 1/16 = 0.0625
+    /// and 6 give 1/32 = 0.03125: p < 0.05 needs at least 6. Checked
+    /// against the test itself: all subjects' values equal and positive
+    /// make the observed |t| the largest.
+    #[test]
+    fn smallest_p_is_two_over_two_to_the_n() {
+        for n in 2..=8usize {
+            let values: Vec<f64> = (1..=n).map(|i| i as f64).collect();
+            let t = sign_flip_max_test(&values, n, 1, 1 << 20, 1);
+            assert!(t.exact);
+            let expected = 2.0 / (1u64 << n) as f64;
+            assert!(
+                (t.p_raw[0] - expected).abs() < 1e-15,
+                "n {n}: {}",
+                t.p_raw[0]
+            );
+            assert!((smallest_exact_sign_flip_p(n) - expected).abs() < 1e-15);
+        }
+        let w = too_few_subjects_warning(5, 0.05).unwrap();
+        assert!(w.contains("2/32 = 0.062"), "{w}");
+        assert!(w.contains("at least 6 subjects"), "{w}");
+        assert!(too_few_subjects_warning(6, 0.05).is_none());
+    }
 
     // Hand-worked case, common practice (no source): values (1, 2, 3) in one
     // region. Of the 8 sign vectors only (+,+,+) and (−,−,−) reach |t| of

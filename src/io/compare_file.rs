@@ -20,6 +20,12 @@ pub struct CompareRecord<'a> {
     pub inputs: &'a [(String, String)],
     /// Per subject: how its source map reached the template.
     pub mapping: &'a [String],
+    /// In a paired comparison, per subject: the B result file and its
+    /// SHA-256 (`inputs` holds the A results); empty otherwise.
+    pub inputs_b: &'a [(String, String)],
+    /// In a paired comparison, per subject: how the B source map reached
+    /// the template; empty otherwise.
+    pub mapping_b: &'a [String],
     /// Gaussian width of the smoothing kernel (m).
     pub smoothing_sigma_m: f64,
     /// Cut-off of the smoothing kernel (m).
@@ -73,6 +79,17 @@ pub fn write_compare(path: &Path, r: &CompareRecord<'_>) -> Result<(), IoError> 
         Dataset::strings(r.inputs.iter().map(|x| x.1.clone()).collect()),
     );
     s.insert("/inputs/mapping", Dataset::strings(r.mapping.to_vec()));
+    if !r.inputs_b.is_empty() {
+        s.insert(
+            "/inputs/results_b",
+            Dataset::strings(r.inputs_b.iter().map(|x| x.0.clone()).collect()),
+        );
+        s.insert(
+            "/inputs/sha256_b",
+            Dataset::strings(r.inputs_b.iter().map(|x| x.1.clone()).collect()),
+        );
+        s.insert("/inputs/mapping_b", Dataset::strings(r.mapping_b.to_vec()));
+    }
     s.insert(
         "/group/share",
         Dataset::f64(
@@ -368,6 +385,8 @@ pub fn summary_json(r: &CompareRecord<'_>) -> serde_json::Value {
         "subjects": c.subjects,
         "inputs": r.inputs.iter().map(|(p, h)| serde_json::json!({"result": p, "sha256": h})).collect::<Vec<_>>(),
         "mapping": r.mapping,
+        "inputs_b": r.inputs_b.iter().map(|(p, h)| serde_json::json!({"result": p, "sha256": h})).collect::<Vec<_>>(),
+        "mapping_b": r.mapping_b,
         "template_vertices": r.n_template,
         "null": GROUP_NULL,
         "alpha": alpha,

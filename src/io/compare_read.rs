@@ -34,6 +34,13 @@ pub struct CompareFile {
     pub input_sha256: Vec<String>,
     /// Per subject: how its source map reached the template.
     pub input_mapping: Vec<String>,
+    /// In a paired comparison, per subject: the B result file (the A one
+    /// is in `input_results`); empty otherwise.
+    pub input_results_b: Vec<String>,
+    /// Per subject: the SHA-256 of its B result file (paired only).
+    pub input_sha256_b: Vec<String>,
+    /// Per subject: how its B source map reached the template (paired only).
+    pub input_mapping_b: Vec<String>,
     /// The group comparison, one entry per component.
     pub components: Vec<CompareComponent>,
     /// The null hypothesis of the group test, in words.
@@ -304,6 +311,9 @@ pub fn compare_from_store(store: &Store, path: &Path) -> Result<CompareFile, IoE
         input_results: inputs("/inputs/results")?,
         input_sha256: inputs("/inputs/sha256")?,
         input_mapping: inputs("/inputs/mapping")?,
+        input_results_b: inputs("/inputs/results_b")?,
+        input_sha256_b: inputs("/inputs/sha256_b")?,
+        input_mapping_b: inputs("/inputs/mapping_b")?,
         components,
         group_null: str_or_empty(store, path, "/group", "null"),
         bootstrap_resamples: int_or(store, path, "/group", "bootstrap_resamples"),
@@ -475,11 +485,16 @@ mod tests {
             .map(|i| (format!("s{i}/result.h5"), format!("{i:064x}")))
             .collect();
         let mapping = vec!["same cortex".to_string(); 3];
+        let inputs_b: Vec<(String, String)> = (0..3)
+            .map(|i| (format!("b{i}/result.h5"), format!("{:064x}", i + 7)))
+            .collect();
         let record = CompareRecord {
             comparison: &c,
             paired: Some(&paired),
             inputs: &inputs,
             mapping: &mapping,
+            inputs_b: &inputs_b,
+            mapping_b: &mapping,
             smoothing_sigma_m: 0.01,
             smoothing_cutoff_m: 0.03,
             n_template: 5124,
@@ -498,6 +513,10 @@ mod tests {
         assert_eq!(f.warnings, c.warnings);
         assert_eq!(f.input_sha256[2], inputs[2].1);
         assert_eq!(f.input_results[1], inputs[1].0);
+        // Issue 22, item 11: the B results of a paired comparison are kept.
+        assert_eq!(f.input_results_b[2], inputs_b[2].0);
+        assert_eq!(f.input_sha256_b[0], inputs_b[0].1);
+        assert_eq!(f.input_mapping_b, mapping);
         assert_eq!(f.input_mapping, mapping);
         assert_eq!(f.bootstrap_resamples, 40);
         assert_eq!(f.template_vertices, 5124);

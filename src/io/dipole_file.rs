@@ -35,6 +35,9 @@ pub struct DipoleRow {
     pub region: String,
     /// Distance to the nearest cortex vertex (mm).
     pub distance_to_cortex_mm: f64,
+    /// Distance to the peak (largest |source|) of the same component's
+    /// patch fit (mm); NaN without an attribution beside the dipoles.
+    pub distance_to_patch_peak_mm: f64,
     /// Radius of the 95 % confidence region (mm).
     pub ci95_radius_mm: f64,
     /// Semi-axes of the 95 % ellipsoid (mm), largest first.
@@ -77,8 +80,29 @@ pub struct PatternsRecord<'a> {
     pub component_names: &'a [String],
 }
 
-/// Write `dipoles.csv` atomically; with `pairs` a `dipole` column follows `component`.
-pub fn write_dipoles_csv(path: &Path, rows: &[DipoleRow], pairs: bool) -> Result<(), TableError> {
+/// Each row's distance (mm) to its component's patch-fit peak in `peaks_mm`
+/// (one per component, mm; NaN where a component has no peak).
+pub fn set_distance_to_patch_peak(rows: &mut [DipoleRow], peaks_mm: &[[f64; 3]]) {
+    for r in rows {
+        r.distance_to_patch_peak_mm = match peaks_mm.get(r.component) {
+            Some(p) => (0..3)
+                .map(|a| (r.position_mm[a] - p[a]).powi(2))
+                .sum::<f64>()
+                .sqrt(),
+            None => f64::NAN,
+        };
+    }
+}
+
+/// Write `dipoles.csv` atomically; with `pairs` a `dipole` column follows
+/// `component`. `distance_to_patch_peak_mm` is `n/a` without an attribution
+/// beside the dipoles; `component_name` ends each row, as in regions.csv.
+pub fn write_dipoles_csv(
+    path: &Path,
+    rows: &[DipoleRow],
+    pairs: bool,
+    names: &[String],
+) -> Result<(), TableError> {
     let mut header = vec!["component"];
     if pairs {
         header.push("dipole");
@@ -94,6 +118,8 @@ pub fn write_dipoles_csv(path: &Path, rows: &[DipoleRow], pairs: bool) -> Result
         "region",
         "distance_to_cortex_mm",
         "ci95_radius_mm",
+        "distance_to_patch_peak_mm",
+        "component_name",
     ]);
     let lines: Vec<Vec<String>> = rows
         .iter()
@@ -108,6 +134,8 @@ pub fn write_dipoles_csv(path: &Path, rows: &[DipoleRow], pairs: bool) -> Result
             f.push(r.region.clone());
             f.push(format_fixed(r.distance_to_cortex_mm, 3, "n/a"));
             f.push(format_fixed(r.ci95_radius_mm, 3, "n/a"));
+            f.push(format_fixed(r.distance_to_patch_peak_mm, 3, "n/a"));
+            f.push(names.get(r.component).cloned().unwrap_or_default());
             f
         })
         .collect();
@@ -262,19 +290,14 @@ pub fn insert_dipole_group(
         Dataset::f64(vec![record.k], record.noise_sd.to_vec()),
     );
     if let Some(peaks) = peaks_mm {
-        let d = rows
-            .iter()
-            .map(|r| match peaks.get(r.component) {
-                Some(p) => (0..3)
-                    .map(|a| (r.position_mm[a] - p[a]).powi(2))
-                    .sum::<f64>()
-                    .sqrt(),
-                None => f64::NAN,
-            })
-            .collect();
+        let mut rows = rows.to_vec();
+        set_distance_to_patch_peak(&mut rows, peaks);
         store.insert(
             "/dipole/distance_to_patch_peak_mm",
-            Dataset::f64(vec![n], d),
+            Dataset::f64(
+                vec![n],
+                rows.iter().map(|r| r.distance_to_patch_peak_mm).collect(),
+            ),
         );
     }
     let attrs = [

@@ -17,6 +17,12 @@ use crate::limits::{declared_bytes, MAX_INFLATE_RATIO, MEMORY_BUDGET_BYTES};
 /// A MATLAB v7.3 file starts with a text header in its 512-byte user block.
 const MATLAB_MAGIC: &[u8] = b"MATLAB 7.3 MAT-file";
 
+/// MATLAB's older MAT-files (v5, v6 and v7, which are not HDF5) start with this.
+const MATLAB_V5_MAGIC: &[u8] = b"MATLAB 5.0 MAT-file";
+
+/// What to do with an older MAT-file.
+const MATLAB_V5_HELP: &str = "a MATLAB MAT-file of version 5 to 7 (not HDF5), which patchwise does not read; save it again in MATLAB with save(FILE, 'channels', 'patterns', ..., '-v7.3')";
+
 impl Store {
     /// Read a whole HDF5 file into memory.
     ///
@@ -155,6 +161,9 @@ struct Visit<'a> {
 }
 
 fn read_bytes(bytes: Vec<u8>, wanted: &dyn Fn(&str) -> bool) -> Result<Store, ReadFailure> {
+    if bytes.starts_with(MATLAB_V5_MAGIC) {
+        return Err(ReadFailure::Backend(MATLAB_V5_HELP.to_string()));
+    }
     let file_bytes = bytes.len() as u64;
     let file = hdf5::File::from_bytes(bytes).map_err(|e| describe(&e))?;
     let mut store = Store::default();
@@ -199,7 +208,11 @@ fn visit_group(
         }
         let ds = group.dataset(&name).map_err(at_object(&full))?;
         check_declared_size(&ds, &full, visit.file_bytes)?;
-        let dataset = read_dataset(&ds).map_err(at_object(&full))?;
+        let dataset = if matches!(ds.dtype(), Ok(DType::ObjectReference)) {
+            read_cell(&ds, &full, visit.file_bytes)?
+        } else {
+            read_dataset(&ds).map_err(at_object(&full))?
+        };
         store.datasets.insert(full, dataset);
     }
     let mut groups = group.groups().map_err(at_object(at))?;
@@ -271,6 +284,103 @@ fn check_declared_size(ds: &hdf5::Dataset, at: &str, file_bytes: u64) -> Result<
         )));
     }
     Ok(())
+}
+
+/// A dataset of object references, as MATLAB v7.3 stores a cell array: a
+/// cell array of char (labels, `{'Fz', 'Cz'}`) becomes strings, one per
+/// cell in storage order (MATLAB's column-major order), a vector cell
+/// array a one-dimensional dataset. Any other cell array is
+/// [`Array::Unsupported`], saying what was found. The members' declared
+/// sizes are checked one by one and in sum (a member may be referenced
+/// many times), against the same limits as any dataset.
+fn read_cell(ds: &hdf5::Dataset, at: &str, file_bytes: u64) -> Result<Dataset, ReadFailure> {
+    let mut shape: Vec<usize> = ds
+        .shape()
+        .map_err(at_object(at))?
+        .iter()
+        .map(|&d| d as usize)
+        .collect();
+    let attrs = convert_attrs(ds.attrs().map_err(at_object(at))?);
+    let unsupported = |what: String, shape: Vec<usize>, attrs| Dataset {
+        shape,
+        data: Array::Unsupported(what),
+        attrs,
+    };
+    let members = ds.dereference().map_err(at_object(at))?;
+    let bound = MEMORY_BUDGET_BYTES.min(
+        file_bytes
+            .saturating_mul(MAX_INFLATE_RATIO)
+            .saturating_add(1 << 20),
+    );
+    let mut total: u64 = 0;
+    let mut strings = Vec::with_capacity(members.len());
+    for (i, member) in members.into_iter().enumerate() {
+        let member_at = format!("{at} cell {i}");
+        let hdf5::Object::Dataset(d) = member else {
+            return Ok(unsupported(
+                format!("a cell array whose cell {i} is a struct or group (expected a cell array of char, e.g. {{'Fz', 'Cz'}})"),
+                shape,
+                attrs,
+            ));
+        };
+        check_declared_size(&d, &member_at, file_bytes)?;
+        let cell_shape = d.shape().map_err(at_object(&member_at))?;
+        let element = d.element_size().map_err(at_object(&member_at))?;
+        total =
+            total.saturating_add(declared_bytes(&cell_shape, element.max(8)).unwrap_or(u64::MAX));
+        if total > bound {
+            return Err(ReadFailure::TooLarge {
+                dataset: at.to_string(),
+                message: format!(
+                    "its cells declare more than {bound} bytes in all: the smaller of the memory budget and {MAX_INFLATE_RATIO} times the file size plus 1 MiB"
+                ),
+            });
+        }
+        let cell = read_dataset(&d).map_err(at_object(&member_at))?;
+        match cell_text(&cell) {
+            Some(text) => strings.push(text),
+            None => {
+                return Ok(unsupported(
+                    format!("a cell array whose cell {i} holds {} (expected a cell array of char, e.g. {{'Fz', 'Cz'}})", cell.data.kind()),
+                    shape,
+                    attrs,
+                ))
+            }
+        }
+    }
+    // A vector of cells (MATLAB 1×n or n×1) reads as a list.
+    if shape.iter().filter(|&&d| d != 1).count() <= 1 {
+        shape = vec![strings.len()];
+    }
+    Ok(Dataset {
+        shape,
+        data: Array::Str(strings),
+        attrs,
+    })
+}
+
+/// The text of one cell of a MATLAB cell array: a char vector (UTF-16 code
+/// units with `MATLAB_class` = `char`, trailing blanks removed), the empty
+/// char `''` (stored as its dimensions with `MATLAB_empty`), or a string
+/// written by another tool; `None` for anything else.
+fn cell_text(cell: &Dataset) -> Option<String> {
+    let class = match cell.attrs.get("MATLAB_class") {
+        Some(Attr::Str(s)) => Some(s.as_str()),
+        _ => None,
+    };
+    let empty = matches!(cell.attrs.get("MATLAB_empty"), Some(Attr::I64(1)));
+    match (&cell.data, class) {
+        (_, Some("char")) if empty => Some(String::new()),
+        (Array::I64(codes), Some("char")) => {
+            let units: Option<Vec<u16>> = codes.iter().map(|&c| u16::try_from(c).ok()).collect();
+            let text = char::decode_utf16(units?)
+                .collect::<Result<String, _>>()
+                .ok()?;
+            Some(text.trim_end_matches(' ').to_string())
+        }
+        (Array::Str(v), _) if v.len() == 1 => v.first().cloned(),
+        _ => None,
+    }
 }
 
 fn read_dataset(ds: &hdf5::Dataset) -> Result<Dataset, hdf5::Error> {

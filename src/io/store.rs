@@ -43,6 +43,8 @@ impl Array {
             Array::F64(_) => "floats".to_string(),
             Array::I64(_) => "integers".to_string(),
             Array::Str(_) => "strings".to_string(),
+            // A described layout ("a cell array whose ...") reads as is.
+            Array::Unsupported(t) if t.starts_with("a ") => t.clone(),
             Array::Unsupported(t) => format!("unsupported type {t}"),
         }
     }

@@ -1,11 +1,13 @@
-//! `check`: validate a mesh, label file, electrodes file, NumPy file or
-//! HDF5 store and say what it holds, in lines for a person to read.
+//! `check`: validate a mesh, label file, electrodes file, table, NumPy file,
+//! JSON summary or HDF5 store and say what it holds, in lines for a person
+//! to read (tables and JSON in `check_tables`; job scripts and head files
+//! in `batch::inspect`, which sits above the jobs).
 
 use std::path::Path;
 
 use super::error::{JobError, JobResult};
 use crate::geometry::{validate, Mesh, MeshReport};
-use crate::io::{electrodes, gifti, leadfield_file, npy, off, ply, table, Array, Store};
+use crate::io::{gifti, leadfield_file, npy, off, ply, Array, Store};
 
 fn extension(path: &Path) -> String {
     path.extension()
@@ -75,27 +77,6 @@ fn gifti_lines(path: &Path) -> Result<Vec<String>, JobError> {
     )])
 }
 
-fn table_lines(path: &Path) -> Result<Vec<String>, JobError> {
-    let t = table::read_table(path).input("reading table")?;
-    let has = |n: &str| t.header.iter().any(|h| h.eq_ignore_ascii_case(n));
-    if has("x") || has("y") || has("z") {
-        let m = electrodes::read_electrodes(path).input("reading electrodes")?;
-        Ok(vec![format!(
-            "{}: electrodes file, {} electrodes (positions in mm): {}",
-            path.display(),
-            m.len(),
-            m.labels.join(" ")
-        )])
-    } else {
-        let ch = electrodes::read_channel_list(path).input("reading channel list")?;
-        Ok(vec![format!(
-            "{}: channel list, {} channels",
-            path.display(),
-            ch.len()
-        )])
-    }
-}
-
 fn describe_npy(a: &npy::NpyArray) -> String {
     let kind = match &a.data {
         npy::NpyData::F32(_) => "float32",
@@ -144,7 +125,8 @@ pub fn check_file(path: &Path) -> Result<Vec<String>, JobError> {
         "gii" => gifti_lines(path),
         "ply" => mesh_lines(path, &ply::read_ply(path).input("reading PLY")?),
         "off" => mesh_lines(path, &off::read_off(path).input("reading OFF")?),
-        "tsv" | "csv" | "txt" => table_lines(path),
+        "tsv" | "csv" | "txt" => super::check_tables::table_lines(path),
+        "json" => super::check_tables::json_lines(path),
         "npy" => {
             let a = npy::read_npy(path).input("reading NumPy file")?;
             Ok(vec![format!("{}: {}", path.display(), describe_npy(&a))])
@@ -165,7 +147,7 @@ pub fn check_file(path: &Path) -> Result<Vec<String>, JobError> {
         }
         "h5" | "hdf5" | "mat" => store_lines(path),
         other => Err(JobError::input(format!(
-            "{}: unknown file kind {other:?}; expected .gii, .ply, .off, .tsv, .csv, .npy, .npz, .h5 or .mat",
+            "{}: unknown file kind {other:?}; expected .gii, .ply, .off, .tsv, .csv, .txt, .json, .npy, .npz, .h5 or .mat (or a .toml job script or head file)",
             path.display()
         ))),
     }

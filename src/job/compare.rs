@@ -34,6 +34,13 @@ pub struct Comparison {
     pub inputs: Vec<(String, String)>,
     /// How each of those subjects reached the template, in words.
     pub mapping: Vec<String>,
+    /// In a paired comparison: (result.h5 path, SHA-256) of each subject's
+    /// B result (`inputs` holds the A ones); empty otherwise.
+    pub inputs_b: Vec<(String, String)>,
+    /// In a paired comparison: how each B result reached the template.
+    pub mapping_b: Vec<String>,
+    /// How many result folders were read (twice the subjects when paired).
+    pub n_results: usize,
     /// The smoothing kernel's Gaussian width σ (m).
     pub smoothing_sigma_m: f64,
     /// The smoothing kernel's cut-off (m).
@@ -45,6 +52,25 @@ pub struct Comparison {
 }
 
 impl Comparison {
+    /// What was compared, counted for the terminal: "comparison of 10
+    /// subjects, 20 results" when paired (each subject has an A and a B
+    /// result), else "comparison of 10 results".
+    pub fn counted(&self) -> String {
+        let n = self.group.subjects.len();
+        if self.paired.is_none() {
+            return format!("comparison of {n} results");
+        }
+        let used = 2 * n;
+        let mut text = format!("comparison of {n} subjects, {used} results");
+        if self.n_results > used {
+            text.push_str(&format!(
+                " ({} result folder(s) without a partner left out)",
+                self.n_results - used
+            ));
+        }
+        text
+    }
+
     /// The record compare.h5 and summary.json are written from.
     pub fn record(&self) -> CompareRecord<'_> {
         CompareRecord {
@@ -52,6 +78,8 @@ impl Comparison {
             paired: self.paired.as_ref().map(|p| &p.0),
             inputs: &self.inputs,
             mapping: &self.mapping,
+            inputs_b: &self.inputs_b,
+            mapping_b: &self.mapping_b,
             smoothing_sigma_m: self.smoothing_sigma_m,
             smoothing_cutoff_m: self.smoothing_cutoff_m,
             n_template: self.n_template,
@@ -148,7 +176,7 @@ pub fn compare(
         inputs.push((dir.join("result.h5").display().to_string(), hash.clone()));
     }
     let stats = &checked.stats;
-    let (group, paired, mapping, inputs) = match &checked.pair {
+    let (group, paired, mapping, inputs, mapping_b, inputs_b) = match &checked.pair {
         Some((a, b)) => {
             let p = pairs(results, a, b)?;
             if p.len() < 2 {
@@ -161,12 +189,28 @@ pub fn compare(
             let sa: Vec<SubjectResult> = p.iter().map(|x| subjects[x.1].clone()).collect();
             let sb: Vec<SubjectResult> = p.iter().map(|x| subjects[x.2].clone()).collect();
             let paired = compare_paired(&names, &sa, &sb, stats).input("paired comparison")?;
-            let mapping = p.iter().map(|x| mapping[x.1].clone()).collect();
-            let inputs = p.iter().map(|x| inputs[x.1].clone()).collect();
-            (sa, Some((paired, a.clone(), b.clone())), mapping, inputs)
+            let side = |i: fn(&(String, usize, usize)) -> usize| {
+                let m: Vec<String> = p.iter().map(|x| mapping[i(x)].clone()).collect();
+                let r: Vec<(String, String)> = p.iter().map(|x| inputs[i(x)].clone()).collect();
+                (m, r)
+            };
+            let (mapping_a, inputs_a) = side(|x| x.1);
+            let (mapping_b, inputs_b) = side(|x| x.2);
+            (
+                sa,
+                Some((paired, a.clone(), b.clone())),
+                mapping_a,
+                inputs_a,
+                mapping_b,
+                inputs_b,
+            )
         }
-        None => (subjects, None, mapping, inputs),
+        None => (subjects, None, mapping, inputs, Vec::new(), Vec::new()),
     };
+    // Too few subjects (or pairs) and no p can fall below alpha.
+    if let Some(w) = cohort::too_few_subjects_warning(group.len(), stats.alpha) {
+        observer.note(&format!("warning: {w}"));
+    }
     let mesh = template.sources.mesh();
     let solver = GeodesicSolver::new(&mesh).input("the template mesh")?;
     let kernel = cached_kernel(params, &template.sources, &solver, cache, observer)?;
@@ -204,6 +248,9 @@ pub fn compare(
         paired,
         inputs,
         mapping,
+        inputs_b,
+        mapping_b,
+        n_results: results.len(),
         smoothing_sigma_m: kernel.sigma_m,
         smoothing_cutoff_m: kernel.cutoff_m,
         n_template: template.sources.len(),

@@ -59,12 +59,21 @@ pub struct CompareParams {
     /// Entropic transport ε relative to the mean centroid distance.
     #[arg(long, allow_negative_numbers = true, default_value_t = 0.05)]
     pub transport_epsilon: f64,
+    /// Iteration limit of each transport (Sinkhorn) solve; a warning says
+    /// how many pairs reach it and what that can cost.
+    #[arg(long, default_value_t = cohort::TRANSPORT_ITERATIONS)]
+    pub transport_iterations: usize,
     /// Skip the transport distance.
     #[arg(long)]
     pub no_transport: bool,
 }
 
 declared_default!(CompareParams);
+
+/// The largest --transport-iterations: each iteration of a solve costs
+/// about 2 × regions² multiply-adds per pair, so a million already takes
+/// minutes on the 4950 pairs of 100 subjects.
+const MAX_TRANSPORT_ITERATIONS: usize = 1_000_000;
 
 /// How one subject reaches the template.
 #[derive(Debug, Clone, PartialEq)]
@@ -151,6 +160,12 @@ impl CompareParams {
             RESAMPLE_RECORD_BYTES,
         )
         .input("checking the options")?;
+        if self.transport_iterations == 0 || self.transport_iterations > MAX_TRANSPORT_ITERATIONS {
+            return Err(bad(format!(
+                "--transport-iterations {}: expected 1 to {MAX_TRANSPORT_ITERATIONS}",
+                self.transport_iterations
+            )));
+        }
         for (name, value) in [
             ("--smoothing-mm", self.smoothing_mm),
             ("--smoothing-cutoff", self.smoothing_cutoff),
@@ -245,6 +260,7 @@ impl CompareParams {
             seed: self.seed,
             alpha: self.alpha,
             transport_epsilon_relative: (!self.no_transport).then_some(self.transport_epsilon),
+            transport_iterations: self.transport_iterations,
         };
         // The same folder twice (under any spelling) would count one subject twice.
         let resolved: Vec<PathBuf> = results

@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 use super::attribute::{attribute_decoder, Attribution, GivenDecoder};
 use super::error::{JobError, JobResult};
 use super::observer::JobObserver;
-use super::outputs::region_rows;
+use super::outputs::{region_names, region_rows};
 use super::params::AttributeParams;
 use super::specs::{MontageSpec, SourcesSpec};
 use crate::demo::{simulate, SIMULATION_SKULL};
@@ -41,12 +41,22 @@ pub struct GeneratorCheck {
     pub generated_in: Vec<String>,
     /// The leading region of the attribution.
     pub leader: String,
-    /// Whether the leading region holds one of the generators.
+    /// Whether the leading region (the largest share, the first row of the
+    /// component's table) holds one of the generators: the demo's verdict,
+    /// judged by the attribution the user reads.
     pub found: bool,
-    /// Distance (mm) from the source map's peak (its largest |source|) to
-    /// the nearest generator seed.
+    /// The region of the source map's peak (the source with the largest
+    /// |source| of the map), which need not be the leading region: a
+    /// broad, weak patch can hold the largest share while a small, strong
+    /// one holds the largest single source.
+    pub peak_region: Option<String>,
+    /// Distance (mm) from the source map's peak to the nearest generator
+    /// seed; shown beside the verdict, never deciding it.
     pub peak_distance_mm: Option<f64>,
 }
+
+/// What the demo's verdict columns mean, printed under them.
+pub const VERDICT_LEGEND: &str = "FOUND: the component's leading region (largest share, the first row of its table) holds one of its generators; peak: the source with the largest |source| of the map, which can lie outside the leading region";
 
 /// What the demo made.
 pub struct DemoRun {
@@ -115,6 +125,7 @@ pub fn demo(
         observer,
     )?;
     let rows = region_rows(&attribution);
+    let names = region_names(&attribution);
     let checks = (0..k)
         .map(|c| {
             let truth: Vec<_> = scenario
@@ -127,12 +138,17 @@ pub fn demo(
                 .and_then(|r| r.first())
                 .map(|r| r.region.clone())
                 .unwrap_or_default();
-            let peak = attribution.outcome.attribution.components[c].peak_position;
+            let comp = &attribution.outcome.attribution.components[c];
+            let peak = comp.peak_position;
+            let peak_region = usize::try_from(comp.peak_region)
+                .ok()
+                .and_then(|r| names.get(r).cloned());
             GeneratorCheck {
                 component: scenario.component_names[c].clone(),
                 generated_in: truth.iter().map(|g| g.region.clone()).collect(),
                 found: truth.iter().any(|g| g.region == leader),
                 leader,
+                peak_region,
                 peak_distance_mm: peak.map(|p| {
                     truth
                         .iter()

@@ -7,6 +7,9 @@ use super::specs::LambdaRuleName;
 impl AttributeParams {
     /// The parameters as (name, value) lines, in the order the report shows them; the names
     /// are identifiers (letters, digits, `_`) because they are summary.json's `job` keys.
+    ///
+    /// The entries come in the order of [`JOB_KEYS`], so the page of the
+    /// run and the page `report DIR` remakes from summary.json agree.
     pub fn describe(&self) -> Vec<(String, String)> {
         let mut job = Vec::new();
         let mut put = |name: &str, value: String| job.push((name.to_string(), value));
@@ -101,6 +104,40 @@ impl AttributeParams {
     }
 }
 
+/// The keys of a job record (summary.json's `job`), in the order the
+/// report shows them: inputs, then the forward model, then the fit.
+pub const JOB_KEYS: &[&str] = &[
+    "decoder",
+    "patterns",
+    "channel_labels",
+    "dictionary",
+    "montage",
+    "sources",
+    "head",
+    "regions",
+    "patches",
+    "reference",
+    "noise_covariance",
+    "lambda_rule_asked",
+    "stopping_rule",
+    "fit",
+    "resampling",
+    "refit",
+];
+
+/// A job record read back (from summary.json, whose object keeps no
+/// order) in the order of [`JOB_KEYS`]; keys we do not know follow, in
+/// the order given.
+pub fn in_job_order(mut job: Vec<(String, String)>) -> Vec<(String, String)> {
+    job.sort_by_key(|(k, _)| {
+        JOB_KEYS
+            .iter()
+            .position(|known| known == k)
+            .unwrap_or(JOB_KEYS.len())
+    });
+    job
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -116,6 +153,14 @@ mod tests {
         p.forward.regions = Some(PathBuf::from("labels.gii"));
         let keys: Vec<String> = p.describe().into_iter().map(|(k, _)| k).collect();
         assert!(keys.len() >= 12, "{keys:?}");
+        // Issue 22, item 9: describe() gives the fixed order, so a record
+        // read back and reordered is the record written.
+        let mut shuffled = p.describe();
+        shuffled.reverse();
+        assert_eq!(in_job_order(shuffled), p.describe());
+        for key in &keys {
+            assert!(JOB_KEYS.contains(&key.as_str()), "{key} not in JOB_KEYS");
+        }
         for key in &keys {
             let mut chars = key.chars();
             let first_ok = chars

@@ -16,8 +16,8 @@ use crate::dipole::{nearest_source, DipoleError, DipoleFit, DipoleFitter, Dipole
 use crate::geometry::SourceSpace;
 use crate::io::decoder_file::read_decoder;
 use crate::io::dipole_file::{
-    read_existing_result, write_dipoles_csv, write_into_result, write_new_result, DipoleRecord,
-    DipoleRow, ExistingResult, PatternsRecord,
+    read_existing_result, set_distance_to_patch_peak, write_dipoles_csv, write_into_result,
+    write_new_result, DipoleRecord, DipoleRow, ExistingResult, PatternsRecord,
 };
 
 /// The parameters of `dipole` (paths; positions inside are mm).
@@ -137,10 +137,15 @@ pub fn dipole(
         ) => return Err(e).input(params.decoder.display()),
         Err(e) => return Err(e).compute("fitting dipoles"),
     };
-    let rows = rows(&fits, &sources);
+    let mut rows = rows(&fits, &sources);
+    if let Some(peaks) = existing.as_ref().and_then(|e| e.peaks_mm.as_deref()) {
+        set_distance_to_patch_peak(&mut rows, peaks);
+    }
+    // Names: the attribution's beside, else the decoder's own, else numbers.
     let names = existing
         .as_ref()
         .and_then(|e| e.component_names.clone())
+        .or_else(|| decoder.extras.component_names.clone())
         .unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
     Ok(Dipoles {
         fits,
@@ -187,7 +192,8 @@ pub fn write_dipole_files(dir: &Path, d: &Dipoles) -> Result<(), JobError> {
         ),
     }
     .compute("writing result.h5")?;
-    write_dipoles_csv(&dir.join("dipoles.csv"), &d.rows, d.pairs).compute("writing dipoles.csv")
+    write_dipoles_csv(&dir.join("dipoles.csv"), &d.rows, d.pairs, &d.names)
+        .compute("writing dipoles.csv")
 }
 
 /// Rows of the files for every fitted dipole, with the nearest cortex vertex.
@@ -214,6 +220,7 @@ fn rows(fits: &[DipoleFit], sources: &SourceSpace) -> Vec<DipoleRow> {
                 residual_variance: fit.residual_variance,
                 region,
                 distance_to_cortex_mm: distance,
+                distance_to_patch_peak_mm: f64::NAN,
                 ci95_radius_mm: fit.ci95_radius * 1e3,
                 ci95_semi_axes_mm: fit.ci95_semi_axes.map(|v| v * 1e3),
                 covariance_mm2: cov.map(|r| r.map(|v| v * 1e6)),

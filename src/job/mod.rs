@@ -12,6 +12,7 @@
 pub mod attribute;
 pub mod cache;
 pub mod check;
+pub mod check_tables;
 pub mod compare;
 pub mod compare_inputs;
 pub mod compare_outputs;

@@ -102,8 +102,16 @@ pub struct PatchParams {
     /// Patch profile over geodesic distance.
     #[arg(long, value_enum, default_value_t = ProfileChoice::Gaussian)]
     pub profile: ProfileChoice,
-    /// Atom orientation: along the normals, or free (x, y, z; needs a free-orientation lead field).
-    #[arg(long = "atom-orientation", value_enum, default_value_t = OrientationChoice::Normal)]
+    /// Source orientation, as in `leadfield --orientation`: along the normals (one atom per
+    /// patch), or free (x, y, z: three atoms per patch; needs a free-orientation lead field).
+    /// `--atom-orientation` is accepted too.
+    #[arg(
+        long = "orientation",
+        alias = "atom-orientation",
+        value_enum,
+        default_value_t = OrientationChoice::Normal
+    )]
+    #[serde(alias = "orientation")]
     pub atom_orientation: OrientationChoice,
 }
 

@@ -4,6 +4,7 @@
 
 use std::path::{Path, PathBuf};
 
+use super::describe::in_job_order;
 use super::error::{ErrorKind, JobError, JobResult};
 use crate::io::compare_read::read_compare;
 use crate::io::result_file::read_result;
@@ -77,12 +78,35 @@ pub fn write_report_as(
     } else {
         None
     };
+    // The job record of the run, or the one summary.json keeps, in one
+    // fixed order: the page `report DIR` remakes is the page of the run.
+    let job = if job.is_empty() {
+        summary_job(summary.as_ref())
+    } else {
+        job
+    };
     let options = ReportOptions {
-        job,
+        job: in_job_order(job),
         ..ReportOptions::default()
     };
     let html = build_report(&result, summary.as_ref(), &options).map_err(building)?;
     write_page(dir, out, &html)
+}
+
+/// summary.json's `job` object as (key, text) pairs.
+fn summary_job(summary: Option<&serde_json::Value>) -> Vec<(String, String)> {
+    summary
+        .and_then(|s| s.get("job"))
+        .and_then(|j| j.as_object())
+        .map(|o| {
+            o.iter()
+                .map(|(k, v)| {
+                    let text = v.as_str().map_or_else(|| v.to_string(), str::to_string);
+                    (k.clone(), text)
+                })
+                .collect()
+        })
+        .unwrap_or_default()
 }
 
 /// Read `dir`/compare.h5, build the comparison page and write it

@@ -1,6 +1,6 @@
 //! The typed values of the options that name either a built-in or a file
 //! (`--montage`, `--sources`, `--head`) and the small closed choices
-//! (`--reference`, `--lambda-rule`, `--profile`, `--atom-orientation`).
+//! (`--reference`, `--lambda-rule`, `--profile`, `--orientation`).
 //! Each is parsed here once ([`FromStr`] for the command line and, through
 //! `serde(try_from = "String")`, for job scripts and saved parameters) and
 //! printed back as the user wrote it.
@@ -224,7 +224,7 @@ choice! {
 }
 
 choice! {
-    /// `--atom-orientation`: one atom per patch along the normals, or three.
+    /// `--orientation`: one atom per patch along the normals, or three.
     OrientationChoice {
         /// One atom per patch, along the normals.
         Normal = "normal",

@@ -625,24 +625,39 @@ fn settings_facts(h: &mut Html, f: &CompareFile) {
 
 fn inputs(h: &mut Html, f: &CompareFile) {
     section(h, "inputs", "Inputs", |h| {
-        let columns = [
-            ("subject", ""),
-            ("result", ""),
-            ("map", ""),
-            ("SHA-256", ""),
-        ];
+        // A paired comparison reads two results per subject: A's columns,
+        // then B's.
+        let paired = !f.input_results_b.is_empty();
+        let mut columns = vec![("subject", "")];
+        if paired {
+            columns.extend([
+                ("result A", ""),
+                ("map A", ""),
+                ("SHA-256 A", ""),
+                ("result B", ""),
+                ("map B", ""),
+                ("SHA-256 B", ""),
+            ]);
+        } else {
+            columns.extend([("result", ""), ("map", ""), ("SHA-256", "")]);
+        }
         table(h, &columns, |h| {
             let get = |v: &[String], i: usize| v.get(i).cloned().unwrap_or_default();
             for (i, s) in f.subjects.iter().enumerate() {
-                h.row(
-                    &[
-                        (escape(s), ""),
-                        (escape(&get(&f.input_results, i)), ""),
-                        (escape(&get(&f.input_mapping, i)), ""),
-                        (escape(&get(&f.input_sha256, i)), "hash"),
-                    ],
-                    true,
-                );
+                let mut cells = vec![
+                    (escape(s), ""),
+                    (escape(&get(&f.input_results, i)), ""),
+                    (escape(&get(&f.input_mapping, i)), ""),
+                    (escape(&get(&f.input_sha256, i)), "hash"),
+                ];
+                if paired {
+                    cells.extend([
+                        (escape(&get(&f.input_results_b, i)), ""),
+                        (escape(&get(&f.input_mapping_b, i)), ""),
+                        (escape(&get(&f.input_sha256_b, i)), "hash"),
+                    ]);
+                }
+                h.row(&cells, true);
             }
         });
         notes(h, &f.warnings);
@@ -667,6 +682,9 @@ mod tests {
             input_results: vec!["s1/result.h5".into(), "s2/result.h5".into()],
             input_sha256: vec!["ab".into(), "cd".into()],
             input_mapping: vec!["same mesh".into(); 2],
+            input_results_b: Vec::new(),
+            input_sha256_b: Vec::new(),
+            input_mapping_b: Vec::new(),
             components: vec![CompareComponent {
                 name: "c<0>".into(),
                 share: vec![0.2, 0.8, 0.1, 0.9],

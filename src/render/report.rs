@@ -528,7 +528,7 @@ fn component_section(
     let mut headline = format!("explained variance {}", percent(f.explained_variance, 1));
     if f.peak_mm.iter().all(|x| x.is_finite()) {
         headline.push_str(&format!(
-            " \u{00b7} peak of the source map at ({:.0}, {:.0}, {:.0}) mm",
+            " \u{00b7} peak of the source map (its largest |source|) at ({:.0}, {:.0}, {:.0}) mm",
             f.peak_mm[0], f.peak_mm[1], f.peak_mm[2]
         ));
         if let Some(name) = &f.peak_region {

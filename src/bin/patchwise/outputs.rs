@@ -22,7 +22,7 @@ pub fn print_table(a: &Attribution, rows: &[Vec<RegionRow>], top: usize) {
             100.0 * a.outcome.fit.explained_variance[c],
             comp.peak_position
                 .map(|p| format!(
-                    ", peak at ({:.0}, {:.0}, {:.0}) mm",
+                    ", peak (largest |source|) at ({:.0}, {:.0}, {:.0}) mm",
                     p[0] * 1e3,
                     p[1] * 1e3,
                     p[2] * 1e3

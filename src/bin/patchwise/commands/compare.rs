@@ -161,8 +161,8 @@ pub fn run(
     }
     outln!();
     outln!(
-        "comparison of {} results in {} ({})",
-        comparison.group.subjects.len(),
+        "{} in {} ({})",
+        comparison.counted(),
         dir.display(),
         written.join(", ")
     );

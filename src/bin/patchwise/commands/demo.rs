@@ -5,7 +5,7 @@ use std::path::PathBuf;
 
 use patchwise::geometry::TemplateResolution;
 use patchwise::io::cache::default_cache_dir;
-use patchwise::job::demo::{demo, scenario_lines};
+use patchwise::job::demo::{demo, scenario_lines, VERDICT_LEGEND};
 
 use crate::outputs::write_outputs_with;
 use crate::progress::Console;
@@ -20,7 +20,8 @@ pub struct Args {
     /// Sources: template (about 20k vertices) or template-5k (faster).
     #[arg(long, default_value = "template")]
     pub sources: String,
-    /// Bootstrap resamples for the intervals.
+    /// Bootstrap resamples for the intervals. Fewer than attribute's 100 so that the demo is
+    /// a quick first look; give --resamples 100 for attribute's intervals.
     #[arg(long, default_value_t = 30)]
     pub resamples: usize,
     /// Cache folder for lead fields and dictionaries.
@@ -67,16 +68,21 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     outln!("known generators:");
     for c in &run.checks {
         outln!(
-            "  {:<20} generated in {:<40} top region {:<26} {}{}",
+            "  {:<20} generated in {:<40} top region {:<26} {}",
             c.component,
             c.generated_in.join(" + "),
             c.leader,
             if c.found { "FOUND" } else { "MISSED" },
-            c.peak_distance_mm
-                .map(|d| format!(" (peak {d:.0} mm from the nearest generator seed)"))
-                .unwrap_or_default()
         );
+        if let Some(d) = c.peak_distance_mm {
+            outln!(
+                "  {:<20} peak in {}, {d:.0} mm from the nearest generator seed",
+                "",
+                c.peak_region.as_deref().unwrap_or("no region"),
+            );
+        }
     }
+    outln!("{VERDICT_LEGEND}");
     outln!(
         "{}",
         if run.found_all() {
@@ -86,13 +92,9 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         }
     );
     if !args.no_report {
-        let mut job = run.params.describe();
-        if let Some(entry) = job.iter_mut().find(|(name, _)| name == "decoder") {
-            entry.1 = format!(
-                "the demo's invented decoder (saved as {})",
-                dir.join("decoder.h5").display()
-            );
-        }
+        // The job record as summary.json keeps it, so `patchwise report
+        // DIR` remakes this page; the decoder is the one saved in DIR.
+        let job = run.params.describe();
         super::report::report_after_outputs(&dir, job)?;
     }
     outln!(

@@ -54,18 +54,24 @@ fn print_table(names: &[String], fits: &[DipoleFit], rows: &[DipoleRow], pairs: 
             }
         );
         outln!(
-            "  {:>6} {:>22} {:>10} {:>12} {:<26} {:>10}",
+            "  {:>6} {:>22} {:>10} {:>12} {:<26} {:>10} {:>14}",
             "dipole",
             "position (mm)",
             "|q| (A·m)",
             "95 % r (mm)",
             "nearest cortex region",
-            "to cortex"
+            "to cortex",
+            "to patch peak"
         );
         for r in rows.iter().filter(|r| r.component == c) {
             let q = r.moment.iter().map(|v| v * v).sum::<f64>().sqrt();
+            let to_peak = if r.distance_to_patch_peak_mm.is_finite() {
+                format!("{:.1} mm", r.distance_to_patch_peak_mm)
+            } else {
+                "n/a".to_string()
+            };
             outln!(
-                "  {:>6} {:>22} {:>10.3e} {:>12.1} {:<26} {:>7.1} mm",
+                "  {:>6} {:>22} {:>10.3e} {:>12.1} {:<26} {:>7.1} mm {:>14}",
                 r.dipole,
                 format!(
                     "({:.1}, {:.1}, {:.1})",
@@ -74,7 +80,8 @@ fn print_table(names: &[String], fits: &[DipoleFit], rows: &[DipoleRow], pairs: 
                 q,
                 r.ci95_radius_mm,
                 r.region,
-                r.distance_to_cortex_mm
+                r.distance_to_cortex_mm,
+                to_peak
             );
         }
     }
@@ -114,6 +121,9 @@ pub fn exec(args: Args) -> Result<(), CliError> {
             ""
         }
     );
+    if d.beside_attribution() {
+        outln!("to patch peak: distance to the peak (largest |source|) of the same component's patch fit");
+    }
     outln!("caution: {CAUTION}");
     // Beside an attribution the report gains the dipole table; its job
     // comes from the attribution's summary.json.
