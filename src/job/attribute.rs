@@ -5,6 +5,7 @@
 use std::path::{Path, PathBuf};
 
 use super::cache::dictionary_for_channels;
+use super::cache_folder::trim_after_job;
 use super::error::{JobError, JobResult};
 use super::noise::{pattern_noise, NoiseInputs};
 use super::observer::{interrupted, staged, JobObserver};
@@ -122,7 +123,9 @@ pub fn attribute(
         path: input_path,
         sha256,
     };
-    run(params, options, given, cache, component_names, observer)
+    let outcome = run(params, options, given, cache, component_names, observer);
+    trim_after_job(cache, observer);
+    outcome
 }
 
 /// A decoder already read (the demo's, made in memory): the decoder, the
@@ -147,7 +150,9 @@ pub fn attribute_decoder(
     observer: &dyn JobObserver,
 ) -> Result<Attribution, JobError> {
     let options = params.validate()?;
-    run(params, options, given, cache, component_names, observer)
+    let outcome = run(params, options, given, cache, component_names, observer);
+    trim_after_job(cache, observer);
+    outcome
 }
 
 /// The job after the decoder is read.
