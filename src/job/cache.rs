@@ -122,7 +122,9 @@ pub fn dictionary_for_channels(
         ));
     }
     let lf_hash = leadfield_hash(&montage, &sources, &head.head_model_json(), orientation);
-    let mut dh = ContentHash::new("dictionary-v1");
+    // v2: atoms and profile stored as 32-bit floats (v1 entries, 64-bit,
+    // are rebuilt, never read under the new key).
+    let mut dh = ContentHash::new("dictionary-v2");
     dh.str(&lf_hash).str(&patches.to_json());
     let d_hash = dh.hex();
     hashes.push(("leadfield".to_string(), lf_hash.clone()));

@@ -22,10 +22,11 @@ use crate::io::cache_entries::{list_entries, remove_entry, CacheEntry, Removal};
 /// The environment variable that caps the cache's size.
 pub const CAP_VARIABLE: &str = "PATCHWISE_CACHE_MAX_SIZE";
 
-/// The default cap: 2 GB. The demo's entries take about 0.23 GB and a long
-/// session grew a cache to about 0.77 GB, so ordinary use never reaches it,
-/// while a batch over many montages or heads (one dictionary of the 20k
-/// template per montage) stops at a size no disk notices.
+/// The default cap: 2 GB. The demo's entries take about 0.16 GB (0.29 GB
+/// with 64-bit dictionaries) and a long session grew a cache to about
+/// 0.77 GB, so ordinary use never reaches it, while a batch over many
+/// montages or heads (one dictionary of about 0.1 GB per montage on the 20k
+/// template) stops at a size no disk notices.
 pub const DEFAULT_CAP_BYTES: u64 = 2_000_000_000;
 
 /// Where lead fields, dictionaries and smoothing kernels are cached.

@@ -37,16 +37,27 @@ fn attribute(dir: &Path, out: &str) -> (bool, String) {
     )
 }
 
-/// Flip the lowest bit of one atom value inside the file's bytes: the value
-/// stays finite and plausible, so only a checksum can tell.
+/// Flip the lowest bit of one atom value inside the file's bytes (atoms
+/// are stored as 32-bit floats): the value stays finite and plausible, so
+/// only a checksum can tell.
 fn flip_an_atom(path: &Path) {
     let d = read_dictionary(path).unwrap();
     let mut bytes = std::fs::read(path).unwrap();
-    let value = d.atoms[d.atoms.len() / 2].to_le_bytes();
-    let hits: Vec<usize> = (0..=bytes.len() - 8)
-        .filter(|&i| bytes[i..i + 8] == value)
+    // The atoms are stored contiguously (row-major, little-endian f32):
+    // find the block by its first 8 values, then flip the middle atom.
+    let head: Vec<u8> = d.atoms[..8]
+        .iter()
+        .flat_map(|&v| (v as f32).to_le_bytes())
         .collect();
-    assert_eq!(hits.len(), 1, "the atom value must be unique in the file");
+    let starts: Vec<usize> = (0..=bytes.len() - head.len())
+        .filter(|&i| bytes[i..i + head.len()] == head[..])
+        .collect();
+    assert_eq!(
+        starts.len(),
+        1,
+        "the atoms' first values occur once in the file"
+    );
+    let hits = [starts[0] + 4 * (d.atoms.len() / 2)];
     bytes[hits[0]] ^= 1;
     std::fs::write(path, bytes).unwrap();
 }
