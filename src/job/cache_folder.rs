@@ -91,20 +91,26 @@ impl Drop for CacheFolder {
     }
 }
 
-/// A size in bytes from text: a number with an optional unit, `B`, `KB`,
-/// `MB`, `GB`, `TB` (powers of 1000; the `B` may be left out) or `KiB`,
-/// `MiB`, `GiB`, `TiB` (powers of 1024), any case: `2GB`, `500 MB`,
-/// `1.5GiB`, `0`.
-pub fn parse_size(text: &str) -> Result<u64, String> {
+/// A non-negative number and the unit after it (trimmed, lowercase).
+fn number_and_unit(text: &str) -> Option<(f64, String)> {
     let t = text.trim();
     let split = t
         .find(|c: char| !(c.is_ascii_digit() || c == '.'))
         .unwrap_or(t.len());
     let (number, unit) = t.split_at(split);
-    let value: f64 = number.parse().map_err(|_| {
+    let value = number.parse().ok()?;
+    Some((value, unit.trim().to_ascii_lowercase()))
+}
+
+/// A size in bytes from text: a number with an optional unit, `B`, `KB`,
+/// `MB`, `GB`, `TB` (powers of 1000; the `B` may be left out) or `KiB`,
+/// `MiB`, `GiB`, `TiB` (powers of 1024), any case: `2GB`, `500 MB`,
+/// `1.5GiB`, `0`.
+pub fn parse_size(text: &str) -> Result<u64, String> {
+    let (value, unit) = number_and_unit(text).ok_or_else(|| {
         format!("{text:?} is not a size; expected a number and a unit such as 2GB, 500MB or 1.5GiB")
     })?;
-    let scale: f64 = match unit.trim().to_ascii_lowercase().as_str() {
+    let scale: f64 = match unit.as_str() {
         "" | "b" => 1.0,
         "k" | "kb" => 1e3,
         "m" | "mb" => 1e6,
@@ -130,15 +136,10 @@ pub fn parse_size(text: &str) -> Result<u64, String> {
 /// An age from text: a number with a unit `s`, `m` (minutes), `h`, `d` or
 /// `w`: `30d`, `12h`, `90m`.
 pub fn parse_age(text: &str) -> Result<Duration, String> {
-    let t = text.trim();
-    let split = t
-        .find(|c: char| !(c.is_ascii_digit() || c == '.'))
-        .unwrap_or(t.len());
-    let (number, unit) = t.split_at(split);
-    let value: f64 = number.parse().map_err(|_| {
+    let (value, unit) = number_and_unit(text).ok_or_else(|| {
         format!("{text:?} is not an age; expected a number and a unit such as 30d, 12h or 90m")
     })?;
-    let seconds = match unit.trim().to_ascii_lowercase().as_str() {
+    let seconds = match unit.as_str() {
         "s" => 1.0,
         "m" => 60.0,
         "h" => 3600.0,

@@ -5,7 +5,7 @@
 //! holds is never removed.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Output;
 use std::time::{Duration, SystemTime};
 
 use patchwise::io::cache_entries::{hold_entry, list_entries};
@@ -13,6 +13,8 @@ use patchwise::job::cache_folder::{clean, CleanParams};
 use patchwise::job::keyed_lock::{cache_locks, entry_lock_key};
 
 use crate::support;
+use crate::support::cli::patchwise_with_env;
+use crate::support::files::{attribute_quickly_with_env, SMALL_ON_TEMPLATE_5K};
 
 fn scratch(name: &str) -> PathBuf {
     let dir = support::scratch(&format!("cache_cli_{name}"));
@@ -20,44 +22,16 @@ fn scratch(name: &str) -> PathBuf {
     dir
 }
 
-/// The small attribution of these tests (20 mm spacing on template-5k).
-const SMALL: [&str; 8] = [
-    "--montage",
-    "10-20",
-    "--sources",
-    "template-5k",
-    "--radii-mm",
-    "10",
-    "--spacing-mm",
-    "20",
-];
-
-/// `patchwise ARGS` in `dir` with the cache in `dir/cache` and `env` set.
+/// `patchwise ARGS` in `dir` (cache in `dir/cache`) with `env` set.
 fn run(dir: &Path, args: &[&str], env: &[(&str, &str)]) -> Output {
-    let mut c = Command::new(env!("CARGO_BIN_EXE_patchwise"));
-    c.args(args)
-        .current_dir(dir)
-        .env("PATCHWISE_CACHE", dir.join("cache"));
-    for (k, v) in env {
-        c.env(k, v);
-    }
-    c.output().unwrap()
+    patchwise_with_env(args, dir, env)
 }
 
+/// The small attribution of these tests, which must succeed.
 fn attribute(dir: &Path, out: &str, extra: &[&str], env: &[(&str, &str)]) -> Output {
-    let mut args = vec![
-        "attribute",
-        "--decoder",
-        "decoder.h5",
-        "--resamples",
-        "0",
-        "--no-report",
-        "--out",
-        out,
-    ];
-    args.extend_from_slice(&SMALL);
+    let mut args = SMALL_ON_TEMPLATE_5K.to_vec();
     args.extend_from_slice(extra);
-    let o = run(dir, &args, env);
+    let o = attribute_quickly_with_env(dir, out, &args, env);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     o
 }

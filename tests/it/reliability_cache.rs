@@ -19,22 +19,9 @@ fn decoder(dir: &Path) -> PathBuf {
 }
 
 fn attribute(dir: &Path, out: &str) -> (bool, String) {
-    support::files::attribute_quickly(
-        dir,
-        out,
-        &[
-            "--montage",
-            "10-20",
-            "--sources",
-            "template-5k",
-            "--radii-mm",
-            "10",
-            "--spacing-mm",
-            "20",
-            "--cache",
-            "cache",
-        ],
-    )
+    let mut extra = support::files::SMALL_ON_TEMPLATE_5K.to_vec();
+    extra.extend(["--cache", "cache"]);
+    support::files::attribute_quickly(dir, out, &extra)
 }
 
 /// Flip the lowest bit of one atom value inside the file's bytes (atoms
