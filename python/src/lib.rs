@@ -13,7 +13,7 @@ use pyo3::exceptions::{PyRuntimeError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::{PyDict, PyList};
 
-use patchwise::io::cache::bytes_sha256;
+use patchwise::io::cache::bytes_hash;
 use patchwise::io::decoder_file::decoder_from_store;
 use patchwise::io::staging::{check_output_folder, Staging};
 use patchwise::io::store::{Array, Attr, Dataset, Store};
@@ -151,7 +151,7 @@ fn attribute<'py>(
             Some(GivenDecoder {
                 decoder,
                 path: decoder_name,
-                sha256: bytes_sha256(&bytes),
+                content_hash: bytes_hash(&bytes),
             })
         }
         None => None,

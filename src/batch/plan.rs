@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 
 use super::error::BatchError;
 use super::script::{line_column, option_keys, LenientScript, RawScript, NO_REPORT};
-use crate::io::cache::{file_sha256, ContentHash};
+use crate::io::cache::{file_hash, ContentHash};
 use crate::job::AttributeParams;
 
 /// One job, ready to run: its options are merged with `[defaults]` and its
@@ -612,15 +612,15 @@ fn expand(
     Ok(())
 }
 
-/// The input hash of a job: SHA-256 over the software version, the job's
+/// The input hash of a job: BLAKE3 over the software version, the job's
 /// options (as set; an unset option means `attribute`'s default of this
 /// version) and the content hashes of its input files (decoder and every
 /// file-valued option). File names and the job's name do not enter, so
 /// moving the data or renaming the script keeps the hash; changing a
 /// value or a file's bytes changes it.
 pub fn input_hash(job: &Job) -> Result<String, BatchError> {
-    let file_hash = |key: &str, p: &Path| {
-        file_sha256(p).map_err(|source| BatchError::Input {
+    let hash_of = |key: &str, p: &Path| {
+        file_hash(p).map_err(|source| BatchError::Input {
             job: job.name.clone(),
             key: key.to_string(),
             path: p.to_path_buf(),
@@ -629,7 +629,7 @@ pub fn input_hash(job: &Job) -> Result<String, BatchError> {
     };
     let mut h = ContentHash::new("batch-job-v1");
     h.str(env!("CARGO_PKG_VERSION"));
-    h.str("decoder").str(&file_hash("decoder", &job.decoder)?);
+    h.str("decoder").str(&hash_of("decoder", &job.decoder)?);
     let files: BTreeMap<&str, PathBuf> = file_values(&job.params).into_iter().collect();
     let values = job.options_json();
     if let serde_json::Value::Object(map) = values {
@@ -639,7 +639,7 @@ pub fn input_hash(job: &Job) -> Result<String, BatchError> {
             }
             h.str(&key);
             match files.get(key.as_str()) {
-                Some(p) => h.str("file").str(&file_hash(&key, p)?),
+                Some(p) => h.str("file").str(&hash_of(&key, p)?),
                 None => h.str("value").str(&value.to_string()),
             };
         }

@@ -12,10 +12,10 @@ use std::time::{Duration, Instant};
 
 use super::checks::{check_job_folder, check_outputs, clean_stale, is_done};
 use super::{input_hash, load_script, Job, Script, Shard, MARKER_FILE as MARKER, SUMMARY_FILE};
-use crate::io::cache::default_cache_dir;
 use crate::io::staging::Staging;
 use crate::io::table::{write_table, Delimiter};
 use crate::job::attribute;
+use crate::job::cache_folder::CacheOptions;
 use crate::job::outputs::write_attribution_files;
 use crate::job::report::write_report_as;
 use crate::job::{JobError, JobObserver, JobResult, Silent};
@@ -34,9 +34,10 @@ pub struct BatchParams {
     /// Run only shard I of N (1-based): with the jobs sorted by name, job j (0-based) is in shard (j mod N) + 1.
     #[arg(long)]
     pub shard: Option<String>,
-    /// Cache folder for lead fields, dictionaries and the [compare] smoothing kernel (default: $PATCHWISE_CACHE, else the user cache folder).
-    #[arg(long)]
-    pub cache: Option<PathBuf>,
+    /// The cache folder (lead fields, dictionaries, the [compare] smoothing kernel) or none.
+    #[command(flatten)]
+    #[serde(flatten)]
+    pub cache: CacheOptions,
 }
 
 /// A job that did not finish.
@@ -101,6 +102,7 @@ pub fn run_batch(
 ) -> Result<BatchOutcome, JobError> {
     let script = load_script(&params.script).input("reading the job script")?;
     let (workers, shard) = params.validate()?;
+    let cache = params.cache.open()?;
     let hashes: Vec<String> = script
         .jobs
         .iter()
@@ -142,7 +144,7 @@ pub fn run_batch(
         workers.min(todo.len().max(1))
     ));
     observer.stage_start("jobs", todo.len());
-    let (ran, failures) = run_all(&todo, params, workers, observer);
+    let (ran, failures) = run_all(&todo, params, cache.path(), workers, observer);
     observer.stage_end();
     let all_done = script
         .jobs
@@ -169,6 +171,7 @@ pub fn run_batch(
 fn run_all(
     todo: &[(&Job, &str)],
     params: &BatchParams,
+    cache: &Path,
     workers: usize,
     observer: &dyn JobObserver,
 ) -> (Vec<String>, Vec<JobFailure>) {
@@ -186,7 +189,7 @@ fn run_all(
                     break;
                 };
                 let start = Instant::now();
-                let outcome = run_job_catching(job, hash, &params.out, params.cache.as_deref());
+                let outcome = run_job_catching(job, hash, &params.out, cache);
                 if tx.send((i, outcome, start.elapsed())).is_err() {
                     break;
                 }
@@ -216,11 +219,10 @@ fn run_all(
 
 /// Run one job and stage its folder: result files, then the marker, then
 /// the rename that makes it visible (replacing an outdated folder).
-fn run_job(job: &Job, hash: &str, out: &Path, cache: Option<&Path>) -> Result<(), JobError> {
+fn run_job(job: &Job, hash: &str, out: &Path, cache: &Path) -> Result<(), JobError> {
     let target = out.join(&job.name);
     let params = &job.params;
-    let cache = cache.map_or_else(default_cache_dir, Path::to_path_buf);
-    let result = attribute(params, &cache, None, &Silent)?;
+    let result = attribute(params, cache, None, &Silent)?;
     let stage = Staging::new(&target)?;
     write_attribution_files(stage.dir(), &result)?;
     if !job.no_report {
@@ -258,7 +260,7 @@ pub(crate) fn run_job_catching(
     job: &Job,
     hash: &str,
     out: &Path,
-    cache: Option<&Path>,
+    cache: &Path,
 ) -> Result<(), JobError> {
     catch_unwind(AssertUnwindSafe(|| run_job(job, hash, out, cache))).unwrap_or_else(|panic| {
         let message = panic

@@ -11,7 +11,7 @@ use hdf5::{AttrValue, DType, FileBuilder};
 
 use super::atomic;
 use super::error::IoError;
-use super::store::{Array, Attr, Dataset, Store};
+use super::store::{Array, Attr, Dataset, Store, Stored};
 use crate::limits::{declared_bytes, MAX_INFLATE_RATIO, MEMORY_BUDGET_BYTES};
 
 /// A MATLAB v7.3 file starts with a text header in its 512-byte user block.
@@ -305,6 +305,7 @@ fn read_cell(ds: &hdf5::Dataset, at: &str, file_bytes: u64) -> Result<Dataset, R
         shape,
         data: Array::Unsupported(what),
         attrs,
+        stored: Stored::Native,
     };
     let members = ds.dereference().map_err(at_object(at))?;
     let bound = MEMORY_BUDGET_BYTES.min(
@@ -356,6 +357,7 @@ fn read_cell(ds: &hdf5::Dataset, at: &str, file_bytes: u64) -> Result<Dataset, R
         shape,
         data: Array::Str(strings),
         attrs,
+        stored: Stored::Native,
     })
 }
 
@@ -406,6 +408,7 @@ fn read_dataset(ds: &hdf5::Dataset) -> Result<Dataset, hdf5::Error> {
         shape,
         data,
         attrs: convert_attrs(ds.attrs()?),
+        stored: super::store::Stored::Native,
     })
 }
 
@@ -567,26 +570,52 @@ fn configure(
         });
     }
     let shape: Vec<u64> = ds.shape.iter().map(|&d| d as u64).collect();
-    match &ds.data {
-        Array::F64(v) => {
+    let narrowing = |what: &str| IoError::Value {
+        path: file.to_path_buf(),
+        object: dataset.to_string(),
+        message: format!("holds a value that does not fit {what}; not written"),
+    };
+    match (&ds.data, ds.stored) {
+        (Array::F64(v), Stored::F32) if !v.is_empty() => {
+            let narrow: Vec<f32> = v.iter().map(|&x| x as f32).collect();
+            if narrow.iter().zip(v).any(|(&n, &x)| f64::from(n) != x) {
+                return Err(narrowing("a 32-bit float exactly"));
+            }
+            builder.with_f32_data(&narrow);
+        }
+        (Array::I64(v), Stored::U16) if !v.is_empty() => {
+            let narrow: Vec<u16> = v
+                .iter()
+                .map(|&x| u16::try_from(x).map_err(|_| narrowing("a 16-bit unsigned integer")))
+                .collect::<Result<_, _>>()?;
+            builder.with_u16_data(&narrow);
+        }
+        (Array::I64(v), Stored::I32) if !v.is_empty() => {
+            let narrow: Vec<i32> = v
+                .iter()
+                .map(|&x| i32::try_from(x).map_err(|_| narrowing("a 32-bit integer")))
+                .collect::<Result<_, _>>()?;
+            builder.with_i32_data(&narrow);
+        }
+        (Array::F64(v), _) => {
             if v.is_empty() {
                 builder.with_dtype(hdf5::make_f64_type());
             } else {
                 builder.with_f64_data(v);
             }
         }
-        Array::I64(v) => {
+        (Array::I64(v), _) => {
             if v.is_empty() {
                 builder.with_dtype(hdf5::make_i64_type());
             } else {
                 builder.with_i64_data(v);
             }
         }
-        Array::Str(v) => {
+        (Array::Str(v), _) => {
             let refs: Vec<&str> = v.iter().map(String::as_str).collect();
             builder.with_vlen_strings(&refs);
         }
-        Array::Unsupported(t) => {
+        (Array::Unsupported(t), _) => {
             return Err(IoError::Unsupported {
                 path: file.to_path_buf(),
                 what: format!("writing dataset {dataset} of type {t}"),

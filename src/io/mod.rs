@@ -5,6 +5,7 @@
 
 pub mod atomic;
 pub mod cache;
+pub mod cache_entries;
 pub mod compare_file;
 pub mod compare_read;
 pub mod decoder_extras;

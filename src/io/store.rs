@@ -76,15 +76,62 @@ pub struct Dataset {
     pub data: Array,
     /// Attributes of this dataset.
     pub attrs: BTreeMap<String, Attr>,
+    /// The element type written to a file (readers widen every width to
+    /// `F64` or `I64`, so a dataset read back is [`Stored::Native`]).
+    pub stored: Stored,
+}
+
+/// How a dataset's values are written: in their own 64-bit type, or
+/// narrowed to save space (the cached dictionary's atoms and profile).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum Stored {
+    /// 64-bit floats or integers, as held.
+    #[default]
+    Native,
+    /// Floats as 32-bit floats: the values must already be rounded to
+    /// `f32` (see [`Dataset::f64_as_f32`]), so the file holds them exactly.
+    F32,
+    /// Integers as 16-bit unsigned integers (every value in 0..=65535).
+    U16,
+    /// Integers as 32-bit signed integers.
+    I32,
 }
 
 impl Dataset {
+    /// A dataset of floats written as 32-bit floats: the values are
+    /// rounded to `f32` here, so the dataset holds what a reader gets back
+    /// (and its checksum, [`super::cache::seal`], matches the file).
+    pub fn f64_as_f32(shape: Vec<usize>, values: &[f64]) -> Dataset {
+        Dataset {
+            stored: Stored::F32,
+            ..Dataset::f64(shape, values.iter().map(|&v| v as f32 as f64).collect())
+        }
+    }
+
+    /// A dataset of non-negative integers below `bound`, written in the
+    /// narrowest of 16-bit unsigned and 32-bit signed integers that holds
+    /// `0..bound`, else as 64-bit integers.
+    pub fn index_array(shape: Vec<usize>, values: Vec<i64>, bound: usize) -> Dataset {
+        let stored = if bound <= 1 << 16 {
+            Stored::U16
+        } else if bound <= 1 << 31 {
+            Stored::I32
+        } else {
+            Stored::Native
+        };
+        Dataset {
+            stored,
+            ..Dataset::i64(shape, values)
+        }
+    }
+
     /// A dataset of floats with the given shape and no attributes.
     pub fn f64(shape: Vec<usize>, values: Vec<f64>) -> Dataset {
         Dataset {
             shape,
             data: Array::F64(values),
             attrs: BTreeMap::new(),
+            stored: Stored::Native,
         }
     }
 
@@ -94,6 +141,7 @@ impl Dataset {
             shape,
             data: Array::I64(values),
             attrs: BTreeMap::new(),
+            stored: Stored::Native,
         }
     }
 
@@ -103,6 +151,7 @@ impl Dataset {
             shape: vec![values.len()],
             data: Array::Str(values),
             attrs: BTreeMap::new(),
+            stored: Stored::Native,
         }
     }
 }

@@ -5,6 +5,7 @@
 use std::path::{Path, PathBuf};
 
 use super::cache::dictionary_for_channels;
+use super::cache_folder::trim_after_job;
 use super::error::{JobError, JobResult};
 use super::noise::{pattern_noise, NoiseInputs};
 use super::observer::{interrupted, staged, JobObserver};
@@ -16,7 +17,7 @@ use super::prepare::{
 };
 use super::specs::Reference;
 use crate::dictionary::PatchDictionary;
-use crate::io::cache::file_sha256;
+use crate::io::cache::file_hash;
 use crate::io::decoder_file::{read_decoder, DecoderContent, DecoderFile};
 use crate::io::dictionary_file::read_dictionary;
 use crate::pipeline::{fit_patterns, FitOptions, FitOutcome, LambdaRule, Problem};
@@ -27,7 +28,7 @@ fn bad(message: String) -> JobError {
 
 /// The SHA-256 of an input file for the result's hashes.
 fn input_hash(path: &Path) -> Result<String, JobError> {
-    file_sha256(path).map_err(|e| bad(format!("{}: {e}", path.display())))
+    file_hash(path).map_err(|e| bad(format!("{}: {e}", path.display())))
 }
 
 /// Everything the outputs need.
@@ -116,25 +117,27 @@ pub fn attribute(
             ))
         }
     };
-    let sha256 = input_hash(&input_path)?;
+    let content_hash = input_hash(&input_path)?;
     let given = GivenDecoder {
         decoder,
         path: input_path,
-        sha256,
+        content_hash,
     };
-    run(params, options, given, cache, component_names, observer)
+    let outcome = run(params, options, given, cache, component_names, observer);
+    trim_after_job(cache, observer);
+    outcome
 }
 
 /// A decoder already read (the demo's, made in memory): the decoder, the
-/// path that names it in messages, and the SHA-256 of its file's bytes for
+/// path that names it in messages, and the BLAKE3 hash of its file's bytes for
 /// the hashes of the result.
 pub struct GivenDecoder {
     /// The decoder.
     pub decoder: DecoderFile,
     /// Names the decoder in messages (the file it is saved as).
     pub path: PathBuf,
-    /// SHA-256 of the decoder file's bytes, hexadecimal.
-    pub sha256: String,
+    /// BLAKE3 hash of the decoder file's bytes, hexadecimal.
+    pub content_hash: String,
 }
 
 /// [`attribute`] on a decoder already read; `params.inputs.decoder` only
@@ -147,7 +150,9 @@ pub fn attribute_decoder(
     observer: &dyn JobObserver,
 ) -> Result<Attribution, JobError> {
     let options = params.validate()?;
-    run(params, options, given, cache, component_names, observer)
+    let outcome = run(params, options, given, cache, component_names, observer);
+    trim_after_job(cache, observer);
+    outcome
 }
 
 /// The job after the decoder is read.
@@ -163,9 +168,9 @@ fn run(
     let GivenDecoder {
         decoder,
         path: input_path,
-        sha256,
+        content_hash,
     } = given;
-    let mut hashes = vec![("decoder".to_string(), sha256)];
+    let mut hashes = vec![("decoder".to_string(), content_hash)];
     let mut notes = Vec::new();
     // Labels must be unique ignoring case and aliases.
     check_channels(&decoder.channels, &input_path)?;

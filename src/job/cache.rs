@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 
 use super::error::{JobError, JobResult};
 use super::forward::{build_dictionary, compute_leadfield};
-use super::keyed_lock::cache_locks;
+use super::keyed_lock::{cache_locks, entry_lock_key};
 use super::observer::JobObserver;
 use super::params::{ForwardParams, PatchParams};
 use super::specs::OrientationChoice;
@@ -16,6 +16,7 @@ use crate::forward::{LeadField, Orientation};
 use crate::geometry::SourceSpace;
 use crate::head::SphereHead;
 use crate::io::cache::{entry_path, ContentHash};
+use crate::io::cache_entries::read_held_entry;
 use crate::io::dictionary_file::{read_dictionary, write_dictionary};
 use crate::io::leadfield_file::{read_leadfield, write_leadfield};
 use crate::montage::Montage;
@@ -121,7 +122,9 @@ pub fn dictionary_for_channels(
         ));
     }
     let lf_hash = leadfield_hash(&montage, &sources, &head.head_model_json(), orientation);
-    let mut dh = ContentHash::new("dictionary-v1");
+    // v2: atoms and profile stored as 32-bit floats (v1 entries, 64-bit,
+    // are rebuilt, never read under the new key).
+    let mut dh = ContentHash::new("dictionary-v2");
     dh.str(&lf_hash).str(&patches.to_json());
     let d_hash = dh.hex();
     hashes.push(("leadfield".to_string(), lf_hash.clone()));
@@ -129,7 +132,8 @@ pub fn dictionary_for_channels(
     // Parallel batch jobs on the same channels wait here for the first one
     // to build the entry instead of building it again.
     let model = (&montage, &sources, &head);
-    let dict = cache_locks().with_lock(&d_hash, || {
+    let d_key = entry_lock_key(&entry_path(cache, "dictionary", &d_hash));
+    let dict = cache_locks().with_lock(&d_key, || {
         cached_dictionary(
             patches,
             cache,
@@ -161,26 +165,25 @@ pub fn cached_leadfield(
     observer: &dyn JobObserver,
 ) -> Result<LeadField, JobError> {
     let lf_path = entry_path(cache, "leadfield", lf_hash);
-    cache_locks().with_lock(lf_hash, || match read_leadfield(&lf_path) {
-        Ok(lf) if lf_path.is_file() => {
-            observer.note(&format!("using cached lead field {}", lf_path.display()));
-            Ok(lf)
-        }
-        outcome => {
-            if let (Err(e), true) = (outcome, lf_path.is_file()) {
-                observer.note(&format!(
-                    "note: the cached lead field is damaged ({e}); rebuilding it"
-                ));
+    cache_locks().with_lock(&entry_lock_key(&lf_path), || {
+        match read_held_entry(&lf_path, read_leadfield) {
+            Some(Ok(lf)) => {
+                observer.note(&format!("using cached lead field {}", lf_path.display()));
+                return Ok(lf);
             }
-            let lf = compute_leadfield(montage, sources, head, orientation, observer)?;
-            if let Err(e) = write_leadfield(&lf_path, &lf) {
-                observer.note(&format!(
-                    "note: could not cache the lead field in {}: {e}",
-                    cache.display()
-                ));
-            }
-            Ok(lf)
+            Some(Err(e)) => observer.note(&format!(
+                "note: the cached lead field is damaged ({e}); rebuilding it"
+            )),
+            None => {}
         }
+        let lf = compute_leadfield(montage, sources, head, orientation, observer)?;
+        if let Err(e) = write_leadfield(&lf_path, &lf) {
+            observer.note(&format!(
+                "note: could not cache the lead field in {}: {e}",
+                cache.display()
+            ));
+        }
+        Ok(lf)
     })
 }
 
@@ -195,35 +198,46 @@ fn cached_dictionary(
     observer: &dyn JobObserver,
 ) -> Result<PatchDictionary, JobError> {
     let d_path = entry_path(cache, "dictionary", d_hash);
-    if d_path.is_file() {
-        match read_dictionary(&d_path) {
-            Ok(d) => {
-                observer.note(&format!("using cached dictionary {}", d_path.display()));
-                return Ok(d);
-            }
-            Err(e) => observer.note(&format!(
-                "note: the cached dictionary is damaged ({e}); rebuilding it"
-            )),
+    match read_held_entry(&d_path, read_dictionary) {
+        Some(Ok(d)) => {
+            observer.note(&format!("using cached dictionary {}", d_path.display()));
+            return Ok(d);
         }
+        Some(Err(e)) => observer.note(&format!(
+            "note: the cached dictionary is damaged ({e}); rebuilding it"
+        )),
+        None => {}
     }
     let lf = cached_leadfield(cache, lf_hash, model, orientation, observer)?;
     let (d, _info) = build_dictionary(&lf, patches, observer)?;
     let params = patches.to_json();
-    if let Err(e) = write_dictionary(&d_path, &lf, &d, &params) {
+    // The fit always uses the dictionary as read back from its file, so a
+    // first run and a cached run give the same bits.
+    match write_dictionary(&d_path, &lf, &d, &params) {
+        Ok(()) => match read_held_entry(&d_path, read_dictionary) {
+            Some(read_back) => {
+                return read_back.compute(format!("reading back {}", d_path.display()))
+            }
+            // Removed by a `patchwise cache clean` of another process
+            // between the write and the read: go on without the cache.
+            None => observer.note(&format!(
+                "note: the cached dictionary {} was removed while this run wrote it",
+                d_path.display()
+            )),
+        },
         // A read-only or full cache: the dictionary goes through a file of
         // this run's own in the system's temporary folder instead.
-        observer.note(&format!(
+        Err(e) => observer.note(&format!(
             "note: could not cache the dictionary in {}: {e}",
             cache.display()
-        ));
-        let own = crate::io::atomic::temporary_path(
-            &std::env::temp_dir().join(format!("patchwise-dictionary-{d_hash}.h5")),
-        );
-        let read_back = write_dictionary(&own, &lf, &d, &params)
-            .and_then(|()| read_dictionary(&own))
-            .compute("building the dictionary without a cache");
-        let _ = std::fs::remove_file(&own);
-        return read_back;
+        )),
     }
-    read_dictionary(&d_path).compute(format!("reading back {}", d_path.display()))
+    let own = crate::io::atomic::temporary_path(
+        &std::env::temp_dir().join(format!("patchwise-dictionary-{d_hash}.h5")),
+    );
+    let read_back = write_dictionary(&own, &lf, &d, &params)
+        .and_then(|()| read_dictionary(&own))
+        .compute("building the dictionary without a cache");
+    let _ = std::fs::remove_file(&own);
+    read_back
 }

@@ -6,6 +6,7 @@
 
 use std::path::{Path, PathBuf};
 
+use super::cache_folder::trim_after_job;
 use super::compare_inputs::{
     pairs, read_one, subject_names, subject_result, template_space, to_template,
 };
@@ -17,6 +18,7 @@ use crate::cohort::{
 };
 use crate::geometry::{GeodesicSolver, SourceSpace};
 use crate::io::cache::{entry_path, ContentHash};
+use crate::io::cache_entries::read_held_entry;
 use crate::io::compare_file::CompareRecord;
 use crate::io::kernel_file::{read_kernel, write_kernel};
 
@@ -111,11 +113,9 @@ fn cached_kernel(
         .u64s(&tri)
         .f64s(&[sigma_m, params.smoothing_cutoff]);
     let path = entry_path(cache, "kernel", &h.hex());
-    if path.is_file() {
-        if let Ok(k) = read_kernel(&path, sources.len()) {
-            observer.note(&format!("using cached smoothing kernel {}", path.display()));
-            return Ok(k);
-        }
+    if let Some(Ok(k)) = read_held_entry(&path, |p| read_kernel(p, sources.len())) {
+        observer.note(&format!("using cached smoothing kernel {}", path.display()));
+        return Ok(k);
     }
     let kernel = SmoothingKernel::new(solver, sigma_m, params.smoothing_cutoff)
         .input("the smoothing kernel")?;
@@ -213,7 +213,9 @@ pub fn compare(
     }
     let mesh = template.sources.mesh();
     let solver = GeodesicSolver::new(&mesh).input("the template mesh")?;
-    let kernel = cached_kernel(params, &template.sources, &solver, cache, observer)?;
+    let kernel = cached_kernel(params, &template.sources, &solver, cache, observer);
+    trim_after_job(cache, observer);
+    let kernel = kernel?;
     let costs = if params.no_transport {
         None
     } else {

@@ -13,7 +13,7 @@ use super::params::AttributeParams;
 use super::specs::{MontageSpec, SourcesSpec};
 use crate::demo::{simulate, SIMULATION_SKULL};
 use crate::geometry::{norm, sub, TemplateResolution};
-use crate::io::cache::bytes_sha256;
+use crate::io::cache::bytes_hash;
 use crate::io::decoder_file::decoder_from_store;
 use crate::io::{Dataset, Store};
 
@@ -110,7 +110,7 @@ pub fn demo(
     let given = GivenDecoder {
         decoder: decoder_from_store(&store, decoder_path).compute("the demo decoder")?,
         path: PathBuf::from(decoder_path),
-        sha256: bytes_sha256(&decoder_bytes),
+        content_hash: bytes_hash(&decoder_bytes),
     };
     let mut params = AttributeParams::default();
     params.inputs.decoder = Some(PathBuf::from(decoder_path));

@@ -28,14 +28,37 @@ impl KeyedLocks {
         let _guard = entry.lock().unwrap_or_else(|e| e.into_inner());
         f()
     }
+
+    /// Run `f` holding the lock of `key` when no other caller holds it;
+    /// `None` (and `f` not run) when one does. Eviction uses it to leave an
+    /// entry alone while a job of this process builds or reads it.
+    pub fn try_with_lock<T>(&self, key: &str, f: impl FnOnce() -> T) -> Option<T> {
+        let entry = {
+            let mut map = self.map.lock().unwrap_or_else(|e| e.into_inner());
+            map.entry(key.to_string()).or_default().clone()
+        };
+        let _guard = match entry.try_lock() {
+            Ok(g) => g,
+            Err(std::sync::TryLockError::Poisoned(e)) => e.into_inner(),
+            Err(std::sync::TryLockError::WouldBlock) => return None,
+        };
+        Some(f())
+    }
 }
 
-/// The process-wide locks around content-hash cache builds (keyed by the
-/// entry's hash). Across processes the cache relies on atomic writes
-/// instead: two processes may both build an entry, never read half of one.
+/// The process-wide locks around content-hash cache builds and removals
+/// (keyed by the entry's path, [`entry_lock_key`]). Across processes the
+/// cache relies on atomic writes and the entries' file locks instead
+/// (`io::cache_entries`): two processes may both build an entry, never read
+/// half of one, and an entry being read is never removed.
 pub fn cache_locks() -> &'static KeyedLocks {
     static LOCKS: OnceLock<KeyedLocks> = OnceLock::new();
     LOCKS.get_or_init(KeyedLocks::new)
+}
+
+/// The key of the cache entry `path` in [`cache_locks`].
+pub fn entry_lock_key(path: &std::path::Path) -> String {
+    path.to_string_lossy().into_owned()
 }
 
 #[cfg(test)]
@@ -66,5 +89,20 @@ mod tests {
             }
         });
         assert_eq!(max.load(Ordering::SeqCst), 1);
+    }
+
+    /// `try_with_lock` skips a key held elsewhere and takes a free one;
+    /// common practice, no source.
+    #[test]
+    fn try_skips_a_held_key() {
+        let locks = KeyedLocks::new();
+        let inner = locks.with_lock("a", || {
+            (
+                locks.try_with_lock("a", || 1),
+                locks.try_with_lock("b", || 2),
+            )
+        });
+        assert_eq!(inner, (None, Some(2)));
+        assert_eq!(locks.try_with_lock("a", || 3), Some(3));
     }
 }

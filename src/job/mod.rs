@@ -11,6 +11,7 @@
 
 pub mod attribute;
 pub mod cache;
+pub mod cache_folder;
 pub mod check;
 pub mod check_tables;
 pub mod compare;

@@ -27,6 +27,7 @@ fn sample_store() -> Store {
             shape: vec![2, 2],
             data: Array::Str(vec!["a".into(), "b".into(), "c".into(), "d".into()]),
             attrs: Default::default(),
+            stored: Default::default(),
         },
     );
     s.insert(
@@ -331,4 +332,37 @@ with open(path, "r+b") as fh:
     // The raw store keeps HDF5's own shape.
     assert_eq!(s.datasets["/gain"].shape, vec![3, 2]);
     assert!(matches!(s.datasets["/labels"].data, Array::I64(_)));
+}
+
+/// Narrowed datasets (the cached dictionary's 32-bit atoms and 16- or
+/// 32-bit profile indices) read back as the values written: f32 rounding
+/// is exact on values already rounded (IEEE 754-2008, binary32 ⊂ binary64),
+/// and an index that does not fit its width is refused, not wrapped.
+#[test]
+fn narrowed_datasets_read_back_exactly() {
+    let dir = crate::support::scratch("io_hdf5_narrowed");
+    let path = dir.join("narrow.h5");
+    let floats: Vec<f64> = (0..50)
+        .map(|i| (f64::from(i) * 0.37).sin() * 1e-7)
+        .collect();
+    let mut s = Store::new();
+    s.insert("/a", Dataset::f64_as_f32(vec![5, 10], &floats));
+    s.insert(
+        "/small",
+        Dataset::index_array(vec![3], vec![0, 7, 65_535], 65_536),
+    );
+    s.insert(
+        "/large",
+        Dataset::index_array(vec![2], vec![0, 70_000], 70_001),
+    );
+    s.write_atomic(&path).unwrap();
+    let r = Store::read(&path).unwrap();
+    let rounded: Vec<f64> = floats.iter().map(|&v| v as f32 as f64).collect();
+    assert_eq!(r.datasets["/a"].data, Array::F64(rounded));
+    assert_eq!(r.datasets["/small"].data, Array::I64(vec![0, 7, 65_535]));
+    assert_eq!(r.datasets["/large"].data, Array::I64(vec![0, 70_000]));
+    let mut bad = Store::new();
+    bad.insert("/i", Dataset::index_array(vec![1], vec![65_536], 65_536));
+    assert!(bad.write_atomic(&dir.join("bad.h5")).is_err());
+    assert!(!dir.join("bad.h5").exists());
 }

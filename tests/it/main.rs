@@ -14,6 +14,7 @@ mod batch_resume;
 mod batch_script;
 mod batch_shards;
 mod behaviour_kept;
+mod cache_cli;
 mod cli_bring_your_own;
 mod cli_files;
 mod cli_main_job;

@@ -19,34 +19,32 @@ fn decoder(dir: &Path) -> PathBuf {
 }
 
 fn attribute(dir: &Path, out: &str) -> (bool, String) {
-    support::files::attribute_quickly(
-        dir,
-        out,
-        &[
-            "--montage",
-            "10-20",
-            "--sources",
-            "template-5k",
-            "--radii-mm",
-            "10",
-            "--spacing-mm",
-            "20",
-            "--cache",
-            "cache",
-        ],
-    )
+    let mut extra = support::files::SMALL_ON_TEMPLATE_5K.to_vec();
+    extra.extend(["--cache", "cache"]);
+    support::files::attribute_quickly(dir, out, &extra)
 }
 
-/// Flip the lowest bit of one atom value inside the file's bytes: the value
-/// stays finite and plausible, so only a checksum can tell.
+/// Flip the lowest bit of one atom value inside the file's bytes (atoms
+/// are stored as 32-bit floats): the value stays finite and plausible, so
+/// only a checksum can tell.
 fn flip_an_atom(path: &Path) {
     let d = read_dictionary(path).unwrap();
     let mut bytes = std::fs::read(path).unwrap();
-    let value = d.atoms[d.atoms.len() / 2].to_le_bytes();
-    let hits: Vec<usize> = (0..=bytes.len() - 8)
-        .filter(|&i| bytes[i..i + 8] == value)
+    // The atoms are stored contiguously (row-major, little-endian f32):
+    // find the block by its first 8 values, then flip the middle atom.
+    let head: Vec<u8> = d.atoms[..8]
+        .iter()
+        .flat_map(|&v| (v as f32).to_le_bytes())
         .collect();
-    assert_eq!(hits.len(), 1, "the atom value must be unique in the file");
+    let starts: Vec<usize> = (0..=bytes.len() - head.len())
+        .filter(|&i| bytes[i..i + head.len()] == head[..])
+        .collect();
+    assert_eq!(
+        starts.len(),
+        1,
+        "the atoms' first values occur once in the file"
+    );
+    let hits = [starts[0] + 4 * (d.atoms.len() / 2)];
     bytes[hits[0]] ^= 1;
     std::fs::write(path, bytes).unwrap();
 }
@@ -120,4 +118,71 @@ fn nan_spacing_is_refused_before_the_cache_is_looked_up() {
         );
         assert!(!dir.join("out").exists());
     }
+}
+
+/// The content hashes of the cache keys and inputs are BLAKE3: the empty
+/// input and "abc" give the digests of the BLAKE3 reference implementation's
+/// test vectors (O'Connor, Aumasson, Neves and Wilcox-O'Hearn 2020, the
+/// BLAKE3 specification; values from memory of its published vectors).
+#[test]
+fn content_hash_is_blake3() {
+    use patchwise::io::cache::bytes_hash;
+    assert_eq!(
+        bytes_hash(b""),
+        "af1349b9f5f9a1a6a0404dea36dcc9499bcb25c9adc112b7cc9a93cae41f3262"
+    );
+    assert_eq!(
+        bytes_hash(b"abc"),
+        "6437b3ac38465133ffb63b75273a8db548c558465d79db03fd359c6cd5bd9d85"
+    );
+}
+
+/// One flipped bit of one source position gives a new lead field key (so
+/// a new dictionary key): the cache never serves an entry of other sources.
+#[test]
+fn one_flipped_bit_of_the_sources_changes_the_cache_key() {
+    use patchwise::forward::Orientation;
+    use patchwise::geometry::{template, SourceSpace, TemplateResolution};
+    use patchwise::job::cache::leadfield_hash;
+    let sources = SourceSpace::from_template(&template(TemplateResolution::Low));
+    let montage = patchwise::montage::standard("10-20", 0.09).unwrap();
+    let key = |s: &SourceSpace| leadfield_hash(&montage, s, "{}", Orientation::Normal);
+    let mut flipped = sources.clone();
+    let v = flipped.positions[1234][1];
+    flipped.positions[1234][1] = f64::from_bits(v.to_bits() ^ 1);
+    assert_ne!(key(&sources), key(&flipped));
+    assert_eq!(key(&sources), key(&sources.clone()));
+}
+
+/// A decoder file with one byte flipped hashes differently, also when the
+/// first hash was remembered by the process and the file's modification
+/// time is set back to the old value (its status-change time still moves).
+#[test]
+fn one_flipped_byte_of_a_decoder_changes_its_hash_even_when_remembered() {
+    use patchwise::io::cache::{bytes_hash, file_hash};
+    use std::time::{Duration, SystemTime};
+    let dir = scratch("flipped_decoder");
+    let path = decoder(&dir);
+    let old = SystemTime::now() - Duration::from_secs(3600);
+    let set_mtime = |t| {
+        std::fs::File::options()
+            .write(true)
+            .open(&path)
+            .unwrap()
+            .set_modified(t)
+            .unwrap()
+    };
+    set_mtime(old);
+    let first = file_hash(&path).unwrap();
+    assert_eq!(first, bytes_hash(&std::fs::read(&path).unwrap()));
+    // Remembered: the same answer without a change.
+    assert_eq!(file_hash(&path).unwrap(), first);
+    let mut bytes = std::fs::read(&path).unwrap();
+    let middle = bytes.len() / 2;
+    bytes[middle] ^= 0x10;
+    std::fs::write(&path, &bytes).unwrap();
+    set_mtime(old);
+    let second = file_hash(&path).unwrap();
+    assert_ne!(first, second);
+    assert_eq!(second, bytes_hash(&bytes));
 }

@@ -62,6 +62,8 @@ enum Command {
     Batch(commands::batch::Args),
     /// Compare attributions across subjects on one template cortex.
     Compare(Box<commands::compare::Args>),
+    /// The cache of lead fields, dictionaries and smoothing kernels: list its entries, clean it.
+    Cache(commands::cache::Args),
 }
 
 fn main() {
@@ -78,6 +80,7 @@ fn main() {
         Command::Report(args) => commands::report::exec(args),
 
         Command::Batch(args) => commands::batch::exec(args),
+        Command::Cache(args) => commands::cache::exec(args),
         Command::Compare(args) => commands::compare::exec(*args),
     };
     if let Err(err) = outcome {

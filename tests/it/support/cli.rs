@@ -7,10 +7,20 @@ use std::process::{Command, Output};
 /// folder is `cwd/cache` (a `--cache` argument still moves it), so no test
 /// writes into the user's cache.
 pub fn patchwise(args: &[&str], cwd: &Path) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_patchwise"))
+    patchwise_with_env(args, cwd, &[])
+}
+
+/// [`patchwise`] with the environment variables `env` set as well.
+pub fn patchwise_with_env(args: &[&str], cwd: &Path, env: &[(&str, &str)]) -> Output {
+    let mut command = Command::new(env!("CARGO_BIN_EXE_patchwise"));
+    command
         .args(args)
         .current_dir(cwd)
-        .env("PATCHWISE_CACHE", cwd.join("cache"))
+        .env("PATCHWISE_CACHE", cwd.join("cache"));
+    for (name, value) in env {
+        command.env(name, value);
+    }
+    command
         .output()
         .unwrap_or_else(|e| panic!("running patchwise: {e}"))
 }

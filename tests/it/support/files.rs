@@ -61,6 +61,29 @@ pub fn attribute_quickly(dir: &Path, out: &str, extra: &[&str]) -> (bool, String
 
 /// [`attribute_quickly`], the whole output (exit code, stdout, stderr).
 pub fn attribute_quickly_output(dir: &Path, out: &str, extra: &[&str]) -> std::process::Output {
+    attribute_quickly_with_env(dir, out, extra, &[])
+}
+
+/// The options of a small attribution on template-5k (10-20 channels, 10 mm
+/// patches every 20 mm), quick enough for tests of the cache.
+pub const SMALL_ON_TEMPLATE_5K: [&str; 8] = [
+    "--montage",
+    "10-20",
+    "--sources",
+    "template-5k",
+    "--radii-mm",
+    "10",
+    "--spacing-mm",
+    "20",
+];
+
+/// [`attribute_quickly_output`] with the environment variables `env` set.
+pub fn attribute_quickly_with_env(
+    dir: &Path,
+    out: &str,
+    extra: &[&str],
+    env: &[(&str, &str)],
+) -> std::process::Output {
     let mut args = vec![
         "attribute",
         "--decoder",
@@ -72,5 +95,5 @@ pub fn attribute_quickly_output(dir: &Path, out: &str, extra: &[&str]) -> std::p
         out,
     ];
     args.extend_from_slice(extra);
-    super::cli::patchwise(&args, dir)
+    super::cli::patchwise_with_env(&args, dir, env)
 }

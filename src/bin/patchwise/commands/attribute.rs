@@ -3,7 +3,7 @@
 
 use std::path::{Path, PathBuf};
 
-use patchwise::io::cache::default_cache_dir;
+use patchwise::job::cache_folder::CacheOptions;
 use patchwise::job::{attribute, AttributeParams};
 
 use crate::outputs::write_outputs;
@@ -15,9 +15,8 @@ use crate::CliError;
 pub struct Args {
     #[command(flatten)]
     pub params: AttributeParams,
-    /// Cache folder for lead fields and dictionaries (default: $PATCHWISE_CACHE, else the user cache folder).
-    #[arg(long)]
-    pub cache: Option<PathBuf>,
+    #[command(flatten)]
+    pub cache: CacheOptions,
     /// Output folder.
     #[arg(long)]
     pub out: PathBuf,
@@ -29,8 +28,8 @@ pub struct Args {
 /// The input files and folders of an `attribute` run, as (what, path).
 pub fn input_paths(args: &Args) -> Vec<(&'static str, PathBuf)> {
     let mut inputs = args.params.input_paths();
-    if let Some(c) = &args.cache {
-        inputs.push(("cache folder", c.clone()));
+    if let Some(c) = args.cache.given_folder() {
+        inputs.push(("cache folder", c.to_path_buf()));
     }
     inputs
 }
@@ -43,8 +42,8 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let inputs = input_paths(&args);
     let inputs: Vec<(&str, &Path)> = inputs.iter().map(|(w, p)| (*w, p.as_path())).collect();
     patchwise::io::staging::refuse_replaced_inputs(&args.out, "--out", None, &inputs)?;
-    let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
-    let result = attribute(&args.params, &cache, None, &Console::default())?;
+    let cache = args.cache.open()?;
+    let result = attribute(&args.params, cache.path(), None, &Console::default())?;
     let dir = write_outputs(&args.out, &result)?;
     if !args.no_report {
         super::report::report_after_outputs(&dir, args.params.describe())?;

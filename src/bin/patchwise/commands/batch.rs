@@ -82,16 +82,16 @@ pub fn exec(args: Args) -> Result<(), CliError> {
                 "every job is done; comparing them ([compare], line {})",
                 spec.line
             );
-            cohort::run_compare(spec, &params.out, &script.jobs, params.cache.as_deref()).map_err(
-                |e| CliError {
+            cohort::run_compare(spec, &params.out, &script.jobs, &params.cache).map_err(|e| {
+                CliError {
                     code: e.code,
                     error: e.error.context(format!(
                         "{}:{}: the [compare] table",
                         script.path.display(),
                         spec.line
                     )),
-                },
-            )?;
+                }
+            })?;
         }
     }
     Ok(())

@@ -5,8 +5,8 @@
 use std::path::{Path, PathBuf};
 
 use patchwise::cohort::{Comparison as GroupStats, PairedComparison};
-use patchwise::io::cache::default_cache_dir;
 use patchwise::io::result_file::CAUTION;
+use patchwise::job::cache_folder::CacheOptions;
 use patchwise::job::compare_outputs::write_comparison_files;
 use patchwise::job::outputs::fmt;
 use patchwise::job::{compare, CompareParams};
@@ -29,10 +29,8 @@ pub struct Args {
     /// Do not write report.html into the output folder.
     #[arg(long)]
     pub no_report: bool,
-    /// Cache folder for the smoothing kernel (default: $PATCHWISE_CACHE, else
-    /// the user cache folder; the same folder as `attribute`'s).
-    #[arg(long)]
-    pub cache: Option<PathBuf>,
+    #[command(flatten)]
+    pub cache: CacheOptions,
 }
 
 fn print_table(c: &GroupStats, alpha: f64) {
@@ -135,7 +133,7 @@ pub fn run(
     results: &[PathBuf],
     params: &CompareParams,
     out: &Path,
-    cache: Option<&Path>,
+    cache: &CacheOptions,
     no_report: bool,
 ) -> Result<(), CliError> {
     let checked = params.validate(results)?;
@@ -147,11 +145,11 @@ pub fn run(
         .iter()
         .map(|r| ("result folder", r.as_path()))
         .collect();
-    inputs.extend(cache.map(|c| ("cache folder", c)));
+    inputs.extend(cache.given_folder().map(|c| ("cache folder", c)));
     inputs.extend(checked.map_files());
     patchwise::io::staging::refuse_replaced_inputs(out, "--out", None, &inputs)?;
-    let cache = cache.map_or_else(default_cache_dir, Path::to_path_buf);
-    let comparison = compare(results, params, &cache, &Console::default())?;
+    let cache = cache.open()?;
+    let comparison = compare(results, params, cache.path(), &Console::default())?;
     let stage = Staging::new(out)?;
     let written = write_comparison_files(stage.dir(), &comparison)?;
     let dir = stage.commit()?;
@@ -179,7 +177,7 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         &args.results,
         &args.params,
         &args.out,
-        args.cache.as_deref(),
+        &args.cache,
         args.no_report,
     )
 }

@@ -4,7 +4,7 @@
 use std::path::PathBuf;
 
 use patchwise::geometry::TemplateResolution;
-use patchwise::io::cache::default_cache_dir;
+use patchwise::job::cache_folder::CacheOptions;
 use patchwise::job::demo::{demo, scenario_lines, VERDICT_LEGEND};
 
 use crate::outputs::write_outputs_with;
@@ -24,9 +24,8 @@ pub struct Args {
     /// a quick first look; give --resamples 100 for attribute's intervals.
     #[arg(long, default_value_t = 30)]
     pub resamples: usize,
-    /// Cache folder for lead fields and dictionaries.
-    #[arg(long)]
-    pub cache: Option<PathBuf>,
+    #[command(flatten)]
+    pub cache: CacheOptions,
     /// Do not write report.html into the output folder.
     #[arg(long)]
     pub no_report: bool,
@@ -41,25 +40,25 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         ))
     })?;
     patchwise::io::staging::check_output_folder(&args.out, "--out")?;
-    if let Some(cache) = &args.cache {
+    if let Some(cache) = args.cache.given_folder() {
         patchwise::io::staging::refuse_replaced_inputs(
             &args.out,
             "--out",
             None,
-            &[("cache folder", cache.as_path())],
+            &[("cache folder", cache)],
         )?;
     }
+    let cache = args.cache.open()?;
     for line in scenario_lines(res) {
         outln!("{line}");
     }
     // The decoder is handed to the job in memory and saved beside the
     // results, under the name the job and the report give it.
-    let cache = args.cache.clone().unwrap_or_else(default_cache_dir);
     let run = demo(
         res,
         args.resamples,
         &args.out.join("decoder.h5"),
-        &cache,
+        cache.path(),
         &Console::default(),
     )?;
     let a = &run.attribution;

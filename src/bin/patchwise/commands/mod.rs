@@ -2,6 +2,7 @@
 
 pub mod attribute;
 pub mod batch;
+pub mod cache;
 pub mod check;
 pub mod compare;
 pub mod demo;

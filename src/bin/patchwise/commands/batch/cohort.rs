@@ -4,6 +4,7 @@
 use std::path::{Path, PathBuf};
 
 use patchwise::batch::{CompareSpec, Job};
+use patchwise::job::cache_folder::CacheOptions;
 use patchwise::job::CompareParams;
 
 use crate::commands::compare;
@@ -15,7 +16,7 @@ pub fn run_compare(
     spec: &CompareSpec,
     out: &Path,
     jobs: &[Job],
-    cache: Option<&Path>,
+    cache: &CacheOptions,
 ) -> Result<(), CliError> {
     let results: Vec<PathBuf> = jobs.iter().map(|j| out.join(&j.name)).collect();
     let params = CompareParams {
