@@ -35,6 +35,8 @@ mod geometry_mesh;
 mod geometry_sampling;
 mod geometry_validate;
 mod harness_honesty;
+mod head_bem_accuracy;
+mod head_bem_surfaces;
 mod head_series;
 mod head_spheres;
 mod io_gifti;
