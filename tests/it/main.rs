@@ -36,6 +36,7 @@ mod geometry_sampling;
 mod geometry_validate;
 mod harness_honesty;
 mod head_bem_accuracy;
+mod head_bem_cli;
 mod head_bem_surfaces;
 mod head_series;
 mod head_spheres;

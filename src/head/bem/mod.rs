@@ -20,5 +20,7 @@ mod transfer;
 pub use error::BemError;
 pub use integrals::{linear_double_layer, nearest_on_mesh, solid_angle, winding_number};
 pub use mesh_checks::{BemGeometry, GeometryNotes, MAX_SURFACES};
-pub use system::BemSystem;
-pub use transfer::{project_to_scalp, BemTransfer, ScalpPoint, MAX_ELECTRODE_DISTANCE_M};
+pub use system::{BemSystem, BemSystemParts};
+pub use transfer::{
+    check_sources_inside, project_to_scalp, BemTransfer, ScalpPoint, MAX_ELECTRODE_DISTANCE_M,
+};

@@ -400,3 +400,97 @@ pub(crate) fn primary_xyz(r: Vec3, source: Vec3) -> Vec3 {
     let f = 1.0 / (FOUR_PI * len * len * len);
     [d[0] * f, d[1] * f, d[2] * f]
 }
+
+/// The factorised system as plain arrays, for the cache (`io::bem_file`):
+/// the LU factors (column-major, of the transposed matrices) with their row
+/// permutations, and Ω of the inner surface.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BemSystemParts {
+    /// LU of the isolated inner problem, n₁ × n₁.
+    pub inner_lu: Vec<f64>,
+    /// Its row permutation (forward).
+    pub inner_perm: Vec<usize>,
+    /// LU of the full system, N × N (empty for one surface).
+    pub full_lu: Vec<f64>,
+    /// Its row permutation (forward; empty for one surface).
+    pub full_perm: Vec<usize>,
+    /// Ω of the inner surface at every vertex, N × n₁ row-major (empty for
+    /// one surface).
+    pub omega_inner: Vec<f64>,
+}
+
+/// The inverse of a permutation, or `None` when `perm` is not one of 0..n.
+fn inverse_permutation(perm: &[usize]) -> Option<Vec<usize>> {
+    let mut inv = vec![usize::MAX; perm.len()];
+    for (i, &p) in perm.iter().enumerate() {
+        if p >= perm.len() || inv[p] != usize::MAX {
+            return None;
+        }
+        inv[p] = i;
+    }
+    Some(inv)
+}
+
+impl BemSystem {
+    /// The arrays of the factorised system (see [`BemSystemParts`]).
+    pub fn to_parts(&self) -> BemSystemParts {
+        BemSystemParts {
+            inner_lu: self.inner.lu.clone(),
+            inner_perm: self.inner.perm.clone(),
+            full_lu: self.full.as_ref().map_or_else(Vec::new, |f| f.lu.clone()),
+            full_perm: self.full.as_ref().map_or_else(Vec::new, |f| f.perm.clone()),
+            omega_inner: self.omega_inner.clone(),
+        }
+    }
+
+    /// The system of `geometry` from arrays made by [`BemSystem::to_parts`]
+    /// for the same geometry; `None` when their sizes or permutations do not
+    /// fit it (a cache entry of another head, or damaged).
+    pub fn from_parts(geometry: BemGeometry, parts: BemSystemParts) -> Option<Self> {
+        let surfaces = geometry.surfaces();
+        let mut offsets = vec![0];
+        for s in surfaces {
+            offsets.push(offsets[offsets.len() - 1] + s.n_vertices());
+        }
+        let n_total = offsets[surfaces.len()];
+        let n_inner = surfaces[0].n_vertices();
+        let several = surfaces.len() > 1;
+        let sizes_fit = parts.inner_lu.len() == n_inner * n_inner
+            && parts.inner_perm.len() == n_inner
+            && parts.full_lu.len() == if several { n_total * n_total } else { 0 }
+            && parts.full_perm.len() == if several { n_total } else { 0 }
+            && parts.omega_inner.len() == if several { n_total * n_inner } else { 0 };
+        if !sizes_fit
+            || !parts
+                .inner_lu
+                .iter()
+                .chain(&parts.full_lu)
+                .all(|v| v.is_finite())
+        {
+            return None;
+        }
+        let inner = Factorised {
+            n: n_inner,
+            perm_inv: inverse_permutation(&parts.inner_perm)?,
+            perm: parts.inner_perm,
+            lu: parts.inner_lu,
+        };
+        let full = if several {
+            Some(Factorised {
+                n: n_total,
+                perm_inv: inverse_permutation(&parts.full_perm)?,
+                perm: parts.full_perm,
+                lu: parts.full_lu,
+            })
+        } else {
+            None
+        };
+        Some(Self {
+            geometry,
+            offsets,
+            inner,
+            full,
+            omega_inner: parts.omega_inner,
+        })
+    }
+}

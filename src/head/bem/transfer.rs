@@ -129,35 +129,10 @@ impl BemTransfer {
         &self.inner
     }
 
-    /// Checks that every source lies inside the innermost surface (winding
-    /// number above one half); names the first that does not.
+    /// Checks that every source lies inside the innermost surface; see
+    /// [`check_sources_inside`].
     pub fn check_sources(&self, sources: &[Vec3]) -> Result<(), BemError> {
-        if let Some(index) = sources
-            .iter()
-            .position(|s| !s.iter().all(|c| c.is_finite()))
-        {
-            return Err(BemError::NotFinite {
-                what: "source",
-                index,
-            });
-        }
-        let inside: Vec<bool> = sources
-            .par_iter()
-            .map(|&s| winding_number(&self.inner, s) > 0.5)
-            .collect();
-        match inside.iter().position(|ok| !ok) {
-            None => Ok(()),
-            Some(index) => {
-                let p = sources[index];
-                Err(BemError::SourceOutside {
-                    index,
-                    surface: self.inner_name.clone(),
-                    x_mm: p[0] * 1e3,
-                    y_mm: p[1] * 1e3,
-                    z_mm: p[2] * 1e3,
-                })
-            }
-        }
+        check_sources_inside(&self.inner, &self.inner_name, sources)
     }
 
     /// The potentials (V per A·m) at every electrode of unit dipoles along
@@ -179,6 +154,38 @@ impl BemTransfer {
                 acc[2] += t * gi[2];
             }
             *out = acc;
+        }
+    }
+}
+
+/// Checks that every source (m) lies inside closed surface `inner` (named
+/// `name` in the message): finite, with a winding number above one half.
+/// Names the first that does not.
+pub fn check_sources_inside(inner: &Mesh, name: &str, sources: &[Vec3]) -> Result<(), BemError> {
+    if let Some(index) = sources
+        .iter()
+        .position(|s| !s.iter().all(|c| c.is_finite()))
+    {
+        return Err(BemError::NotFinite {
+            what: "source",
+            index,
+        });
+    }
+    let inside: Vec<bool> = sources
+        .par_iter()
+        .map(|&s| winding_number(inner, s) > 0.5)
+        .collect();
+    match inside.iter().position(|ok| !ok) {
+        None => Ok(()),
+        Some(index) => {
+            let p = sources[index];
+            Err(BemError::SourceOutside {
+                index,
+                surface: name.to_string(),
+                x_mm: p[0] * 1e3,
+                y_mm: p[1] * 1e3,
+                z_mm: p[2] * 1e3,
+            })
         }
     }
 }
