@@ -146,9 +146,25 @@ pub fn bem_system(
         .unwrap_or_else(|| geometry_hash(&head.geometry));
     let build = || {
         let n = head.geometry.n_vertices();
+        // Measured 22-25 s for 7 686 vertices on 2 shared cores
+        // (docs/benchmarks.md); the factorisation grows like N³.
+        let largest = head
+            .geometry
+            .surfaces()
+            .iter()
+            .map(Mesh::n_vertices)
+            .max()
+            .unwrap_or(0);
+        let advice = if largest > 5000 {
+            format!(
+                "; a surface has {largest} vertices: decimating each to about 2 500 keeps the accuracy of docs/head_model.md and is far faster"
+            )
+        } else {
+            String::new()
+        };
         observer.note(&format!(
-            "building the boundary-element system ({n} vertices; about {:.0} s on 2 cores for 7 700)",
-            (n as f64 / 7700.0).powi(3) * 40.0
+            "building the boundary-element system once for these surfaces ({n} vertices in all; expect about {:.0} s on 2 cores{advice})",
+            ((n as f64 / 7686.0).powi(3) * 25.0).max(1.0)
         ));
         staged(observer, "boundary-element system", n, |progress| {
             BemSystem::build(head.geometry.clone(), progress)

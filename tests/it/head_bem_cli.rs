@@ -132,6 +132,35 @@ fn a_bem_head_file_gives_the_sphere_lead_field_of_its_shells() {
         err.contains("using cached boundary-element system"),
         "{err}"
     );
+    // attribute takes the same head file unchanged (five channels of
+    // 10-20, one pattern), from the same cached system.
+    std::fs::write(dir.join("five.csv"), "0.5\n-0.2\n0.9\n0.1\n-0.4\n").unwrap();
+    std::fs::write(dir.join("five.txt"), "C3\nCz\nC4\nPz\nFz\n").unwrap();
+    let o = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "five.csv",
+            "--channels",
+            "five.txt",
+            "--montage",
+            "10-20",
+            "--sources",
+            "template-5k",
+            "--head",
+            "head/bem.toml",
+            "--out",
+            "attributed",
+        ],
+        &dir,
+    );
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(o.status.success(), "{err}");
+    assert!(
+        err.contains("using cached boundary-element system"),
+        "{err}"
+    );
+    assert!(dir.join("attributed/regions.csv").is_file());
 }
 
 #[test]

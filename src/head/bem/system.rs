@@ -148,12 +148,7 @@ impl BemSystem {
         progress: &dyn crate::numeric::Progress,
     ) -> Result<Self, BemError> {
         let surfaces = geometry.surfaces();
-        let mut offsets = vec![0];
-        for s in surfaces {
-            offsets.push(offsets[offsets.len() - 1] + s.n_vertices());
-        }
-        let n_total = offsets[surfaces.len()];
-        let n_inner = surfaces[0].n_vertices();
+        let (offsets, n_total, n_inner) = vertex_offsets(&geometry);
         let needed = 8 * (n_total * n_total + n_total * n_inner + n_inner * n_inner) as u64;
         let budget = crate::limits::MEMORY_BUDGET_BYTES;
         if needed > budget {
@@ -419,6 +414,18 @@ pub struct BemSystemParts {
     pub omega_inner: Vec<f64>,
 }
 
+/// The first global vertex index of each surface (and the total at the
+/// end), the total, and the inner surface's vertex count.
+fn vertex_offsets(geometry: &BemGeometry) -> (Vec<usize>, usize, usize) {
+    let surfaces = geometry.surfaces();
+    let mut offsets = vec![0];
+    for s in surfaces {
+        offsets.push(offsets[offsets.len() - 1] + s.n_vertices());
+    }
+    let n_total = offsets[surfaces.len()];
+    (offsets, n_total, surfaces[0].n_vertices())
+}
+
 /// The inverse of a permutation, or `None` when `perm` is not one of 0..n.
 fn inverse_permutation(perm: &[usize]) -> Option<Vec<usize>> {
     let mut inv = vec![usize::MAX; perm.len()];
@@ -448,12 +455,7 @@ impl BemSystem {
     /// fit it (a cache entry of another head, or damaged).
     pub fn from_parts(geometry: BemGeometry, parts: BemSystemParts) -> Option<Self> {
         let surfaces = geometry.surfaces();
-        let mut offsets = vec![0];
-        for s in surfaces {
-            offsets.push(offsets[offsets.len() - 1] + s.n_vertices());
-        }
-        let n_total = offsets[surfaces.len()];
-        let n_inner = surfaces[0].n_vertices();
+        let (offsets, n_total, n_inner) = vertex_offsets(&geometry);
         let several = surfaces.len() > 1;
         let sizes_fit = parts.inner_lu.len() == n_inner * n_inner
             && parts.inner_perm.len() == n_inner

@@ -8,6 +8,7 @@ use super::integrals::{nearest_on_mesh, winding_number};
 use super::system::primary_xyz;
 use super::{BemError, BemSystem};
 use crate::geometry::{Mesh, Vec3};
+use crate::solver::kernels::dot;
 
 /// Electrodes farther than this from the scalp surface are refused (m).
 pub const MAX_ELECTRODE_DISTANCE_M: f64 = 0.030;
@@ -140,20 +141,18 @@ impl BemTransfer {
     /// (one entry per electrode). Sums in a fixed order.
     pub fn gain_xyz(&self, source: Vec3, column: &mut [Vec3]) {
         let n_inner = self.inner.n_vertices();
-        let g: Vec<Vec3> = self
-            .inner
-            .vertices
-            .iter()
-            .map(|&r| primary_xyz(r, source))
-            .collect();
+        // x, y and z apart, so the products below run in vector lanes.
+        let mut g = vec![0.0; 3 * n_inner];
+        let (gx, rest) = g.split_at_mut(n_inner);
+        let (gy, gz) = rest.split_at_mut(n_inner);
+        for (i, &r) in self.inner.vertices.iter().enumerate() {
+            let p = primary_xyz(r, source);
+            gx[i] = p[0];
+            gy[i] = p[1];
+            gz[i] = p[2];
+        }
         for (row, out) in self.matrix.chunks(n_inner).zip(column.iter_mut()) {
-            let mut acc = [0.0; 3];
-            for (t, gi) in row.iter().zip(&g) {
-                acc[0] += t * gi[0];
-                acc[1] += t * gi[1];
-                acc[2] += t * gi[2];
-            }
-            *out = acc;
+            *out = [dot(row, gx), dot(row, gy), dot(row, gz)];
         }
     }
 }
@@ -171,9 +170,28 @@ pub fn check_sources_inside(inner: &Mesh, name: &str, sources: &[Vec3]) -> Resul
             index,
         });
     }
+    // Sources within the largest ball about the vertices' mean that the
+    // surface leaves free are inside without the full winding number (most
+    // sources of a cortex, common practice, no source).
+    let n = inner.n_vertices().max(1) as f64;
+    let mut centre = [0.0; 3];
+    for v in &inner.vertices {
+        for a in 0..3 {
+            centre[a] += v[a] / n;
+        }
+    }
+    let free_radius = if winding_number(inner, centre) > 0.5 {
+        nearest_on_mesh(inner, centre).2
+    } else {
+        0.0
+    };
     let inside: Vec<bool> = sources
         .par_iter()
-        .map(|&s| winding_number(inner, s) > 0.5)
+        .map(|&s| {
+            let d = [s[0] - centre[0], s[1] - centre[1], s[2] - centre[2]];
+            (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt() < free_radius
+                || winding_number(inner, s) > 0.5
+        })
         .collect();
     match inside.iter().position(|ok| !ok) {
         None => Ok(()),
