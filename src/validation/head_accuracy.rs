@@ -1,7 +1,7 @@
 //! The boundary-element head checked against the exact sphere series:
 //! concentric icosphere meshes, dipoles at growing eccentricity, the
 //! relative difference measure and the magnitude ratio of Meijs et al.
-//! (1989, IEEE Trans Biomed Eng 36:1038, eqs. 16 and 17).
+//! (1989, IEEE Trans Biomed Eng 36:1038; definitions recalled from memory).
 
 use crate::geometry::{normalize, scale, Mesh, Vec3};
 use crate::head::bem::{project_to_scalp, BemError, BemGeometry, BemSystem, BemTransfer};
@@ -9,7 +9,7 @@ use crate::head::{HeadError, SphereHead};
 use crate::numeric::average_reference_columns;
 
 /// RDM = ‖u/‖u‖ − v/‖v‖‖ and MAG = ‖u‖/‖v‖ of `test` u against `reference`
-/// v, both average-referenced first (Meijs et al. 1989, eqs. 16, 17).
+/// v, both average-referenced first (Meijs et al. 1989; from memory).
 pub fn rdm_mag(test: &[f64], reference: &[f64]) -> (f64, f64) {
     let mut u = test.to_vec();
     let mut v = reference.to_vec();

@@ -5,7 +5,8 @@
 //! # The solid angle
 //! The solid angle Ω that triangle (x₁, x₂, x₃) subtends at r, with
 //! yᵢ = xᵢ − r, is (van Oosterom & Strackee 1983, IEEE Trans Biomed Eng
-//! 30:125, eq. 8)
+//! 30:125; the formula as we recall it, checked here by the tests: the
+//! solid angles of a closed surface sum to 4π inside and 0 outside)
 //!
 //! tan(Ω/2) = y₁·(y₂×y₃) / (|y₁||y₂||y₃| + (y₁·y₂)|y₃| + (y₁·y₃)|y₂| + (y₂·y₃)|y₁|),
 //!
@@ -34,7 +35,7 @@
 use crate::geometry::{cross, dot, norm, scale, sub, Mesh, Vec3};
 
 /// The solid angle triangle `tri` subtends at `r` (van Oosterom &
-/// Strackee 1983, eq. 8); see the module docs for the sign.
+/// Strackee 1983); see the module docs for the sign.
 pub fn solid_angle(r: Vec3, tri: &[Vec3; 3]) -> f64 {
     let y1 = sub(tri[0], r);
     let y2 = sub(tri[1], r);

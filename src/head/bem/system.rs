@@ -6,7 +6,8 @@
 //! Surface k separates σₖ⁻ (inside) from σₖ⁺ (outside, 0 beyond the scalp).
 //! At a vertex rᵢ of surface l the potential satisfies (Geselowitz's integral
 //! equation, in the form of Hämäläinen & Sarvas 1989, IEEE Trans Biomed Eng
-//! 36:165, eq. 5)
+//! 36:165; the form recalled from memory, its constant null space
+//! checked below)
 //!
 //! cₗ V(rᵢ) − Σₖ αₖ/(4π) ∫_{Sₖ} V dΩᵢ = g(rᵢ),  cₗ = (σₗ⁻+σₗ⁺)/2, αₖ = σₖ⁻ − σₖ⁺,
 //!
@@ -30,8 +31,8 @@
 //! outside (g(rᵢ) = −σ₁/(4π) (Ω u)ᵢ at outer vertices), the full system keeps
 //! its matrix and gets the right-hand side
 //! b = −σ₂/(4π) [(2π I + Ω₁₁) u ; Ωₗ₁ u], proportional to the conductivity
-//! outside the inner surface, as in their eq. 14 (our own derivation, with
-//! their idea). Only the inner surface's g enters.
+//! outside the inner surface (our own derivation of their idea; their
+//! equations recalled from memory, not copied). Only the inner surface's g enters.
 
 use faer::dyn_stack::{MemBuffer, MemStack};
 use faer::linalg::lu::partial_pivoting::{factor, solve};
