@@ -15,10 +15,11 @@ use super::error::IoError;
 use super::store::{Attr, Dataset, Store};
 use crate::head::bem::BemSystemParts;
 
-/// Write the factorised system atomically.
+/// Write the factorised system atomically (taking the arrays, so the
+/// largest of them is not copied once more on its way to the file).
 pub fn write_bem_system(
     path: &Path,
-    parts: &BemSystemParts,
+    parts: BemSystemParts,
     vertices: &[usize],
 ) -> Result<(), IoError> {
     let n_inner = parts.inner_perm.len();
@@ -27,7 +28,7 @@ pub fn write_bem_system(
     let mut store = Store::new();
     store.insert(
         "/bem/inner_lu",
-        Dataset::f64(vec![n_inner, n_inner], parts.inner_lu.clone()),
+        Dataset::f64(vec![n_inner, n_inner], parts.inner_lu),
     );
     store.insert(
         "/bem/inner_perm",
@@ -37,7 +38,7 @@ pub fn write_bem_system(
     if n_total > 0 {
         store.insert(
             "/bem/full_lu",
-            Dataset::f64(vec![n_total, n_total], parts.full_lu.clone()),
+            Dataset::f64(vec![n_total, n_total], parts.full_lu),
         );
         store.insert(
             "/bem/full_perm",
@@ -45,7 +46,7 @@ pub fn write_bem_system(
         );
         store.insert(
             "/bem/omega_inner",
-            Dataset::f64(vec![n_total, n_inner], parts.omega_inner.clone()),
+            Dataset::f64(vec![n_total, n_inner], parts.omega_inner),
         );
     }
     let counts: Vec<String> = vertices.iter().map(|v| v.to_string()).collect();

@@ -206,7 +206,7 @@ pub fn bem_system(
         let written = std::fs::create_dir_all(cache)
             .map_err(|e| e.to_string())
             .and_then(|()| {
-                write_bem_system(&path, &system.to_parts(), &vertices).map_err(|e| e.to_string())
+                write_bem_system(&path, system.to_parts(), &vertices).map_err(|e| e.to_string())
             });
         if let Err(e) = written {
             observer.note(&format!(
