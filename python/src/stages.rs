@@ -54,7 +54,16 @@ pub fn leadfield(
     };
     run_job(py, progress, move |observer| {
         let (montage, sources, head) = forward.resolve(None, observer)?;
-        let lf = compute_leadfield(&montage, &sources, &head, orientation, observer)?;
+        // A boundary-element head's system is cached where `attribute` caches.
+        let cache = patchwise::io::cache::default_cache_dir();
+        let lf = compute_leadfield(
+            &montage,
+            &sources,
+            &head,
+            orientation,
+            Some(&cache),
+            observer,
+        )?;
         write_leadfield(&out, &lf).compute(format!("writing {}", out.display()))?;
         Ok(out)
     })

@@ -2,6 +2,7 @@
 
 use thiserror::Error;
 
+use crate::head::bem::BemError;
 use crate::head::HeadError;
 
 /// What can go wrong when assembling a lead field.
@@ -68,4 +69,7 @@ pub enum ForwardError {
         /// What the head model said.
         inner: HeadError,
     },
+    /// The boundary-element head refused an input.
+    #[error("{0}")]
+    Bem(BemError),
 }

@@ -1,8 +1,10 @@
-//! The lead field of a concentric-sphere head at a set of sources.
+//! The lead field of a head (concentric spheres or boundary elements) at a
+//! set of sources.
 
 use rayon::prelude::*;
 
 use crate::geometry::{dot, norm, Vec3};
+use crate::head::bem::BemTransfer;
 use crate::head::{HeadError, SeriesForm, SphereHead};
 use crate::numeric::average_reference_columns;
 
@@ -71,7 +73,69 @@ pub fn lead_field(
     progress: &dyn crate::numeric::Progress,
 ) -> Result<Gain, ForwardError> {
     let directions = validate(head, electrodes, sources, normals)?;
-    let n_ch = electrodes.len();
+    let column_of = |source: Vec3, column: &mut [Vec3]| -> Result<(), HeadError> {
+        head.expansion(source, SeriesForm::Accelerated)?
+            .gain_xyz(head, &directions, column);
+        Ok(())
+    };
+    assemble(
+        electrodes.len(),
+        (sources, normals),
+        orientation,
+        reference,
+        &column_of,
+        progress,
+    )
+}
+
+/// Computes the lead field of a boundary-element head for dipoles at
+/// `sources` (m, inside the innermost surface) with unit `normals`, at the
+/// electrodes of `transfer` (placed on the scalp surface when it was made),
+/// with the same layout, units and reference as [`lead_field`].
+///
+/// Errors: fewer than 3 electrodes, no sources, a count mismatch, a
+/// non-finite coordinate, a normal that is not of unit length, a source not
+/// inside the innermost surface.
+pub fn bem_lead_field(
+    transfer: &BemTransfer,
+    sources: &[Vec3],
+    normals: &[Vec3],
+    orientation: Orientation,
+    reference: Reference,
+    progress: &dyn crate::numeric::Progress,
+) -> Result<Gain, ForwardError> {
+    check_counts(transfer.n_electrodes(), sources, normals)?;
+    transfer.check_sources(sources).map_err(ForwardError::Bem)?;
+    check_normals(normals)?;
+    let column_of = |source: Vec3, column: &mut [Vec3]| -> Result<(), HeadError> {
+        transfer.gain_xyz(source, column);
+        Ok(())
+    };
+    assemble(
+        transfer.n_electrodes(),
+        (sources, normals),
+        orientation,
+        reference,
+        &column_of,
+        progress,
+    )
+}
+
+/// The unit-dipole potentials along x, y, z of one source at every
+/// electrode, from a head model.
+type ColumnOf<'a> = dyn Fn(Vec3, &mut [Vec3]) -> Result<(), HeadError> + Sync + 'a;
+
+/// The gain matrices from `column_of`, in parallel over chunks of sources,
+/// each chunk writing its own columns (the result does not depend on the
+/// thread count).
+fn assemble(
+    n_ch: usize,
+    (sources, normals): (&[Vec3], &[Vec3]),
+    orientation: Orientation,
+    reference: Reference,
+    column_of: &ColumnOf<'_>,
+    progress: &dyn crate::numeric::Progress,
+) -> Result<Gain, ForwardError> {
     let n_src = sources.len();
     let want_xyz = orientation == Orientation::Free;
 
@@ -115,8 +179,8 @@ pub fn lead_field(
                 normals: &normals[start..end],
             };
             fill_chunk(
-                head,
-                &directions,
+                n_ch,
+                column_of,
                 block,
                 reference,
                 &mut gain_rows,
@@ -143,16 +207,15 @@ pub fn lead_field(
     })
 }
 
-/// Checks every input and returns the electrodes' unit directions.
-fn validate(
-    head: &SphereHead,
-    electrodes: &[Vec3],
+/// At least 3 electrodes, at least one source, one normal per source.
+fn check_counts(
+    n_electrodes: usize,
     sources: &[Vec3],
     normals: &[Vec3],
-) -> Result<Vec<Vec3>, ForwardError> {
-    if electrodes.len() < 3 {
+) -> Result<(), ForwardError> {
+    if n_electrodes < 3 {
         return Err(ForwardError::TooFewElectrodes {
-            count: electrodes.len(),
+            count: n_electrodes,
         });
     }
     if sources.is_empty() {
@@ -164,6 +227,34 @@ fn validate(
             normals: normals.len(),
         });
     }
+    Ok(())
+}
+
+/// Every normal finite and of unit length within 1e-6.
+fn check_normals(normals: &[Vec3]) -> Result<(), ForwardError> {
+    for (index, n) in normals.iter().enumerate() {
+        if !n.iter().all(|v| v.is_finite()) {
+            return Err(ForwardError::NotFinite {
+                what: "normal",
+                index,
+            });
+        }
+        let length = norm(*n);
+        if (length - 1.0).abs() > 1e-6 {
+            return Err(ForwardError::NormalNotUnit { index, length });
+        }
+    }
+    Ok(())
+}
+
+/// Checks every input and returns the electrodes' unit directions.
+fn validate(
+    head: &SphereHead,
+    electrodes: &[Vec3],
+    sources: &[Vec3],
+    normals: &[Vec3],
+) -> Result<Vec<Vec3>, ForwardError> {
+    check_counts(electrodes.len(), sources, normals)?;
     let finite = |p: &Vec3| p.iter().all(|v| v.is_finite());
     let mut directions = Vec::with_capacity(electrodes.len());
     for (index, e) in electrodes.iter().enumerate() {
@@ -196,18 +287,7 @@ fn validate(
             });
         }
     }
-    for (index, n) in normals.iter().enumerate() {
-        if !finite(n) {
-            return Err(ForwardError::NotFinite {
-                what: "normal",
-                index,
-            });
-        }
-        let length = norm(*n);
-        if (length - 1.0).abs() > 1e-6 {
-            return Err(ForwardError::NormalNotUnit { index, length });
-        }
-    }
+    check_normals(normals)?;
     Ok(directions)
 }
 
@@ -222,20 +302,16 @@ struct Block<'a> {
 /// empty for normal orientation). An error carries the offset of the source
 /// within the chunk.
 fn fill_chunk(
-    head: &SphereHead,
-    directions: &[Vec3],
+    n_ch: usize,
+    column_of: &ColumnOf<'_>,
     block: Block<'_>,
     reference: Reference,
     gain_rows: &mut [&mut [f64]],
     xyz_rows: &mut [&mut [f64]],
 ) -> Result<(), (usize, HeadError)> {
-    let n_ch = directions.len();
     let mut column = vec![[0.0; 3]; n_ch];
     for (s, (source, unit)) in block.sources.iter().zip(block.normals).enumerate() {
-        let expansion = head
-            .expansion(*source, SeriesForm::Accelerated)
-            .map_err(|e| (s, e))?;
-        expansion.gain_xyz(head, directions, &mut column);
+        column_of(*source, &mut column).map_err(|e| (s, e))?;
         if reference == Reference::Average {
             // n_ch × 3 row-major: the mean is summed in channel order, the
             // same on every thread.

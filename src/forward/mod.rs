@@ -7,5 +7,5 @@ mod leadfield;
 mod model;
 
 pub use error::ForwardError;
-pub use leadfield::{lead_field, Gain, Orientation, Reference};
+pub use leadfield::{bem_lead_field, lead_field, Gain, Orientation, Reference};
 pub use model::LeadField;

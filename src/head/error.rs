@@ -2,6 +2,8 @@
 
 use thiserror::Error;
 
+use super::bem::BemError;
+
 /// What can go wrong when building a head model or evaluating its potential.
 #[derive(Debug, Error, Clone, PartialEq)]
 #[non_exhaustive]
@@ -115,4 +117,18 @@ pub enum HeadError {
         /// The order asked for.
         order: usize,
     },
+    /// A head file gives a field its model does not use.
+    #[error("{field} is not a field of model = \"{model}\"")]
+    FieldNotForModel {
+        /// The field.
+        field: &'static str,
+        /// The model of the file.
+        model: &'static str,
+    },
+    /// A boundary-element head file's counts or values are wrong.
+    #[error("{0}")]
+    Bem(BemError),
+    /// A sphere head was asked of a boundary-element head file.
+    #[error("this head is a boundary-element head (model = \"bem\"), not concentric spheres")]
+    NotSpheres,
 }

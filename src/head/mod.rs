@@ -1,4 +1,5 @@
-//! Conductor models of the head: concentric spheres with an exact series.
+//! Conductor models of the head: concentric spheres with an exact series,
+//! and nested triangle surfaces by the boundary-element method ([`bem`]).
 //!
 //! [`SphereHead`] holds one to four concentric shells (innermost first) and
 //! evaluates the scalp potential of a current dipole by the Legendre series of
@@ -7,6 +8,7 @@
 //! [`HeadSpec`] is the file form (TOML head files and the JSON `head_model`
 //! attribute); it carries millimetres, the model carries metres.
 
+pub mod bem;
 mod error;
 mod series;
 mod spec;

@@ -3,6 +3,7 @@
 
 use serde::{Deserialize, Serialize};
 
+use super::bem::{BemError, MAX_SURFACES};
 use super::{HeadError, SphereHead};
 
 /// Which conductor model a head file describes.
@@ -12,25 +13,44 @@ use super::{HeadError, SphereHead};
 pub enum HeadModelKind {
     /// Concentric spheres ([`SphereHead`]).
     Spheres,
+    /// Nested triangle surfaces ([`super::bem`]).
+    Bem,
 }
 
 /// A head as written in files: `model = "spheres"`, `radii_mm`, `conductivities`
-/// (S/m), optional `center_mm` (default the origin). Unknown keys are an error.
+/// (S/m), optional `center_mm` (default the origin); or `model = "bem"`,
+/// `surfaces` (files, innermost first, relative to the head file) and
+/// `conductivities` (one per compartment, innermost first). Unknown keys
+/// are an error.
 ///
-/// TOML example:
+/// TOML examples:
 /// ```toml
 /// model = "spheres"
 /// center_mm = [0.0, 0.0, 0.0]
 /// radii_mm = [81.0, 83.0, 88.0, 94.0]
 /// conductivities = [0.47, 1.79, 0.02, 0.41]
 /// ```
+/// ```toml
+/// model = "bem"
+/// surfaces = ["inner_skull.gii", "outer_skull.gii", "scalp.gii"]
+/// conductivities = [0.47, 0.02, 0.41]
+/// ```
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct HeadSpec {
     /// The model kind.
     pub model: HeadModelKind,
-    /// Shell radii (mm), innermost first.
+    /// Shell radii (mm), innermost first (spheres only).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub radii_mm: Vec<f64>,
+    /// Surface files, innermost first (bem only; GIFTI, PLY or OFF in mm).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub surfaces: Vec<String>,
+    /// SHA-256 of the surfaces' vertices and triangles as read (bem only;
+    /// written into the `head_model` attribute, so a lead field records
+    /// which surfaces it came from).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub surfaces_sha256: Option<String>,
     /// Shell conductivities (S/m), innermost first.
     pub conductivities: Vec<f64>,
     /// Centre (mm); the origin when absent.
@@ -67,6 +87,16 @@ impl HeadSpec {
             source_name: source_name.to_string(),
             inner: Box::new(inner),
         };
+        if self.model == HeadModelKind::Bem {
+            self.check_bem().map_err(invalid)?;
+            return Ok(self);
+        }
+        if !self.surfaces.is_empty() {
+            return Err(invalid(HeadError::FieldNotForModel {
+                field: "surfaces",
+                model: "spheres",
+            }));
+        }
         self.to_head().map_err(invalid)?;
         // A file's radii are in millimetres; a value far outside a head's
         // size is a unit slip (metres, micrometres) or a typing error, and
@@ -87,7 +117,49 @@ impl HeadSpec {
         Ok(self)
     }
 
-    /// Builds the model (metres inside), checking every value.
+    /// The counts and values a bem head file can be checked for before its
+    /// surfaces are read: 1 to 4 surfaces, one positive conductivity each,
+    /// no sphere fields.
+    fn check_bem(&self) -> Result<(), HeadError> {
+        for (field, given) in [
+            ("radii_mm", !self.radii_mm.is_empty()),
+            ("center_mm", self.center_mm.is_some()),
+        ] {
+            if given {
+                return Err(HeadError::FieldNotForModel {
+                    field,
+                    model: "bem",
+                });
+            }
+        }
+        let n = self.surfaces.len();
+        if n == 0 || n > MAX_SURFACES {
+            return Err(HeadError::Bem(BemError::SurfaceCount {
+                count: n,
+                max: MAX_SURFACES,
+            }));
+        }
+        if self.conductivities.len() != n {
+            return Err(HeadError::Bem(BemError::ConductivityCount {
+                surfaces: n,
+                conductivities: self.conductivities.len(),
+            }));
+        }
+        for (index, (&value, surface)) in self.conductivities.iter().zip(&self.surfaces).enumerate()
+        {
+            if !(value.is_finite() && value > 0.0) {
+                return Err(HeadError::Bem(BemError::ConductivityNotPositive {
+                    index,
+                    surface: surface.clone(),
+                    value,
+                }));
+            }
+        }
+        Ok(())
+    }
+
+    /// Builds the sphere model (metres inside), checking every value; a bem
+    /// head is built from its surfaces by the caller that reads them.
     pub fn to_head(&self) -> Result<SphereHead, HeadError> {
         match self.model {
             HeadModelKind::Spheres => {
@@ -95,6 +167,7 @@ impl HeadSpec {
                 let radii = self.radii_mm.iter().map(|v| v * 1e-3).collect();
                 SphereHead::new(center, radii, self.conductivities.clone())
             }
+            HeadModelKind::Bem => Err(HeadError::NotSpheres),
         }
     }
 
@@ -113,6 +186,8 @@ impl SphereHead {
         HeadSpec {
             model: HeadModelKind::Spheres,
             radii_mm: self.radii().iter().map(|v| v * 1e3).collect(),
+            surfaces: Vec::new(),
+            surfaces_sha256: None,
             conductivities: self.conductivities().to_vec(),
             center_mm: Some(self.center().map(|v| v * 1e3)),
         }

@@ -9,7 +9,7 @@ use std::path::Path;
 use super::error::IoError;
 use super::table::{read_table, TableError};
 use super::{gifti, off, ply};
-use crate::geometry::{normalize, validate, MeshError, SourceSpace};
+use crate::geometry::{normalize, validate, Mesh, MeshError, SourceSpace};
 
 /// The area each point source stands for when the sources have no
 /// triangles (a table of points, or an imported lead field without
@@ -54,25 +54,32 @@ fn ext(path: &Path) -> String {
 
 /// Read sources from a surface or a table (positions in mm in the file).
 pub fn read_sources(path: &Path) -> Result<SourceSpace, InputError> {
-    let mesh = match ext(path).as_str() {
-        "gii" => gifti::read_gifti_surface(path)?,
-        "ply" => ply::read_ply(path)?,
-        "off" => off::read_off(path)?,
-        "tsv" | "csv" => return read_source_table(path),
-        other => {
-            return Err(InputError::Content {
-                path: path.display().to_string(),
-                message: format!(
-                    "unknown source file kind {other:?}; expected .gii, .ply, .off, .tsv or .csv"
-                ),
-            })
-        }
-    };
+    if matches!(ext(path).as_str(), "tsv" | "csv") {
+        return read_source_table(path);
+    }
+    let mesh = read_surface(path, "source file kind", ", .tsv or .csv")?;
     validate(&mesh).map_err(|source| InputError::Mesh {
         path: path.display().to_string(),
         source,
     })?;
     Ok(SourceSpace::from_mesh(&mesh))
+}
+
+/// Read a triangle surface from GIFTI, PLY or OFF (positions in mm in the
+/// file, metres in the mesh), unchecked; `what` and `also` word the error
+/// for another extension ("unknown {what} …; expected .gii, .ply, .off{also}").
+pub fn read_surface(path: &Path, what: &str, also: &str) -> Result<Mesh, InputError> {
+    Ok(match ext(path).as_str() {
+        "gii" => gifti::read_gifti_surface(path)?,
+        "ply" => ply::read_ply(path)?,
+        "off" => off::read_off(path)?,
+        other => {
+            return Err(InputError::Content {
+                path: path.display().to_string(),
+                message: format!("unknown {what} {other:?}; expected .gii, .ply, .off{also}"),
+            })
+        }
+    })
 }
 
 fn read_source_table(path: &Path) -> Result<SourceSpace, InputError> {

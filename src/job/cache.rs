@@ -5,6 +5,7 @@
 
 use std::path::{Path, PathBuf};
 
+use super::bem_head::HeadModel;
 use super::error::{JobError, JobResult};
 use super::forward::{build_dictionary, compute_leadfield};
 use super::keyed_lock::{cache_locks, entry_lock_key};
@@ -14,7 +15,6 @@ use super::specs::OrientationChoice;
 use crate::dictionary::PatchDictionary;
 use crate::forward::{LeadField, Orientation};
 use crate::geometry::SourceSpace;
-use crate::head::SphereHead;
 use crate::io::cache::{entry_path, ContentHash};
 use crate::io::cache_entries::read_held_entry;
 use crate::io::dictionary_file::{read_dictionary, write_dictionary};
@@ -29,7 +29,7 @@ pub struct ForwardModel {
     /// The source space.
     pub sources: SourceSpace,
     /// The head.
-    pub head: SphereHead,
+    pub head: HeadModel,
     /// Orientation of the lead field.
     pub orientation: Orientation,
     /// The cache folder.
@@ -160,7 +160,7 @@ pub fn dictionary_for_channels(
 pub fn cached_leadfield(
     cache: &Path,
     lf_hash: &str,
-    (montage, sources, head): (&Montage, &SourceSpace, &SphereHead),
+    (montage, sources, head): (&Montage, &SourceSpace, &HeadModel),
     orientation: Orientation,
     observer: &dyn JobObserver,
 ) -> Result<LeadField, JobError> {
@@ -176,7 +176,7 @@ pub fn cached_leadfield(
             )),
             None => {}
         }
-        let lf = compute_leadfield(montage, sources, head, orientation, observer)?;
+        let lf = compute_leadfield(montage, sources, head, orientation, Some(cache), observer)?;
         if let Err(e) = write_leadfield(&lf_path, &lf) {
             observer.note(&format!(
                 "note: could not cache the lead field in {}: {e}",
@@ -193,7 +193,7 @@ fn cached_dictionary(
     patches: &PatchParams,
     cache: &Path,
     (lf_hash, d_hash): (&str, &str),
-    model: (&Montage, &SourceSpace, &SphereHead),
+    model: (&Montage, &SourceSpace, &HeadModel),
     orientation: Orientation,
     observer: &dyn JobObserver,
 ) -> Result<PatchDictionary, JobError> {

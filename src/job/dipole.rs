@@ -115,6 +115,12 @@ pub fn dipole(
     let patterns = decoder_patterns(&decoder, &params.decoder, true)?;
     let k = decoder.k;
     let (montage, sources, head) = params.forward.resolve(Some(&decoder.channels), observer)?;
+    let Some(head) = head.spheres() else {
+        return Err(JobError::input(format!(
+            "head {}: the dipole fit works on concentric spheres only; give a head file with model = \"spheres\" (or none) for dipole",
+            params.forward.head
+        )));
+    };
     let existing = beside
         .map(|path| {
             read_existing_result(path, &decoder.channels, k)
@@ -127,7 +133,7 @@ pub fn dipole(
         ..DipoleOptions::default()
     };
     let fitter =
-        DipoleFitter::new(&head, &montage.positions, &options).input("setting up the fit")?;
+        DipoleFitter::new(head, &montage.positions, &options).input("setting up the fit")?;
     let fits = match fitter.fit(&patterns, k) {
         Ok(fits) => fits,
         Err(

@@ -5,6 +5,7 @@
 
 use std::path::Path;
 
+use super::bem_head::{bem_system, check_bem_sources, load_bem_head, HeadModel};
 use super::error::{JobError, JobResult};
 use super::observer::{staged, JobObserver};
 use super::params::{ForwardParams, PatchParams};
@@ -12,11 +13,11 @@ use super::specs::{HeadChoice, MontageSpec, SourcesSpec};
 use crate::dictionary::{Dictionary, DictionaryInfo};
 use crate::forward::{LeadField, Orientation};
 use crate::geometry::SourceSpace;
-use crate::head::{HeadSpec, SphereHead};
+use crate::head::{HeadModelKind, HeadSpec, SphereHead};
 use crate::io::electrodes::read_electrodes;
 use crate::io::sources_file::{read_regions, read_sources, POINT_SOURCE_AREA_MM2};
 use crate::montage::{fit_sphere, standard, standard_names, Montage};
-use crate::pipeline::{dictionary_for, leadfield_for, DistanceKind};
+use crate::pipeline::{bem_leadfield_for, dictionary_for, leadfield_for, DistanceKind};
 
 impl ForwardParams {
     /// The montage (restricted to `labels`, in their order, when given),
@@ -25,7 +26,7 @@ impl ForwardParams {
         &self,
         labels: Option<&[String]>,
         observer: &dyn JobObserver,
-    ) -> Result<(Montage, SourceSpace, SphereHead), JobError> {
+    ) -> Result<(Montage, SourceSpace, HeadModel), JobError> {
         let (mut montage, from_file) = load_montage(&self.montage)?;
         if let Some(labels) = labels {
             let idx = montage.select(labels).input(format!(
@@ -35,9 +36,14 @@ impl ForwardParams {
             montage = montage.subset(&idx);
         }
         let sources = load_sources(&self.sources, self.regions.as_deref(), observer)?;
+        if let Some((spec, path)) = bem_spec(&self.head)? {
+            let head = load_bem_head(spec, &path, observer)?;
+            check_bem_sources(&head, &sources)?;
+            return Ok((montage, sources, HeadModel::Bem(head)));
+        }
         let head = load_head(&self.head, &montage, from_file)?;
         check_sources_inside(&sources, &head, &montage, from_file, self)?;
-        Ok((montage, sources, head))
+        Ok((montage, sources, HeadModel::Spheres(head)))
     }
 }
 
@@ -129,13 +135,48 @@ fn check_sources_inside(
 }
 
 /// The lead field, with its progress and the projection warnings as notes.
+/// A boundary-element head's system comes from `cache` when it holds one
+/// for the same surfaces (and is cached there when built).
 pub fn compute_leadfield(
     montage: &Montage,
     sources: &SourceSpace,
-    head: &SphereHead,
+    head: &HeadModel,
     orientation: Orientation,
+    cache: Option<&Path>,
     observer: &dyn JobObserver,
 ) -> Result<LeadField, JobError> {
+    let head = match head {
+        HeadModel::Spheres(h) => h,
+        HeadModel::Bem(b) => {
+            let system = bem_system(b, cache, observer)?;
+            let json = b.spec.to_json();
+            let (lf, points) = staged(observer, "lead field", sources.len(), |progress| {
+                bem_leadfield_for(montage, sources, (&system, &json), orientation, progress)
+            })
+            .input("computing the lead field")?;
+            if let Some((i, far)) = points
+                .iter()
+                .enumerate()
+                .max_by(|a, b| a.1.distance.total_cmp(&b.1.distance))
+            {
+                let mean = points.iter().map(|p| p.distance).sum::<f64>() / points.len() as f64;
+                observer.note(&format!(
+                    "note: electrodes moved onto the scalp surface by {:.1} mm on average, at most {:.1} mm ({})",
+                    mean * 1e3,
+                    far.distance * 1e3,
+                    montage.labels.get(i).map_or("", String::as_str)
+                ));
+                if far.distance > 0.010 {
+                    observer.note(&format!(
+                        "warning: electrode {} is {:.1} mm from the scalp surface (more than 10 mm): check the electrodes' frame and units",
+                        montage.labels.get(i).map_or("", String::as_str),
+                        far.distance * 1e3
+                    ));
+                }
+            }
+            return Ok(lf);
+        }
+    };
     let (lf, warnings) = staged(observer, "lead field", sources.len(), |progress| {
         leadfield_for(montage, sources, head, orientation, progress)
     })
@@ -245,6 +286,19 @@ pub fn point_source_note(path: &Path) -> String {
         "note: {} has no triangles: each source is a point standing for {POINT_SOURCE_AREA_MM2} mm² of cortex (equal weights in a patch)",
         path.display()
     )
+}
+
+/// The spec of a bem head file and its path, or `None` for spheres (the
+/// default or a spheres file).
+fn bem_spec(choice: &HeadChoice) -> Result<Option<(HeadSpec, std::path::PathBuf)>, JobError> {
+    let HeadChoice::File(path) = choice else {
+        return Ok(None);
+    };
+    let text = crate::io::input::read_input_string(path)
+        .map_err(|e| JobError::input(format!("{}: {e}", path.display())))?;
+    let spec = HeadSpec::from_toml_str(&text, &path.display().to_string())
+        .input("reading the head model")?;
+    Ok((spec.model == HeadModelKind::Bem).then(|| (spec, path.clone())))
 }
 
 /// The head: default or a TOML file. When the montage came from a file and

@@ -10,6 +10,7 @@
 //! calls one job and prints (docs/architecture.md).
 
 pub mod attribute;
+pub mod bem_head;
 pub mod cache;
 pub mod cache_folder;
 pub mod check;

@@ -3,6 +3,7 @@
 //! model is an ordinary lead field of another head, cached like any lead
 //! field by the content hash of its montage, sources and head.
 
+use super::bem_head::HeadModel;
 use super::cache::{cached_leadfield, leadfield_hash, ForwardModel};
 use super::error::{JobError, JobResult};
 use super::observer::JobObserver;
@@ -38,6 +39,10 @@ pub fn perturbed_for_resamples(
         notes.push("resamples draw the pattern noise only: the forward model of a given dictionary is not known, so it is not perturbed".to_string());
         return Ok(Vec::new());
     };
+    let Some(sphere_head) = f.head.spheres() else {
+        notes.push("resamples draw the pattern noise only: perturbed heads are drawn for the sphere model, not for a boundary-element head".to_string());
+        return Ok(Vec::new());
+    };
     if lf.labels != f.montage.labels {
         notes.push("resamples draw the pattern noise only: the dictionary's channels differ from the montage's".to_string());
         return Ok(Vec::new());
@@ -53,7 +58,7 @@ pub fn perturbed_for_resamples(
     let (n, m) = (dict.n_channels, dict.n_atoms);
     let mut models = Vec::with_capacity(spec.count);
     for i in 0..spec.count {
-        let (head, electrodes) = perturbed_model(&f.head, &f.montage.positions, &spec, i)
+        let (head, electrodes) = perturbed_model(sphere_head, &f.montage.positions, &spec, i)
             .compute("perturbing the forward model")?;
         let montage =
             Montage::new(f.montage.labels.clone(), electrodes).compute("perturbed montage")?;
@@ -61,7 +66,7 @@ pub fn perturbed_for_resamples(
         let plf = cached_leadfield(
             &f.cache,
             &hash,
-            (&montage, &f.sources, &head),
+            (&montage, &f.sources, &HeadModel::Spheres(head)),
             f.orientation,
             observer,
         )?;

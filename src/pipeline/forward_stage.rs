@@ -3,8 +3,9 @@
 use rayon::prelude::*;
 
 use crate::dictionary::{build_dictionary, Dictionary, DictionaryInfo, DictionaryParams, Seeds};
-use crate::forward::{lead_field, LeadField, Orientation, Reference};
+use crate::forward::{bem_lead_field, lead_field, ForwardError, LeadField, Orientation, Reference};
 use crate::geometry::{farthest_point_seeds, norm, sub, GeodesicSolver, SourceSpace};
+use crate::head::bem::{project_to_scalp, BemSystem, ScalpPoint};
 use crate::head::SphereHead;
 use crate::montage::{Montage, ProjectionWarning};
 
@@ -40,6 +41,43 @@ pub fn leadfield_for(
             head_model: head.head_model_json(),
         },
         warnings,
+    ))
+}
+
+/// The lead field of `montage` (each electrode moved to the nearest point
+/// of the scalp surface) for `sources` in a boundary-element head,
+/// average-referenced, as a [`LeadField`] whose `head_model` is
+/// `head_json`; with the electrodes' places on the scalp (their distances
+/// are the caller's to report).
+pub fn bem_leadfield_for(
+    montage: &Montage,
+    sources: &SourceSpace,
+    (system, head_json): (&BemSystem, &str),
+    orientation: Orientation,
+    progress: &dyn crate::numeric::Progress,
+) -> Result<(LeadField, Vec<ScalpPoint>), PipelineError> {
+    let points =
+        project_to_scalp(system, &montage.positions, &montage.labels).map_err(ForwardError::Bem)?;
+    let transfer = system.transfer(&points);
+    let lf = bem_lead_field(
+        &transfer,
+        &sources.positions,
+        &sources.normals,
+        orientation,
+        Reference::Average,
+        progress,
+    )?;
+    Ok((
+        LeadField {
+            labels: montage.labels.clone(),
+            electrode_positions: points.iter().map(|p| p.position).collect(),
+            sources: sources.clone(),
+            gain: lf.gain,
+            gain_xyz: lf.gain_xyz,
+            reference: "average".to_string(),
+            head_model: head_json.to_string(),
+        },
+        points,
     ))
 }
 

@@ -14,7 +14,7 @@ mod resample;
 
 pub use error::PipelineError;
 pub use fit_stage::{fit_patterns, FitOptions, Problem};
-pub use forward_stage::{dictionary_for, leadfield_for, DistanceKind};
+pub use forward_stage::{bem_leadfield_for, dictionary_for, leadfield_for, DistanceKind};
 pub use lambda_rule::LambdaRule;
 pub use noise_rule::{PatternNoise, NULL_QUANTILE, RATIO_FLOOR};
 pub use outcome::{FitOutcome, FittedComponent};

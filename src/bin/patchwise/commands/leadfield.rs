@@ -81,7 +81,16 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     patchwise::io::staging::refuse_input_as_output(&out, "--out", &inputs)?;
     let console = Console::default();
     let (montage, sources, head) = args.forward.resolve(None, &console)?;
-    let lf = compute_leadfield(&montage, &sources, &head, args.orientation.into(), &console)?;
+    // A boundary-element head's system is cached where attribute caches.
+    let cache = patchwise::io::cache::default_cache_dir();
+    let lf = compute_leadfield(
+        &montage,
+        &sources,
+        &head,
+        args.orientation.into(),
+        Some(&cache),
+        &console,
+    )?;
     write_leadfield(&out, &lf).compute(format!("writing {}", out.display()))?;
     outln!(
         "wrote {}: {} channels x {} sources, average reference, V/(A·m)",

@@ -1,0 +1,219 @@
+//! The head of a run as a conductor model: concentric spheres, or a
+//! boundary-element head read from its surfaces (checked, hashed by
+//! content, its factorised system built once and cached).
+
+use std::path::Path;
+
+use super::error::{JobError, JobResult};
+use super::keyed_lock::{cache_locks, entry_lock_key};
+use super::observer::{staged, JobObserver};
+use crate::geometry::{Mesh, SourceSpace};
+use crate::head::bem::{check_sources_inside, BemError, BemGeometry, BemSystem};
+use crate::head::{HeadSpec, SphereHead};
+use crate::io::bem_file::{read_bem_system, write_bem_system};
+use crate::io::cache::{entry_path, ContentHash};
+use crate::io::cache_entries::read_held_entry;
+use crate::io::sources_file::read_surface;
+
+/// The conductor model of a run.
+#[derive(Debug, Clone, PartialEq)]
+pub enum HeadModel {
+    /// Concentric spheres (the default).
+    Spheres(SphereHead),
+    /// Nested surfaces (`model = "bem"` in a head file).
+    Bem(BemHead),
+}
+
+/// A boundary-element head as read from a head file: its checked surfaces
+/// and the file form with the surfaces' content hash.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BemHead {
+    /// The checked surfaces and conductivities.
+    pub geometry: BemGeometry,
+    /// The head file's form, `surfaces_sha256` filled in.
+    pub spec: HeadSpec,
+}
+
+impl HeadModel {
+    /// The JSON `head_model` attribute (and lead-field cache key) of this
+    /// head.
+    pub fn head_model_json(&self) -> String {
+        match self {
+            HeadModel::Spheres(h) => h.head_model_json(),
+            HeadModel::Bem(b) => b.spec.to_json(),
+        }
+    }
+
+    /// The sphere head, when this is one.
+    pub fn spheres(&self) -> Option<&SphereHead> {
+        match self {
+            HeadModel::Spheres(h) => Some(h),
+            HeadModel::Bem(_) => None,
+        }
+    }
+}
+
+/// Reads and checks the surfaces of a bem head file at `path` (surface
+/// paths relative to its folder), with the reorientations and the gaps
+/// between the surfaces as notes.
+pub fn load_bem_head(
+    mut spec: HeadSpec,
+    path: &Path,
+    observer: &dyn JobObserver,
+) -> Result<BemHead, JobError> {
+    let folder = path.parent().unwrap_or(Path::new(""));
+    let context = format!("head model {}", path.display());
+    let mut meshes = Vec::with_capacity(spec.surfaces.len());
+    for name in &spec.surfaces {
+        let file = folder.join(name);
+        if !file.is_file() {
+            return Err(JobError::input(format!(
+                "{context}: surface {name} ({}) is not a file",
+                file.display()
+            )));
+        }
+        let mesh = read_surface(&file, "surface file kind", "")
+            .input(format!("{context}: reading surface {name}"))?;
+        meshes.push(mesh);
+    }
+    let (geometry, notes) =
+        BemGeometry::new(meshes, spec.surfaces.clone(), spec.conductivities.clone())
+            .input(&context)?;
+    for line in &notes.reoriented {
+        observer.note(line);
+    }
+    if !notes.gaps_m.is_empty() {
+        let gaps: Vec<String> = notes
+            .gaps_m
+            .iter()
+            .map(|g| format!("{:.1}", g * 1e3))
+            .collect();
+        observer.note(&format!(
+            "note: {}: {} surfaces of {} vertices in all, nested; smallest gaps between neighbours {} mm",
+            path.display(),
+            geometry.surfaces().len(),
+            geometry.n_vertices(),
+            gaps.join(", ")
+        ));
+    }
+    spec.surfaces_sha256 = Some(geometry_hash(&geometry));
+    Ok(BemHead { geometry, spec })
+}
+
+/// The content hash of checked surfaces (as turned outward) and their
+/// conductivities: the key of the factorised system in the cache.
+fn geometry_hash(geometry: &BemGeometry) -> String {
+    let mut h = ContentHash::new("bem-geometry-v1");
+    for mesh in geometry.surfaces() {
+        let Mesh {
+            vertices,
+            triangles,
+        } = mesh;
+        h.f64s(&vertices.iter().flatten().copied().collect::<Vec<_>>());
+        h.u64s(
+            &triangles
+                .iter()
+                .flatten()
+                .map(|&v| u64::from(v))
+                .collect::<Vec<_>>(),
+        );
+    }
+    h.f64s(geometry.conductivities());
+    h.hex()
+}
+
+/// Refuses sources outside the innermost surface, before any lead field.
+pub fn check_bem_sources(head: &BemHead, sources: &SourceSpace) -> Result<(), JobError> {
+    let inner = &head.geometry.surfaces()[0];
+    let name = &head.geometry.names()[0];
+    check_sources_inside(inner, name, &sources.positions).input(format!(
+        "the sources do not fit inside the head (check their units, mm, and frame, or the surfaces of {})",
+        head.spec.surfaces.join(", ")
+    ))
+}
+
+/// The factorised system of `head`, from `cache` when an entry for the
+/// same surfaces and conductivities is there (and intact), else built with
+/// its progress and cached (a cache that cannot be written costs a note).
+pub fn bem_system(
+    head: &BemHead,
+    cache: Option<&Path>,
+    observer: &dyn JobObserver,
+) -> Result<BemSystem, JobError> {
+    let hash = head
+        .spec
+        .surfaces_sha256
+        .clone()
+        .unwrap_or_else(|| geometry_hash(&head.geometry));
+    let build = || {
+        let n = head.geometry.n_vertices();
+        // Measured 22-25 s for 7 686 vertices on 2 shared cores
+        // (docs/benchmarks.md); the factorisation grows like N³.
+        let largest = head
+            .geometry
+            .surfaces()
+            .iter()
+            .map(Mesh::n_vertices)
+            .max()
+            .unwrap_or(0);
+        let advice = if largest > 5000 {
+            format!(
+                "; a surface has {largest} vertices: decimating each to about 2 500 keeps the accuracy of docs/head_model.md and is far faster"
+            )
+        } else {
+            String::new()
+        };
+        observer.note(&format!(
+            "building the boundary-element system once for these surfaces ({n} vertices in all; expect about {:.0} s on 2 cores{advice})",
+            ((n as f64 / 7686.0).powi(3) * 25.0).max(1.0)
+        ));
+        staged(observer, "boundary-element system", n, |progress| {
+            BemSystem::build(head.geometry.clone(), progress)
+        })
+        .map_err(|e| match e {
+            BemError::TooLarge { .. } => JobError::input(e.to_string()),
+            other => JobError::compute(other.to_string()),
+        })
+    };
+    let Some(cache) = cache else {
+        return build();
+    };
+    let path = entry_path(cache, "bem", &hash);
+    cache_locks().with_lock(&entry_lock_key(&path), || {
+        match read_held_entry(&path, read_bem_system) {
+            Some(Ok(parts)) => {
+                if let Some(system) = BemSystem::from_parts(head.geometry.clone(), parts) {
+                    observer.note(&format!(
+                        "using cached boundary-element system {}",
+                        path.display()
+                    ));
+                    return Ok(system);
+                }
+                observer.note("note: the cached boundary-element system does not fit the surfaces; rebuilding it");
+            }
+            Some(Err(e)) => observer.note(&format!(
+                "note: the cached boundary-element system is damaged ({e}); rebuilding it"
+            )),
+            None => {}
+        }
+        let system = build()?;
+        let vertices: Vec<usize> = head
+            .geometry
+            .surfaces()
+            .iter()
+            .map(Mesh::n_vertices)
+            .collect();
+        let written = std::fs::create_dir_all(cache)
+            .map_err(|e| e.to_string())
+            .and_then(|()| {
+                write_bem_system(&path, system.to_parts(), &vertices).map_err(|e| e.to_string())
+            });
+        if let Err(e) = written {
+            observer.note(&format!(
+                "note: could not cache the boundary-element system in {}: {e}",
+                cache.display()
+            ));
+        }
+        Ok(system)
+    })
+}
