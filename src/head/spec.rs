@@ -46,11 +46,12 @@ pub struct HeadSpec {
     /// Surface files, innermost first (bem only; GIFTI, PLY or OFF in mm).
     #[serde(default, skip_serializing_if = "Vec::is_empty")]
     pub surfaces: Vec<String>,
-    /// SHA-256 of the surfaces' vertices and triangles as read (bem only;
+    /// Content hash (BLAKE3, `io::cache::ContentHash`) of the surfaces'
+    /// vertices and triangles as read (bem only;
     /// written into the `head_model` attribute, so a lead field records
     /// which surfaces it came from).
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub surfaces_sha256: Option<String>,
+    pub surfaces_hash: Option<String>,
     /// Shell conductivities (S/m), innermost first.
     pub conductivities: Vec<f64>,
     /// Centre (mm); the origin when absent.
@@ -187,7 +188,7 @@ impl SphereHead {
             model: HeadModelKind::Spheres,
             radii_mm: self.radii().iter().map(|v| v * 1e3).collect(),
             surfaces: Vec::new(),
-            surfaces_sha256: None,
+            surfaces_hash: None,
             conductivities: self.conductivities().to_vec(),
             center_mm: Some(self.center().map(|v| v * 1e3)),
         }

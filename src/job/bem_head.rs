@@ -30,7 +30,7 @@ pub enum HeadModel {
 pub struct BemHead {
     /// The checked surfaces and conductivities.
     pub geometry: BemGeometry,
-    /// The head file's form, `surfaces_sha256` filled in.
+    /// The head file's form, `surfaces_hash` filled in.
     pub spec: HeadSpec,
 }
 
@@ -96,7 +96,7 @@ pub fn load_bem_head(
             gaps.join(", ")
         ));
     }
-    spec.surfaces_sha256 = Some(geometry_hash(&geometry));
+    spec.surfaces_hash = Some(geometry_hash(&geometry));
     Ok(BemHead { geometry, spec })
 }
 
@@ -142,7 +142,7 @@ pub fn bem_system(
 ) -> Result<BemSystem, JobError> {
     let hash = head
         .spec
-        .surfaces_sha256
+        .surfaces_hash
         .clone()
         .unwrap_or_else(|| geometry_hash(&head.geometry));
     let build = || {

@@ -366,6 +366,12 @@ impl AttributeParams {
                 };
                 (what, path)
             })
+            .chain(
+                super::forward::head_surface_files(&self.forward.head)
+                    .into_iter()
+                    .filter(|p| p.is_file())
+                    .map(|p| ("head surface", p)),
+            )
             .collect()
     }
 
@@ -409,6 +415,11 @@ impl ForwardParams {
     /// regions), as (what, path).
     pub fn input_files(&self) -> Vec<(&'static str, PathBuf)> {
         let mut named = self.files();
+        named.extend(
+            super::forward::head_surface_files(&self.head)
+                .into_iter()
+                .map(|p| ("head surface", p)),
+        );
         named.retain(|(_, p)| p.is_file());
         named
     }

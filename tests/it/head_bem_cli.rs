@@ -98,7 +98,7 @@ fn a_bem_head_file_gives_the_sphere_lead_field_of_its_shells() {
         bem.head_model
     );
     assert!(
-        bem.head_model.contains("surfaces_sha256"),
+        bem.head_model.contains("surfaces_hash"),
         "{}",
         bem.head_model
     );
@@ -288,4 +288,20 @@ fn bad_bem_heads_are_refused_by_name_with_nothing_written() {
         "far.tsv",
         &["electrode Far", "46.0 mm", "scalp.off"],
     );
+}
+
+/// The surfaces a head file names are inputs like the head file itself:
+/// `--out` on one of them exits 2 naming it, and the surface is unchanged
+/// (docs/reliability.md: an output never replaces an input).
+#[test]
+fn an_output_onto_a_head_surface_is_refused() {
+    let dir = support::scratch("bem_cli_out_on_surface");
+    write_shells(&dir, &[0.083, 0.088, 0.094]);
+    bem_toml(&dir, "three.toml", &SHELLS, &[0.33, 0.0066, 0.33]);
+    let before = std::fs::read(dir.join("head/scalp.off")).unwrap();
+    let o = leadfield(&dir, "head/three.toml", "10-20", "head/scalp.off");
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("head surface"), "{err}");
+    assert_eq!(std::fs::read(dir.join("head/scalp.off")).unwrap(), before);
 }
