@@ -429,7 +429,7 @@ def attribute(
     ``fold_covariances`` (n_folds x n_ch x n_ch) or ``n_samples`` (trials
     behind the covariance) give the noise level. ``noise_covariance``
     (n_ch x n_ch) whitens the fit. ``montage`` is a name (``"10-20"``,
-    ``"10-10"``, ``"10-05"``), an electrodes file, or an (n, 3) array of
+    ``"10-10"``, ``"10-5"``), an electrodes file, or an (n, 3) array of
     positions in mm with ``montage_labels`` (default ``channels``).
 
     Every other option of the command line is a keyword with its flag's

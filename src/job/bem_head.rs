@@ -217,3 +217,23 @@ pub fn bem_system(
         Ok(system)
     })
 }
+
+/// The surface files a bem head file names (resolved against its folder),
+/// for the check that an output holds no input; empty for the default head,
+/// a spheres file, or a head file that does not read (its reader reports
+/// that later).
+pub fn head_surface_files(choice: &super::specs::HeadChoice) -> Vec<std::path::PathBuf> {
+    let super::specs::HeadChoice::File(path) = choice else {
+        return Vec::new();
+    };
+    let Ok(text) = crate::io::input::read_input_string(path) else {
+        return Vec::new();
+    };
+    match HeadSpec::from_toml_str(&text, &path.display().to_string()) {
+        Ok(spec) if spec.model == crate::head::HeadModelKind::Bem => {
+            let folder = path.parent().unwrap_or(Path::new(""));
+            spec.surfaces.iter().map(|name| folder.join(name)).collect()
+        }
+        _ => Vec::new(),
+    }
+}

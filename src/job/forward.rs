@@ -301,19 +301,6 @@ fn bem_spec(choice: &HeadChoice) -> Result<Option<(HeadSpec, std::path::PathBuf)
     Ok((spec.model == HeadModelKind::Bem).then(|| (spec, path.clone())))
 }
 
-/// The surface files a bem head file names (resolved against its folder),
-/// for the check that an output folder holds no input; empty for spheres or
-/// a head file that does not read (its reader reports that later).
-pub fn head_surface_files(choice: &HeadChoice) -> Vec<std::path::PathBuf> {
-    match bem_spec(choice) {
-        Ok(Some((spec, path))) => {
-            let folder = path.parent().unwrap_or(std::path::Path::new(""));
-            spec.surfaces.iter().map(|name| folder.join(name)).collect()
-        }
-        _ => Vec::new(),
-    }
-}
-
 /// The head: default or a TOML file. When the montage came from a file and
 /// the head gives no centre, the centre is the least-squares sphere fit of
 /// the electrodes.

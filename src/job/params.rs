@@ -70,8 +70,8 @@ pub struct AttributeInputs {
 #[derive(clap::Args, Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(default)]
 pub struct ForwardParams {
-    /// Montage: 10-20, 10-10, 10-05, or an electrodes file (.tsv/.csv, mm).
-    #[arg(long, default_value = "10-05")]
+    /// Montage: 10-20, 10-10, 10-5, or an electrodes file (.tsv/.csv, mm).
+    #[arg(long, default_value = "10-5")]
     pub montage: MontageSpec,
     /// Sources: template (about 20k vertices), template-5k, or a GIFTI/PLY/OFF surface or TSV/CSV table (mm).
     #[arg(long, default_value = "template")]
@@ -367,7 +367,7 @@ impl AttributeParams {
                 (what, path)
             })
             .chain(
-                super::forward::head_surface_files(&self.forward.head)
+                super::bem_head::head_surface_files(&self.forward.head)
                     .into_iter()
                     .filter(|p| p.is_file())
                     .map(|p| ("head surface", p)),
@@ -416,7 +416,7 @@ impl ForwardParams {
     pub fn input_files(&self) -> Vec<(&'static str, PathBuf)> {
         let mut named = self.files();
         named.extend(
-            super::forward::head_surface_files(&self.head)
+            super::bem_head::head_surface_files(&self.head)
                 .into_iter()
                 .map(|p| ("head surface", p)),
         );
@@ -462,7 +462,7 @@ mod tests {
         assert_eq!(p.fit.tol, 1e-8);
         assert_eq!(p.fit.resamples, 100);
         assert_eq!(p.patches.radii_mm, vec![5.0, 10.0, 20.0]);
-        assert_eq!(p.forward.montage, MontageSpec::Standard("10-05".into()));
+        assert_eq!(p.forward.montage, MontageSpec::Standard("10-5".into()));
         let json = serde_json::to_string(&p).unwrap();
         let back: AttributeParams = serde_json::from_str(&json).unwrap();
         assert_eq!(back, p);

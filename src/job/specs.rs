@@ -43,19 +43,19 @@ macro_rules! text_spec {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(try_from = "String", into = "String")]
 pub enum MontageSpec {
-    /// A standard layout, as the user spelled it (`10-20`, `10-10`, `10-05`, `10-5`).
+    /// A standard layout, as the user spelled it (`10-20`, `10-10`, `10-5`, or `10-05` for `10-5`).
     Standard(String),
     /// An electrodes file.
     File(PathBuf),
 }
 
 impl MontageSpec {
-    /// Whether `name` is a standard layout (case-insensitive; `10-5` is `10-05`).
+    /// Whether `name` is a standard layout (case-insensitive; `10-05` is `10-5`).
     pub fn is_standard_name(name: &str) -> bool {
         standard_names()
             .iter()
             .any(|n| n.eq_ignore_ascii_case(name))
-            || name.eq_ignore_ascii_case("10-5")
+            || name.eq_ignore_ascii_case("10-05")
     }
 }
 

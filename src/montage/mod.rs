@@ -1,4 +1,4 @@
-//! Electrode labels and positions: standard 10-20 / 10-10 / 10-05 layouts
+//! Electrode labels and positions: standard 10-20 / 10-10 / 10-5 layouts
 //! computed on a sphere, label matching, scalp projection, sphere fit.
 //!
 //! The construction of the standard layouts is described in docs/montage.md.

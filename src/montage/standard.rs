@@ -1,11 +1,11 @@
-//! The standard 10-20, 10-10 and 10-05 layouts, built on a sphere from the
+//! The standard 10-20, 10-10 and 10-5 layouts, built on a sphere from the
 //! proportional rule (construction described in docs/montage.md).
 
 use super::{Montage, MontageError};
 use crate::geometry::{cross, dot, normalize, scale, sub, Vec3};
 
-/// Names accepted by [`standard`] (`10-5` is also accepted for `10-05`).
-const NAMES: [&str; 3] = ["10-20", "10-10", "10-05"];
+/// Names accepted by [`standard`] (`10-05` is also accepted for `10-5`, the name the literature uses).
+const NAMES: [&str; 3] = ["10-20", "10-10", "10-5"];
 
 /// Angle (degrees) of 5 % of the nasion–inion or preauricular arc. Fpz and Oz lie on the
 /// equator, 10 % above nasion and inion, so Fpz–Cz (40 %) spans 90° and 5 % is 11.25°.
@@ -41,14 +41,14 @@ pub fn standard_names() -> &'static [&'static str] {
 /// Fpz, T7, Oz and T8 on the equator (see docs/montage.md for the construction).
 ///
 /// `10-20`: 21 positions (the 19 of Jasper 1958 plus Fpz and Oz); `10-10`: 85
-/// (Chatrian, Lettich & Nelson 1985, including the 9/10 columns, Nz and Iz); `10-05`: 345
+/// (Chatrian, Lettich & Nelson 1985, including the 9/10 columns, Nz and Iz); `10-5`: 345
 /// (Oostenveld & Praamstra 2001). The temporal electrodes carry the 10-10 names T7, T8,
 /// P7, P8 in every layout; [`Montage::find`] also accepts T3, T4, T5, T6.
 pub fn standard(name: &str, radius_m: f64) -> Result<Montage, MontageError> {
     let tier = match name.trim().to_lowercase().as_str() {
         "10-20" => Tier::Twenty,
         "10-10" => Tier::Ten,
-        "10-05" | "10-5" => Tier::Five,
+        "10-5" | "10-05" => Tier::Five,
         _ => {
             return Err(MontageError::UnknownStandard {
                 name: name.to_string(),
@@ -74,11 +74,11 @@ enum Tier {
     Twenty,
     /// 10-10.
     Ten,
-    /// 10-05.
+    /// 10-5.
     Five,
 }
 
-/// One position of the 10-05 grid on the unit sphere.
+/// One position of the 10-5 grid on the unit sphere.
 struct Entry {
     label: String,
     position: Vec3,
@@ -149,7 +149,7 @@ fn row_positions(r: usize) -> Vec<Vec3> {
         .collect()
 }
 
-/// All 345 positions of the 10-05 grid, front to back, each row left to right.
+/// All 345 positions of the 10-5 grid, front to back, each row left to right.
 fn ten_five_grid() -> Vec<Entry> {
     let mut out = Vec::with_capacity(345);
     let mut push = |label: String, position: Vec3, tier: Tier| {

@@ -160,11 +160,11 @@ fn errors_name_file_line_and_column() {
 
 #[test]
 fn written_tsv_reads_back_exactly() {
-    // Round trip of the 10-05 layout through write_electrodes_tsv: the shortest decimal of
+    // Round trip of the 10-5 layout through write_electrodes_tsv: the shortest decimal of
     // x·1000 reads back to the same double, and /1000 again: two roundings, so within
     // 2 ulp (relative 4.5e-16).
     let dir = scratch("roundtrip");
-    let m = standard("10-05", 0.0925).unwrap();
+    let m = standard("10-5", 0.0925).unwrap();
     let p = dir.join("electrodes.tsv");
     write_electrodes_tsv(&p, &m).unwrap();
     let text = std::fs::read_to_string(&p).unwrap();

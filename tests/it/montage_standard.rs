@@ -1,4 +1,4 @@
-//! Checks of the standard 10-20 / 10-10 / 10-05 layouts against the proportional rule.
+//! Checks of the standard 10-20 / 10-10 / 10-5 layouts against the proportional rule.
 
 use patchwise::montage::{standard, standard_names, Montage, MontageError};
 
@@ -37,10 +37,10 @@ fn assert_steps(m: &Montage, chain: &[&str], step_deg: f64) {
 
 #[test]
 fn names_and_counts() {
-    assert_eq!(standard_names(), &["10-20", "10-10", "10-05"]);
+    assert_eq!(standard_names(), &["10-20", "10-10", "10-5"]);
     // 10-20: the 19 electrodes of Jasper 1958 plus Fpz and Oz. 10-10: the 10 % grid of
     // Chatrian, Lettich & Nelson 1985 with columns 9/10, Nz and Iz (85, from memory of
-    // the figure). 10-05: 345 positions, Oostenveld & Praamstra 2001 (abstract).
+    // the figure). 10-5: 345 positions, Oostenveld & Praamstra 2001 (abstract).
     assert_eq!(standard("10-20", R).unwrap().len(), 21);
     assert_eq!(standard("10-10", R).unwrap().len(), 85);
     assert_eq!(standard("10-05", R).unwrap().len(), 345);
@@ -51,13 +51,13 @@ fn names_and_counts() {
 fn coarser_layouts_are_subsets_at_the_same_positions() {
     // Each system extends the previous one without moving it (Chatrian et al. 1985;
     // Oostenveld & Praamstra 2001). Exact equality: the same construction.
-    let fine = standard("10-05", R).unwrap();
+    let fine = standard("10-5", R).unwrap();
     for name in ["10-20", "10-10"] {
         let coarse = standard(name, R).unwrap();
         for (label, p) in coarse.labels.iter().zip(&coarse.positions) {
             let i = fine
                 .find(label)
-                .unwrap_or_else(|| panic!("{label} not in 10-05"));
+                .unwrap_or_else(|| panic!("{label} not in 10-5"));
             assert_eq!(&fine.positions[i], p, "{label}");
         }
     }
@@ -66,7 +66,7 @@ fn coarser_layouts_are_subsets_at_the_same_positions() {
 #[test]
 fn all_positions_on_the_sphere() {
     // Construction on a sphere of radius R; tolerance 1e-12 relative (rounding).
-    let m = standard("10-05", R).unwrap();
+    let m = standard("10-5", R).unwrap();
     for (l, p) in m.labels.iter().zip(&m.positions) {
         let r = (p[0] * p[0] + p[1] * p[1] + p[2] * p[2]).sqrt();
         assert!((r - R).abs() < 1e-12 * R, "{l}: radius {r}");
@@ -157,7 +157,7 @@ fn ten_ten_steps() {
 fn ten_five_half_steps() {
     // Oostenveld & Praamstra 2001: 5 % steps, 11.25° along the midline and 9° along the
     // equator; "h" positions halfway between 10-10 columns (naming from memory).
-    let m = standard("10-05", R).unwrap();
+    let m = standard("10-5", R).unwrap();
     let midline = [
         "Nz", "NFpz", "Fpz", "AFpz", "AFz", "AFFz", "Fz", "FFCz", "FCz", "FCCz", "Cz", "CCPz",
         "CPz", "CPPz", "Pz", "PPOz", "POz", "POOz", "Oz", "OIz", "Iz",
@@ -220,13 +220,13 @@ fn unknown_name_lists_the_known_ones() {
     match &err {
         MontageError::UnknownStandard { name, known } => {
             assert_eq!(name, "10-15");
-            assert_eq!(known, &vec!["10-20", "10-10", "10-05"]);
+            assert_eq!(known, &vec!["10-20", "10-10", "10-5"]);
         }
         other => panic!("unexpected {other:?}"),
     }
     let text = err.to_string();
     assert!(
-        text.contains("10-20") && text.contains("10-10") && text.contains("10-05"),
+        text.contains("10-20") && text.contains("10-10") && text.contains("10-5"),
         "{text}"
     );
     assert!(matches!(

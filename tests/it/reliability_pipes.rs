@@ -36,7 +36,7 @@ fn assert_quiet_end(o: &Output, what: &str) {
 fn a_closed_stdout_ends_output_quietly() {
     let dir = scratch("closed-stdout");
     // Hundreds of lines, the first written at once.
-    let o = with_closed_stdout(&dir, &["montage", "show", "10-05"]);
+    let o = with_closed_stdout(&dir, &["montage", "show", "10-5"]);
     assert_quiet_end(&o, "montage show");
     // Results are still written in full when the terminal table cannot be.
     let o = with_closed_stdout(

@@ -24,12 +24,12 @@ pub enum Action {
     List,
     /// Print a layout's labels and positions (mm) on the default head's scalp.
     Show {
-        /// Layout name: 10-20, 10-10 or 10-05.
+        /// Layout name: 10-20, 10-10 or 10-5.
         name: String,
     },
     /// Write a layout as a BIDS-style electrodes.tsv (name, x, y, z in mm).
     Export {
-        /// Layout name: 10-20, 10-10 or 10-05.
+        /// Layout name: 10-20, 10-10 or 10-5.
         name: String,
         /// Output file.
         #[arg(long)]
