@@ -136,3 +136,8 @@ pub fn nearest_source(positions: &[Vec3], point: Vec3) -> Option<(usize, f64)> {
     }
     best.map(|(i, d2)| (i, d2.sqrt()))
 }
+
+/// Residual variance (fraction) under which a fit is said to be well
+/// explained by its dipole model: the default of `dipole --residual-cut`
+/// (15 %, a common convention, not a test; common practice, from memory).
+pub const RESIDUAL_CUT: f64 = 0.15;

@@ -5,10 +5,6 @@
 use super::report_html::{escape, fixed, percent, scientific, Html};
 use crate::io::result_file::{ResultDipoles, ResultFile};
 
-/// Residual variance below which a component is commonly called dipolar
-/// (common practice, from memory; see Delorme et al. 2012, PLoS One 7:e30135).
-const DIPOLAR_RV: f64 = 0.15;
-
 /// Append the section when the result holds `/dipole`.
 pub fn dipole_section(h: &mut Html, result: &ResultFile) {
     let Some(d) = &result.dipoles else {
@@ -45,12 +41,13 @@ pub fn dipole_section(h: &mut Html, result: &ResultFile) {
             "Each component's pattern fitted by {model} in the same head (grid search, then \
              Levenberg\u{2013}Marquardt inside the inner sphere). Residual variance \
              \u{2016}y \u{2212} \u{0177}\u{2016}\u{00b2} / \u{2016}y\u{2016}\u{00b2} on the \
-             average-referenced pattern; below {} is a common cut for calling a component \
-             dipolar (a convention, not a test). The distance to the patch peak compares this \
+             average-referenced pattern: the part of the pattern the dipole model leaves \
+             unexplained (the terminal compares it with --residual-cut, {} by default, a \
+             convention, not a test). The distance to the patch peak compares this \
              answer with the patch attribution above: a large distance with a low residual \
              variance points to an extended or bilateral source that one dipole summarises \
              poorly.",
-            percent(DIPOLAR_RV, 0)
+            percent(crate::dipole::RESIDUAL_CUT, 0)
         ),
     );
     h.raw("</section>\n");

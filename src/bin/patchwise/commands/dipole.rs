@@ -13,10 +13,6 @@ use patchwise::job::dipole::{dipole, write_dipole_files, DipoleParams};
 use crate::progress::Console;
 use crate::CliError;
 
-/// Residual variance below which a fit counts as dipolar (common practice;
-/// see Delorme et al. 2012, PLoS One 7:e30135, from memory).
-const DIPOLAR_RV: f64 = 0.15;
-
 /// Arguments of `patchwise dipole`.
 #[derive(clap::Args, Debug, Clone)]
 pub struct Args {
@@ -30,7 +26,7 @@ pub struct Args {
     pub no_report: bool,
 }
 
-fn print_table(names: &[String], fits: &[DipoleFit], rows: &[DipoleRow], pairs: bool) {
+fn print_table(names: &[String], fits: &[DipoleFit], rows: &[DipoleRow], pairs: bool, cut: f64) {
     for (c, fit) in fits.iter().enumerate() {
         outln!();
         outln!(
@@ -42,10 +38,13 @@ fn print_table(names: &[String], fits: &[DipoleFit], rows: &[DipoleRow], pairs: 
                 "single dipole"
             },
             100.0 * fit.residual_variance,
-            if fit.residual_variance < DIPOLAR_RV {
-                "dipolar: RV < 15 %"
+            if fit.residual_variance < cut {
+                format!(
+                    "under the {:.0} % cut: the model explains it well",
+                    100.0 * cut
+                )
             } else {
-                "not dipolar: RV >= 15 %"
+                format!("at or over the {:.0} % cut", 100.0 * cut)
             },
             if fit.at_boundary {
                 "; at the search boundary"
@@ -110,7 +109,13 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     // decoder, ...) stay beside the new ones: the folder is swapped whole.
     stage.keep_existing()?;
     let dir = stage.commit()?;
-    print_table(&d.names, &d.fits, &d.rows, d.pairs);
+    print_table(
+        &d.names,
+        &d.fits,
+        &d.rows,
+        d.pairs,
+        args.params.residual_cut,
+    );
     outln!();
     outln!(
         "results in {} (dipoles.csv, result.h5 /dipole{})",
