@@ -221,6 +221,20 @@ fn per_component(store: &Store, path: &Path, name: &str, k: usize) -> Result<Vec
     store.f64s_nan(path, name, Some(k))
 }
 
+/// Per-component vector `name` (length k, NaN allowed) when the store has it
+/// (results written before it existed, or without resamples, do not).
+fn optional_per_component(
+    store: &Store,
+    path: &Path,
+    name: &str,
+    k: usize,
+) -> Result<Option<Vec<f64>>, IoError> {
+    if !store.contains(name) {
+        return Ok(None);
+    }
+    per_component(store, path, name, k).map(Some)
+}
+
 /// Read `result.h5`.
 pub fn read_result(path: &Path) -> Result<ResultFile, IoError> {
     let store = Store::read(path)?;
@@ -327,21 +341,9 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
     } else {
         vec![0.0; k]
     };
-    let noise_sd = if store.contains("/attribution/noise_sd") {
-        Some(per_component(store, path, "/attribution/noise_sd", k)?)
-    } else {
-        None
-    };
-    let leader_probability = if store.contains("/attribution/leader_probability") {
-        Some(per_component(
-            store,
-            path,
-            "/attribution/leader_probability",
-            k,
-        )?)
-    } else {
-        None
-    };
+    let noise_sd = optional_per_component(store, path, "/attribution/noise_sd", k)?;
+    let leader_probability =
+        optional_per_component(store, path, "/attribution/leader_probability", k)?;
     let attribution = ResultAttribution {
         share_low: optional(store, path, "/attribution/share_low", n_regions, k)?,
         share_high: optional(store, path, "/attribution/share_high", n_regions, k)?,
@@ -482,16 +484,14 @@ pub(crate) fn check_result_layout(r: &ResultFile) -> Result<(), IoError> {
             ));
         }
     }
-    if let Some(v) = &a.noise_sd {
-        checks.push(("/attribution/noise_sd", v.len(), k, format!("k = {k}")));
-    }
-    if let Some(v) = &a.leader_probability {
-        checks.push((
-            "/attribution/leader_probability",
-            v.len(),
-            k,
-            format!("k = {k}"),
-        ));
+    let component_arrays = [
+        ("/attribution/noise_sd", &a.noise_sd),
+        ("/attribution/leader_probability", &a.leader_probability),
+    ];
+    for (field, values) in component_arrays {
+        if let Some(v) = values {
+            checks.push((field, v.len(), k, format!("k = {k}")));
+        }
     }
     if let (Some(g), Some(s)) = (&r.filter_gain, &r.sources) {
         let n_src = s.len();

@@ -155,6 +155,30 @@ pub fn dictionary_for_channels(
     ))
 }
 
+/// The cache entry at `path` (a `what`, e.g. "lead field"), read while
+/// held: `Some` when it reads (noted as used), `None` when there is none or
+/// it is damaged (noted: the caller rebuilds it).
+fn read_cached<T>(
+    path: &Path,
+    what: &str,
+    read: impl FnOnce(&Path) -> Result<T, crate::io::IoError>,
+    observer: &dyn JobObserver,
+) -> Option<T> {
+    match read_held_entry(path, read) {
+        Some(Ok(entry)) => {
+            observer.note(&format!("using cached {what} {}", path.display()));
+            Some(entry)
+        }
+        Some(Err(e)) => {
+            observer.note(&format!(
+                "note: the cached {what} is damaged ({e}); rebuilding it"
+            ));
+            None
+        }
+        None => None,
+    }
+}
+
 /// The lead field entry `lf_hash` from the cache, computed (and cached when
 /// the cache can be written) when missing or unreadable.
 pub fn cached_leadfield(
@@ -166,15 +190,8 @@ pub fn cached_leadfield(
 ) -> Result<LeadField, JobError> {
     let lf_path = entry_path(cache, "leadfield", lf_hash);
     cache_locks().with_lock(&entry_lock_key(&lf_path), || {
-        match read_held_entry(&lf_path, read_leadfield) {
-            Some(Ok(lf)) => {
-                observer.note(&format!("using cached lead field {}", lf_path.display()));
-                return Ok(lf);
-            }
-            Some(Err(e)) => observer.note(&format!(
-                "note: the cached lead field is damaged ({e}); rebuilding it"
-            )),
-            None => {}
+        if let Some(lf) = read_cached(&lf_path, "lead field", read_leadfield, observer) {
+            return Ok(lf);
         }
         let lf = compute_leadfield(montage, sources, head, orientation, Some(cache), observer)?;
         if let Err(e) = write_leadfield(&lf_path, &lf) {
@@ -198,15 +215,8 @@ fn cached_dictionary(
     observer: &dyn JobObserver,
 ) -> Result<PatchDictionary, JobError> {
     let d_path = entry_path(cache, "dictionary", d_hash);
-    match read_held_entry(&d_path, read_dictionary) {
-        Some(Ok(d)) => {
-            observer.note(&format!("using cached dictionary {}", d_path.display()));
-            return Ok(d);
-        }
-        Some(Err(e)) => observer.note(&format!(
-            "note: the cached dictionary is damaged ({e}); rebuilding it"
-        )),
-        None => {}
+    if let Some(d) = read_cached(&d_path, "dictionary", read_dictionary, observer) {
+        return Ok(d);
     }
     let lf = cached_leadfield(cache, lf_hash, model, orientation, observer)?;
     let (d, _info) = build_dictionary(&lf, patches, observer)?;
