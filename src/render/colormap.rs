@@ -150,14 +150,17 @@ pub fn diverging(t: f64) -> [u8; 3] {
 }
 
 /// Control points of the sequential map: (t, Oklab chroma, hue in degrees).
-/// The hue walks from a pale straw through amber and crimson to a deep
-/// plum; the lightness is set separately, linear in `t`.
+/// The hue walks from a pale sand through olive and moss green to a deep
+/// spruce teal; the lightness is set separately, linear in `t`. The walk
+/// turns towards green and teal, away from the usual light-yellow-to-dark-
+/// purple walks of general plotting tools, and away from both hues of
+/// [`diverging`] (258° and 42°), so a share map is never read as a signed one.
 const SEQUENTIAL_STOPS: [(f64, f64, f64); 5] = [
-    (0.0, 0.045, 100.0),
-    (0.3, 0.13, 70.0),
-    (0.6, 0.17, 30.0),
-    (0.85, 0.14, -10.0),
-    (1.0, 0.11, -40.0),
+    (0.0, 0.045, 95.0),
+    (0.3, 0.11, 115.0),
+    (0.6, 0.13, 145.0),
+    (0.85, 0.11, 175.0),
+    (1.0, 0.09, 195.0),
 ];
 /// Oklab lightness of the sequential map at t = 0.
 pub const SEQUENTIAL_START_L: f64 = 0.96;
@@ -165,7 +168,7 @@ pub const SEQUENTIAL_START_L: f64 = 0.96;
 pub const SEQUENTIAL_END_L: f64 = 0.34;
 
 /// The sequential map for values >= 0: `t` in [0, 1] (clamped; NaN gives 0),
-/// pale straw at 0 through amber and crimson to deep plum at 1.
+/// pale sand at 0 through olive and moss green to deep spruce teal at 1.
 ///
 /// The Oklab lightness falls linearly with `t`, so larger always reads darker;
 /// chroma and hue are interpolated piecewise linearly between a few stops.

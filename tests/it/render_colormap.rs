@@ -282,3 +282,25 @@ fn bad_sizes_are_typed_errors() {
         Err(RenderError::BufferLength { .. })
     ));
 }
+
+#[test]
+fn sequential_dark_end_is_not_either_diverging_end() {
+    // A share map (sequential) must not be read as a signed map: its dark end
+    // stays far from both ends of the diverging map, ΔE76 > 25 (our
+    // threshold, about ten just-noticeable differences; Sharma 2003, from
+    // memory), for normal vision and for simulated dichromats (Machado et
+    // al. 2009, severity 1.0).
+    let normal = |c: [u8; 3]| lab(c);
+    for end in [-1.0, 1.0] {
+        let d = delta_e76(normal(sequential(1.0)), normal(diverging(end)));
+        eprintln!("normal vision, sequential(1) vs diverging({end}): ΔE76 = {d:.1}");
+        assert!(d > 25.0, "normal vision, diverging({end}): ΔE76 = {d}");
+        for (name, m) in [("protanopia", &PROTANOPIA), ("deuteranopia", &DEUTERANOPIA)] {
+            let a = lab_linear(simulate(m, sequential(1.0)));
+            let b = lab_linear(simulate(m, diverging(end)));
+            let d = delta_e76(a, b);
+            eprintln!("{name}, sequential(1) vs diverging({end}): ΔE76 = {d:.1}");
+            assert!(d > 25.0, "{name}, diverging({end}): ΔE76 = {d}");
+        }
+    }
+}
