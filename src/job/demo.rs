@@ -101,6 +101,10 @@ pub fn demo(
         Dataset::f64(vec![n, n], scenario.covariance.clone()),
     );
     store.insert(
+        "/n_samples",
+        Dataset::f64(vec![], vec![scenario.n_samples as f64]),
+    );
+    store.insert(
         "/component_names",
         Dataset::strings(scenario.component_names.clone()),
     );
