@@ -129,6 +129,38 @@ impl View {
         }
     }
 
+    /// The anatomical direction at each edge of the picture, as a letter (A
+    /// anterior, P posterior, L left, R right, S superior, I inferior):
+    /// `[left edge, right edge, top edge, bottom edge]`, derived from
+    /// [`View::right`] and [`View::up`] so that it cannot disagree with the
+    /// camera.
+    pub fn edge_marks(self) -> [&'static str; 4] {
+        let letter = |d: Vec3| -> &'static str {
+            let (axis, sign) = (0..3).map(|i| (i, d[i])).fold((0, 0.0), |best, (i, v)| {
+                if v.abs() > f64::abs(best.1) {
+                    (i, v)
+                } else {
+                    best
+                }
+            });
+            match (axis, sign > 0.0) {
+                (0, true) => "R",
+                (0, false) => "L",
+                (1, true) => "A",
+                (1, false) => "P",
+                (_, true) => "S",
+                (_, false) => "I",
+            }
+        };
+        let (r, u) = (self.right(), self.up());
+        [
+            letter([-r[0], -r[1], -r[2]]),
+            letter(r),
+            letter(u),
+            letter([-u[0], -u[1], -u[2]]),
+        ]
+    }
+
     /// Screen coordinates of a point: (right, up, depth), in metres; a
     /// smaller depth is nearer the camera.
     pub fn project(self, p: Vec3) -> [f64; 3] {

@@ -15,13 +15,17 @@ use super::camera::View;
 use super::charts::{
     heatmap_svg, region_shares_svg, HeatmapOptions, HeatmapScale, RegionBar, RegionSharesOptions,
 };
-use super::cortex::{render_views, ColourSpec, ViewOptions};
+use super::colormap::{diverging, sequential};
+use super::cortex::{ColourSpec, ViewOptions};
+use super::cortex_panel::{
+    colour_bar_svg, cortex_panel, diverging_painted, sequential_painted, MARKS_NOTE, VIEW_DISPLAY,
+};
 use super::page::{
     card, card_lead, component_section as section_of, fact, facts, figures, folder_title,
     glance as glance_section, hidden_row, interval, notes, order_by, page, region_row, section,
     table, Frame, ReportError,
 };
-use super::report_html::{escape, fixed, percent, png_img, Html};
+use super::report_html::{escape, fixed, percent, Html};
 use crate::geometry::{template, Template, TemplateResolution};
 use crate::io::compare_read::{CompareComponent, CompareFile};
 
@@ -31,8 +35,6 @@ const SHOWN_SHARE: f64 = 0.005;
 const SHOWN_TOP: usize = 3;
 /// Width of the group-mean chart (px).
 const CHART_WIDTH: u32 = 640;
-/// Size of one cortex view (px).
-const VIEW_SIZE: (u32, u32) = (240, 170);
 
 /// Choices for the comparison report.
 #[derive(Debug, Clone, Default)]
@@ -67,7 +69,9 @@ fn find_template(f: &CompareFile) -> Option<Template> {
 }
 
 /// Views of the group mean share of component `c` painted per region on
-/// the template cortex (one colour per region, white background).
+/// the template cortex (one colour per region, white background), with a
+/// colour bar in share units: the diverging map when a shown region's mean
+/// share is negative (zero at the centre), the sequential map otherwise.
 fn cortex_views(
     f: &CompareFile,
     c: &CompareComponent,
@@ -81,34 +85,57 @@ fn cortex_views(
                 .ok()
                 .and_then(|r| c.mean_share.get(r).copied())
                 .filter(|v| v.is_finite())
-                .map_or(0.0, |v| v.max(0.0))
+                .unwrap_or(0.0)
         })
         .collect();
-    let largest = values.iter().copied().fold(0.0, f64::max);
+    let largest = values.iter().fold(0.0f64, |m, v| m.max(v.abs()));
     if largest <= 0.0 {
         return Ok(Vec::new());
     }
-    let mut options = ViewOptions::new(View::Left, VIEW_SIZE.0, VIEW_SIZE.1);
+    let signed = values.iter().any(|&v| v <= -SHOWN_SHARE);
+    let mut options = ViewOptions::new(View::Left, 1, 1);
     options.background = [255, 255, 255, 255];
     options.regions = Some(&t.region);
     options.hemisphere = Some(&t.hemisphere);
-    options.colour = ColourSpec::Positive {
-        max: Some(largest),
-        threshold: SHOWN_SHARE,
+    options.values_by_region = true;
+    let values = if signed {
+        options.colour = ColourSpec::Signed {
+            limit: Some(largest),
+            threshold: SHOWN_SHARE,
+        };
+        values
+    } else {
+        options.colour = ColourSpec::Positive {
+            max: Some(largest),
+            threshold: SHOWN_SHARE,
+        };
+        values.into_iter().map(|v| v.max(0.0)).collect()
     };
     let what = || format!("the cortex views of {}", c.name);
-    let views = render_views(&t.mesh, &values, &View::PANEL, &options)
+    let painted = if signed {
+        diverging_painted
+    } else {
+        sequential_painted
+    };
+    let panel = cortex_panel(&t.mesh, &values, &options, painted)
         .map_err(|e| figure_error(f, what(), e))?;
-    views
-        .iter()
-        .map(|(view, image)| {
-            let png = image.encode_png().map_err(|e| figure_error(f, what(), e))?;
-            Ok((
-                png_img(&png, image.width, image.height, view.caption()),
-                view.caption().to_string(),
-            ))
-        })
-        .collect()
+    let mut out: Vec<(String, String)> = panel
+        .into_iter()
+        .map(|v| (v.markup, v.view.caption().to_string()))
+        .collect();
+    let bar = if signed {
+        colour_bar_svg(
+            VIEW_DISPLAY.1,
+            -largest,
+            largest,
+            &|t: f64| diverging(2.0 * t - 1.0),
+            "mean share",
+        )
+    } else {
+        colour_bar_svg(VIEW_DISPLAY.1, 0.0, largest, &sequential, "mean share")
+    };
+    out.push((bar, String::new()));
+    Ok(out)
 }
 
 fn figure_error(f: &CompareFile, figure: String, e: impl std::fmt::Display) -> ReportError {
@@ -426,19 +453,21 @@ fn component_section(h: &mut Html, f: &CompareFile, ci: usize, figs: &ComponentC
                 .cortex
                 .iter()
                 .map(|(img, c)| (img.as_str(), c.as_str()));
-            figures(h, "", items);
+            figures(h, "cortex", items);
             let largest = c
                 .mean_share
                 .iter()
                 .copied()
                 .filter(|v| v.is_finite())
-                .fold(0.0, f64::max);
+                .fold(0.0, |m: f64, v| m.max(v.abs()));
             h.element(
                 "p",
                 "note",
                 &format!(
-                    "Each region painted with its group mean share (darker is larger, up to the \
-                     largest region's {}); regions below {} are left grey; lines: region borders.",
+                    "Each region painted with its group mean share (darker is larger in size, up \
+                     to the largest region's {}; negative shares, where present, in blue on a map \
+                     centred at zero); regions within {} of zero are left grey; lines: region \
+                     borders. {MARKS_NOTE}",
                     percent(largest, 1),
                     percent(SHOWN_SHARE, 1)
                 ),

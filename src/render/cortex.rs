@@ -127,6 +127,12 @@ pub struct ViewOptions<'a> {
     pub background: [u8; 4],
     /// Scale and placement.
     pub scale: Scale,
+    /// Values that are constant per region (a share painted on its region):
+    /// each sample takes the value of the region that weighs most at it (the
+    /// rule that draws the outlines) instead of the value interpolated
+    /// across the triangle, so no blend of two regions' colours (a halo)
+    /// appears along a border. Needs `regions`; ignored without.
+    pub values_by_region: bool,
 }
 
 impl ViewOptions<'_> {
@@ -145,6 +151,7 @@ impl ViewOptions<'_> {
             supersample: 2,
             background: [255, 255, 255, 0],
             scale: Scale::Fit { margin: 0.03 },
+            values_by_region: false,
         }
     }
 }
@@ -383,6 +390,23 @@ impl<'a> Scene<'a> {
     }
 }
 
+/// The corner (0, 1 or 2) of a triangle whose region carries the largest
+/// summed barycentric weight `b`: at a vertex the vertex itself; across a
+/// triangle whose corners straddle two regions the boundary runs straight
+/// from edge midpoint to edge midpoint, which draws smoother lines than the
+/// nearest vertex's region would.
+fn dominant_corner<B: Copy + Into<f64>>(r: [Option<i32>; 3], b: [B; 3]) -> usize {
+    let weight = |k: usize| -> f64 { (0..3).filter(|&j| r[j] == r[k]).map(|j| b[j].into()).sum() };
+    let (w0, w1, w2) = (weight(0), weight(1), weight(2));
+    if w0 >= w1 && w0 >= w2 {
+        0
+    } else if w1 >= w2 {
+        1
+    } else {
+        2
+    }
+}
+
 /// Marks the covered samples whose region differs from a covered
 /// 4-neighbour's. Both sides of a boundary are marked, so a
 /// line is two samples (one output pixel at 2×2) wide.
@@ -395,26 +419,14 @@ fn outline_samples(
     h: usize,
 ) -> Vec<bool> {
     // Region of each covered sample: the region whose corners carry the
-    // largest summed barycentric weight. At a vertex this is the vertex's
-    // own region; across a triangle whose corners straddle two regions the
-    // boundary runs straight from edge midpoint to edge midpoint, which
-    // draws smoother lines than the nearest vertex's region would.
+    // largest summed barycentric weight (`dominant_corner`).
     let region: Vec<Option<i32>> = triangle
         .par_iter()
         .zip(barycentric)
         .map(|(&t, b)| {
             let tri = triangles.get(t as usize)?;
             let r = [0, 1, 2].map(|k| regions.get(tri[k] as usize).copied());
-            let weight = |k: usize| -> f32 { (0..3).filter(|&j| r[j] == r[k]).map(|j| b[j]).sum() };
-            let (w0, w1, w2) = (weight(0), weight(1), weight(2));
-            let k = if w0 >= w1 && w0 >= w2 {
-                0
-            } else if w1 >= w2 {
-                1
-            } else {
-                2
-            };
-            r[k]
+            r[dominant_corner(r, *b)]
         })
         .collect();
     (0..w * h)
@@ -578,6 +590,7 @@ fn draw(
     let outline_alpha = OUTLINE[3] as f64 / 255.0;
     let triangles = &scene.mesh.triangles;
     // The linear-light colour of triangle t at barycentric point b.
+    let by_region = options.regions.filter(|_| options.values_by_region);
     let shade = |t: u32, b: [f64; 3]| -> [f64; 3] {
         let tri = triangles[t as usize];
         let mut n = [0.0; 3];
@@ -590,6 +603,10 @@ fn draw(
             if !scene.values.is_empty() {
                 value += b[k] * scene.values[v];
             }
+        }
+        if let (Some(regions), false) = (by_region, scene.values.is_empty()) {
+            let r = [0, 1, 2].map(|k| regions.get(tri[k] as usize).copied());
+            value = scene.values[tri[dominant_corner(r, b)] as usize];
         }
         // Two-sided: a back face seen through an open mesh is lit too.
         let cos = dot(normalize(n), to_camera).abs().min(1.0);

@@ -132,20 +132,33 @@ impl Image {
         out
     }
 
-    /// Encodes the image as an 8-bit RGBA PNG.
+    /// Encodes the image as an 8-bit PNG: RGB when every pixel is opaque
+    /// (a quarter fewer bytes to compress, the same pixels), RGBA otherwise.
     pub fn encode_png(&self) -> Result<Vec<u8>, RenderError> {
         self.check()?;
+        let opaque = self.rgba.chunks_exact(4).all(|p| p[3] == 255);
+        let rgb: Vec<u8>;
+        let (colour, data) = if opaque {
+            rgb = self
+                .rgba
+                .chunks_exact(4)
+                .flat_map(|p| [p[0], p[1], p[2]])
+                .collect();
+            (png::ColorType::Rgb, rgb.as_slice())
+        } else {
+            (png::ColorType::Rgba, self.rgba.as_slice())
+        };
         let mut out = Vec::new();
         {
             let mut encoder = png::Encoder::new(&mut out, self.width, self.height);
-            encoder.set_color(png::ColorType::Rgba);
+            encoder.set_color(colour);
             encoder.set_depth(png::BitDepth::Eight);
             encoder.set_compression(png::Compression::Balanced);
             let mut writer = encoder
                 .write_header()
                 .map_err(|e| RenderError::Png(e.to_string()))?;
             writer
-                .write_image_data(&self.rgba)
+                .write_image_data(data)
                 .map_err(|e| RenderError::Png(e.to_string()))?;
             writer
                 .finish()

@@ -9,6 +9,7 @@ pub mod colormap;
 pub mod compare_report;
 mod contour;
 pub mod cortex;
+mod cortex_panel;
 pub mod error;
 mod figure_error;
 pub mod image;

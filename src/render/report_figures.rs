@@ -5,17 +5,17 @@
 //! (`charts`, and the topographic maps and cortex views when present);
 //! this file only chooses what to draw, at which size, and how to caption it.
 
-use super::axes::colour_bar;
 use super::camera::View;
 use super::charts::{
     region_shares_svg, regularisation_path_svg, PathChartOptions, PathSample, RegionBar,
     RegionSharesOptions,
 };
 use super::colormap::diverging;
-use super::cortex::{render_views, ColourSpec, ViewOptions};
+use super::cortex::{ColourSpec, ViewOptions};
+use super::cortex_panel::{
+    best_view, colour_bar_svg, cortex_panel, diverging_painted, MARKS_NOTE, VIEW_DISPLAY,
+};
 use super::page::ReportError;
-use super::report_html::png_img;
-use super::svg::Svg;
 use super::topomap::{topomap_svg, TopomapOptions};
 use crate::io::result_file::ResultFile;
 
@@ -63,8 +63,6 @@ const PATH_HEIGHT: u32 = 300;
 const CHART_REGIONS: usize = 8;
 /// Width of one topographic map (px): three to a row of the text column.
 const TOPOMAP_WIDTH: u32 = 340;
-/// Size of one cortex view (px): three to a row of the text column.
-const VIEW_SIZE: (u32, u32) = (300, 210);
 /// Source-map values below this fraction of the largest |value| show as
 /// bare cortex, so the active patches stand out.
 const CORTEX_THRESHOLD: f64 = 0.02;
@@ -206,20 +204,9 @@ fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
     }))
 }
 
-/// Pixels of `image` coloured by the map (not grey, white or outline): the
-/// red and blue bytes differ by more than 24 (the bare cortex grey differs
-/// by 8, the outlines by 8).
-fn coloured_pixels(image: &super::image::Image) -> usize {
-    image
-        .rgba
-        .chunks_exact(4)
-        .filter(|p| p[0].abs_diff(p[2]) > 24)
-        .count()
-}
-
-/// Six views of the source map on the cortex at one common scale, with
-/// region outlines, and a colour bar; with the index of the view that shows
-/// the most coloured cortex.
+/// Seven views of the source map on the cortex at one common scale, with
+/// region outlines and orientation marks, and a colour bar; with the index
+/// of the view that shows the most coloured cortex.
 fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>, ReportError> {
     let Some(sources) = &r.sources else {
         return Ok(None);
@@ -240,7 +227,7 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
         ));
     }
     let mesh = sources.mesh();
-    let mut options = ViewOptions::new(View::Left, VIEW_SIZE.0, VIEW_SIZE.1);
+    let mut options = ViewOptions::new(View::Left, 1, 1);
     options.background = [255, 255, 255, 255];
     options.regions = Some(&sources.region);
     if largest > 0.0 {
@@ -250,32 +237,32 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
         };
     }
     let what = || format!("the cortex views of component {c}");
-    let views = render_views(&mesh, &values, &View::PANEL, &options)
+    let panel = cortex_panel(&mesh, &values, &options, diverging_painted)
         .map_err(|e| figure_error(r, what(), e))?;
-    let best = views
-        .iter()
-        .enumerate()
-        .max_by_key(|(i, (_, image))| (coloured_pixels(image), usize::MAX - i))
-        .map_or(0, |(i, _)| i);
-    let mut figures = Vec::with_capacity(views.len() + 1);
-    for (view, image) in &views {
-        let png = image.encode_png().map_err(|e| figure_error(r, what(), e))?;
+    let best = best_view(&panel);
+    let mut figures = Vec::with_capacity(panel.len() + 1);
+    for (i, v) in panel.into_iter().enumerate() {
+        let mut caption = v.view.caption().to_string();
+        if i == best && largest > 0.0 {
+            caption.push_str(" (shows the most of the map)");
+        }
         figures.push(Figure {
-            markup: png_img(&png, image.width, image.height, view.caption()),
-            caption: view.caption().to_string(),
+            markup: v.markup,
+            caption,
         });
     }
     let note = if largest > 0.0 {
         figures.push(Figure {
-            markup: signed_colour_bar(VIEW_SIZE.1),
+            markup: signed_colour_bar(VIEW_DISPLAY.1),
             caption: String::new(),
         });
         format!(
             "Source map: dipole moment per source relative to the largest, {:.3e} A\u{00b7}m \
              (orange positive, blue negative, along the outward normal); values below {:.0} % of \
-             the largest are left grey; lines: region borders. All views share one scale.",
+             the largest are left grey; lines: region borders. All views share one scale. {}",
             largest,
-            100.0 * CORTEX_THRESHOLD
+            100.0 * CORTEX_THRESHOLD,
+            MARKS_NOTE
         )
     } else {
         "The source map is zero everywhere: the fit kept no patch.".to_string()
@@ -299,19 +286,7 @@ fn signed_colour_bar(height: u32) -> String {
 /// A vertical colour bar labelled "relative" from `lo` to 1, `height` px
 /// tall, of `map` (which takes the position 0..1 along the bar).
 pub(crate) fn relative_colour_bar(height: u32, lo: f64, map: &dyn Fn(f64) -> [u8; 3]) -> String {
-    let mut svg = Svg::new(84, height);
-    colour_bar(
-        &mut svg,
-        12.0,
-        28.0,
-        14.0,
-        f64::from(height) - 48.0,
-        lo,
-        1.0,
-        map,
-        "relative",
-    );
-    svg.finish().svg
+    colour_bar_svg(height, lo, 1.0, map, "relative")
 }
 
 /// Topographic maps of the pattern, its fit and the residual on one colour

@@ -5,15 +5,13 @@
 
 use super::camera::View;
 use super::colormap::sequential;
-use super::cortex::{render_views, ColourSpec, ViewOptions};
+use super::cortex::{ColourSpec, ViewOptions};
+use super::cortex_panel::{cortex_panel, sequential_painted, MARKS_NOTE, VIEW_DISPLAY};
 use super::page::ReportError;
 use super::report_figures::{relative_colour_bar, Figure, FigureGroup};
-use super::report_html::png_img;
 use crate::attribution::{gain_agreement, FilterGain, GainAgreement};
 use crate::io::result_file::ResultFile;
 
-/// Size of one cortex view (px), as the source map's.
-const VIEW_SIZE: (u32, u32) = (300, 210);
 /// Gains below this fraction of the largest show as bare cortex.
 const GAIN_THRESHOLD: f64 = 0.05;
 /// Title of the group.
@@ -49,7 +47,7 @@ fn region_list(r: &ResultFile, regions: &[usize]) -> String {
 fn gain_note(r: &ResultFile, c: usize, largest: f64) -> String {
     let mut note = format!(
         "Gain |w\u{1d40} l| of the filter at each source relative to the largest, {largest:.3e} \
-         (filter output per A\u{00b7}m); values below {:.0} % of the largest are left grey. {DIFFERENCE}",
+         (filter output per A\u{00b7}m); values below {:.0} % of the largest are left grey. {DIFFERENCE} {MARKS_NOTE}",
         100.0 * GAIN_THRESHOLD
     );
     if let Some(a) = component_agreement(r, c) {
@@ -74,7 +72,7 @@ fn gain_note(r: &ResultFile, c: usize, largest: f64) -> String {
     note
 }
 
-/// The gain group of component `c`: six cortex views and a colour bar, or
+/// The gain group of component `c`: seven cortex views and a colour bar, or
 /// a group without pictures whose note says why there is no gain map.
 pub fn gain_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportError> {
     let without = |note: &str| {
@@ -115,7 +113,7 @@ pub fn gain_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, Repor
         return without("The filter's gain is zero everywhere (its weights are zero).");
     }
     let mesh = sources.mesh();
-    let mut options = ViewOptions::new(View::Left, VIEW_SIZE.0, VIEW_SIZE.1);
+    let mut options = ViewOptions::new(View::Left, 1, 1);
     options.background = [255, 255, 255, 255];
     options.regions = Some(&sources.region);
     options.colour = ColourSpec::Positive {
@@ -123,20 +121,17 @@ pub fn gain_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, Repor
         threshold: GAIN_THRESHOLD * largest,
     };
     let what = || format!("the gain views of component {c}");
-    let views = render_views(&mesh, &values, &View::PANEL, &options)
+    let panel = cortex_panel(&mesh, &values, &options, sequential_painted)
         .map_err(|e| ReportError::figure(&r.path, what(), e))?;
-    let mut figures = Vec::with_capacity(views.len() + 1);
-    for (view, image) in &views {
-        let png = image
-            .encode_png()
-            .map_err(|e| ReportError::figure(&r.path, what(), e))?;
-        figures.push(Figure {
-            markup: png_img(&png, image.width, image.height, view.caption()),
-            caption: view.caption().to_string(),
-        });
-    }
+    let mut figures: Vec<Figure> = panel
+        .into_iter()
+        .map(|v| Figure {
+            markup: v.markup,
+            caption: v.view.caption().to_string(),
+        })
+        .collect();
     figures.push(Figure {
-        markup: relative_colour_bar(VIEW_SIZE.1, 0.0, &sequential),
+        markup: relative_colour_bar(VIEW_DISPLAY.1, 0.0, &sequential),
         caption: String::new(),
     });
     Ok(Some(FigureGroup {

@@ -71,7 +71,13 @@ ul.notes { margin: 6px 0 0; padding-left: 20px; color: var(--muted); font-size: 
 .component .headline { color: var(--muted); margin: -4px 0 10px; }
 .figures { display: flex; flex-wrap: wrap; gap: 14px; align-items: flex-start; }
 .figures.cortex { display: grid; grid-template-columns: repeat(3, max-content) 84px; gap: 6px 14px; }
-.figures.cortex figure:last-child { grid-column: 4; grid-row: 1 / span 2; align-self: center; }
+.figures.cortex figure:last-child { grid-column: 4; grid-row: 1 / span 3; align-self: center; }
+.view { position: relative; display: block; }
+.view .mark { position: absolute; font-size: 11px; font-weight: 600; line-height: 1; color: var(--muted); }
+.view .mark.w { left: 2px; top: 50%; transform: translateY(-50%); }
+.view .mark.e { right: 2px; top: 50%; transform: translateY(-50%); }
+.view .mark.n { top: 2px; left: 50%; transform: translateX(-50%); }
+.view .mark.s { bottom: 2px; left: 50%; transform: translateX(-50%); }
 figure { margin: 0; }
 figure img, figure svg { display: block; max-width: 100%; height: auto; }
 figcaption { font-size: 12.5px; color: var(--muted); margin-top: 4px; max-width: 520px; }

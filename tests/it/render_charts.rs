@@ -360,7 +360,7 @@ fn large_heatmaps_embed_one_pixel_per_cell() {
     let info = reader.next_frame(&mut buf).unwrap();
     assert_eq!((info.width, info.height), (n as u32, n as u32));
     // Top-right cell: value (n−1)/n → diverging((n−1)/n).
-    let k = 4 * (n - 1);
+    let k = info.color_type.samples() * (n - 1);
     assert_eq!(&buf[k..k + 3], &diverging((n as f64 - 1.0) / n as f64)[..]);
 }
 

@@ -464,3 +464,62 @@ fn pictures_do_not_depend_on_the_thread_count() {
     };
     assert_eq!(draw(1), draw(3));
 }
+
+#[test]
+fn values_by_region_paint_no_blend_along_borders() {
+    // A sphere in two regions (x < 0 and x ≥ 0) with share 1 on one and 0 on
+    // the other, flat light, one sample per pixel. Interpolated values blend
+    // across the border triangles into a band of intermediate colours (the
+    // halo the issue saw); painted by region, every pixel is the region's
+    // colour, the bare grey, either of those under the outline, or the
+    // background: at most five colours. Exact by construction (our check,
+    // no outside source: the colour of a pixel is a function of one value).
+    let mesh = Mesh::icosphere(4, 0.05);
+    let regions: Vec<i32> = mesh
+        .vertices
+        .iter()
+        .map(|p| i32::from(p[0] >= 0.0))
+        .collect();
+    let values: Vec<f64> = regions.iter().map(|&r| f64::from(1 - r)).collect();
+    let distinct = |by_region: bool| {
+        let mut o = ViewOptions::new(View::Front, 240, 240);
+        o.supersample = 1;
+        o.shading = Shading {
+            ambient: 1.0,
+            diffuse: 0.0,
+        };
+        o.background = [255, 255, 255, 255];
+        o.regions = Some(&regions);
+        o.values_by_region = by_region;
+        o.colour = ColourSpec::Positive {
+            max: Some(1.0),
+            threshold: 0.01,
+        };
+        let img = render_view(&mesh, &values, &o).unwrap();
+        let mut colours: Vec<[u8; 3]> = img.rgba.chunks(4).map(|p| [p[0], p[1], p[2]]).collect();
+        colours.sort_unstable();
+        colours.dedup();
+        colours.len()
+    };
+    let (blended, by_region) = (distinct(false), distinct(true));
+    eprintln!("distinct colours: interpolated {blended}, by region {by_region}");
+    assert!(by_region <= 5, "{by_region} colours painted by region");
+    assert!(
+        blended > 10,
+        "the interpolated picture shows only {blended} colours"
+    );
+}
+
+#[test]
+fn edge_marks_follow_the_cameras() {
+    // Head coordinates (design.md): +x right, +y nose, +z up. Seen from the
+    // left the nose points left; from the front the subject's right is on
+    // the viewer's left; from above, nose up (common practice, no source).
+    assert_eq!(View::Left.edge_marks(), ["A", "P", "S", "I"]);
+    assert_eq!(View::Right.edge_marks(), ["P", "A", "S", "I"]);
+    assert_eq!(View::MedialLeft.edge_marks(), ["P", "A", "S", "I"]);
+    assert_eq!(View::MedialRight.edge_marks(), ["A", "P", "S", "I"]);
+    assert_eq!(View::Front.edge_marks(), ["R", "L", "S", "I"]);
+    assert_eq!(View::Back.edge_marks(), ["L", "R", "S", "I"]);
+    assert_eq!(View::Top.edge_marks(), ["L", "R", "A", "P"]);
+}

@@ -31,14 +31,35 @@ fn read(path: &Path) -> String {
 fn embedded_pictures_decode_at_their_stated_size() {
     let page = parse(&read(&demo().join("report.html")));
     support::page::check_pictures(&page);
-    // The demo has 3 components, each with 6 cortex views, plus one card
-    // thumbnail each, and 3 topographic maps (each a PNG inside its SVG).
+    // The demo has 3 components, each with 7 cortex views of the source map
+    // and 7 of the filter gain, plus one card thumbnail each, and 3
+    // topographic maps (each a PNG inside its SVG).
     let n_img = page
         .images
         .iter()
         .filter(|(s, _, _)| s.starts_with("data:"))
         .count();
-    assert!(n_img >= 3 * (6 + 1 + 3), "only {n_img} embedded PNGs");
+    assert!(n_img >= 3 * (7 + 7 + 1 + 3), "only {n_img} embedded PNGs");
+    // Cortex views are drawn at print resolution: at least 800 px wide
+    // (issue 23's target; 800 px is about 6.8 cm at 300 dpi, common practice
+    // for a journal's single-column figure, no source), each with the
+    // orientation marks at its left and right edges.
+    let views: Vec<_> = page
+        .images
+        .iter()
+        .enumerate()
+        .filter(|(_, (s, w, _))| s.starts_with("data:") && w == "300")
+        .collect();
+    assert!(views.len() >= 3 * 15, "only {} cortex views", views.len());
+    for (i, (src, _, _)) in views {
+        let (w, _) = support::page::png_size(src, i);
+        assert!(w >= 800.0, "cortex view {i} is {w} px wide");
+    }
+    let html = read(&demo().join("report.html"));
+    assert!(
+        html.matches("<span class=\"mark w\">").count() >= 3 * 15,
+        "orientation marks missing"
+    );
     // 3 topographic maps, a colour bar and 2 charts per component.
     assert!(
         page.svgs.len() >= 3 * 6,

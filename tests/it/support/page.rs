@@ -123,31 +123,25 @@ pub fn number(text: &str, what: &str) -> f64 {
 }
 
 /// Check every picture of `page`: each image is a PNG data URI whose IHDR
-/// size equals the tag's width and height exactly (PNG, ISO/IEC
-/// 15948:2004), and each inline SVG parses and has a viewBox of its width
-/// and height to 1e-9 (SVG 1.1, W3C 2011, section 7.2; the reports draw in
-/// user units). Returns (PNGs, SVGs) checked.
+/// size is the tag's width and height, or an enlargement
+/// of it with the same aspect ratio to one pixel (a picture drawn at print
+/// resolution and shown at page size; PNG, ISO/IEC 15948:2004), and each
+/// inline SVG parses and has a viewBox of its width and height to 1e-9 (SVG
+/// 1.1, W3C 2011, section 7.2; the reports draw in user units). Returns
+/// (PNGs, SVGs) checked.
 pub fn check_pictures(page: &Page) -> (usize, usize) {
     for (i, (src, width, height)) in page.images.iter().enumerate() {
-        let data = src
-            .strip_prefix("data:image/png;base64,")
-            .unwrap_or_else(|| panic!("image {i}: src is not a PNG data URI"));
-        let bytes = base64::engine::general_purpose::STANDARD
-            .decode(data)
-            .unwrap_or_else(|e| panic!("image {i}: base64: {e}"));
-        let decoder = png::Decoder::new(std::io::Cursor::new(bytes));
-        let mut reader = decoder.read_info().unwrap();
-        let mut buf = vec![0u8; reader.output_buffer_size().unwrap()];
-        let frame = reader.next_frame(&mut buf).unwrap();
-        assert_eq!(
-            f64::from(frame.width),
-            number(width, "image width"),
-            "image {i}: width"
+        let (pw, ph) = png_size(src, i);
+        let (tw, th) = (number(width, "image width"), number(height, "image height"));
+        assert!(
+            pw >= tw && ph >= th,
+            "image {i}: drawn at {pw} x {ph}, shown at {tw} x {th} (drawn smaller than shown)"
         );
-        assert_eq!(
-            f64::from(frame.height),
-            number(height, "image height"),
-            "image {i}: height"
+        // Same aspect ratio: the drawn height is the shown height scaled
+        // like the width, to one pixel.
+        assert!(
+            (ph - th * pw / tw).abs() <= 1.0,
+            "image {i}: drawn at {pw} x {ph}, shown at {tw} x {th} (aspect ratio differs)"
         );
     }
     for (i, svg) in page.svgs.iter().enumerate() {
@@ -232,4 +226,20 @@ pub fn assert_self_contained(html: &str) {
     // The page also forbids fetches to the browser itself.
     assert!(html.contains("Content-Security-Policy"));
     assert!(html.contains("default-src 'none'"));
+}
+
+/// The width and height (px) in the IHDR of image `i`'s PNG data URI, after
+/// decoding the whole image.
+pub fn png_size(src: &str, i: usize) -> (f64, f64) {
+    let data = src
+        .strip_prefix("data:image/png;base64,")
+        .unwrap_or_else(|| panic!("image {i}: src is not a PNG data URI"));
+    let bytes = base64::engine::general_purpose::STANDARD
+        .decode(data)
+        .unwrap_or_else(|e| panic!("image {i}: base64: {e}"));
+    let decoder = png::Decoder::new(std::io::Cursor::new(bytes));
+    let mut reader = decoder.read_info().unwrap();
+    let mut buf = vec![0u8; reader.output_buffer_size().unwrap()];
+    let frame = reader.next_frame(&mut buf).unwrap();
+    (f64::from(frame.width), f64::from(frame.height))
 }
