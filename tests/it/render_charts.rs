@@ -157,7 +157,8 @@ fn bar_lengths_are_proportional_to_the_shares() {
     for (w, b) in widths.iter().zip(&bars) {
         assert!((w - k * b.share).abs() <= 0.011, "{w} vs {}", k * b.share);
     }
-    // Each bar has a whisker (3 lines) and a frequency label with two decimals.
+    // Each bar has a whisker (3 lines) and a frequency label in percent (the
+    // unit of the tables and the terminal).
     assert_eq!(
         elements.iter().filter(|e| e.has_class("whisker")).count(),
         15
@@ -167,7 +168,16 @@ fn bar_lengths_are_proportional_to_the_shares() {
         .filter(|e| e.has_class("frequency"))
         .map(|e| e.text.as_str())
         .collect();
-    assert_eq!(freq, vec!["1.00", "0.80", "0.60", "0.40", "0.20"]);
+    assert_eq!(
+        freq,
+        vec![
+            "100\u{2009}%",
+            "80\u{2009}%",
+            "60\u{2009}%",
+            "40\u{2009}%",
+            "20\u{2009}%"
+        ]
+    );
     // Long names are shortened with an ellipsis.
     assert!(figure.svg.contains('…'));
 }
@@ -255,6 +265,45 @@ fn path_points_are_monotone_in_lambda() {
     let left = ev[0].0; // ratio 10⁻³
     let expected = left + (0.05f64.log10() + 3.0) / 3.0 * (right - left);
     assert!((chosen.num("x1") - expected).abs() < 0.02);
+    // The chosen λ's label sits above every point of both curves (at least
+    // one text height, 12 px, above the highest), so it never covers them
+    // (our layout rule, no outside source).
+    let label = elements
+        .iter()
+        .find(|e| e.name == "text" && e.text.starts_with("chosen"))
+        .unwrap();
+    let highest = ["explained", "active"]
+        .iter()
+        .flat_map(|c| points(elements.iter().find(|e| e.has_class(c)).unwrap()))
+        .map(|p| p.1)
+        .fold(f64::INFINITY, f64::min);
+    assert!(
+        label.num("y") + 2.0 <= highest - 6.0,
+        "label baseline {} vs highest point {highest}",
+        label.num("y")
+    );
+}
+
+#[test]
+fn share_axis_is_not_stretched_by_a_hair_below_zero() {
+    // An interval reaching −0.3 % must not stretch the share axis to the next
+    // nice tick (−10 % or −20 %, Heckbert 1990): the axis starts within 3 %
+    // of the data range below the lowest value (our layout rule), and no tick
+    // label lies left of the axis start.
+    let mut b = bars();
+    b[4].interval = Some([-0.003, 0.05]);
+    let figure = region_shares_svg(&b, &RegionSharesOptions::default()).unwrap();
+    let elements = parse_svg(&figure.svg, figure.width, figure.height);
+    let labels: Vec<f64> = elements
+        .iter()
+        .filter(|e| e.name == "text")
+        .filter_map(|e| e.text.replace('\u{2212}', "-").parse::<f64>().ok())
+        .collect();
+    assert!(
+        labels.iter().all(|&v| v >= -0.3 - 0.03 * 52.5),
+        "tick labels {labels:?}"
+    );
+    assert!(labels.contains(&0.0), "zero is labelled: {labels:?}");
 }
 
 #[test]

@@ -134,7 +134,9 @@ pub fn regularisation_path_svg(
     let (width, height) = (f64::from(options.width), f64::from(options.height));
     let left = MARGIN + 58.0;
     let right = width - MARGIN - 58.0;
-    let top = TITLE_BASELINE + 34.0;
+    // A band between the legend and the plot holds the chosen λ's label, so
+    // the label never lies on a curve (explained variance reaches the top).
+    let top = TITLE_BASELINE + 52.0;
     let bottom = height - 52.0;
     let x = Scale {
         lo: x_ticks[0],
@@ -225,7 +227,7 @@ pub fn regularisation_path_svg(
         let cx = x.px(r);
         svg.line(
             cx,
-            top - 6.0,
+            top - 14.0,
             cx,
             bottom,
             &Attrs::new()
@@ -242,7 +244,7 @@ pub fn regularisation_path_svg(
         let dx = if anchor == "end" { -5.0 } else { 5.0 };
         svg.text(
             cx + dx,
-            top + 6.0,
+            top - 6.0,
             &text,
             // A white halo keeps the label readable over grid lines.
             &Attrs::new()

@@ -131,8 +131,22 @@ pub fn region_shares_svg(
     let x1 = width - MARGIN - frequency_column - 8.0;
     let axis_y = top + bars.len() as f64 * ROW + 6.0;
     let height = (axis_y + 50.0).ceil();
+    // The axis starts at the first tick, unless that tick lies far below a
+    // slightly negative minimum (an interval reaching −0.3 % would otherwise
+    // stretch the axis to −20 %): then just below the minimum, and the
+    // ticks under it are dropped.
+    let data_lo = lo * factor;
+    let axis_lo = if ticks.lo < data_lo - 0.25 * ticks.step {
+        (data_lo - 0.03 * (ticks.hi - data_lo)).min(0.0)
+    } else {
+        ticks.lo
+    };
+    let shown_ticks: Vec<(f64, String)> = labelled(&ticks)
+        .into_iter()
+        .filter(|(v, _)| *v >= axis_lo - 1e-9 * ticks.step)
+        .collect();
     let scale = Scale {
-        lo: ticks.lo,
+        lo: axis_lo,
         hi: ticks.hi,
         start_px: x0,
         end_px: x1.max(x0 + 40.0),
@@ -147,10 +161,10 @@ pub fn region_shares_svg(
         &scale,
         axis_y,
         top - 4.0,
-        &labelled(&ticks),
+        &shown_ticks,
         &options.axis_label,
     );
-    if ticks.lo < 0.0 {
+    if axis_lo < 0.0 {
         let x = scale.px(0.0);
         svg.line(x, top - 4.0, x, axis_y, &Attrs::new().stroke(MUTED, 1.0));
     }
@@ -204,7 +218,9 @@ pub fn region_shares_svg(
             svg.text(
                 cx + 10.0,
                 centre + 4.0,
-                &format!("{f:.2}"),
+                // A percentage, as in the tables and the terminal: one unit
+                // for the selection frequency everywhere.
+                &format!("{:.0}\u{2009}%", 100.0 * f),
                 &Attrs::new().fill(MUTED).class("frequency"),
             );
         }
