@@ -23,6 +23,7 @@ pub mod demo;
 mod describe;
 pub mod dipole;
 pub mod error;
+pub mod figure;
 pub mod forward;
 pub mod gain_outputs;
 pub mod keyed_lock;

@@ -135,6 +135,17 @@ impl Image {
     /// Encodes the image as an 8-bit PNG: RGB when every pixel is opaque
     /// (a quarter fewer bytes to compress, the same pixels), RGBA otherwise.
     pub fn encode_png(&self) -> Result<Vec<u8>, RenderError> {
+        self.encode(None)
+    }
+
+    /// [`Image::encode_png`] with the resolution stored in the file's pHYs
+    /// chunk (PNG, ISO/IEC 15948:2004, 11.3.5.3: pixels per metre), so that
+    /// page-layout programs place it at `dpi` dots per inch.
+    pub fn encode_png_dpi(&self, dpi: f64) -> Result<Vec<u8>, RenderError> {
+        self.encode(Some(dpi))
+    }
+
+    fn encode(&self, dpi: Option<f64>) -> Result<Vec<u8>, RenderError> {
         self.check()?;
         let opaque = self.rgba.chunks_exact(4).all(|p| p[3] == 255);
         let rgb: Vec<u8>;
@@ -154,6 +165,15 @@ impl Image {
             encoder.set_color(colour);
             encoder.set_depth(png::BitDepth::Eight);
             encoder.set_compression(png::Compression::Balanced);
+            if let Some(dpi) = dpi {
+                // 1 inch = 0.0254 m exactly.
+                let per_metre = (dpi / 0.0254).round() as u32;
+                encoder.set_pixel_dims(Some(png::PixelDimensions {
+                    xppu: per_metre,
+                    yppu: per_metre,
+                    unit: png::Unit::Meter,
+                }));
+            }
             let mut writer = encoder
                 .write_header()
                 .map_err(|e| RenderError::Png(e.to_string()))?;

@@ -12,6 +12,7 @@ pub mod cortex;
 mod cortex_panel;
 pub mod error;
 mod figure_error;
+pub mod figure_export;
 pub mod image;
 mod page;
 pub mod raster;

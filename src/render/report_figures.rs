@@ -106,19 +106,18 @@ pub fn component_figures(
     Ok(ComponentFigures { groups, thumbnail })
 }
 
-/// Bars of the leading regions with their intervals and selection frequencies.
-fn share_chart(
+/// The bars of the first `shown` (1 to [`CHART_REGIONS`]) regions of
+/// `order` for component `c`: share, 95 % interval when finite and ordered,
+/// selection frequency when in [0, 1].
+pub(crate) fn share_bars(
     r: &ResultFile,
     c: usize,
     order: &[usize],
     shown: usize,
-) -> Result<Option<Figure>, ReportError> {
-    if order.is_empty() {
-        return Ok(None);
-    }
+) -> Vec<RegionBar> {
     let a = &r.attribution;
     let k = r.k;
-    let bars: Vec<RegionBar> = order
+    order
         .iter()
         .take(shown.clamp(1, CHART_REGIONS))
         .map(|&reg| {
@@ -140,7 +139,20 @@ fn share_chart(
                     .filter(|f| (0.0..=1.0).contains(f)),
             }
         })
-        .collect();
+        .collect()
+}
+
+/// Bars of the leading regions with their intervals and selection frequencies.
+fn share_chart(
+    r: &ResultFile,
+    c: usize,
+    order: &[usize],
+    shown: usize,
+) -> Result<Option<Figure>, ReportError> {
+    if order.is_empty() {
+        return Ok(None);
+    }
+    let bars = share_bars(r, c, order, shown);
     let with_intervals = bars.iter().any(|b| b.interval.is_some());
     let options = RegionSharesOptions {
         width: CHART_WIDTH,
@@ -161,11 +173,10 @@ fn share_chart(
     }))
 }
 
-/// Explained variance and active patches along the λ path, the chosen λ marked.
-fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
-    let Some(p) = &r.fit.path else {
-        return Ok(None);
-    };
+/// The λ path of component `c` (finite points only) and the chosen
+/// λ/λmax, or `None` without a stored path.
+pub(crate) fn path_samples(r: &ResultFile, c: usize) -> Option<(Vec<PathSample>, Option<f64>)> {
+    let p = r.fit.path.as_ref()?;
     let k = r.k;
     let samples: Vec<PathSample> = (0..p.n_points)
         .filter_map(|i| {
@@ -185,14 +196,25 @@ fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
         })
         .collect();
     if samples.is_empty() {
-        return Ok(None);
+        return None;
     }
     let chosen = r.fit.lambda[c] / r.fit.lambda_max[c];
+    Some((
+        samples,
+        (chosen.is_finite() && chosen > 0.0).then_some(chosen),
+    ))
+}
+
+/// Explained variance and active patches along the λ path, the chosen λ marked.
+fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
+    let Some((samples, chosen_ratio)) = path_samples(r, c) else {
+        return Ok(None);
+    };
     let options = PathChartOptions {
         width: CHART_WIDTH,
         height: PATH_HEIGHT,
         title: "Regularisation path".to_string(),
-        chosen_ratio: (chosen.is_finite() && chosen > 0.0).then_some(chosen),
+        chosen_ratio,
     };
     let svg = regularisation_path_svg(&samples, &options)
         .map_err(|e| figure_error(r, format!("the path chart of component {c}"), e))?;
@@ -204,10 +226,9 @@ fn path_chart(r: &ResultFile, c: usize) -> Result<Option<Figure>, ReportError> {
     }))
 }
 
-/// Seven views of the source map on the cortex at one common scale, with
-/// region outlines and orientation marks, and a colour bar; with the index
-/// of the view that shows the most coloured cortex.
-fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>, ReportError> {
+/// Component `c`'s source map, one value per source (A·m), and its largest
+/// |value|; `None` when the result has no source mesh or no map.
+pub(crate) fn source_map(r: &ResultFile, c: usize) -> Result<Option<(Vec<f64>, f64)>, ReportError> {
     let Some(sources) = &r.sources else {
         return Ok(None);
     };
@@ -226,6 +247,19 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
             "the source map holds a value that is not finite",
         ));
     }
+    Ok(Some((values, largest)))
+}
+
+/// Seven views of the source map on the cortex at one common scale, with
+/// region outlines and orientation marks, and a colour bar; with the index
+/// of the view that shows the most coloured cortex.
+fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>, ReportError> {
+    let Some((values, largest)) = source_map(r, c)? else {
+        return Ok(None);
+    };
+    let Some(sources) = &r.sources else {
+        return Ok(None);
+    };
     let mesh = sources.mesh();
     let mut options = ViewOptions::new(View::Left, 1, 1);
     options.background = [255, 255, 255, 255];

@@ -28,6 +28,7 @@ mod dictionary_model;
 mod dictionary_profiles;
 mod dipole_cli;
 mod dipole_fit;
+mod figure_export;
 mod first_hour;
 mod first_hour_check;
 mod first_hour_compare;

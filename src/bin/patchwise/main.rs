@@ -57,6 +57,8 @@ enum Command {
     Template(commands::template::Args),
     /// One self-contained HTML page for a result folder.
     Report(commands::report::Args),
+    /// One figure of a result folder as a PNG or SVG file at a chosen size, with its caption.
+    Figure(commands::figure::Args),
 
     /// Many attributions from a job script: in parallel, resumable, in shards.
     Batch(commands::batch::Args),
@@ -78,6 +80,7 @@ fn main() {
         Command::Dipole(args) => commands::dipole::exec(args),
         Command::Template(args) => commands::template::exec(args),
         Command::Report(args) => commands::report::exec(args),
+        Command::Figure(args) => commands::figure::exec(args),
 
         Command::Batch(args) => commands::batch::exec(args),
         Command::Cache(args) => commands::cache::exec(args),

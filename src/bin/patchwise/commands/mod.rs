@@ -8,6 +8,7 @@ pub mod compare;
 pub mod demo;
 pub mod dictionary;
 pub mod dipole;
+pub mod figure;
 pub mod leadfield;
 pub mod montage;
 pub mod report;
