@@ -18,7 +18,7 @@ use crate::job::attribute;
 use crate::job::cache_folder::CacheOptions;
 use crate::job::outputs::write_attribution_files;
 use crate::job::report::write_report_as;
-use crate::job::{JobError, JobObserver, JobResult, Silent};
+use crate::job::{JobError, JobObserver, JobResult};
 
 /// What `batch` is asked.
 #[derive(clap::Args, Debug, Clone, PartialEq, serde::Serialize, serde::Deserialize)]
@@ -189,7 +189,11 @@ fn run_all(
                     break;
                 };
                 let start = Instant::now();
-                let outcome = run_job_catching(job, hash, &params.out, cache);
+                let notes = JobNotes {
+                    job: &job.name,
+                    batch: observer,
+                };
+                let outcome = run_job_catching(job, hash, &params.out, cache, &notes);
                 if tx.send((i, outcome, start.elapsed())).is_err() {
                     break;
                 }
@@ -217,12 +221,33 @@ fn run_all(
     (ran, failures)
 }
 
+/// A job's notes (a cache entry used or built, a warning) as the batch's
+/// notes, each prefixed with the job's name, so that a shard's log says
+/// which job built which cache entry; the job's progress is not shown (the
+/// batch has its own).
+struct JobNotes<'a> {
+    job: &'a str,
+    batch: &'a dyn JobObserver,
+}
+
+impl JobObserver for JobNotes<'_> {
+    fn note(&self, message: &str) {
+        self.batch.note(&format!("{}: {message}", self.job));
+    }
+}
+
 /// Run one job and stage its folder: result files, then the marker, then
 /// the rename that makes it visible (replacing an outdated folder).
-fn run_job(job: &Job, hash: &str, out: &Path, cache: &Path) -> Result<(), JobError> {
+fn run_job(
+    job: &Job,
+    hash: &str,
+    out: &Path,
+    cache: &Path,
+    observer: &dyn JobObserver,
+) -> Result<(), JobError> {
     let target = out.join(&job.name);
     let params = &job.params;
-    let result = attribute(params, cache, None, &Silent)?;
+    let result = attribute(params, cache, None, observer)?;
     let stage = Staging::new(&target)?;
     write_attribution_files(stage.dir(), &result)?;
     if !job.no_report {
@@ -261,8 +286,12 @@ pub(crate) fn run_job_catching(
     hash: &str,
     out: &Path,
     cache: &Path,
+    observer: &dyn JobObserver,
 ) -> Result<(), JobError> {
-    catch_unwind(AssertUnwindSafe(|| run_job(job, hash, out, cache))).unwrap_or_else(|panic| {
+    catch_unwind(AssertUnwindSafe(|| {
+        run_job(job, hash, out, cache, observer)
+    }))
+    .unwrap_or_else(|panic| {
         let message = panic
             .downcast_ref::<String>()
             .cloned()

@@ -128,6 +128,39 @@ pub fn read_held_entry<T, E: From<super::IoError>>(
     Some(out)
 }
 
+/// An exclusive lock on the build of one entry, held by the process that
+/// builds it and released on drop (or when the process dies).
+pub struct BuildLock {
+    _file: File,
+}
+
+/// The lock file of the entry `path`: `.<entry file name>.lock` beside it
+/// (empty; it is never removed, since removing a lock file another process
+/// has open would let a third one lock a new file of the same name).
+pub fn build_lock_path(path: &Path) -> PathBuf {
+    let name = path
+        .file_name()
+        .map_or_else(|| "entry".to_string(), |n| n.to_string_lossy().into_owned());
+    path.with_file_name(format!(".{name}.lock"))
+}
+
+/// Wait for the exclusive build lock of the entry `path` (an advisory
+/// `flock` on [`build_lock_path`]), so that processes needing the same
+/// entry build it once: the first builds, the others wait and then read
+/// it. `None` when the lock file cannot be made or the file system has no
+/// advisory locks: the caller builds anyway (at worst twice, never half an
+/// entry, since entries are written by a rename).
+pub fn lock_for_build(path: &Path) -> Option<BuildLock> {
+    let file = std::fs::OpenOptions::new()
+        .create(true)
+        .truncate(false)
+        .write(true)
+        .open(build_lock_path(path))
+        .ok()?;
+    file.lock().ok()?;
+    Some(BuildLock { _file: file })
+}
+
 /// What [`remove_entry`] did.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub enum Removal {

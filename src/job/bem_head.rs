@@ -5,7 +5,7 @@
 use std::path::Path;
 
 use super::error::{JobError, JobResult};
-use super::keyed_lock::{cache_locks, entry_lock_key};
+use super::keyed_lock::with_entry_lock;
 use super::observer::{staged, JobObserver};
 use crate::geometry::{Mesh, SourceSpace};
 use crate::head::bem::{check_sources_inside, BemError, BemGeometry, BemSystem};
@@ -179,7 +179,9 @@ pub fn bem_system(
         return build();
     };
     let path = entry_path(cache, "bem", &hash);
-    cache_locks().with_lock(&entry_lock_key(&path), || {
+    // The entry's build lock is a file in the cache folder.
+    let _ = std::fs::create_dir_all(cache);
+    with_entry_lock(&path, || {
         match read_held_entry(&path, read_bem_system) {
             Some(Ok(parts)) => {
                 if let Some(system) = BemSystem::from_parts(head.geometry.clone(), parts) {
@@ -208,11 +210,15 @@ pub fn bem_system(
             .and_then(|()| {
                 write_bem_system(&path, system.to_parts(), &vertices).map_err(|e| e.to_string())
             });
-        if let Err(e) = written {
-            observer.note(&format!(
+        match written {
+            Ok(()) => observer.note(&format!(
+                "built and cached boundary-element system {}",
+                path.display()
+            )),
+            Err(e) => observer.note(&format!(
                 "note: could not cache the boundary-element system in {}: {e}",
                 cache.display()
-            ));
+            )),
         }
         Ok(system)
     })

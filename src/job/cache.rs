@@ -8,7 +8,7 @@ use std::path::{Path, PathBuf};
 use super::bem_head::HeadModel;
 use super::error::{JobError, JobResult};
 use super::forward::{build_dictionary, compute_leadfield};
-use super::keyed_lock::{cache_locks, entry_lock_key};
+use super::keyed_lock::with_entry_lock;
 use super::observer::JobObserver;
 use super::params::{ForwardParams, PatchParams};
 use super::specs::OrientationChoice;
@@ -129,11 +129,11 @@ pub fn dictionary_for_channels(
     let d_hash = dh.hex();
     hashes.push(("leadfield".to_string(), lf_hash.clone()));
     hashes.push(("dictionary".to_string(), d_hash.clone()));
-    // Parallel batch jobs on the same channels wait here for the first one
-    // to build the entry instead of building it again.
+    // Parallel batch jobs on the same channels, in this process or in other
+    // shards, wait here for the first one to build the entry instead of
+    // building it again.
     let model = (&montage, &sources, &head);
-    let d_key = entry_lock_key(&entry_path(cache, "dictionary", &d_hash));
-    let dict = cache_locks().with_lock(&d_key, || {
+    let dict = with_entry_lock(&entry_path(cache, "dictionary", &d_hash), || {
         cached_dictionary(
             patches,
             cache,
@@ -189,16 +189,20 @@ pub fn cached_leadfield(
     observer: &dyn JobObserver,
 ) -> Result<LeadField, JobError> {
     let lf_path = entry_path(cache, "leadfield", lf_hash);
-    cache_locks().with_lock(&entry_lock_key(&lf_path), || {
+    with_entry_lock(&lf_path, || {
         if let Some(lf) = read_cached(&lf_path, "lead field", read_leadfield, observer) {
             return Ok(lf);
         }
         let lf = compute_leadfield(montage, sources, head, orientation, Some(cache), observer)?;
-        if let Err(e) = write_leadfield(&lf_path, &lf) {
-            observer.note(&format!(
+        match write_leadfield(&lf_path, &lf) {
+            Ok(()) => observer.note(&format!(
+                "computed and cached lead field {}",
+                lf_path.display()
+            )),
+            Err(e) => observer.note(&format!(
                 "note: could not cache the lead field in {}: {e}",
                 cache.display()
-            ));
+            )),
         }
         Ok(lf)
     })
@@ -226,7 +230,8 @@ fn cached_dictionary(
     match write_dictionary(&d_path, &lf, &d, &params) {
         Ok(()) => match read_held_entry(&d_path, read_dictionary) {
             Some(read_back) => {
-                return read_back.compute(format!("reading back {}", d_path.display()))
+                observer.note(&format!("built and cached dictionary {}", d_path.display()));
+                return read_back.compute(format!("reading back {}", d_path.display()));
             }
             // Removed by a `patchwise cache clean` of another process
             // between the write and the read: go on without the cache.

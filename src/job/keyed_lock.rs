@@ -47,10 +47,10 @@ impl KeyedLocks {
 }
 
 /// The process-wide locks around content-hash cache builds and removals
-/// (keyed by the entry's path, [`entry_lock_key`]). Across processes the
-/// cache relies on atomic writes and the entries' file locks instead
-/// (`io::cache_entries`): two processes may both build an entry, never read
-/// half of one, and an entry being read is never removed.
+/// (keyed by the entry's path, [`entry_lock_key`]). Across processes
+/// builds take the entry's file lock too ([`with_entry_lock`]); where file
+/// locks do not work, two processes may both build an entry, never read
+/// half of one (atomic writes), and an entry being read is never removed.
 pub fn cache_locks() -> &'static KeyedLocks {
     static LOCKS: OnceLock<KeyedLocks> = OnceLock::new();
     LOCKS.get_or_init(KeyedLocks::new)
@@ -59,6 +59,18 @@ pub fn cache_locks() -> &'static KeyedLocks {
 /// The key of the cache entry `path` in [`cache_locks`].
 pub fn entry_lock_key(path: &std::path::Path) -> String {
     path.to_string_lossy().into_owned()
+}
+
+/// Run `f` holding the build lock of the cache entry `path`: this
+/// process's lock of [`cache_locks`], then the entry's file lock
+/// ([`crate::io::cache_entries::lock_for_build`]), so that threads of this
+/// process and processes of other shards (on this machine, or on others
+/// where the shared file system passes locks on) build the entry once.
+pub fn with_entry_lock<T>(path: &std::path::Path, f: impl FnOnce() -> T) -> T {
+    cache_locks().with_lock(&entry_lock_key(path), || {
+        let _held = crate::io::cache_entries::lock_for_build(path);
+        f()
+    })
 }
 
 #[cfg(test)]
