@@ -496,6 +496,21 @@ pub fn render_views(
     views: &[View],
     options: &ViewOptions<'_>,
 ) -> Result<Vec<(View, Image)>, RenderError> {
+    Ok(render_views_framed(mesh, values, views, options)?
+        .into_iter()
+        .map(|(view, image, _)| (view, image))
+        .collect())
+}
+
+/// [`render_views`] with each view's framing, so that points (markers,
+/// labels) can be placed on the pictures with [`Framing::to_pixel`] of the
+/// view's projection.
+pub fn render_views_framed(
+    mesh: &Mesh,
+    values: &[f64],
+    views: &[View],
+    options: &ViewOptions<'_>,
+) -> Result<Vec<(View, Image, Framing)>, RenderError> {
     let scene = Scene::new(mesh, values, options)?;
     let mut framings = Vec::with_capacity(views.len());
     for &view in views {
@@ -513,7 +528,7 @@ pub fn render_views(
                 pixels_per_metre: common,
                 ..framing
             };
-            Ok((view, draw(&scene, view, options, &framing)?))
+            Ok((view, draw(&scene, view, options, &framing)?, framing))
         })
         .collect()
 }

@@ -8,12 +8,13 @@
 
 use super::axes::colour_bar;
 use super::camera::View;
-use super::cortex::{render_views, ViewOptions};
+use super::cortex::{render_views_framed, ViewOptions};
 use super::error::RenderError;
 use super::image::Image;
+use super::raster::Framing;
 use super::report_html::{escape, png_data_uri};
 use super::svg::Svg;
-use crate::geometry::Mesh;
+use crate::geometry::{Mesh, Vec3};
 
 /// Size at which a view is shown on the page (CSS px): three to a row of
 /// the text column.
@@ -57,21 +58,102 @@ pub(crate) fn cortex_panel(
     options: &ViewOptions<'_>,
     coloured: fn(&[u8]) -> bool,
 ) -> Result<Vec<PanelView>, RenderError> {
+    cortex_panel_with_dipoles(mesh, values, options, coloured, &[])
+}
+
+/// An equivalent dipole to mark on the views: position (m) and moment
+/// (A·m), head coordinates.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct DipoleMark {
+    /// Position (m).
+    pub position: Vec3,
+    /// Moment (A·m).
+    pub moment: Vec3,
+}
+
+/// [`cortex_panel`] with `dipoles` drawn over the views: a ring at each
+/// position projected onto the view and an arrow along the moment's
+/// component in the picture plane (its length: 22 px at the display size for a
+/// moment in the plane, shorter as the moment turns toward the viewer).
+/// Lateral and medial views show the dipoles of their hemisphere only.
+pub(crate) fn cortex_panel_with_dipoles(
+    mesh: &Mesh,
+    values: &[f64],
+    options: &ViewOptions<'_>,
+    coloured: fn(&[u8]) -> bool,
+    dipoles: &[DipoleMark],
+) -> Result<Vec<PanelView>, RenderError> {
     let mut options = *options;
     options.width = VIEW_PIXELS.0;
     options.height = VIEW_PIXELS.1;
-    let views = render_views(mesh, values, &REPORT_VIEWS, &options)?;
+    let views = render_views_framed(mesh, values, &REPORT_VIEWS, &options)?;
     views
         .into_iter()
-        .map(|(view, image)| {
+        .map(|(view, image, framing)| {
             let png = image.encode_png()?;
+            let overlay = dipole_overlay(view, &framing, dipoles);
             Ok(PanelView {
                 view,
-                markup: view_markup(&png, view),
+                markup: view_markup(&png, view, &overlay),
                 coloured: coloured_pixels(&image, coloured),
             })
         })
         .collect()
+}
+
+/// The SVG overlay of `dipoles` on one view (empty when none shows).
+fn dipole_overlay(view: View, framing: &Framing, dipoles: &[DipoleMark]) -> String {
+    use super::camera::Hemispheres;
+    let (w, h) = VIEW_PIXELS;
+    // Drawn in display units (the overlay's viewBox is the display size,
+    // as every inline SVG of the reports).
+    let k = f64::from(VIEW_DISPLAY.0) / f64::from(w);
+    let mut body = String::new();
+    for d in dipoles {
+        let shown = match view.hemispheres() {
+            Hemispheres::Left => d.position[0] < 0.0,
+            Hemispheres::Right => d.position[0] >= 0.0,
+            Hemispheres::Both => true,
+        };
+        if !shown {
+            continue;
+        }
+        let p = view.project(d.position);
+        let [x, y] = framing.to_pixel(w, h, p[0], p[1]).map(|c| c * k);
+        let m = view.project(d.moment);
+        let norm = (m[0] * m[0] + m[1] * m[1] + m[2] * m[2]).sqrt();
+        body.push_str(&format!(
+            r##"<circle cx="{x:.1}" cy="{y:.1}" r="4" fill="#ffffff" fill-opacity="0.7" stroke="#111111" stroke-width="1.5"/>"##
+        ));
+        if norm <= 0.0 {
+            continue;
+        }
+        let (dx, dy) = (22.0 * m[0] / norm, -22.0 * m[1] / norm);
+        let len = dx.hypot(dy);
+        if len <= 2.5 {
+            continue;
+        }
+        // The head: a triangle 6 px long and 5 px wide at the tip (a
+        // polygon, so the page needs no shared marker id).
+        let (ux, uy) = (dx / len, dy / len);
+        let (tx, ty) = (x + dx, y + dy);
+        let (bx, by) = (tx - 6.0 * ux, ty - 6.0 * uy);
+        body.push_str(&format!(
+            r##"<line x1="{x:.1}" y1="{y:.1}" x2="{bx:.1}" y2="{by:.1}" stroke="#111111" stroke-width="1.8"/><polygon points="{tx:.1},{ty:.1} {:.1},{:.1} {:.1},{:.1}" fill="#111111"/>"##,
+            bx - 2.5 * uy,
+            by + 2.5 * ux,
+            bx + 2.5 * uy,
+            by - 2.5 * ux
+        ));
+    }
+    if body.is_empty() {
+        return body;
+    }
+    format!(
+        r#"<svg class="overlay" width="{dw}" height="{dh}" viewBox="0 0 {dw} {dh}" aria-hidden="true">{body}</svg>"#,
+        dw = VIEW_DISPLAY.0,
+        dh = VIEW_DISPLAY.1
+    )
 }
 
 /// The index of the view with the most painted pixels (the first on a tie).
@@ -109,7 +191,7 @@ pub(crate) fn sequential_painted(p: &[u8]) -> bool {
 /// An `<img>` of a view at display size, wrapped with its orientation marks
 /// (letters at the left and right edges; at the top and bottom too when the
 /// picture's up is not the head's up).
-fn view_markup(png: &[u8], view: View) -> String {
+fn view_markup(png: &[u8], view: View, overlay: &str) -> String {
     let [west, east, north, south] = view.edge_marks();
     let mut marks =
         format!("<span class=\"mark w\">{west}</span><span class=\"mark e\">{east}</span>");
@@ -119,7 +201,7 @@ fn view_markup(png: &[u8], view: View) -> String {
         ));
     }
     format!(
-        "<span class=\"view\"><img src=\"{}\" width=\"{}\" height=\"{}\" alt=\"{}\"/>{marks}</span>",
+        "<span class=\"view\"><img src=\"{}\" width=\"{}\" height=\"{}\" alt=\"{}\"/>{overlay}{marks}</span>",
         png_data_uri(png),
         VIEW_DISPLAY.0,
         VIEW_DISPLAY.1,

@@ -13,7 +13,8 @@ use super::charts::{
 use super::colormap::diverging;
 use super::cortex::{ColourSpec, ViewOptions};
 use super::cortex_panel::{
-    best_view, colour_bar_svg, cortex_panel, diverging_painted, MARKS_NOTE, VIEW_DISPLAY,
+    best_view, colour_bar_svg, cortex_panel_with_dipoles, diverging_painted, DipoleMark,
+    MARKS_NOTE, VIEW_DISPLAY,
 };
 use super::page::ReportError;
 use super::topomap::{topomap_svg, TopomapOptions};
@@ -250,6 +251,22 @@ pub(crate) fn source_map(r: &ResultFile, c: usize) -> Result<Option<(Vec<f64>, f
     Ok(Some((values, largest)))
 }
 
+/// The equivalent dipoles of component `c` (positions in the file in mm,
+/// here in m), when the result holds a dipole fit.
+fn dipole_marks(r: &ResultFile, c: usize) -> Vec<DipoleMark> {
+    let Some(d) = &r.dipoles else {
+        return Vec::new();
+    };
+    (0..d.component.len())
+        .filter(|&row| usize::try_from(d.component[row]).ok() == Some(c))
+        .filter(|&row| d.positions_mm[row].iter().all(|v| v.is_finite()))
+        .map(|row| DipoleMark {
+            position: d.positions_mm[row].map(|v| v * 1e-3),
+            moment: d.moments[row],
+        })
+        .collect()
+}
+
 /// Seven views of the source map on the cortex at one common scale, with
 /// region outlines and orientation marks, and a colour bar; with the index
 /// of the view that shows the most coloured cortex.
@@ -271,7 +288,8 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
         };
     }
     let what = || format!("the cortex views of component {c}");
-    let panel = cortex_panel(&mesh, &values, &options, diverging_painted)
+    let dipoles = dipole_marks(r, c);
+    let panel = cortex_panel_with_dipoles(&mesh, &values, &options, diverging_painted, &dipoles)
         .map_err(|e| figure_error(r, what(), e))?;
     let best = best_view(&panel);
     let mut figures = Vec::with_capacity(panel.len() + 1);
@@ -285,6 +303,13 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
             caption,
         });
     }
+    let dipole_note = if dipoles.is_empty() {
+        ""
+    } else {
+        " Rings with arrows: the equivalent dipoles of this component (their position projected \
+         onto each view, the arrow along the moment's part in the picture plane; lateral and \
+         medial views show their hemisphere's dipoles only; a ring can lie under the cortex)."
+    };
     let note = if largest > 0.0 {
         figures.push(Figure {
             markup: signed_colour_bar(VIEW_DISPLAY.1),
@@ -293,10 +318,11 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
         format!(
             "Source map: dipole moment per source relative to the largest, {:.3e} A\u{00b7}m \
              (orange positive, blue negative, along the outward normal); values below {:.0} % of \
-             the largest are left grey; lines: region borders. All views share one scale. {}",
+             the largest are left grey; lines: region borders. All views share one scale. {}{}",
             largest,
             100.0 * CORTEX_THRESHOLD,
-            MARKS_NOTE
+            MARKS_NOTE,
+            dipole_note
         )
     } else {
         "The source map is zero everywhere: the fit kept no patch.".to_string()

@@ -73,6 +73,7 @@ ul.notes { margin: 6px 0 0; padding-left: 20px; color: var(--muted); font-size: 
 .figures.cortex { display: grid; grid-template-columns: repeat(3, max-content) 84px; gap: 6px 14px; }
 .figures.cortex figure:last-child { grid-column: 4; grid-row: 1 / span 3; align-self: center; }
 .view { position: relative; display: block; }
+.view svg.overlay { position: absolute; left: 0; top: 0; width: 100%; height: 100%; }
 .view .mark { position: absolute; font-size: 11px; font-weight: 600; line-height: 1; color: var(--muted); }
 .view .mark.w { left: 2px; top: 50%; transform: translateY(-50%); }
 .view .mark.e { right: 2px; top: 50%; transform: translateY(-50%); }

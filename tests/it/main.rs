@@ -72,6 +72,7 @@ mod render_spline;
 mod render_topomap;
 mod report_browser;
 mod report_compare;
+mod report_dipole_marks;
 mod report_html;
 mod solver_invariants;
 mod solver_reference;
