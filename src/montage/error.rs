@@ -50,6 +50,13 @@ pub enum MontageError {
         /// Its index.
         second_index: usize,
     },
+    /// A construction line of a standard layout left the scalp surface
+    /// (the surface is not closed around the head's centre).
+    #[error("placing the standard layout on the scalp: {what} does not meet the scalp surface; expected a closed scalp around the head's centre")]
+    OffScalp {
+        /// Which line or point.
+        what: String,
+    },
     /// The requested standard layout does not exist.
     #[error("unknown standard montage {name:?}; known: {}", known.join(", "))]
     UnknownStandard {

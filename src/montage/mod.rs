@@ -5,6 +5,7 @@
 
 mod error;
 mod labels;
+mod scalp_layout;
 mod sphere;
 mod standard;
 
@@ -13,6 +14,7 @@ use std::collections::{HashMap, HashSet};
 
 pub use error::{MontageError, ProjectionWarning, PROJECTION_WARNING_M};
 pub use labels::{canonical_label, TEMPORAL_ALIASES};
+pub use scalp_layout::{standard_on_scalp, standard_on_template_head, ScalpExit, ScalpLandmarks};
 pub use sphere::fit_sphere;
 pub use standard::{standard, standard_names};
 

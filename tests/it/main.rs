@@ -46,6 +46,7 @@ mod head_bem_cli;
 mod head_bem_surfaces;
 mod head_series;
 mod head_spheres;
+mod head_template_bem;
 mod io_gifti;
 mod io_hdf5;
 mod io_kernel_file;
