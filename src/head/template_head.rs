@@ -141,7 +141,7 @@ pub fn is_inside(surface: TemplateSurface, p: Vec3) -> bool {
 /// the direction is zero, or the ray has not left within 1 m.
 pub fn ray_exit(surface: TemplateSurface, origin: Vec3, direction: Vec3) -> Option<Vec3> {
     let length = norm(direction);
-    if !is_inside(surface, origin) || !(length > 0.0) {
+    if !is_inside(surface, origin) || length.is_nan() || length <= 0.0 {
         return None;
     }
     let d = scale(direction, 1.0 / length);

@@ -187,7 +187,8 @@ impl<'a> ScalpPlacement<'a> {
         // Equator: from Fpz over T7 to Oz, in the plane of the three.
         let o = scale(add(fpz, oz), 0.5);
         let a = normalize(sub(fpz, o));
-        if !(norm(cross(a, sub(t7, o))) > 0.0) {
+        let bend = norm(cross(a, sub(t7, o)));
+        if bend.is_nan() || bend <= 0.0 {
             return Err(MontageError::OffScalp {
                 what: "the equator".to_string(),
             });

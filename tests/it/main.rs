@@ -47,6 +47,7 @@ mod head_bem_surfaces;
 mod head_series;
 mod head_spheres;
 mod head_template_bem;
+mod head_template_bem_cli;
 mod io_gifti;
 mod io_hdf5;
 mod io_kernel_file;
