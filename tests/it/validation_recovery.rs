@@ -35,7 +35,7 @@ fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
             n_patches: 1 + (c % 3) as usize,
             snr_db: 20.0,
             jitter_m: 0.005,
-            sim_head: head.clone(),
+            sim_head: head.clone().into(),
             lambda: LambdaRule::Bic,
             resamples: 0,
             perturb_model: false,
