@@ -49,6 +49,34 @@ fn the_template_bem_head_gives_a_lead_field_end_to_end() {
         let scale = col.iter().map(|v| v.abs()).fold(0.0, f64::max);
         assert!(col.iter().sum::<f64>().abs() <= 1e-9 * scale * n_ch as f64);
     }
+    // attribute takes the same head, from the cached system.
+    std::fs::write(dir.join("five.csv"), "0.5\n-0.2\n0.9\n0.1\n-0.4\n").unwrap();
+    std::fs::write(dir.join("five.txt"), "C3\nCz\nC4\nPz\nFz\n").unwrap();
+    let o = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "five.csv",
+            "--channels",
+            "five.txt",
+            "--montage",
+            "10-20",
+            "--sources",
+            "template-5k",
+            "--head",
+            "template-bem",
+            "--out",
+            "attributed",
+        ],
+        &dir,
+    );
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(o.status.success(), "{err}");
+    assert!(
+        err.contains("using cached boundary-element system"),
+        "{err}"
+    );
+    assert!(dir.join("attributed/regions.csv").is_file());
     // Against the default spheres (same labels, sphere positions): the
     // same sources seen through a different head. Printed for the record;
     // the bound only catches a broken lead field (RDM 2 is a sign flip).
