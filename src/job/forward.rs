@@ -16,7 +16,10 @@ use crate::geometry::SourceSpace;
 use crate::head::{HeadModelKind, HeadSpec, SphereHead};
 use crate::io::electrodes::read_electrodes;
 use crate::io::sources_file::{read_regions, read_sources, POINT_SOURCE_AREA_MM2};
-use crate::montage::{fit_sphere, standard, standard_names, standard_on_template_head, Montage};
+use crate::montage::{
+    align_to_landmarks, fit_sphere, split_landmarks, standard, standard_names,
+    standard_on_template_head, LandmarkTriple, Montage,
+};
 use crate::pipeline::{bem_leadfield_for, dictionary_for, leadfield_for, DistanceKind};
 
 impl ForwardParams {
@@ -28,7 +31,7 @@ impl ForwardParams {
         observer: &dyn JobObserver,
     ) -> Result<(Montage, SourceSpace, HeadModel), JobError> {
         let (mut montage, from_file) = if self.head == HeadChoice::TemplateBem {
-            load_template_head_montage(&self.montage)?
+            load_template_head_montage(&self.montage, observer)?
         } else {
             load_montage(&self.montage)?
         };
@@ -245,16 +248,44 @@ pub fn load_montage(spec: &MontageSpec) -> Result<(Montage, bool), JobError> {
 }
 
 /// The montage for the template head: a standard layout placed on its
-/// scalp from its own landmarks, or an electrodes file (mm, taken to be in
-/// the template head's frame).
-fn load_template_head_montage(spec: &MontageSpec) -> Result<(Montage, bool), JobError> {
-    match spec {
-        MontageSpec::Standard(name) => Ok((
-            standard_on_template_head(name).input("choosing a montage")?,
-            false,
-        )),
-        MontageSpec::File(_) => load_montage(spec),
-    }
+/// scalp from its own landmarks, or an electrodes file (mm): aligned to the
+/// head by its nasion, LPA and RPA rows when it has them, else taken to be
+/// in the template head's frame.
+fn load_template_head_montage(
+    spec: &MontageSpec,
+    observer: &dyn JobObserver,
+) -> Result<(Montage, bool), JobError> {
+    let path = match spec {
+        MontageSpec::Standard(name) => {
+            return Ok((
+                standard_on_template_head(name).input("choosing a montage")?,
+                false,
+            ))
+        }
+        MontageSpec::File(path) => path,
+    };
+    let (montage, from_file) = load_montage(spec)?;
+    let context = format!(
+        "aligning the electrodes of {} to the template head",
+        path.display()
+    );
+    let (rest, landmarks) = split_landmarks(&montage).input(&context)?;
+    let Some(from) = landmarks else {
+        return Ok((rest, from_file));
+    };
+    let l = crate::head::template_head::template_landmarks();
+    let to = LandmarkTriple {
+        nasion: l.nasion,
+        lpa: l.lpa,
+        rpa: l.rpa,
+    };
+    let aligned = align_to_landmarks(&rest, &from, &to).input(&context)?;
+    observer.note(&format!(
+        "note: {}: {} electrodes aligned to the template head by their nasion, LPA and RPA (rigid; origin between the preauricular points, x to the right one, y to the nasion), then moved onto its scalp",
+        path.display(),
+        aligned.len()
+    ));
+    Ok((aligned, from_file))
 }
 
 /// Refuse `path` when it names something that exists but is not a regular

@@ -54,6 +54,7 @@ mod io_kernel_file;
 mod io_npy;
 mod io_ply_off;
 mod io_result_file;
+mod montage_coregister;
 mod montage_electrodes_io;
 mod montage_matching;
 mod montage_standard;
