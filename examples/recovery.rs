@@ -3,6 +3,10 @@
 //! `cargo run --release --example recovery -- [template|template-5k] [cases per cell] [--snr DB] [--rule BIC] [--radii-mm 5,10,20]`
 //!
 //! `--snr` keeps one SNR only (any value), `--jitter-mm` sets the electrode jitter (default 5), `--rule` one λ rule (BIC, GCV, AIC, "ratio 0.1", "ratio 0.3"); `--radii-mm` changes the fit's dictionary radii
+//! `--head template-bem` simulates on the template boundary-element head instead and fits each case
+//! twice, with the default spheres (the demo's channels at their sphere positions) and with the
+//! template-bem head (the same channels on its scalp), with the noise and BIC λ rules (docs/validation.md,
+//! "What the sphere costs"); `--snr` as above (default 10 and 20 dB).
 //! `--resamples N` resamples each patch fit and prints, to stderr, top-1 among the cases whose leading region's
 //! lead frequency reaches 0.5 … 0.9; and `--misses` prints each top-1 miss (the truth's margin between its two leading regions, and the
 //! method's share deficit in the true region) to stderr; the count of near-tie cases (truth margin below 0.05 and
@@ -20,7 +24,7 @@
 use patchwise::geometry::TemplateResolution;
 use patchwise::head::SphereHead;
 use patchwise::pipeline::LambdaRule;
-use patchwise::validation::{median, run_case, CaseSpec, Method, RecoveryFixture};
+use patchwise::validation::{median, run_case, CaseSpec, Method, RecoveryFixture, SimHead};
 
 fn main() {
     let args: Vec<String> = std::env::args().collect();
@@ -42,6 +46,11 @@ fn main() {
             .split(',')
             .map(|v| v.parse::<f64>().unwrap() * 1e-3)
             .collect();
+    }
+    if flag("--head").is_some_and(|h| h == "template-bem") {
+        let snrs = only_snr.map_or(vec![10.0, 20.0], |o| vec![o]);
+        head_comparison(res, cases, &params, &snrs, jitter_mm);
+        return;
     }
     let fixture = RecoveryFixture::with_dictionary(res, &params).unwrap();
     let setup = fixture.setup();
@@ -74,7 +83,7 @@ fn main() {
                         n_patches: 1 + (c % 3) as usize,
                         snr_db: snr,
                         jitter_m: jitter_mm * 1e-3,
-                        sim_head: sim_head.clone(),
+                        sim_head: sim_head.clone().into(),
                         lambda: rule,
                         resamples,
                         perturb_model: true,
@@ -159,6 +168,108 @@ fn main() {
                         m.len()
                     );
                 }
+            }
+        }
+    }
+}
+
+/// Simulate on the template boundary-element head; fit with the default
+/// spheres and with that head; one row per fit head, SNR and λ rule.
+fn head_comparison(
+    res: TemplateResolution,
+    cases: u64,
+    params: &patchwise::dictionary::DictionaryParams,
+    snrs: &[f64],
+    jitter_mm: f64,
+) {
+    use patchwise::head::bem::{BemGeometry, BemSystem};
+    use patchwise::head::template_head::{
+        template_head_surfaces, TEMPLATE_HEAD_CONDUCTIVITIES, TEMPLATE_HEAD_SURFACES,
+    };
+    let start = std::time::Instant::now();
+    let (geometry, _) = BemGeometry::new(
+        template_head_surfaces(),
+        TEMPLATE_HEAD_SURFACES
+            .iter()
+            .map(|s| s.to_string())
+            .collect(),
+        TEMPLATE_HEAD_CONDUCTIVITIES.to_vec(),
+    )
+    .unwrap();
+    let system = std::sync::Arc::new(BemSystem::build(geometry, &|_| {}).unwrap());
+    eprintln!(
+        "template-bem system built and factorised in {:.1} s",
+        start.elapsed().as_secs_f64()
+    );
+    let layout = patchwise::montage::standard_on_template_head("10-10").unwrap();
+    let fits = [
+        (
+            "default spheres",
+            RecoveryFixture::with_dictionary(res, params)
+                .unwrap()
+                .simulating_at(&layout)
+                .unwrap(),
+        ),
+        (
+            "template-bem",
+            RecoveryFixture::with_bem_fit(res, params, &system, &layout).unwrap(),
+        ),
+    ];
+    println!(
+        "| simulated with | fitted with | SNR dB | λ rule | median loc. error mm | top-1 % (pattern share) | decisive top-1 % (cases) | tie-tolerant top-1 % | minimum norm: median loc. error mm | minimum norm: decisive top-1 % | cases |"
+    );
+    println!("|---|---|---|---|---|---|---|---|---|---|---|");
+    for &snr in snrs {
+        for (rule_name, rule) in [("noise", LambdaRule::Noise), ("BIC", LambdaRule::Bic)] {
+            for (fit_name, fixture) in &fits {
+                let setup = fixture.setup();
+                let mut patch = Vec::new();
+                let mut mn = Vec::new();
+                for c in 0..cases {
+                    let spec = CaseSpec {
+                        seed: 1000 + c,
+                        n_patches: 1 + (c % 3) as usize,
+                        snr_db: snr,
+                        jitter_m: jitter_mm * 1e-3,
+                        sim_head: SimHead::Bem(system.clone()),
+                        lambda: rule,
+                        resamples: 0,
+                        perturb_model: false,
+                    };
+                    for r in run_case(&setup, &spec).unwrap() {
+                        match r.method {
+                            Method::Patches => patch.push(r),
+                            Method::MinimumNorm => mn.push(r),
+                        }
+                    }
+                }
+                let decisive = |m: &[patchwise::validation::CaseResult]| {
+                    let d: Vec<_> = m.iter().filter(|r| r.truth_margin >= 0.10).collect();
+                    let right = d.iter().filter(|r| r.top1_correct).count();
+                    (100.0 * right as f64 / d.len().max(1) as f64, d.len())
+                };
+                let loc = |m: &[patchwise::validation::CaseResult]| {
+                    median(
+                        &m.iter()
+                            .map(|r| r.localization_error_mm)
+                            .collect::<Vec<_>>(),
+                    )
+                };
+                let pct =
+                    |m: &[patchwise::validation::CaseResult],
+                     f: fn(&patchwise::validation::CaseResult) -> bool| {
+                        100.0 * m.iter().filter(|r| f(r)).count() as f64 / m.len().max(1) as f64
+                    };
+                let (dp, dn) = decisive(&patch);
+                let (mp, _) = decisive(&mn);
+                println!(
+                    "| template-bem | {fit_name} | {snr:.0} | {rule_name} | {:.1} | {:.0} | {dp:.0} ({dn}) | {:.0} | {:.1} | {mp:.0} | {} |",
+                    loc(&patch),
+                    pct(&patch, |r| r.top1_correct),
+                    pct(&patch, |r| r.top1_tie_tolerant),
+                    loc(&mn),
+                    patch.len()
+                );
             }
         }
     }

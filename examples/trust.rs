@@ -162,7 +162,7 @@ fn main() {
                         n_patches: 1 + (c % 3) as usize,
                         snr_db: snr,
                         jitter_m: 5e-3,
-                        sim_head: sim_head.clone(),
+                        sim_head: sim_head.clone().into(),
                         lambda: *rule,
                         resamples,
                         perturb_model: perturb,

@@ -143,46 +143,7 @@ impl Mesh {
     /// icosahedron; level L has 10·4^L + 2 vertices), radius in metres,
     /// centred at the origin, outward orientation.
     pub fn icosphere(level: u32, radius: f64) -> Mesh {
-        let t = (1.0 + 5f64.sqrt()) / 2.0;
-        let mut vertices: Vec<Vec3> = [
-            [-1.0, t, 0.0],
-            [1.0, t, 0.0],
-            [-1.0, -t, 0.0],
-            [1.0, -t, 0.0],
-            [0.0, -1.0, t],
-            [0.0, 1.0, t],
-            [0.0, -1.0, -t],
-            [0.0, 1.0, -t],
-            [t, 0.0, -1.0],
-            [t, 0.0, 1.0],
-            [-t, 0.0, -1.0],
-            [-t, 0.0, 1.0],
-        ]
-        .iter()
-        .map(|&v| normalize(v))
-        .collect();
-        let mut triangles: Vec<[u32; 3]> = vec![
-            [0, 11, 5],
-            [0, 5, 1],
-            [0, 1, 7],
-            [0, 7, 10],
-            [0, 10, 11],
-            [1, 5, 9],
-            [5, 11, 4],
-            [11, 10, 2],
-            [10, 7, 6],
-            [7, 1, 8],
-            [3, 9, 4],
-            [3, 4, 2],
-            [3, 2, 6],
-            [3, 6, 8],
-            [3, 8, 9],
-            [4, 9, 5],
-            [2, 4, 11],
-            [6, 2, 10],
-            [8, 6, 7],
-            [9, 8, 1],
-        ];
+        let (mut vertices, mut triangles) = icosahedron();
         for _ in 0..level {
             let mut midpoints: HashMap<(u32, u32), u32> = HashMap::new();
             let mut next = Vec::with_capacity(triangles.len() * 4);
@@ -213,6 +174,104 @@ impl Mesh {
             triangles,
         }
     }
+}
+
+impl Mesh {
+    /// A geodesic sphere of any frequency `n ≥ 1`: each icosahedron face cut
+    /// into n² triangles by a triangular grid, every grid point pushed out to
+    /// the sphere. 10·n² + 2 vertices (n = 2^L gives the vertex count of
+    /// [`Mesh::icosphere`] at level L, with a slightly different spacing),
+    /// radius in metres, centred at the origin, outward orientation.
+    pub fn geodesic_sphere(frequency: u32, radius: f64) -> Mesh {
+        let n = frequency.max(1);
+        let (corners, faces) = icosahedron();
+        // A grid point is keyed by its corners with non-zero integer weights
+        // (sorted by corner), so points on shared edges and corners are made once.
+        let mut index: HashMap<[(u32, u32); 3], u32> = HashMap::new();
+        let mut vertices: Vec<Vec3> = Vec::with_capacity(10 * (n * n) as usize + 2);
+        let mut triangles = Vec::with_capacity(20 * (n * n) as usize);
+        for &[a, b, c] in &faces {
+            let mut id = |i: u32, j: u32| -> u32 {
+                let mut key = [(a, n - i - j), (b, i), (c, j)].map(|(corner, w)| {
+                    if w == 0 {
+                        (u32::MAX, 0)
+                    } else {
+                        (corner, w)
+                    }
+                });
+                key.sort_unstable();
+                *index.entry(key).or_insert_with(|| {
+                    let mut p = [0.0; 3];
+                    for &(corner, w) in &key {
+                        if w > 0 {
+                            p = add(p, scale(corners[corner as usize], f64::from(w)));
+                        }
+                    }
+                    vertices.push(scale(normalize(p), radius));
+                    (vertices.len() - 1) as u32
+                })
+            };
+            for i in 0..n {
+                for j in 0..n - i {
+                    // (i, j) → (i+1, j) → (i, j+1) turns as a → b → c does.
+                    triangles.push([id(i, j), id(i + 1, j), id(i, j + 1)]);
+                    if i + j + 1 < n {
+                        triangles.push([id(i + 1, j), id(i + 1, j + 1), id(i, j + 1)]);
+                    }
+                }
+            }
+        }
+        Mesh {
+            vertices,
+            triangles,
+        }
+    }
+}
+
+/// The unit icosahedron (12 vertices, 20 outward triangles), the start of
+/// both sphere meshes.
+fn icosahedron() -> (Vec<Vec3>, Vec<[u32; 3]>) {
+    let t = (1.0 + 5f64.sqrt()) / 2.0;
+    let vertices: Vec<Vec3> = [
+        [-1.0, t, 0.0],
+        [1.0, t, 0.0],
+        [-1.0, -t, 0.0],
+        [1.0, -t, 0.0],
+        [0.0, -1.0, t],
+        [0.0, 1.0, t],
+        [0.0, -1.0, -t],
+        [0.0, 1.0, -t],
+        [t, 0.0, -1.0],
+        [t, 0.0, 1.0],
+        [-t, 0.0, -1.0],
+        [-t, 0.0, 1.0],
+    ]
+    .iter()
+    .map(|&v| normalize(v))
+    .collect();
+    let triangles: Vec<[u32; 3]> = vec![
+        [0, 11, 5],
+        [0, 5, 1],
+        [0, 1, 7],
+        [0, 7, 10],
+        [0, 10, 11],
+        [1, 5, 9],
+        [5, 11, 4],
+        [11, 10, 2],
+        [10, 7, 6],
+        [7, 1, 8],
+        [3, 9, 4],
+        [3, 4, 2],
+        [3, 2, 6],
+        [3, 6, 8],
+        [3, 8, 9],
+        [4, 9, 5],
+        [2, 4, 11],
+        [6, 2, 10],
+        [8, 6, 7],
+        [9, 8, 1],
+    ];
+    (vertices, triangles)
 }
 
 /// Checks that `mesh` is non-empty, that indices are in range and that all

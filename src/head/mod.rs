@@ -13,6 +13,7 @@ mod error;
 mod series;
 mod spec;
 mod spheres;
+pub mod template_head;
 
 pub use error::HeadError;
 pub use spec::{HeadModelKind, HeadSpec};

@@ -100,6 +100,45 @@ pub fn load_bem_head(
     Ok(BemHead { geometry, spec })
 }
 
+/// The template head of our own (`--head template-bem`): its three
+/// surfaces built and checked, with a note of their sizes.
+pub fn template_bem_head(observer: &dyn JobObserver) -> Result<BemHead, JobError> {
+    use crate::head::template_head::{
+        template_head_surfaces, TEMPLATE_BEM_NAME, TEMPLATE_HEAD_CONDUCTIVITIES,
+        TEMPLATE_HEAD_SURFACES,
+    };
+    let names: Vec<String> = TEMPLATE_HEAD_SURFACES
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    let conductivities = TEMPLATE_HEAD_CONDUCTIVITIES.to_vec();
+    let (geometry, _notes) = BemGeometry::new(
+        template_head_surfaces(),
+        names.clone(),
+        conductivities.clone(),
+    )
+    .map_err(|e| JobError::compute(format!("the {TEMPLATE_BEM_NAME} head: {e}")))?;
+    observer.note(&format!(
+        "note: head {TEMPLATE_BEM_NAME}: inner skull, outer skull and scalp of {} vertices, conductivities {:?} S/m (docs/head_model.md)",
+        geometry
+            .surfaces()
+            .iter()
+            .map(|m| m.n_vertices().to_string())
+            .collect::<Vec<_>>()
+            .join(", "),
+        conductivities
+    ));
+    let spec = HeadSpec {
+        model: crate::head::HeadModelKind::Bem,
+        radii_mm: Vec::new(),
+        surfaces: names,
+        surfaces_hash: Some(geometry_hash(&geometry)),
+        conductivities,
+        center_mm: None,
+    };
+    Ok(BemHead { geometry, spec })
+}
+
 /// The content hash of checked surfaces (as turned outward) and their
 /// conductivities: the key of the factorised system in the cache.
 fn geometry_hash(geometry: &BemGeometry) -> String {

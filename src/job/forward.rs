@@ -5,7 +5,7 @@
 
 use std::path::Path;
 
-use super::bem_head::{bem_system, check_bem_sources, load_bem_head, HeadModel};
+use super::bem_head::{bem_system, check_bem_sources, load_bem_head, template_bem_head, HeadModel};
 use super::error::{JobError, JobResult};
 use super::observer::{staged, JobObserver};
 use super::params::{ForwardParams, PatchParams};
@@ -16,7 +16,10 @@ use crate::geometry::SourceSpace;
 use crate::head::{HeadModelKind, HeadSpec, SphereHead};
 use crate::io::electrodes::read_electrodes;
 use crate::io::sources_file::{read_regions, read_sources, POINT_SOURCE_AREA_MM2};
-use crate::montage::{fit_sphere, standard, standard_names, Montage};
+use crate::montage::{
+    align_to_landmarks, fit_sphere, split_landmarks, standard, standard_names,
+    standard_on_template_head, LandmarkTriple, Montage,
+};
 use crate::pipeline::{bem_leadfield_for, dictionary_for, leadfield_for, DistanceKind};
 
 impl ForwardParams {
@@ -27,7 +30,11 @@ impl ForwardParams {
         labels: Option<&[String]>,
         observer: &dyn JobObserver,
     ) -> Result<(Montage, SourceSpace, HeadModel), JobError> {
-        let (mut montage, from_file) = load_montage(&self.montage)?;
+        let (mut montage, from_file) = if self.head == HeadChoice::TemplateBem {
+            load_template_head_montage(&self.montage, observer)?
+        } else {
+            load_montage(&self.montage)?
+        };
         if let Some(labels) = labels {
             let idx = montage.select(labels).input(format!(
                 "matching the decoder's channels to montage {}",
@@ -36,6 +43,11 @@ impl ForwardParams {
             montage = montage.subset(&idx);
         }
         let sources = load_sources(&self.sources, self.regions.as_deref(), observer)?;
+        if self.head == HeadChoice::TemplateBem {
+            let head = template_bem_head(observer)?;
+            check_bem_sources(&head, &sources)?;
+            return Ok((montage, sources, HeadModel::Bem(head)));
+        }
         if let Some((spec, path)) = bem_spec(&self.head)? {
             let head = load_bem_head(spec, &path, observer)?;
             check_bem_sources(&head, &sources)?;
@@ -235,6 +247,47 @@ pub fn load_montage(spec: &MontageSpec) -> Result<(Montage, bool), JobError> {
     )))
 }
 
+/// The montage for the template head: a standard layout placed on its
+/// scalp from its own landmarks, or an electrodes file (mm): aligned to the
+/// head by its nasion, LPA and RPA rows when it has them, else taken to be
+/// in the template head's frame.
+fn load_template_head_montage(
+    spec: &MontageSpec,
+    observer: &dyn JobObserver,
+) -> Result<(Montage, bool), JobError> {
+    let path = match spec {
+        MontageSpec::Standard(name) => {
+            return Ok((
+                standard_on_template_head(name).input("choosing a montage")?,
+                false,
+            ))
+        }
+        MontageSpec::File(path) => path,
+    };
+    let (montage, from_file) = load_montage(spec)?;
+    let context = format!(
+        "aligning the electrodes of {} to the template head",
+        path.display()
+    );
+    let (rest, landmarks) = split_landmarks(&montage).input(&context)?;
+    let Some(from) = landmarks else {
+        return Ok((rest, from_file));
+    };
+    let l = crate::head::template_head::template_landmarks();
+    let to = LandmarkTriple {
+        nasion: l.nasion,
+        lpa: l.lpa,
+        rpa: l.rpa,
+    };
+    let aligned = align_to_landmarks(&rest, &from, &to).input(&context)?;
+    observer.note(&format!(
+        "note: {}: {} electrodes aligned to the template head by their nasion, LPA and RPA (rigid; origin between the preauricular points, x to the right one, y to the nasion), then moved onto its scalp",
+        path.display(),
+        aligned.len()
+    ));
+    Ok((aligned, from_file))
+}
+
 /// Refuse `path` when it names something that exists but is not a regular
 /// file (a folder, pipe, socket or device): saying "no such file" there
 /// would mislead, and opening a pipe would block.
@@ -311,6 +364,11 @@ pub fn load_head(
 ) -> Result<SphereHead, JobError> {
     let (mut spec, name) = match choice {
         HeadChoice::Default => (SphereHead::default_adult().to_spec(), "default".to_string()),
+        HeadChoice::TemplateBem => {
+            return Err(JobError::input(
+                "the template-bem head is made of surfaces, not spheres; this step needs a sphere head (default or a spheres file)",
+            ))
+        }
         HeadChoice::File(path) => {
             let text = crate::io::input::read_input_string(path)
                 .map_err(|e| JobError::input(format!("{}: {e}", path.display())))?;

@@ -76,7 +76,7 @@ pub struct ForwardParams {
     /// Sources: template (about 20k vertices), template-5k, or a GIFTI/PLY/OFF surface or TSV/CSV table (mm).
     #[arg(long, default_value = "template")]
     pub sources: SourcesSpec,
-    /// Head: default (four shells) or a TOML file.
+    /// Head: default (four shells), template-bem (the template's own surfaces, boundary elements) or a TOML file.
     #[arg(long, default_value = "default")]
     pub head: HeadChoice,
     /// Region label per source (GIFTI label array or one label a line).

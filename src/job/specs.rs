@@ -123,12 +123,16 @@ impl fmt::Display for SourcesSpec {
 }
 text_spec!(SourcesSpec);
 
-/// `--head`: the default four-shell head, or a head TOML file.
+/// `--head`: the default four-shell head, the template boundary-element
+/// head, or a head TOML file.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(try_from = "String", into = "String")]
 pub enum HeadChoice {
     /// The default adult head (four concentric shells).
     Default,
+    /// The template head of our own (`template-bem`): three surfaces built
+    /// around the template cortex, by the boundary-element method.
+    TemplateBem,
     /// A head TOML file.
     File(PathBuf),
 }
@@ -138,11 +142,13 @@ impl FromStr for HeadChoice {
     fn from_str(s: &str) -> Result<Self, SpecError> {
         if s.trim().is_empty() {
             return Err(SpecError(
-                "an empty head; expected default or a head TOML file".to_string(),
+                "an empty head; expected default, template-bem or a head TOML file".to_string(),
             ));
         }
         Ok(if s == "default" {
             HeadChoice::Default
+        } else if s == crate::head::template_head::TEMPLATE_BEM_NAME {
+            HeadChoice::TemplateBem
         } else {
             HeadChoice::File(PathBuf::from(s))
         })
@@ -153,6 +159,7 @@ impl fmt::Display for HeadChoice {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             HeadChoice::Default => f.write_str("default"),
+            HeadChoice::TemplateBem => f.write_str(crate::head::template_head::TEMPLATE_BEM_NAME),
             HeadChoice::File(p) => write!(f, "{}", p.display()),
         }
     }
@@ -258,6 +265,11 @@ mod tests {
             HeadChoice::Default
         );
         assert!("".parse::<HeadChoice>().is_err());
+        assert_eq!(
+            "template-bem".parse::<HeadChoice>().unwrap(),
+            HeadChoice::TemplateBem
+        );
+        assert_eq!(HeadChoice::TemplateBem.to_string(), "template-bem");
         assert_eq!(
             "bic".parse::<LambdaRuleName>().unwrap(),
             LambdaRuleName::Bic

@@ -50,6 +50,25 @@ pub enum MontageError {
         /// Its index.
         second_index: usize,
     },
+    /// An electrodes file gives some of the three landmarks but not all.
+    #[error("the electrodes file gives some landmarks but not {}; expected rows named nasion, LPA and RPA (all three, to align the electrodes to the head) or none", missing.join(", "))]
+    MissingLandmarks {
+        /// The landmarks not given.
+        missing: Vec<String>,
+    },
+    /// Three landmarks too close together or in a line to define a frame.
+    #[error("the landmarks of {side} are closer than 1 cm or in a line; expected the nasion in front of the line through the preauricular points")]
+    DegenerateLandmarks {
+        /// Whose landmarks.
+        side: String,
+    },
+    /// A construction line of a standard layout left the scalp surface
+    /// (the surface is not closed around the head's centre).
+    #[error("placing the standard layout on the scalp: {what} does not meet the scalp surface; expected a closed scalp around the head's centre")]
+    OffScalp {
+        /// Which line or point.
+        what: String,
+    },
     /// The requested standard layout does not exist.
     #[error("unknown standard montage {name:?}; known: {}", known.join(", "))]
     UnknownStandard {

@@ -3,16 +3,20 @@
 //!
 //! The construction of the standard layouts is described in docs/montage.md.
 
+mod coregister;
 mod error;
 mod labels;
+mod scalp_layout;
 mod sphere;
 mod standard;
 
 use crate::geometry::Vec3;
 use std::collections::{HashMap, HashSet};
 
+pub use coregister::{align_to_landmarks, split_landmarks, LandmarkTriple};
 pub use error::{MontageError, ProjectionWarning, PROJECTION_WARNING_M};
 pub use labels::{canonical_label, TEMPORAL_ALIASES};
+pub use scalp_layout::{standard_on_scalp, standard_on_template_head, ScalpExit, ScalpLandmarks};
 pub use sphere::fit_sphere;
 pub use standard::{standard, standard_names};
 

@@ -45,21 +45,11 @@ pub fn standard_names() -> &'static [&'static str] {
 /// (Oostenveld & Praamstra 2001). The temporal electrodes carry the 10-10 names T7, T8,
 /// P7, P8 in every layout; [`Montage::find`] also accepts T3, T4, T5, T6.
 pub fn standard(name: &str, radius_m: f64) -> Result<Montage, MontageError> {
-    let tier = match name.trim().to_lowercase().as_str() {
-        "10-20" => Tier::Twenty,
-        "10-10" => Tier::Ten,
-        "10-5" | "10-05" => Tier::Five,
-        _ => {
-            return Err(MontageError::UnknownStandard {
-                name: name.to_string(),
-                known: NAMES.to_vec(),
-            })
-        }
-    };
+    let tier = tier_of(name)?;
     if !(radius_m.is_finite() && radius_m > 0.0) {
         return Err(MontageError::InvalidRadius { radius: radius_m });
     }
-    let (labels, positions): (Vec<String>, Vec<Vec3>) = ten_five_grid()
+    let (labels, positions): (Vec<String>, Vec<Vec3>) = ten_five_grid(&UnitSphere)?
         .into_iter()
         .filter(|e| e.tier <= tier)
         .map(|e| (e.label, scale(e.position, radius_m)))
@@ -67,9 +57,22 @@ pub fn standard(name: &str, radius_m: f64) -> Result<Montage, MontageError> {
     Montage::new(labels, positions)
 }
 
+/// The layout called `name` (case and surrounding blanks ignored).
+pub(super) fn tier_of(name: &str) -> Result<Tier, MontageError> {
+    match name.trim().to_lowercase().as_str() {
+        "10-20" => Ok(Tier::Twenty),
+        "10-10" => Ok(Tier::Ten),
+        "10-5" | "10-05" => Ok(Tier::Five),
+        _ => Err(MontageError::UnknownStandard {
+            name: name.to_string(),
+            known: NAMES.to_vec(),
+        }),
+    }
+}
+
 /// The three layouts, each containing the coarser ones.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
-enum Tier {
+pub(super) enum Tier {
     /// 10-20.
     Twenty,
     /// 10-10.
@@ -78,12 +81,46 @@ enum Tier {
     Five,
 }
 
-/// One position of the 10-5 grid on the unit sphere.
-struct Entry {
-    label: String,
-    position: Vec3,
+/// Where the grid's construction lines lie on a head: the proportional
+/// rule (docs/montage.md) applied to a sphere ([`UnitSphere`]) or to a
+/// scalp surface (`super::scalp_layout`). Left-side positions; the right
+/// side is their mirror image (x → −x), so the head must be left-right
+/// symmetric.
+pub(super) trait GridPlacement {
+    /// The midline point `steps` × 5 % of the nasion–inion arc behind Fpz
+    /// (Fpz at 10 %, so `steps` = −2 is the nasion, 18 the inion).
+    fn midline(&self, steps: i32) -> Result<Vec3, MontageError>;
+    /// Row `r` (1..=15) at half-steps 1..=10 on the left: the section
+    /// through the row's midline point and its equator points, cut into 8
+    /// equal parts from the midline to the equator and continued 2 below.
+    fn row_left(&self, r: usize) -> Result<Vec<Vec3>, MontageError>;
+    /// The left point at latitude `lat_deg` (0, −11.25 or −22.5: the
+    /// equator, or 5 % or 10 % of the nasion–inion arc below it) under the
+    /// equator point at azimuth `az_deg` (degrees from Fpz, 180 at Oz).
+    fn lateral(&self, lat_deg: f64, az_deg: f64) -> Result<Vec3, MontageError>;
+}
+
+/// The standard construction on the unit sphere.
+struct UnitSphere;
+
+impl GridPlacement for UnitSphere {
+    fn midline(&self, steps: i32) -> Result<Vec3, MontageError> {
+        Ok(midline(steps))
+    }
+    fn row_left(&self, r: usize) -> Result<Vec<Vec3>, MontageError> {
+        Ok(row_positions(r))
+    }
+    fn lateral(&self, lat_deg: f64, az_deg: f64) -> Result<Vec3, MontageError> {
+        Ok(from_angles(lat_deg, az_deg))
+    }
+}
+
+/// One position of the 10-5 grid.
+pub(super) struct Entry {
+    pub(super) label: String,
+    pub(super) position: Vec3,
     /// The coarsest layout that contains it.
-    tier: Tier,
+    pub(super) tier: Tier,
 }
 
 /// Unit vector at latitude `lat` and azimuth `az` (degrees); the azimuth is measured
@@ -149,8 +186,9 @@ fn row_positions(r: usize) -> Vec<Vec3> {
         .collect()
 }
 
-/// All 345 positions of the 10-5 grid, front to back, each row left to right.
-fn ten_five_grid() -> Vec<Entry> {
+/// All 345 positions of the 10-5 grid placed by `place`, front to back, each
+/// row left to right.
+pub(super) fn ten_five_grid(place: &dyn GridPlacement) -> Result<Vec<Entry>, MontageError> {
     let mut out = Vec::with_capacity(345);
     let mut push = |label: String, position: Vec3, tier: Tier| {
         out.push(Entry {
@@ -163,17 +201,45 @@ fn ten_five_grid() -> Vec<Entry> {
     // neighbours at the azimuths of Fp1h (9°) and Fp1 (18°).
     for (prefix, steps, tier_z) in [("N", -2, Tier::Ten), ("NFp", -1, Tier::Five)] {
         let lat = steps as f64 * ARC_STEP_DEG;
-        lateral_pair(&mut push, prefix, lat, 18.0, "1", "2", Tier::Five);
-        lateral_pair(&mut push, prefix, lat, 9.0, "1h", "2h", Tier::Five);
-        push(format!("{prefix}z"), midline(steps), tier_z);
+        lateral_pair(
+            &mut push,
+            prefix,
+            place.lateral(lat, 18.0)?,
+            "1",
+            "2",
+            Tier::Five,
+        );
+        lateral_pair(
+            &mut push,
+            prefix,
+            place.lateral(lat, 9.0)?,
+            "1h",
+            "2h",
+            Tier::Five,
+        );
+        push(format!("{prefix}z"), place.midline(steps)?, tier_z);
     }
     // Fp row: it lies on the equator from Fpz to Fp1 (18°), with Fp1h halfway.
-    lateral_pair(&mut push, "Fp", 0.0, 18.0, "1", "2", Tier::Twenty);
-    lateral_pair(&mut push, "Fp", 0.0, 9.0, "1h", "2h", Tier::Five);
-    push("Fpz".to_string(), midline(0), Tier::Twenty);
+    lateral_pair(
+        &mut push,
+        "Fp",
+        place.lateral(0.0, 18.0)?,
+        "1",
+        "2",
+        Tier::Twenty,
+    );
+    lateral_pair(
+        &mut push,
+        "Fp",
+        place.lateral(0.0, 9.0)?,
+        "1h",
+        "2h",
+        Tier::Five,
+    );
+    push("Fpz".to_string(), place.midline(0)?, Tier::Twenty);
     // Rows AFp..POO.
     for (r, &row_name) in ROWS.iter().enumerate().take(16).skip(1) {
-        let left = row_positions(r);
+        let left = place.row_left(r)?;
         let row_tier = if r % 2 == 0 { Tier::Ten } else { Tier::Five };
         let mut row = Vec::with_capacity(21);
         for (i, &p) in left.iter().enumerate() {
@@ -200,36 +266,62 @@ fn ten_five_grid() -> Vec<Entry> {
             4 | 8 | 12 => Tier::Twenty,
             _ => row_tier,
         };
-        push(format!("{row_name}z"), midline(r as i32), z_tier);
+        push(format!("{row_name}z"), place.midline(r as i32)?, z_tier);
         for (_, p, rt, tier) in &row {
             push(rt.clone(), mirror(*p), *tier);
         }
     }
     // O row on the equator, then the rows below the occipital equator (OIz, Iz).
-    lateral_pair(&mut push, "O", 0.0, 162.0, "1", "2", Tier::Twenty);
-    lateral_pair(&mut push, "O", 0.0, 171.0, "1h", "2h", Tier::Five);
-    push("Oz".to_string(), midline(16), Tier::Twenty);
+    lateral_pair(
+        &mut push,
+        "O",
+        place.lateral(0.0, 162.0)?,
+        "1",
+        "2",
+        Tier::Twenty,
+    );
+    lateral_pair(
+        &mut push,
+        "O",
+        place.lateral(0.0, 171.0)?,
+        "1h",
+        "2h",
+        Tier::Five,
+    );
+    push("Oz".to_string(), place.midline(16)?, Tier::Twenty);
     for (prefix, steps, tier_z) in [("OI", 17, Tier::Five), ("I", 18, Tier::Ten)] {
         let lat = (16 - steps) as f64 * ARC_STEP_DEG;
-        lateral_pair(&mut push, prefix, lat, 162.0, "1", "2", Tier::Five);
-        lateral_pair(&mut push, prefix, lat, 171.0, "1h", "2h", Tier::Five);
-        push(format!("{prefix}z"), midline(steps), tier_z);
+        lateral_pair(
+            &mut push,
+            prefix,
+            place.lateral(lat, 162.0)?,
+            "1",
+            "2",
+            Tier::Five,
+        );
+        lateral_pair(
+            &mut push,
+            prefix,
+            place.lateral(lat, 171.0)?,
+            "1h",
+            "2h",
+            Tier::Five,
+        );
+        push(format!("{prefix}z"), place.midline(steps)?, tier_z);
     }
-    out
+    Ok(out)
 }
 
-/// Push the left/right pair `{prefix}{left}` / `{prefix}{right}` at latitude `lat` and
-/// azimuth ±`az` (degrees).
+/// Push the left/right pair `{prefix}{left}` / `{prefix}{right}`: the left
+/// position `p` and its mirror image.
 fn lateral_pair(
     push: &mut impl FnMut(String, Vec3, Tier),
     prefix: &str,
-    lat: f64,
-    az: f64,
+    p: Vec3,
     left: &str,
     right: &str,
     tier: Tier,
 ) {
-    let p = from_angles(lat, az);
     push(format!("{prefix}{left}"), p, tier);
     push(format!("{prefix}{right}"), mirror(p), tier);
 }

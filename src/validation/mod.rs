@@ -12,4 +12,6 @@ pub use head_accuracy::{
     comparison_electrodes, concentric_bem, rdm_mag, sphere_accuracy, AccuracyRow,
 };
 pub use metrics::{median, region_top1, roc_auc};
-pub use recovery::{run_case, CaseResult, CaseSpec, Method, RecoveryFixture, RecoverySetup};
+pub use recovery::{
+    run_case, CaseResult, CaseSpec, Method, RecoveryFixture, RecoverySetup, SimHead,
+};

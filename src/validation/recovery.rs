@@ -2,8 +2,11 @@
 
 use crate::baseline::{minimum_norm, MinimumNormParams};
 use crate::dictionary::Dictionary;
-use crate::forward::{lead_field, Orientation, Reference};
+use std::sync::Arc;
+
+use crate::forward::{bem_lead_field, lead_field, ForwardError, Orientation, Reference};
 use crate::geometry::{norm, normalize, sub, GeodesicSolver, SourceSpace, Vec3};
+use crate::head::bem::{project_to_scalp, BemSystem};
 use crate::head::SphereHead;
 use crate::numeric::{average_reference_columns, SplitMix64};
 use crate::pipeline::{
@@ -23,8 +26,11 @@ pub struct RecoverySetup<'a> {
     pub dictionary: &'a Dictionary,
     /// Geodesic distances on the source mesh.
     pub geodesic: &'a GeodesicSolver,
-    /// Nominal electrode positions (m).
+    /// Nominal electrode positions (m) of the fit.
     pub electrodes: &'a [Vec3],
+    /// Nominal electrode positions (m) of the simulation (jittered per
+    /// case): the fit's, unless the data come from another head.
+    pub sim_electrodes: &'a [Vec3],
     /// The fit's atoms under perturbed forward models (for resamples that
     /// also draw the forward model; `pipeline::perturbed_atoms`).
     pub perturbed: &'a [Vec<f64>],
@@ -42,7 +48,7 @@ pub struct CaseSpec {
     /// Electrode position jitter (m), a random direction per electrode.
     pub jitter_m: f64,
     /// The head the data are simulated with.
-    pub sim_head: SphereHead,
+    pub sim_head: SimHead,
     /// The λ rule of the patch fit.
     pub lambda: LambdaRule,
     /// Bootstrap resamples of the patch fit (0 = none; then
@@ -50,6 +56,22 @@ pub struct CaseSpec {
     pub resamples: usize,
     /// Resamples also draw the forward model (the setup's perturbed atoms).
     pub perturb_model: bool,
+}
+
+/// The head a case is simulated with.
+#[derive(Debug, Clone)]
+pub enum SimHead {
+    /// Concentric spheres.
+    Spheres(SphereHead),
+    /// A factorised boundary-element head (the jittered electrodes are
+    /// moved onto its scalp).
+    Bem(Arc<BemSystem>),
+}
+
+impl From<SphereHead> for SimHead {
+    fn from(head: SphereHead) -> Self {
+        SimHead::Spheres(head)
+    }
 }
 
 /// Which method a result is for.
@@ -124,6 +146,12 @@ pub fn run_case(
     let s = setup.sources;
     let n_src = s.len();
     let n_ch = setup.electrodes.len();
+    if setup.sim_electrodes.len() != n_ch {
+        return Err(PipelineError::Inconsistent(format!(
+            "{} simulation electrodes for {n_ch} fit electrodes",
+            setup.sim_electrodes.len()
+        )));
+    }
     let n_regions = s.region_names.len();
     let mut rng = SplitMix64::new(spec.seed, 1);
     // Ground truth: Gaussian patches (σ = radius / 2, cut at the radius).
@@ -154,7 +182,7 @@ pub fn run_case(
     );
     // Simulation lead field at jittered electrodes with the simulation head.
     let jittered: Vec<Vec3> = setup
-        .electrodes
+        .sim_electrodes
         .iter()
         .map(|&e| {
             let dir = normalize([rng.normal(), rng.normal(), rng.normal()]);
@@ -165,15 +193,29 @@ pub fn run_case(
             ]
         })
         .collect();
-    let lf = lead_field(
-        &spec.sim_head,
-        &jittered,
-        &s.positions,
-        &s.normals,
-        Orientation::Normal,
-        Reference::Average,
-        &|_| {},
-    )?;
+    let lf = match &spec.sim_head {
+        SimHead::Spheres(head) => lead_field(
+            head,
+            &jittered,
+            &s.positions,
+            &s.normals,
+            Orientation::Normal,
+            Reference::Average,
+            &|_| {},
+        )?,
+        SimHead::Bem(system) => {
+            let labels: Vec<String> = (1..=n_ch).map(|i| format!("electrode {i}")).collect();
+            let points = project_to_scalp(system, &jittered, &labels).map_err(ForwardError::Bem)?;
+            bem_lead_field(
+                &system.transfer(&points),
+                &s.positions,
+                &s.normals,
+                Orientation::Normal,
+                Reference::Average,
+                &|_| {},
+            )?
+        }
+    };
     let mut y = vec![0.0; n_ch];
     for (i, yi) in y.iter_mut().enumerate() {
         *yi = (0..n_src)
@@ -444,8 +486,10 @@ pub struct RecoveryFixture {
     dictionary: Dictionary,
     geodesic: GeodesicSolver,
     electrodes: Vec<Vec3>,
+    sim_electrodes: Vec<Vec3>,
     perturbed: Vec<Vec<f64>>,
-    /// The head the fit assumes.
+    /// The sphere head the fit assumes (the default; unused by a fixture
+    /// fitted with a boundary-element head).
     pub head: SphereHead,
 }
 
@@ -506,10 +550,56 @@ impl RecoveryFixture {
             gain: lf.gain,
             dictionary,
             geodesic,
+            sim_electrodes: montage.positions.clone(),
             electrodes: montage.positions,
             perturbed,
             head,
         })
+    }
+
+    /// The fixture fitted with a boundary-element head instead of the
+    /// default spheres: the demo's 64 channels placed on that head's scalp
+    /// (`positions`, the full standard layout with its labels), its lead
+    /// field and the default dictionary built on it. No perturbed atoms
+    /// (resamples then draw the pattern noise only).
+    pub fn with_bem_fit(
+        resolution: crate::geometry::TemplateResolution,
+        params: &crate::dictionary::DictionaryParams,
+        system: &BemSystem,
+        layout: &crate::montage::Montage,
+    ) -> Result<Self, PipelineError> {
+        let t = crate::geometry::template(resolution);
+        let sources = SourceSpace::from_template(&t);
+        let montage = demo_channels(layout)?;
+        let (lf, _) = crate::pipeline::bem_leadfield_for(
+            &montage,
+            &sources,
+            (system, "{}"),
+            Orientation::Normal,
+            &|_| {},
+        )?;
+        let (dictionary, _, _) = crate::pipeline::dictionary_for(&lf, params, None, &|_| {})?;
+        let geodesic = GeodesicSolver::new(&t.mesh)?;
+        Ok(RecoveryFixture {
+            sources,
+            gain: lf.gain,
+            dictionary,
+            geodesic,
+            sim_electrodes: montage.positions.clone(),
+            electrodes: montage.positions,
+            perturbed: Vec::new(),
+            head: SphereHead::default_adult(),
+        })
+    }
+
+    /// Simulate at the demo's 64 channels of `layout` (another head's
+    /// electrode positions, same labels) instead of the fit's.
+    pub fn simulating_at(
+        mut self,
+        layout: &crate::montage::Montage,
+    ) -> Result<Self, PipelineError> {
+        self.sim_electrodes = demo_channels(layout)?.positions;
+        Ok(self)
     }
 
     /// The borrowed setup for [`run_case`].
@@ -520,9 +610,21 @@ impl RecoveryFixture {
             dictionary: &self.dictionary,
             geodesic: &self.geodesic,
             electrodes: &self.electrodes,
+            sim_electrodes: &self.sim_electrodes,
             perturbed: &self.perturbed,
         }
     }
+}
+
+/// The demo's 64 channels of a 10-10 (or finer) layout, in the demo's order.
+fn demo_channels(
+    layout: &crate::montage::Montage,
+) -> Result<crate::montage::Montage, PipelineError> {
+    let labels: Vec<String> = crate::demo::CHANNELS_64
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
+    Ok(layout.subset(&layout.select(&labels)?))
 }
 
 #[cfg(test)]

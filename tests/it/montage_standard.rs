@@ -238,3 +238,47 @@ fn unknown_name_lists_the_known_ones() {
         Err(MontageError::InvalidRadius { .. })
     ));
 }
+
+/// A sphere of radius `r` about the origin as a ray caster.
+fn sphere_exit(r: f64) -> impl Fn([f64; 3], [f64; 3]) -> Option<[f64; 3]> {
+    move |o: [f64; 3], d: [f64; 3]| {
+        let len = (d[0] * d[0] + d[1] * d[1] + d[2] * d[2]).sqrt();
+        let d = [d[0] / len, d[1] / len, d[2] / len];
+        let b = o[0] * d[0] + o[1] * d[1] + o[2] * d[2];
+        let c = o[0] * o[0] + o[1] * o[1] + o[2] * o[2] - r * r;
+        let t = -b + (b * b - c).sqrt();
+        (t > 0.0).then(|| [o[0] + t * d[0], o[1] + t * d[1], o[2] + t * d[2]])
+    }
+}
+
+#[test]
+fn scalp_placement_on_a_sphere_reproduces_the_sphere_layout() {
+    // On a sphere every arc length is proportional to its angle, so the
+    // proportional rule measured along the surface must give the sphere
+    // construction of docs/montage.md (Oostenveld & Praamstra 2001, Clin
+    // Neurophysiol 112:713, for the 10-5 grid): landmarks 22.5° below the
+    // equator (Nz, Iz, and the preauricular points, 10 % below T7/T8).
+    use patchwise::montage::{standard_on_scalp, ScalpLandmarks};
+    let r = 0.094;
+    let low = 22.5f64.to_radians();
+    let (c, s) = (r * low.cos(), -r * low.sin());
+    let landmarks = ScalpLandmarks {
+        nasion: [0.0, c, s],
+        inion: [0.0, -c, s],
+        lpa: [-c, 0.0, s],
+        rpa: [c, 0.0, s],
+    };
+    let exit = sphere_exit(r);
+    let placed = standard_on_scalp("10-5", &exit, &landmarks, [0.0; 3]).unwrap();
+    let reference = standard("10-5", r).unwrap();
+    assert_eq!(placed.labels, reference.labels);
+    for (label, (p, q)) in placed
+        .labels
+        .iter()
+        .zip(placed.positions.iter().zip(&reference.positions))
+    {
+        let d = ((p[0] - q[0]).powi(2) + (p[1] - q[1]).powi(2) + (p[2] - q[2]).powi(2)).sqrt();
+        // 1 µm: interpolation between samples 1/600 rad apart.
+        assert!(d < 1e-6, "{label}: {d} m apart");
+    }
+}

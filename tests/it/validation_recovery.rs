@@ -35,7 +35,7 @@ fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
             n_patches: 1 + (c % 3) as usize,
             snr_db: 20.0,
             jitter_m: 0.005,
-            sim_head: head.clone(),
+            sim_head: head.clone().into(),
             lambda: LambdaRule::Bic,
             resamples: 0,
             perturb_model: false,
@@ -65,4 +65,54 @@ fn patches_localise_better_than_minimum_norm_on_a_fixed_subset() {
         patch_split_top1 >= 3,
         "top-1 (patch split) {patch_split_top1}/6"
     );
+}
+
+#[test]
+fn simulating_with_a_bem_of_the_same_shells_gives_the_same_scores() {
+    // The same cases simulated with three concentric shells by the series and
+    // by the boundary-element head of those shells (642 vertices each, RDM
+    // against the series below 0.08 for these sources: tests/it/head_bem_cli.rs,
+    // Meijs et al. 1989, IEEE Trans Biomed Eng 36:1038) must score alike:
+    // the same region top-1 in at least 5 of 6 cases and localisation errors
+    // within 5 mm of each other in the median (bounds set before running:
+    // a 0.08 pattern difference is below the 20 dB noise's 0.1).
+    use patchwise::head::SphereHead;
+    use patchwise::validation::{concentric_bem, SimHead};
+    let fixture = RecoveryFixture::new(TemplateResolution::Low).unwrap();
+    let setup = fixture.setup();
+    let shells =
+        SphereHead::new([0.0; 3], vec![0.083, 0.088, 0.094], vec![0.47, 0.02, 0.41]).unwrap();
+    let bem = std::sync::Arc::new(concentric_bem(&shells, 3, &|_| {}).unwrap());
+    let score = |sim_head: SimHead, c: u64| {
+        let spec = CaseSpec {
+            seed: 1000 + c,
+            n_patches: 1 + (c % 3) as usize,
+            snr_db: 20.0,
+            jitter_m: 0.005,
+            sim_head,
+            lambda: LambdaRule::Bic,
+            resamples: 0,
+            perturb_model: false,
+        };
+        let r = run_case(&setup, &spec).unwrap();
+        let p = r.iter().find(|r| r.method == Method::Patches).unwrap();
+        (p.top1_correct, p.localization_error_mm)
+    };
+    let mut same_top1 = 0;
+    let (mut series_err, mut bem_err) = (Vec::new(), Vec::new());
+    for c in 0..6u64 {
+        let a = score(shells.clone().into(), c);
+        let b = score(SimHead::Bem(bem.clone()), c);
+        same_top1 += usize::from(a.0 == b.0);
+        series_err.push(a.1);
+        bem_err.push(b.1);
+    }
+    let median = |v: &mut Vec<f64>| {
+        v.sort_by(f64::total_cmp);
+        0.5 * (v[2] + v[3])
+    };
+    let (ms, mb) = (median(&mut series_err), median(&mut bem_err));
+    eprintln!("same top-1 in {same_top1}/6; median loc. error series {ms:.1} mm, bem {mb:.1} mm");
+    assert!(same_top1 >= 5);
+    assert!((ms - mb).abs() < 5.0);
 }
