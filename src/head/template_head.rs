@@ -7,9 +7,9 @@
 //! halves meet with a common tangent plane); the outer skull lies a skull
 //! thickness `t(u)` further out along the same ray, the scalp a constant
 //! scalp thickness further. Positive radial offsets keep the surfaces
-//! nested without touching, and every surface is sampled at the same
-//! directions' kind of grid (a geodesic sphere), so each mesh is closed,
-//! one piece and outward like the sphere it came from. Numbers and their
+//! nested without touching, and every surface is sampled on a geodesic
+//! sphere's directions (a grid of the same kind for each), so each mesh is
+//! closed, one piece and outward like the sphere it came from. Numbers and their
 //! sources are in docs/head_model.md ("The template head").
 
 use crate::geometry::{dot, norm, scale, sub, Mesh, Vec3};
