@@ -29,6 +29,25 @@ pub enum DecoderContent {
         /// n_ch × n_ch row-major.
         covariance: Vec<f64>,
     },
+    /// One discriminant over channel × time features (a decoder file with
+    /// `times`; [`super::decoder_times`]).
+    SpaceTimeWeights {
+        /// n_ch × n_times row-major: feature index channel · n_times + time.
+        weights: Vec<f64>,
+        /// (n_ch·n_times) × (n_ch·n_times) row-major, the features' covariance.
+        covariance: Vec<f64>,
+    },
+    /// One decoder per time point (a decoder file with `times`).
+    PerTimeWeights {
+        /// n_times × n_ch × k row-major.
+        weights: Vec<f64>,
+        /// n_ch × n_ch (`shared`) or n_times × n_ch × n_ch, row-major.
+        covariances: Vec<f64>,
+        /// Number of time points.
+        n_times: usize,
+        /// One covariance for every time point.
+        shared: bool,
+    },
 }
 
 /// The optional parts of a decoder file.
@@ -40,6 +59,9 @@ pub struct DecoderExtras {
     pub n_samples: Option<f64>,
     /// One decoder per fold, of the same kind as the main one.
     pub folds: Option<Vec<DecoderContent>>,
+    /// The time axis, when the patterns or weights carry one; then the
+    /// decoder's columns are (component, time) pairs, column c · n_times + t.
+    pub time: Option<super::decoder_times::TimeAxis>,
 }
 
 fn content_error(path: &Path, message: String) -> InputError {
@@ -190,6 +212,7 @@ fn assemble(
         component_names: names,
         n_samples,
         folds,
+        time: None,
     })
 }
 

@@ -633,6 +633,7 @@ mod tests {
         ResultFile {
             dipoles: None,
             filter_gain: None,
+            time: None,
             path: "tiny/result.h5".into(),
             hashes: vec![("decoder".into(), "ab".into())],
             caution: CAUTION.to_string(),
