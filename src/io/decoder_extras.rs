@@ -50,6 +50,26 @@ pub enum DecoderContent {
     },
 }
 
+/// How the time axis of a decoder was laid out in its file.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum TimeLayout {
+    /// One discriminant over channel × time features (n_ch × n_times).
+    SpaceTime,
+    /// One decoder per time point (n_times × n_ch × k).
+    PerTime,
+}
+
+/// The time axis of a time-resolved decoder.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TimeAxis {
+    /// Sample times (s), strictly increasing.
+    pub times: Vec<f64>,
+    /// Components per time point (1 for [`TimeLayout::SpaceTime`]).
+    pub n_components: usize,
+    /// The file's layout.
+    pub layout: TimeLayout,
+}
+
 /// The optional parts of a decoder file.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct DecoderExtras {
@@ -61,7 +81,7 @@ pub struct DecoderExtras {
     pub folds: Option<Vec<DecoderContent>>,
     /// The time axis, when the patterns or weights carry one; then the
     /// decoder's columns are (component, time) pairs, column c · n_times + t.
-    pub time: Option<super::decoder_times::TimeAxis>,
+    pub time: Option<TimeAxis>,
 }
 
 fn content_error(path: &Path, message: String) -> InputError {

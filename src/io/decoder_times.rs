@@ -17,27 +17,8 @@
 use std::path::Path;
 
 use super::decoder_extras::DecoderContent;
+pub use super::decoder_extras::{TimeAxis, TimeLayout};
 use super::sources_file::InputError;
-
-/// How the time axis of a decoder was laid out in its file.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum TimeLayout {
-    /// One discriminant over channel × time features (n_ch × n_times).
-    SpaceTime,
-    /// One decoder per time point (n_times × n_ch × k).
-    PerTime,
-}
-
-/// The time axis of a time-resolved decoder.
-#[derive(Debug, Clone, PartialEq)]
-pub struct TimeAxis {
-    /// Sample times (s), strictly increasing.
-    pub times: Vec<f64>,
-    /// Components per time point (1 for [`TimeLayout::SpaceTime`]).
-    pub n_components: usize,
-    /// The file's layout.
-    pub layout: TimeLayout,
-}
 
 /// An array as read: values row-major (NumPy's order) and shape.
 pub(crate) type Array = (Vec<f64>, Vec<usize>);

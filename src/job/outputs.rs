@@ -235,10 +235,10 @@ pub fn write_attribution_files(
     write_table(&dir.join("regions.csv"), Delimiter::Comma, &header, &csv)
         .compute("writing the result")?;
     super::gain_outputs::write_gain_table(dir, a)?;
-    super::time_outputs::write_time_files(dir, a)?;
+    super::time_outputs::write_time_files(dir, a, &names)?;
     let mut summary = summary_json(a, &rows);
     if let (Some(block), Some(map)) = (
-        super::time_outputs::summary_block(a),
+        super::time_outputs::summary_block(a, &names),
         summary.as_object_mut(),
     ) {
         map.insert("time_resolved".to_string(), block);

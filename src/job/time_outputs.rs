@@ -9,9 +9,12 @@ use std::path::Path;
 
 use super::attribute::Attribution;
 use super::error::{JobError, JobResult};
-use super::outputs::{fmt, region_names};
 use crate::io::table::{write_table, Delimiter};
 use crate::pipeline::TimeShares;
+
+fn fmt(v: f64, digits: usize) -> String {
+    crate::io::table::format_fixed(v, digits, "n/a")
+}
 
 /// The component names of a time-resolved attribution: the column names
 /// without their ` @ … ms` suffix, one per component.
@@ -29,12 +32,11 @@ fn base_names(a: &Attribution, t: &TimeShares) -> Vec<String> {
 }
 
 /// Write regions_time.csv and time_ranges.csv into `dir` (nothing without
-/// a time axis).
-pub fn write_time_files(dir: &Path, a: &Attribution) -> Result<(), JobError> {
+/// a time axis); `names` are the region names (`outputs::region_names`).
+pub fn write_time_files(dir: &Path, a: &Attribution, names: &[String]) -> Result<(), JobError> {
     let Some(t) = &a.time else {
         return Ok(());
     };
-    let names = region_names(a);
     let n_t = t.times.len();
     let mut rows = Vec::with_capacity(t.share.len());
     for c in 0..t.n_components {
@@ -113,9 +115,8 @@ pub fn write_time_files(dir: &Path, a: &Attribution) -> Result<(), JobError> {
 }
 
 /// summary.json's `time_resolved` block (`None` without a time axis).
-pub fn summary_block(a: &Attribution) -> Option<serde_json::Value> {
+pub fn summary_block(a: &Attribution, names: &[String]) -> Option<serde_json::Value> {
     let t = a.time.as_ref()?;
-    let names = region_names(a);
     let base = base_names(a, t);
     let finite = |v: f64| v.is_finite().then_some(v);
     let ranges: Vec<serde_json::Value> = t
@@ -149,11 +150,15 @@ pub fn summary_block(a: &Attribution) -> Option<serde_json::Value> {
 /// The short region × time table: per component its leading regions as
 /// rows and up to `max_times` evenly spaced time points as columns, shares
 /// in percent.
-pub fn time_table_lines(a: &Attribution, max_regions: usize, max_times: usize) -> Vec<String> {
+pub fn time_table_lines(
+    a: &Attribution,
+    names: &[String],
+    max_regions: usize,
+    max_times: usize,
+) -> Vec<String> {
     let Some(t) = &a.time else {
         return Vec::new();
     };
-    let names = region_names(a);
     let base = base_names(a, t);
     let n_t = t.times.len();
     let shown = max_times.clamp(1, n_t.max(1));

@@ -25,6 +25,8 @@
 //!   the peak of each time point's source map to the active generator's seed
 //!   over the time points strictly inside the generator's range.
 //!
+//! - the report of one run has its region × time section.
+//!
 //! Needs Python with the pins of tests/reference/requirements.txt (with
 //! `CI=true` a missing Python fails, elsewhere the test is shown as not run).
 
@@ -143,31 +145,42 @@ fn event_related_decoders_name_each_generator_in_its_time_range() {
         let mut scores = Vec::new();
         for (window, resamples) in [("0.05", "20"), ("0", "0")] {
             let out = format!("{decoder}_{window}");
-            let run = patchwise(
-                &[
-                    "attribute",
-                    "--decoder",
-                    &format!("{decoder}.npz"),
-                    "--sources",
-                    "template-5k",
-                    "--montage",
-                    "10-20",
-                    "--no-report",
-                    "--resamples",
-                    resamples,
-                    "--time-window",
-                    window,
-                    "--out",
-                    &out,
-                ],
-                &dir,
-            );
+            let decoder_file = format!("{decoder}.npz");
+            let mut args = vec![
+                "attribute",
+                "--decoder",
+                decoder_file.as_str(),
+                "--sources",
+                "template-5k",
+                "--montage",
+                "10-20",
+                "--resamples",
+                resamples,
+                "--time-window",
+                window,
+                "--out",
+                out.as_str(),
+            ];
+            // One report, to see the region x time section drawn.
+            let with_report = decoder == "space_time" && window != "0";
+            if !with_report {
+                args.push("--no-report");
+            }
+            let run = patchwise(&args, &dir);
             assert!(
                 run.status.success(),
                 "attribute {decoder} --time-window {window}: {}",
                 String::from_utf8_lossy(&run.stderr)
             );
             scores.push(support_and_localisation(&dir.join(&out), &truth));
+            if with_report {
+                let page = std::fs::read_to_string(dir.join(&out).join("report.html"))
+                    .expect("report.html");
+                assert!(
+                    page.contains("<section id=\"time\">") && page.contains("Region \u{00d7} time"),
+                    "the report has no region x time section"
+                );
+            }
             if window == "0" {
                 continue;
             }

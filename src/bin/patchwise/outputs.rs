@@ -142,7 +142,7 @@ pub fn write_outputs_with(
     let dir = stage.commit()?;
     if a.time.is_some() {
         // One column per (component, time): the region x time table instead.
-        for line in patchwise::job::time_outputs::time_table_lines(a, 5, 10) {
+        for line in patchwise::job::time_outputs::time_table_lines(a, &region_names(a), 5, 10) {
             outln!("{line}");
         }
     } else {
