@@ -107,7 +107,24 @@ pub(crate) fn time_resolved(
     times: Array,
     fetch: &dyn Fn(&str) -> Result<Option<Array>, InputError>,
 ) -> Result<(usize, DecoderContent, TimeAxis), InputError> {
-    let times = read_times(path, times)?;
+    // A damaged file can declare more elements than it holds: every array's
+    // length is checked against its shape before anything indexes it.
+    let whole = |name: &str, (values, shape): Array| -> Result<Array, InputError> {
+        if shape.iter().try_fold(1usize, |n, &d| n.checked_mul(d)) != Some(values.len()) {
+            return Err(content_error(
+                path,
+                format!(
+                    "entry {name} declares shape {shape:?} but holds {} values",
+                    values.len()
+                ),
+            ));
+        }
+        Ok((values, shape))
+    };
+    let fetch = |name: &str| -> Result<Option<Array>, InputError> {
+        fetch(name)?.map(|a| whole(name, a)).transpose()
+    };
+    let times = read_times(path, whole("times", times)?)?;
     let n_t = times.len();
     let axis = |n_components, layout| TimeAxis {
         times: times.clone(),
