@@ -117,6 +117,7 @@ fn result_20k() -> ResultFile {
     ResultFile {
         dipoles: None,
         filter_gain: None,
+        time: None,
         path: "bench/result.h5".into(),
         hashes: vec![("decoder".into(), "0".repeat(64))],
         caution: CAUTION.to_string(),

@@ -29,6 +29,45 @@ pub enum DecoderContent {
         /// n_ch × n_ch row-major.
         covariance: Vec<f64>,
     },
+    /// One discriminant over channel × time features (a decoder file with
+    /// `times`; [`super::decoder_times`]).
+    SpaceTimeWeights {
+        /// n_ch × n_times row-major: feature index channel · n_times + time.
+        weights: Vec<f64>,
+        /// (n_ch·n_times) × (n_ch·n_times) row-major, the features' covariance.
+        covariance: Vec<f64>,
+    },
+    /// One decoder per time point (a decoder file with `times`).
+    PerTimeWeights {
+        /// n_times × n_ch × k row-major.
+        weights: Vec<f64>,
+        /// n_ch × n_ch (`shared`) or n_times × n_ch × n_ch, row-major.
+        covariances: Vec<f64>,
+        /// Number of time points.
+        n_times: usize,
+        /// One covariance for every time point.
+        shared: bool,
+    },
+}
+
+/// How the time axis of a decoder was laid out in its file.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum TimeLayout {
+    /// One discriminant over channel × time features (n_ch × n_times).
+    SpaceTime,
+    /// One decoder per time point (n_times × n_ch × k).
+    PerTime,
+}
+
+/// The time axis of a time-resolved decoder.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TimeAxis {
+    /// Sample times (s), strictly increasing.
+    pub times: Vec<f64>,
+    /// Components per time point (1 for [`TimeLayout::SpaceTime`]).
+    pub n_components: usize,
+    /// The file's layout.
+    pub layout: TimeLayout,
 }
 
 /// The optional parts of a decoder file.
@@ -40,6 +79,9 @@ pub struct DecoderExtras {
     pub n_samples: Option<f64>,
     /// One decoder per fold, of the same kind as the main one.
     pub folds: Option<Vec<DecoderContent>>,
+    /// The time axis, when the patterns or weights carry one; then the
+    /// decoder's columns are (component, time) pairs, column c · n_times + t.
+    pub time: Option<TimeAxis>,
 }
 
 fn content_error(path: &Path, message: String) -> InputError {
@@ -190,6 +232,7 @@ fn assemble(
         component_names: names,
         n_samples,
         folds,
+        time: None,
     })
 }
 

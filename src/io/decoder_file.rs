@@ -37,8 +37,38 @@ impl DecoderFile {
         match self.content {
             DecoderContent::Patterns(_) => "patterns",
             DecoderContent::Weights { .. } => "weights+covariance",
+            DecoderContent::SpaceTimeWeights { .. } => "space-time weights+covariance",
+            DecoderContent::PerTimeWeights { .. } => "per-time weights+covariance",
         }
     }
+}
+
+/// A decoder with a time axis: its content and columns from
+/// [`super::decoder_times::time_resolved`], the extras with `k` = the
+/// components per time point; folds with a time axis are refused.
+fn with_time_axis(
+    path: &Path,
+    channels: Vec<String>,
+    times: super::decoder_times::Array,
+    fetch: &dyn Fn(&str) -> Result<Option<super::decoder_times::Array>, InputError>,
+    extras: &dyn Fn(usize) -> Result<DecoderExtras, InputError>,
+) -> Result<DecoderFile, InputError> {
+    let (k, content, axis) =
+        super::decoder_times::time_resolved(path, channels.len(), times, fetch)?;
+    let mut extras = extras(axis.n_components)?;
+    if extras.folds.is_some() {
+        return Err(content_error(
+            path,
+            "has folds and times; fold decoders with a time axis are not read yet: drop folds (the noise level then comes from --noise-sd or the fit)".to_string(),
+        ));
+    }
+    extras.time = Some(axis);
+    Ok(DecoderFile {
+        channels,
+        k,
+        content,
+        extras,
+    })
 }
 
 fn content_error(path: &Path, message: String) -> InputError {
@@ -162,6 +192,28 @@ fn read_npz_decoder(path: &Path) -> Result<DecoderFile, InputError> {
         }
     };
     let n = channels.len();
+    if let Some(t) = get("times") {
+        let numbers =
+            |name: &str, a: &NpyArray| -> Result<super::decoder_times::Array, InputError> {
+                let values = a.to_f64().ok_or_else(|| {
+                    content_error(
+                        path,
+                        format!("entry {name} holds strings; expected numbers"),
+                    )
+                })?;
+                if let Some(i) = values.iter().position(|v| !v.is_finite()) {
+                    return Err(content_error(
+                        path,
+                        format!("entry {name} has a non-finite value at flat index {i}"),
+                    ));
+                }
+                Ok((values, a.shape.clone()))
+            };
+        let fetch = |name: &str| get(name).map(|a| numbers(name, a)).transpose();
+        return with_time_axis(path, channels, numbers("times", t)?, &fetch, &|k| {
+            extras_from_npz(path, &arrays, n, k, None)
+        });
+    }
     if let Some(p) = get("patterns") {
         let (values, rows, k) = matrix_of(path, "entry patterns", p)?;
         check_rows(path, "patterns", rows, n)?;
@@ -217,7 +269,8 @@ fn check_square(path: &Path, rows: usize, cols: usize, n: usize) -> Result<(), I
 
 /// The datasets a decoder in an HDF5 or MATLAB file is read from; any other
 /// dataset in the file is neither read nor sized.
-const DECODER_DATASETS: [&str; 8] = [
+const DECODER_DATASETS: [&str; 9] = [
+    "/times",
     "/channels",
     "/patterns",
     "/weights",
@@ -247,6 +300,24 @@ pub fn decoder_from_store(store: &Store, path: &Path) -> Result<DecoderFile, Inp
     };
     let channels = store.strings(path, &name("channels"), None)?;
     let n = channels.len();
+    if store.contains(&name("times")) {
+        let fetch = |entry: &str| -> Result<Option<super::decoder_times::Array>, InputError> {
+            let full = name(entry);
+            if !store.contains(&full) {
+                return Ok(None);
+            }
+            let array = store.f64_array(path, &full)?;
+            Ok(Some(if store.dataset(path, &full)?.is_matlab() {
+                super::decoder_times::from_matlab(array)
+            } else {
+                array
+            }))
+        };
+        let times = fetch("times")?.unwrap_or_default();
+        return with_time_axis(path, channels, times, &fetch, &|k| {
+            extras_from_store(path, store, n, k, None)
+        });
+    }
     if store.contains(&name("patterns")) {
         let (values, _, k) = store.f64_matrix_or_vector(path, &name("patterns"), n)?;
         let extras = extras_from_store(path, store, n, k, None)?;

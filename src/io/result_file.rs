@@ -40,6 +40,8 @@ pub struct ResultRecord<'a> {
     pub leadfield: Option<&'a crate::forward::LeadField>,
     /// The filters' gain over the cortex (`/filter_gain`), when computed.
     pub filter_gain: Option<&'a crate::attribution::FilterGain>,
+    /// Region × time shares, for a decoder with a time axis.
+    pub time: Option<&'a crate::pipeline::TimeShares>,
 }
 
 /// The caution stored with every result.
@@ -289,6 +291,9 @@ pub fn write_result(path: &Path, r: &ResultRecord<'_>) -> Result<(), IoError> {
     }
     if let Some(g) = r.filter_gain {
         super::filter_gain_file::insert_filter_gain(&mut s, g);
+    }
+    if let Some(t) = r.time {
+        super::result_time::insert_time(&mut s, t);
     }
     s.write_atomic(path)
 }

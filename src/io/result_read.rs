@@ -52,6 +52,9 @@ pub struct ResultFile {
     /// The filters' gain over the cortex (`/filter_gain`), when the decoder
     /// gave weights and the lead field was known.
     pub filter_gain: Option<crate::attribution::FilterGain>,
+    /// Region × time shares (`/attribution/times`, `share_time`, ...), for a
+    /// decoder with a time axis.
+    pub time: Option<crate::pipeline::TimeShares>,
 }
 
 /// The `/dipole` group: one row per dipole (two per component for a
@@ -371,7 +374,9 @@ pub fn result_from_store(store: &Store, path: &Path) -> Result<ResultFile, IoErr
         k,
         attribution.region_names.len(),
     )?;
+    let time = super::result_time::read_time(store, path, attribution.region_names.len(), k)?;
     let result = ResultFile {
+        time,
         filter_gain,
         dipoles,
         path: path.to_path_buf(),

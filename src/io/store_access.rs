@@ -66,6 +66,24 @@ impl Store {
         Ok((values, ds.shape.clone()))
     }
 
+    /// Like [`Store::f64_array`] but NaN is allowed (our own "no value"
+    /// mark) and the shape must be `shape`.
+    pub fn f64_array_nan(
+        &self,
+        file: &Path,
+        name: &str,
+        shape: &[usize],
+    ) -> Result<Vec<f64>, IoError> {
+        let ds = self.dataset(file, name)?;
+        if ds.shape != shape {
+            let expected: Vec<Option<usize>> = shape.iter().map(|&d| Some(d)).collect();
+            return Err(shape_error(file, name, &ds.shape, &expected));
+        }
+        let values = numeric_as_f64(ds, file, name)?;
+        check_values(&values, file, name, true)?;
+        Ok(values)
+    }
+
     /// A rank-2 float matrix, row-major, with its (rows, columns); each
     /// expected dimension is checked when given. Integer datasets are
     /// converted. MATLAB datasets are transposed back to MATLAB's orientation.

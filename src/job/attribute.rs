@@ -69,6 +69,9 @@ pub struct Attribution {
     pub filter_gain: Option<crate::attribution::FilterGain>,
     /// Why `filter_gain` is `None`, in words (`None` when it was computed).
     pub filter_gain_missing: Option<String>,
+    /// Region × time shares and time ranges, for a decoder with a time axis
+    /// (then the k columns are (component, time) pairs, column c · n_times + t).
+    pub time: Option<crate::pipeline::TimeShares>,
 }
 
 /// The whole job: read and check the inputs, build or fetch the forward
@@ -282,6 +285,27 @@ fn run(
         whitener: whitener.as_ref(),
         noise_sd: params.fit.noise_sd,
     })?;
+    if let Some(axis) = &decoder.extras.time {
+        let width = params
+            .fit
+            .time_window
+            .unwrap_or(super::params::DEFAULT_TIME_WINDOW);
+        options.column_blocks = Some(
+            crate::pipeline::time_window_blocks(
+                &axis.times,
+                width,
+                axis.n_components,
+                params.fit.joint,
+            )
+            .input("--time-window")?,
+        );
+        notes.push(format!(
+            "time axis: {} time points from {:.4} to {:.4} s; support shared within windows of {width} s",
+            axis.times.len(),
+            axis.times[0],
+            axis.times[axis.times.len() - 1]
+        ));
+    }
     if options.lambda == LambdaRule::Noise {
         notes.push(format!(
             "lambda by the noise rule; noise level {}",
@@ -296,10 +320,51 @@ fn run(
         |progress| fit_patterns(&problem, &fit_y, k, &options, progress),
     )
     .compute("fitting")?;
-    // Names given by the caller (the demo), else the decoder file's, else numbers.
+    // Names given by the caller (the demo), else the decoder file's, else numbers;
+    // with a time axis, one name per (component, time) column.
+    let n_named = decoder.extras.time.as_ref().map_or(k, |a| a.n_components);
     let component_names = component_names
         .or_else(|| decoder.extras.component_names.clone())
-        .unwrap_or_else(|| (0..k).map(|c| format!("component {c}")).collect());
+        .unwrap_or_else(|| (0..n_named).map(|c| format!("component {c}")).collect());
+    let (component_names, time) = match &decoder.extras.time {
+        None => (component_names, None),
+        Some(axis) => {
+            let columns = component_names
+                .iter()
+                .flat_map(|name| {
+                    axis.times
+                        .iter()
+                        .map(move |t| format!("{name} @ {:.1} ms", t * 1e3))
+                })
+                .collect();
+            // The fitted patterns in the fit's space, where the noise levels are.
+            let fitted: Vec<f64> = fit_y
+                .iter()
+                .zip(&outcome.fit.residual)
+                .map(|(y, r)| y - r)
+                .collect();
+            let strength =
+                crate::pipeline::column_strength(&fitted, k, outcome.column_scale.as_deref());
+            let shares = crate::pipeline::time_shares(
+                &outcome.attribution,
+                outcome.resample.as_ref(),
+                &strength,
+                &axis.times,
+                axis.n_components,
+                names.len(),
+            )
+            .compute("region x time shares")?;
+            (columns, Some(shares))
+        }
+    };
+    if component_names.len() != k {
+        return Err(bad(format!(
+            "{}: {} component names for {} components",
+            input_path.display(),
+            component_names.len(),
+            n_named
+        )));
+    }
     // Flags reach the report through the notes (and summary.json per component).
     for (c, name) in component_names.iter().enumerate() {
         for flag in crate::pipeline::component_flags(&outcome, c) {
@@ -328,6 +393,7 @@ fn run(
         k,
     );
     Ok(Attribution {
+        time,
         lambda_rule: options.lambda.name(),
         noise_level: options.noise.describe(),
         params: params.clone(),

@@ -36,6 +36,7 @@ pub mod perturb;
 pub mod prepare;
 pub mod report;
 pub mod specs;
+pub mod time_outputs;
 
 pub use attribute::{attribute, Attribution};
 pub use compare::{compare, Comparison};

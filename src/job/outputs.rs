@@ -196,6 +196,7 @@ pub fn write_attribution_files(
         reconstruction: &a.reconstruction,
         leadfield: a.dictionary.leadfield.as_ref(),
         filter_gain: a.filter_gain.as_ref(),
+        time: a.time.as_ref(),
     };
     write_result(&dir.join("result.h5"), &record).compute("writing the result")?;
     let header = [
@@ -234,7 +235,15 @@ pub fn write_attribution_files(
     write_table(&dir.join("regions.csv"), Delimiter::Comma, &header, &csv)
         .compute("writing the result")?;
     super::gain_outputs::write_gain_table(dir, a)?;
-    let summary = serde_json::to_string_pretty(&summary_json(a, &rows)).unwrap_or_default();
+    super::time_outputs::write_time_files(dir, a, &names)?;
+    let mut summary = summary_json(a, &rows);
+    if let (Some(block), Some(map)) = (
+        super::time_outputs::summary_block(a, &names),
+        summary.as_object_mut(),
+    ) {
+        map.insert("time_resolved".to_string(), block);
+    }
+    let summary = serde_json::to_string_pretty(&summary).unwrap_or_default();
     crate::io::atomic::write_atomic(&dir.join("summary.json"), summary.as_bytes())
         .compute("writing summary.json")?;
     Ok(rows)

@@ -15,7 +15,9 @@ use crate::attribution::{filter_gain, FilterGain, GainInput};
 use crate::dictionary::{AtomComponent, PatchDictionary, RestrictError};
 use crate::io::decoder_file::{DecoderContent, DecoderFile};
 use crate::montage::Montage;
-use crate::patterns::{activation_patterns, average_reference, Whitener};
+use crate::patterns::{
+    activation_patterns, average_reference, per_time_patterns, space_time_patterns, Whitener,
+};
 
 fn bad(message: String) -> JobError {
     JobError::input(message)
@@ -44,6 +46,30 @@ pub fn decoder_patterns(
                 .input(format!("{}: turning weights into patterns", path.display()))?
                 .0
         }
+        DecoderContent::SpaceTimeWeights {
+            weights,
+            covariance,
+        } => space_time_patterns(weights, covariance, n, decoder.k).input(format!(
+            "{}: turning space-time weights into patterns",
+            path.display()
+        ))?,
+        DecoderContent::PerTimeWeights {
+            weights,
+            covariances,
+            n_times,
+            shared,
+        } => per_time_patterns(
+            weights,
+            covariances,
+            n,
+            decoder.k / (*n_times).max(1),
+            *n_times,
+            *shared,
+        )
+        .input(format!(
+            "{}: turning weights per time point into patterns",
+            path.display()
+        ))?,
     };
     let referenced = if average {
         average_reference(&raw, n, decoder.k).input("average reference")?

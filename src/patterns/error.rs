@@ -7,6 +7,14 @@
 #[derive(Debug, thiserror::Error)]
 #[non_exhaustive]
 pub enum PatternsError {
+    /// The decoder of one time point failed (a decoder with a time axis).
+    #[error("time index {index}: {source}")]
+    AtTime {
+        /// 0-based time index.
+        index: usize,
+        /// What went wrong there.
+        source: Box<PatternsError>,
+    },
     /// A dimension is zero.
     #[error("{matrix}: {what} must be at least 1, found 0")]
     EmptyDimension {

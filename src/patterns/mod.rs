@@ -10,6 +10,7 @@ mod error;
 mod haufe;
 mod noise;
 mod reference;
+mod time_resolved;
 mod whiten;
 
 pub use covariance::{PSD_TOLERANCE, SYMMETRY_TOLERANCE};
@@ -17,4 +18,5 @@ pub use error::PatternsError;
 pub use haufe::{activation_patterns, PatternsInfo, CONDITION_LIMIT};
 pub use noise::{fold_noise, sample_count_variance, FoldNoise};
 pub use reference::average_reference;
+pub use time_resolved::{per_time_patterns, space_time_patterns};
 pub use whiten::{Whitener, DEFAULT_EIGENVALUE_FLOOR};

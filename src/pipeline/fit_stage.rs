@@ -88,6 +88,12 @@ pub struct FitOptions {
     /// What is known of the noise in the patterns (the noise rule's σ and
     /// the resamples' noise shape).
     pub noise: PatternNoise,
+    /// The blocks of columns fitted together, when the caller sets them (a
+    /// decoder with a time axis: one block per component and time window,
+    /// [`super::time_window_blocks`]); each column in exactly one block.
+    /// `None`: one block per column, or one for all with `joint`. Also keeps
+    /// every resample's shares ([`ResampleSummary::resampled_shares`]).
+    pub column_blocks: Option<Vec<Vec<usize>>>,
 }
 
 impl Default for FitOptions {
@@ -100,6 +106,7 @@ impl Default for FitOptions {
             resample: ResampleOptions::default(),
             whitened: false,
             noise: PatternNoise::default(),
+            column_blocks: None,
         }
     }
 }
@@ -231,15 +238,36 @@ fn fit_all(
     rules: &[BlockRule],
     params: &ValidParams,
     warm: Option<&[f64]>,
+    scale: Option<&[f64]>,
 ) -> Result<(Vec<f64>, Vec<FittedComponent>), PipelineError> {
     let n_atoms = dict.n_atoms();
+    // Each column divided by its scale before the fit (a decoder with a time
+    // axis: its own noise level), the coefficients multiplied back after.
+    let scaled = |mut block: Vec<f64>, cols: &[usize]| {
+        if let Some(sc) = scale {
+            for row in block.chunks_mut(cols.len()) {
+                for (v, &c) in row.iter_mut().zip(cols) {
+                    *v /= sc[c];
+                }
+            }
+        }
+        block
+    };
     let fitted: Vec<Result<BlockFit, PipelineError>> = blocks
         .par_iter()
         .zip(rules.par_iter())
         .map(|(cols, &rule)| {
-            let yb = column_block(y, k, cols);
-            let x0 = warm.map(|x| column_block(x, k, cols));
-            fit_block(dict, groups, &yb, cols, rule, params, x0.as_deref())
+            let yb = scaled(column_block(y, k, cols), cols);
+            let x0 = warm.map(|x| scaled(column_block(x, k, cols), cols));
+            let mut b = fit_block(dict, groups, &yb, cols, rule, params, x0.as_deref())?;
+            if let Some(sc) = scale {
+                for row in b.coefficients.chunks_mut(cols.len()) {
+                    for (v, &c) in row.iter_mut().zip(cols) {
+                        *v *= sc[c];
+                    }
+                }
+            }
+            Ok(b)
         })
         .collect();
     let mut coefficients = vec![0.0; n_atoms * k];
@@ -255,6 +283,56 @@ fn fit_all(
         infos.push(b.info);
     }
     Ok((coefficients, infos))
+}
+
+/// The noise level of each column of a decoder with a time axis, by which
+/// the column is divided before the windowed fit, so that the group norm of
+/// a window weighs its time points by their signal-to-noise ratio and not by
+/// the scale each one happens to have (a per-time Haufe transform scales
+/// each time point by its own decoder's output variance): the level given
+/// (`options.noise.sd`), else the noise rule's scaled-lasso estimate of each
+/// column fitted alone. A level that is not finite and positive counts as 1.
+fn column_noise(
+    dict: &DenseDictionary,
+    groups: &Groups,
+    patterns: &[f64],
+    k: usize,
+    options: &FitOptions,
+    params: &ValidParams,
+) -> Result<Vec<f64>, PipelineError> {
+    let levels = match &options.noise.sd {
+        Some(sd) => sd.clone(),
+        None => {
+            let blocks: Vec<Vec<usize>> = (0..k).map(|c| vec![c]).collect();
+            let rule = BlockRule {
+                rule: LambdaRule::Noise,
+                quantile: null_quantile(dict, groups, 1, NULL_QUANTILE)?,
+                noise_sd: None,
+            };
+            let (_, infos) = fit_all(
+                dict,
+                groups,
+                patterns,
+                k,
+                &blocks,
+                &vec![rule; k],
+                params,
+                None,
+                None,
+            )?;
+            let mut sd = vec![1.0; k];
+            for b in infos {
+                for &c in &b.components {
+                    sd[c] = b.noise_sd;
+                }
+            }
+            sd
+        }
+    };
+    Ok(levels
+        .into_iter()
+        .map(|v| if v.is_finite() && v > 0.0 { v } else { 1.0 })
+        .collect())
 }
 
 /// Fit `patterns` (n_ch × k row-major) on the problem's dictionary, choose
@@ -286,10 +364,23 @@ pub fn fit_patterns(
         ..Params::default()
     }
     .validate()?;
-    let blocks: Vec<Vec<usize>> = if options.joint {
-        vec![(0..k).collect()]
-    } else {
-        (0..k).map(|c| vec![c]).collect()
+    let blocks: Vec<Vec<usize>> = match &options.column_blocks {
+        Some(given) => {
+            let mut seen = vec![0usize; k];
+            for &c in given.iter().flatten() {
+                if c < k {
+                    seen[c] += 1;
+                }
+            }
+            if given.iter().any(Vec::is_empty) || seen.iter().any(|&n| n != 1) {
+                return Err(PipelineError::Inconsistent(format!(
+                    "column blocks must hold each of the {k} columns exactly once"
+                )));
+            }
+            given.clone()
+        }
+        None if options.joint => vec![(0..k).collect()],
+        None => (0..k).map(|c| vec![c]).collect(),
     };
     if let Some(sd) = &options.noise.sd {
         if sd.len() != k || sd.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
@@ -311,20 +402,37 @@ pub fn fit_patterns(
     } else {
         Default::default()
     };
-    let rules: Vec<BlockRule> =
-        blocks
-            .iter()
-            .map(|b| BlockRule {
-                rule: options.lambda,
-                quantile: quantile.get(&b.len()).copied().unwrap_or(f64::NAN),
+    let scale = match options.column_blocks {
+        Some(_) => Some(column_noise(&dict, &groups, patterns, k, options, &params)?),
+        None => None,
+    };
+    let rules: Vec<BlockRule> = blocks
+        .iter()
+        .map(|b| BlockRule {
+            rule: options.lambda,
+            quantile: quantile.get(&b.len()).copied().unwrap_or(f64::NAN),
+            // Columns divided by their noise level have unit noise.
+            noise_sd: if scale.is_some() {
+                Some(1.0)
+            } else {
                 // A joint block's level: the root mean square of its components'.
-                noise_sd: options.noise.sd.as_ref().map(|sd| {
+                options.noise.sd.as_ref().map(|sd| {
                     (b.iter().map(|&c| sd[c] * sd[c]).sum::<f64>() / b.len() as f64).sqrt()
-                }),
-            })
-            .collect();
-    let (coefficients, infos) =
-        fit_all(&dict, &groups, patterns, k, &blocks, &rules, &params, None)?;
+                })
+            },
+        })
+        .collect();
+    let (coefficients, infos) = fit_all(
+        &dict,
+        &groups,
+        patterns,
+        k,
+        &blocks,
+        &rules,
+        &params,
+        None,
+        scale.as_deref(),
+    )?;
     let full_fit = Fit::evaluate(&dict, patterns, k, coefficients.clone())?;
     let refit_fit = if options.refit {
         Some(refit(&dict, patterns, k, &coefficients)?.fit)
@@ -345,6 +453,7 @@ pub fn fit_patterns(
             k,
             options,
             &attribution,
+            scale.as_deref(),
             progress,
         )?)
     } else {
@@ -361,6 +470,7 @@ pub fn fit_patterns(
             .collect()
     });
     Ok(FitOutcome {
+        column_scale: scale,
         pattern_snr,
         fit: full_fit,
         refit: refit_fit,
@@ -383,6 +493,7 @@ fn resample(
     k: usize,
     options: &FitOptions,
     attribution: &Attribution,
+    scale: Option<&[f64]>,
     progress: &dyn crate::numeric::Progress,
 ) -> Result<ResampleSummary, PipelineError> {
     let n_ch = problem.n_channels;
@@ -502,6 +613,7 @@ fn resample(
                 &rules,
                 params,
                 Some(coefficients),
+                scale,
             )?;
             // Only the region shares are needed: no source map, no peak.
             let shares = (0..k)
@@ -574,6 +686,11 @@ fn resample(
         })
         .collect();
     Ok(ResampleSummary {
+        resampled_shares: if options.column_blocks.is_some() {
+            shares
+        } else {
+            Vec::new()
+        },
         leader_probability,
         budget_stops: budget_stops.into_inner(),
         intervals,

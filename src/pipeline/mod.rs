@@ -11,6 +11,7 @@ mod outcome;
 mod perturb;
 mod quality;
 mod resample;
+mod time_resolved;
 
 pub use error::PipelineError;
 pub use fit_stage::{fit_patterns, FitOptions, Problem};
@@ -21,3 +22,6 @@ pub use outcome::{FitOutcome, FittedComponent};
 pub use perturb::{perturbed_atoms, perturbed_model, ForwardPerturbation};
 pub use quality::{component_flags, is_poorly_explained, POORLY_EXPLAINED_EV};
 pub use resample::{ResampleOptions, ResampleSummary, SELECTION_THRESHOLD};
+pub use time_resolved::{
+    column_strength, time_shares, time_window_blocks, TimeRange, TimeShares, LEADING_SHARE,
+};

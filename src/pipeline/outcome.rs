@@ -78,6 +78,10 @@ pub struct FitOutcome {
     /// ‖y‖² / (n_eff σ²) − 1 when the noise level σ was given (folds, a
     /// sample count, a number); `None` when σ was estimated with the fit.
     pub pattern_snr: Option<Vec<f64>>,
+    /// Per column, the noise level it was divided by before a fit with
+    /// column blocks (a decoder with a time axis; then λ, λ_max and the gap
+    /// of `blocks` are those of the divided problem); `None` otherwise.
+    pub column_scale: Option<Vec<f64>>,
 }
 
 /// One block's coefficients (n_atoms × block width) and what the solver did.

@@ -53,4 +53,8 @@ pub struct ResampleSummary {
     /// the truth's: its lead frequency through the calibration map
     /// (`attribution::leader_probability`); NaN without a leader.
     pub leader_probability: Vec<f64>,
+    /// `resampled_shares[c][r][b]`: the share of region r in column c in
+    /// resample b, kept when the caller set the column blocks (a decoder
+    /// with a time axis, for the time ranges' uncertainty); else empty.
+    pub resampled_shares: Vec<Vec<Vec<f64>>>,
 }

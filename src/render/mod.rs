@@ -22,6 +22,7 @@ pub mod report_figures;
 pub mod report_gain;
 pub mod report_html;
 pub mod report_style;
+pub mod report_time;
 pub mod sheet;
 pub mod spline;
 pub mod svg;

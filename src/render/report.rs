@@ -53,12 +53,17 @@ pub fn build_report(
     let facts: Vec<ComponentFacts> = (0..result.k)
         .map(|c| ComponentFacts::new(result, summary, c))
         .collect();
+    // With a time axis, only the columns at the leading regions' peak times.
+    let shown_columns = super::report_time::shown_columns(result);
     let figures: Vec<ComponentFigures> = if options.no_figures {
         (0..result.k).map(|_| ComponentFigures::default()).collect()
     } else {
         (0..result.k)
             .into_par_iter()
             .map(|c| {
+                if !shown_columns[c] {
+                    return Ok(ComponentFigures::default());
+                }
                 let shown = (0..facts[c].order.len())
                     .filter(|&rank| is_shown(result, &facts[c], c, rank))
                     .count();
@@ -95,11 +100,14 @@ pub fn build_report(
             // Answer first (the leading regions and how well the fit explains
             // the patterns), then the evidence per component, then how it
             // was made.
-            glance(h, result, &facts, &figures);
+            glance(h, result, &facts, &figures, &shown_columns);
+            time_section_or_note(h, result);
             fit_quality(h, &facts);
             super::report_dipoles::dipole_section(h, result);
             for (c, figs) in figures.iter().enumerate() {
-                component_section(h, result, &facts[c], figs, c);
+                if shown_columns[c] {
+                    component_section(h, result, &facts[c], figs, c);
+                }
             }
         },
         |h| {
@@ -218,10 +226,25 @@ fn masthead_facts(r: &ResultFile) -> String {
     )
 }
 
-fn glance(h: &mut Html, r: &ResultFile, facts: &[ComponentFacts], figures: &[ComponentFigures]) {
+/// The region × time section, or a note naming the figure that failed.
+fn time_section_or_note(h: &mut Html, r: &ResultFile) {
+    if let Err(e) = super::report_time::time_section(h, r) {
+        h.element("p", "flag", &e.to_string());
+    }
+}
+
+fn glance(
+    h: &mut Html,
+    r: &ResultFile,
+    facts: &[ComponentFacts],
+    figures: &[ComponentFigures],
+    shown: &[bool],
+) {
     let cards = |h: &mut Html| {
         for (c, f) in facts.iter().enumerate() {
-            card(h, &f.name, |h| glance_card(h, r, f, &figures[c], c));
+            if shown[c] {
+                card(h, &f.name, |h| glance_card(h, r, f, &figures[c], c));
+            }
         }
     };
     let note = "Share: the part of the fitted pattern that the patches of a region explain (patch \
@@ -633,6 +656,7 @@ mod tests {
         ResultFile {
             dipoles: None,
             filter_gain: None,
+            time: None,
             path: "tiny/result.h5".into(),
             hashes: vec![("decoder".into(), "ab".into())],
             caution: CAUTION.to_string(),

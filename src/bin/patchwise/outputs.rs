@@ -140,13 +140,24 @@ pub fn write_outputs_with(
             .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", path.display())))?;
     }
     let dir = stage.commit()?;
-    print_table(a, &rows, 6);
+    if a.time.is_some() {
+        // One column per (component, time): the region x time table instead.
+        for line in patchwise::job::time_outputs::time_table_lines(a, &region_names(a), 5, 10) {
+            outln!("{line}");
+        }
+    } else {
+        print_table(a, &rows, 6);
+    }
     outln!();
-    let gain_table = if a.filter_gain.is_some() {
+    let mut gain_table = if a.filter_gain.is_some() {
         ", filter_gain.csv"
     } else {
         ""
-    };
+    }
+    .to_string();
+    if a.time.is_some() {
+        gain_table.push_str(", regions_time.csv, time_ranges.csv");
+    }
     outln!(
         "results in {} (result.h5, regions.csv, summary.json{gain_table})",
         dir.display()
