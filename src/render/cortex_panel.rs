@@ -25,18 +25,10 @@ pub(crate) const VIEW_DISPLAY: (u32, u32) = (300, 210);
 /// a browser, while the page layout keeps its size.
 pub(crate) const VIEW_PIXELS: (u32, u32) = (840, 588);
 
-/// The views of a report panel: both lateral and both medial surfaces, the
-/// top, the front (where the frontal poles face) and the back (where visual
-/// cortex lies).
-pub(crate) const REPORT_VIEWS: [View; 7] = [
-    View::Left,
-    View::Right,
-    View::MedialLeft,
-    View::MedialRight,
-    View::Top,
-    View::Front,
-    View::Back,
-];
+/// The views of a report panel: every view of [`View::ALL`], i.e. both
+/// lateral and both medial surfaces, the top, the front (where the frontal
+/// poles face) and the back (where visual cortex lies).
+pub(crate) const REPORT_VIEWS: [View; 7] = View::ALL;
 
 /// One drawn view of a panel.
 pub(crate) struct PanelView {
