@@ -90,6 +90,11 @@ pub const CORTEX_GREY: [u8; 3] = [196, 193, 188];
 /// Region outline colour (8-bit sRGB) and its opacity.
 pub const OUTLINE: [u8; 4] = [38, 36, 44, 200];
 
+/// Colour (8-bit sRGB) and opacity of the ring around painted areas
+/// ([`ViewOptions::outline_painted`]): darker and more opaque than the
+/// region outlines, so the two read apart.
+pub const PAINT_OUTLINE: [u8; 4] = [12, 12, 16, 235];
+
 /// How a picture is scaled and placed.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Scale {
@@ -133,6 +138,10 @@ pub struct ViewOptions<'a> {
     /// across the triangle, so no blend of two regions' colours (a halo)
     /// appears along a border. Needs `regions`; ignored without.
     pub values_by_region: bool,
+    /// Draw a thin dark ring ([`PAINT_OUTLINE`]) along the edge of the
+    /// painted areas (values at or above the threshold), so that a small
+    /// active patch stays visible at any picture size.
+    pub outline_painted: bool,
 }
 
 impl ViewOptions<'_> {
@@ -152,6 +161,7 @@ impl ViewOptions<'_> {
             background: [255, 255, 255, 0],
             scale: Scale::Fit { margin: 0.03 },
             values_by_region: false,
+            outline_painted: false,
         }
     }
 }
@@ -445,6 +455,47 @@ fn outline_samples(
         .collect()
 }
 
+/// Marks the covered samples on the edge of the painted areas: a sample
+/// whose interpolated value is painted (at or above the threshold, |value|
+/// for signed maps) next to a covered 4-neighbour that is not, and that
+/// neighbour too, so the ring is two samples (one output pixel at 2×2)
+/// wide and straddles the edge.
+fn painted_edge_samples(
+    scene: &Scene<'_>,
+    triangle: &[u32],
+    barycentric: &[[f32; 3]],
+    w: usize,
+    h: usize,
+) -> Vec<bool> {
+    let triangles = &scene.mesh.triangles;
+    let painted: Vec<Option<bool>> = triangle
+        .par_iter()
+        .zip(barycentric)
+        .map(|(&t, b)| {
+            let tri = triangles.get(t as usize)?;
+            let v: f64 = (0..3)
+                .map(|k| f64::from(b[k]) * scene.values[tri[k] as usize])
+                .sum();
+            let magnitude = if scene.signed { v.abs() } else { v };
+            Some(magnitude >= scene.threshold)
+        })
+        .collect();
+    (0..w * h)
+        .into_par_iter()
+        .map(|i| {
+            let Some(p) = painted[i] else {
+                return false;
+            };
+            let (x, y) = (i % w, i / w);
+            let differs = |j: usize| painted[j].is_some_and(|q| q != p);
+            (x > 0 && differs(i - 1))
+                || (x + 1 < w && differs(i + 1))
+                || (y > 0 && differs(i - w))
+                || (y + 1 < h && differs(i + w))
+        })
+        .collect()
+}
+
 /// Linear light (0..1) to 8-bit sRGB through a table of 4096 + 1 entries
 /// with linear interpolation, accurate to well under one 8-bit step.
 struct Encoder {
@@ -603,6 +654,9 @@ fn draw(
     let grey = bytes_to_linear_srgb(CORTEX_GREY);
     let outline = bytes_to_linear_srgb([OUTLINE[0], OUTLINE[1], OUTLINE[2]]);
     let outline_alpha = OUTLINE[3] as f64 / 255.0;
+    let paint_outline =
+        bytes_to_linear_srgb([PAINT_OUTLINE[0], PAINT_OUTLINE[1], PAINT_OUTLINE[2]]);
+    let paint_alpha = PAINT_OUTLINE[3] as f64 / 255.0;
     let triangles = &scene.mesh.triangles;
     // The linear-light colour of triangle t at barycentric point b.
     let by_region = options.regions.filter(|_| options.values_by_region);
@@ -655,11 +709,13 @@ fn draw(
             let edge = options
                 .regions
                 .map(|r| outline_samples(&tri_buf, &bary_buf, triangles, r, wu, end - start));
+            let painted_edge = (options.outline_painted && !scene.values.is_empty())
+                .then(|| painted_edge_samples(scene, &tri_buf, &bary_buf, wu, end - start));
             for (y_in_block, row) in block_out.chunks_mut(width * 4).enumerate() {
                 let y = block * block_rows + y_in_block;
                 // Reused for every pixel of the row; only the first `n_groups`
                 // entries are meaningful.
-                let mut groups = [(NO_TRIANGLE, 0u32, [0.0f64; 3], 0u32); 16];
+                let mut groups = [(NO_TRIANGLE, 0u32, [0.0f64; 3], 0u32, 0u32); 16];
                 for x in 0..width {
                     // Samples are grouped by triangle and each triangle is
                     // shaded once, at the mean of its samples' barycentric
@@ -680,7 +736,7 @@ fn draw(
                             let g = match groups[..n_groups].iter().position(|g| g.0 == t) {
                                 Some(g) => g,
                                 None => {
-                                    groups[n_groups] = (t, 0, [0.0; 3], 0);
+                                    groups[n_groups] = (t, 0, [0.0; 3], 0, 0);
                                     n_groups += 1;
                                     n_groups - 1
                                 }
@@ -693,16 +749,21 @@ fn draw(
                             if edge.as_ref().is_some_and(|e| e[i]) {
                                 group.3 += 1;
                             }
+                            if painted_edge.as_ref().is_some_and(|e| e[i]) {
+                                group.4 += 1;
+                            }
                         }
                     }
                     let covered = su * su - uncovered as usize;
                     let mut sum = [0.0; 3];
-                    for &(t, count, bary, edges) in &groups[..n_groups] {
+                    for &(t, count, bary, edges, rings) in &groups[..n_groups] {
                         let m = count as f64;
                         let mut c = shade(t, bary.map(|b| b / m));
                         let e = outline_alpha * edges as f64 / m;
+                        let p = paint_alpha * rings as f64 / m;
                         for k in 0..3 {
                             c[k] = c[k] * (1.0 - e) + outline[k] * e;
+                            c[k] = c[k] * (1.0 - p) + paint_outline[k] * p;
                             sum[k] += c[k] * m;
                         }
                     }

@@ -219,10 +219,11 @@ fn cortex(
             threshold: 0.05 * largest,
         }
     };
+    options.outline_painted = signed;
     let views = render_views(&mesh, &values, &REPORT_VIEWS, &options)
         .map_err(|e| ReportError::figure(&r.path, what.clone(), e))?;
     let caption = format!(
-        "{name}: {} on the cortex (views: {}); colours relative to the largest value, {largest:.3e} {unit}{}; values below {} % of it are left grey; lines: region borders. Letters at the view edges: A anterior, P posterior, L left, R right.",
+        "{name}: {} on the cortex (views: {}); colours relative to the largest value, {largest:.3e} {unit}{}; values below {} % of it are left grey{}; lines: region borders. Letters at the view edges: A anterior, P posterior, L left, R right.",
         if signed {
             "source map (dipole moment along the outward normal)"
         } else {
@@ -235,6 +236,11 @@ fn cortex(
             ""
         },
         if signed { 2 } else { 5 },
+        if signed {
+            ", and a dark ring edges the coloured areas"
+        } else {
+            ""
+        },
     );
     match req.format {
         FigureFormat::Png => {

@@ -286,6 +286,7 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
             limit: Some(largest),
             threshold: CORTEX_THRESHOLD * largest,
         };
+        options.outline_painted = true;
     }
     let what = || format!("the cortex views of component {c}");
     let dipoles = dipole_marks(r, c);
@@ -318,7 +319,8 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
         format!(
             "Source map: dipole moment per source relative to the largest, {:.3e} A\u{00b7}m \
              (orange positive, blue negative, along the outward normal); values below {:.0} % of \
-             the largest are left grey; lines: region borders. All views share one scale. {}{}",
+             the largest are left grey, and a dark ring edges the coloured areas so small ones \
+             stay visible; thin lines: region borders. All views share one scale. {}{}",
             largest,
             100.0 * CORTEX_THRESHOLD,
             MARKS_NOTE,

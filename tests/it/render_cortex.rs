@@ -523,3 +523,61 @@ fn edge_marks_follow_the_cameras() {
     assert_eq!(View::Back.edge_marks(), ["L", "R", "S", "I"]);
     assert_eq!(View::Top.edge_marks(), ["L", "R", "A", "P"]);
 }
+
+#[test]
+fn painted_areas_get_a_ring_that_keeps_small_ones_visible() {
+    // A small cap of a sphere (y > 0.985 r) painted on the diverging map,
+    // seen from the front: without the ring no pixel of the picture's
+    // middle (the cap and the lit grey around it, away from the darker rim)
+    // is dark (every channel below 120: the lit grey is about 190, the
+    // map's orange-red end has a red channel near 200); with the ring, dark
+    // pixels appear there, and only next to the painted cap (within 3 px of
+    // a painted pixel). Our own check of the option's contract, no source.
+    let mesh = Mesh::icosphere(5, 0.05);
+    let values: Vec<f64> = mesh
+        .vertices
+        .iter()
+        .map(|p| if p[1] > 0.985 * 0.05 { 1.0 } else { 0.0 })
+        .collect();
+    let draw = |ring: bool| {
+        let mut o = ViewOptions::new(View::Front, 300, 300);
+        o.background = [255, 255, 255, 255];
+        o.colour = ColourSpec::Signed {
+            limit: Some(1.0),
+            threshold: 0.5,
+        };
+        o.outline_painted = ring;
+        render_view(&mesh, &values, &o).unwrap()
+    };
+    let near_black = |p: &[u8]| p[0].max(p[1]).max(p[2]) < 120;
+    let middle = |i: usize| {
+        let (x, y) = ((i % 300) as i64, (i / 300) as i64);
+        (x - 150).abs() <= 60 && (y - 150).abs() <= 60
+    };
+    let painted = |p: &[u8]| p[0] > p[2] + 40;
+    let plain = draw(false);
+    let plain_px: Vec<&[u8]> = plain.rgba.chunks(4).collect();
+    assert_eq!(
+        (0..plain_px.len())
+            .filter(|&i| middle(i) && near_black(plain_px[i]))
+            .count(),
+        0
+    );
+    let ringed = draw(true);
+    let w = ringed.width as usize;
+    let px: Vec<&[u8]> = ringed.rgba.chunks(4).collect();
+    let dark: Vec<usize> = (0..px.len())
+        .filter(|&i| middle(i) && near_black(px[i]))
+        .collect();
+    assert!(dark.len() > 20, "only {} ring pixels", dark.len());
+    let painted_at: Vec<usize> = (0..px.len()).filter(|&i| painted(px[i])).collect();
+    assert!(!painted_at.is_empty(), "the cap is not painted");
+    for &i in &dark {
+        let (x, y) = ((i % w) as i64, (i / w) as i64);
+        let near = painted_at.iter().any(|&j| {
+            let (u, v) = ((j % w) as i64, (j / w) as i64);
+            (u - x).abs() <= 3 && (v - y).abs() <= 3
+        });
+        assert!(near, "ring pixel ({x}, {y}) far from the painted cap");
+    }
+}
