@@ -117,7 +117,7 @@ fn dipole_overlay(view: View, framing: &Framing, dipoles: &[DipoleMark]) -> Stri
         body.push_str(&format!(
             r##"<circle cx="{x:.1}" cy="{y:.1}" r="4" fill="#ffffff" fill-opacity="0.7" stroke="#111111" stroke-width="1.5"/>"##
         ));
-        if norm <= 0.0 {
+        if !(norm.is_finite() && norm > 0.0) {
             continue;
         }
         let (dx, dy) = (22.0 * m[0] / norm, -22.0 * m[1] / norm);
