@@ -8,7 +8,7 @@
 
 use super::axes::colour_bar;
 use super::camera::View;
-use super::cortex::{render_views_framed, ViewOptions};
+use super::cortex::{render_views_framed, ColourSpec, ViewOptions};
 use super::error::RenderError;
 use super::image::Image;
 use super::raster::Framing;
@@ -29,6 +29,46 @@ pub(crate) const VIEW_PIXELS: (u32, u32) = (840, 588);
 /// lateral and both medial surfaces, the top, the front (where the frontal
 /// poles face) and the back (where visual cortex lies).
 pub(crate) const REPORT_VIEWS: [View; 7] = View::ALL;
+
+/// Source-map values below this fraction of the largest |value| show as
+/// bare cortex, so the active patches stand out.
+pub(crate) const SOURCE_MAP_THRESHOLD: f64 = 0.02;
+
+/// Gains below this fraction of the largest show as bare cortex.
+pub(crate) const GAIN_THRESHOLD: f64 = 0.05;
+
+/// How a source map is drawn everywhere (report and exported figures): the
+/// diverging map over ±`largest` with values below [`SOURCE_MAP_THRESHOLD`]
+/// of it left grey and the painted areas ringed, region outlines, a white
+/// ground; bare cortex when `largest` is 0. Size and view are the caller's.
+pub(crate) fn source_map_options(regions: &[i32], largest: f64) -> ViewOptions<'_> {
+    let mut options = ViewOptions::new(View::Left, 1, 1);
+    options.background = [255, 255, 255, 255];
+    options.regions = Some(regions);
+    if largest > 0.0 {
+        options.colour = ColourSpec::Signed {
+            limit: Some(largest),
+            threshold: SOURCE_MAP_THRESHOLD * largest,
+        };
+        options.outline_painted = true;
+    }
+    options
+}
+
+/// How a filter's gain is drawn everywhere: the sequential map over
+/// [0, `largest`] with gains below [`GAIN_THRESHOLD`] of it left grey,
+/// region outlines, a white ground (no rings: the gain is painted almost
+/// everywhere).
+pub(crate) fn gain_options(regions: &[i32], largest: f64) -> ViewOptions<'_> {
+    let mut options = ViewOptions::new(View::Left, 1, 1);
+    options.background = [255, 255, 255, 255];
+    options.regions = Some(regions);
+    options.colour = ColourSpec::Positive {
+        max: Some(largest),
+        threshold: GAIN_THRESHOLD * largest,
+    };
+    options
+}
 
 /// One drawn view of a panel.
 pub(crate) struct PanelView {

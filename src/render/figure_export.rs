@@ -9,19 +9,21 @@
 //! (`report_figures::{source_map, share_bars, path_samples}`), so an
 //! exported figure shows what the report shows, at another size.
 
-use super::camera::View;
 use super::charts::{
     region_shares_svg, regularisation_path_svg, PathChartOptions, RegionSharesOptions,
 };
 use super::colormap::{diverging, sequential};
-use super::cortex::{render_views, ColourSpec, ViewOptions};
-use super::cortex_panel::{colour_bar_svg, REPORT_VIEWS};
+use super::cortex::render_views;
+use super::cortex_panel::{
+    colour_bar_svg, gain_options, source_map_options, GAIN_THRESHOLD, REPORT_VIEWS,
+    SOURCE_MAP_THRESHOLD,
+};
 use super::image::Image;
 use super::page::{order_by, ReportError};
 use super::report_figures::{path_samples, share_bars, source_map};
+use super::report_gain::gain_map;
 use super::svg::{Attrs, Svg};
 use super::topomap::{topomap_png, topomap_svg, TopomapOptions};
-use crate::attribution::FilterGain;
 use crate::io::result_file::ResultFile;
 
 /// Which figure of a result.
@@ -172,22 +174,13 @@ fn cortex(
         };
         (values, largest, true, "A\u{00b7}m")
     } else {
-        let (Some(gain), Some(sources)) = (&r.filter_gain, &r.sources) else {
+        let Some((values, largest)) = gain_map(r, c)? else {
             return Err(unavailable(
                 r,
                 what,
-                "the result holds no gain map (the decoder was given as patterns, or without a lead field)",
+                "the result holds no gain map for its source mesh (the decoder was given as patterns, or without a lead field)",
             ));
         };
-        if gain.source.len() != sources.len() * r.k {
-            return Err(unavailable(
-                r,
-                what,
-                "the gain map does not match the source mesh",
-            ));
-        }
-        let values = FilterGain::column(&gain.source, r.k, c);
-        let largest = values.iter().fold(0.0f64, |m, &v| m.max(v));
         (values, largest, false, "filter output per A\u{00b7}m")
     };
     let Some(sources) = &r.sources else {
@@ -205,25 +198,17 @@ fn cortex(
     };
     let view_w = ((req.width - bar_width) / 3).max(60);
     let view_h = view_w * 7 / 10;
-    let mut options = ViewOptions::new(View::Left, view_w, view_h);
-    options.background = [255, 255, 255, 255];
-    options.regions = Some(&sources.region);
-    options.colour = if signed {
-        ColourSpec::Signed {
-            limit: Some(largest),
-            threshold: 0.02 * largest,
-        }
+    let mut options = if signed {
+        source_map_options(&sources.region, largest)
     } else {
-        ColourSpec::Positive {
-            max: Some(largest),
-            threshold: 0.05 * largest,
-        }
+        gain_options(&sources.region, largest)
     };
-    options.outline_painted = signed;
+    options.width = view_w;
+    options.height = view_h;
     let views = render_views(&mesh, &values, &REPORT_VIEWS, &options)
         .map_err(|e| ReportError::figure(&r.path, what.clone(), e))?;
     let caption = format!(
-        "{name}: {} on the cortex (views: {}); colours relative to the largest value, {largest:.3e} {unit}{}; values below {} % of it are left grey{}; lines: region borders. Letters at the view edges: A anterior, P posterior, L left, R right.",
+        "{name}: {} on the cortex (views: {}); colours relative to the largest value, {largest:.3e} {unit}{}; values below {:.0} % of it are left grey{}; lines: region borders. Letters at the view edges: A anterior, P posterior, L left, R right.",
         if signed {
             "source map (dipole moment along the outward normal)"
         } else {
@@ -235,7 +220,7 @@ fn cortex(
         } else {
             ""
         },
-        if signed { 2 } else { 5 },
+        100.0 * if signed { SOURCE_MAP_THRESHOLD } else { GAIN_THRESHOLD },
         if signed {
             ", and a dark ring edges the coloured areas"
         } else {

@@ -5,16 +5,14 @@
 //! (`charts`, and the topographic maps and cortex views when present);
 //! this file only chooses what to draw, at which size, and how to caption it.
 
-use super::camera::View;
 use super::charts::{
     region_shares_svg, regularisation_path_svg, PathChartOptions, PathSample, RegionBar,
     RegionSharesOptions,
 };
 use super::colormap::diverging;
-use super::cortex::{ColourSpec, ViewOptions};
 use super::cortex_panel::{
-    best_view, colour_bar_svg, cortex_panel_with_dipoles, diverging_painted, DipoleMark,
-    MARKS_NOTE, VIEW_DISPLAY,
+    best_view, colour_bar_svg, cortex_panel_with_dipoles, diverging_painted, source_map_options,
+    DipoleMark, MARKS_NOTE, SOURCE_MAP_THRESHOLD, VIEW_DISPLAY,
 };
 use super::page::ReportError;
 use super::topomap::{topomap_svg, TopomapOptions};
@@ -64,9 +62,6 @@ const PATH_HEIGHT: u32 = 300;
 const CHART_REGIONS: usize = 8;
 /// Width of one topographic map (px): three to a row of the text column.
 const TOPOMAP_WIDTH: u32 = 340;
-/// Source-map values below this fraction of the largest |value| show as
-/// bare cortex, so the active patches stand out.
-const CORTEX_THRESHOLD: f64 = 0.02;
 
 fn figure_error(r: &ResultFile, figure: String, e: impl std::fmt::Display) -> ReportError {
     ReportError::figure(&r.path, figure, e)
@@ -278,16 +273,7 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
         return Ok(None);
     };
     let mesh = sources.mesh();
-    let mut options = ViewOptions::new(View::Left, 1, 1);
-    options.background = [255, 255, 255, 255];
-    options.regions = Some(&sources.region);
-    if largest > 0.0 {
-        options.colour = ColourSpec::Signed {
-            limit: Some(largest),
-            threshold: CORTEX_THRESHOLD * largest,
-        };
-        options.outline_painted = true;
-    }
+    let options = source_map_options(&sources.region, largest);
     let what = || format!("the cortex views of component {c}");
     let dipoles = dipole_marks(r, c);
     let panel = cortex_panel_with_dipoles(&mesh, &values, &options, diverging_painted, &dipoles)
@@ -322,7 +308,7 @@ fn cortex_views(r: &ResultFile, c: usize) -> Result<Option<(FigureGroup, usize)>
              the largest are left grey, and a dark ring edges the coloured areas so small ones \
              stay visible; thin lines: region borders. All views share one scale. {}{}",
             largest,
-            100.0 * CORTEX_THRESHOLD,
+            100.0 * SOURCE_MAP_THRESHOLD,
             MARKS_NOTE,
             dipole_note
         )

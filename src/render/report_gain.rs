@@ -3,17 +3,15 @@
 //! map, with one sentence on what the difference means and the regions
 //! where the filter also listens; or, without a gain map, why there is none.
 
-use super::camera::View;
 use super::colormap::sequential;
-use super::cortex::{ColourSpec, ViewOptions};
-use super::cortex_panel::{cortex_panel, sequential_painted, MARKS_NOTE, VIEW_DISPLAY};
+use super::cortex_panel::{
+    cortex_panel, gain_options, sequential_painted, GAIN_THRESHOLD, MARKS_NOTE, VIEW_DISPLAY,
+};
 use super::page::ReportError;
 use super::report_figures::{relative_colour_bar, Figure, FigureGroup};
 use crate::attribution::{gain_agreement, FilterGain, GainAgreement};
 use crate::io::result_file::ResultFile;
 
-/// Gains below this fraction of the largest show as bare cortex.
-const GAIN_THRESHOLD: f64 = 0.05;
 /// Title of the group.
 const TITLE: &str = "Where the filter listens: gain on the cortex";
 /// What the difference between the two maps means, in one sentence.
@@ -72,32 +70,14 @@ fn gain_note(r: &ResultFile, c: usize, largest: f64) -> String {
     note
 }
 
-/// The gain group of component `c`: seven cortex views and a colour bar, or
-/// a group without pictures whose note says why there is no gain map.
-pub fn gain_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportError> {
-    let without = |note: &str| {
-        Ok(Some(FigureGroup {
-            title: TITLE.to_string(),
-            figures: Vec::new(),
-            note: note.to_string(),
-            layout: "row",
-        }))
-    };
-    let Some(gain) = &r.filter_gain else {
-        return if r.patterns_source == "patterns" {
-            without(
-                "The decoder was given as patterns: the gain of its filters needs the filters \
-                 themselves (give the weights and the data covariance).",
-            )
-        } else {
-            without("No gain map: the lead field was not at hand (a dictionary without /leadfield/gain).")
-        };
-    };
-    let Some(sources) = &r.sources else {
+/// Component `c`'s filter gain, one value per source (filter output per
+/// A·m), and its largest value; `None` when the result holds no gain map or
+/// no source mesh it fits; an error when a gain is not finite.
+pub(crate) fn gain_map(r: &ResultFile, c: usize) -> Result<Option<(Vec<f64>, f64)>, ReportError> {
+    let (Some(gain), Some(sources)) = (&r.filter_gain, &r.sources) else {
         return Ok(None);
     };
-    let n_src = sources.len();
-    if sources.triangles.is_empty() || gain.source.len() != n_src * r.k {
+    if sources.triangles.is_empty() || gain.source.len() != sources.len() * r.k {
         return Ok(None);
     }
     let values = FilterGain::column(&gain.source, r.k, c);
@@ -109,17 +89,41 @@ pub fn gain_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, Repor
             "the gain holds a value that is not finite",
         ));
     }
+    Ok(Some((values, largest)))
+}
+
+/// The gain group of component `c`: seven cortex views and a colour bar, or
+/// a group without pictures whose note says why there is no gain map.
+pub fn gain_views(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportError> {
+    let without = |note: &str| {
+        Ok(Some(FigureGroup {
+            title: TITLE.to_string(),
+            figures: Vec::new(),
+            note: note.to_string(),
+            layout: "row",
+        }))
+    };
+    if r.filter_gain.is_none() {
+        return if r.patterns_source == "patterns" {
+            without(
+                "The decoder was given as patterns: the gain of its filters needs the filters \
+                 themselves (give the weights and the data covariance).",
+            )
+        } else {
+            without("No gain map: the lead field was not at hand (a dictionary without /leadfield/gain).")
+        };
+    }
+    let Some((values, largest)) = gain_map(r, c)? else {
+        return Ok(None);
+    };
+    let Some(sources) = &r.sources else {
+        return Ok(None);
+    };
     if largest == 0.0 {
         return without("The filter's gain is zero everywhere (its weights are zero).");
     }
     let mesh = sources.mesh();
-    let mut options = ViewOptions::new(View::Left, 1, 1);
-    options.background = [255, 255, 255, 255];
-    options.regions = Some(&sources.region);
-    options.colour = ColourSpec::Positive {
-        max: Some(largest),
-        threshold: GAIN_THRESHOLD * largest,
-    };
+    let options = gain_options(&sources.region, largest);
     let what = || format!("the gain views of component {c}");
     let panel = cortex_panel(&mesh, &values, &options, sequential_painted)
         .map_err(|e| ReportError::figure(&r.path, what(), e))?;

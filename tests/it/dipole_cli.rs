@@ -7,6 +7,7 @@ use std::path::Path;
 use std::process::Output;
 
 use crate::support::cli::patchwise;
+use crate::support::files::csv;
 use patchwise::geometry::{template, TemplateResolution, Vec3};
 use patchwise::io::{Array, Store};
 
@@ -38,16 +39,6 @@ fn seed(name: &str) -> Vec3 {
         .min_by(|&a, &b| d(a).total_cmp(&d(b)))
         .unwrap();
     t.mesh.vertices[best]
-}
-
-/// Rows of dipoles.csv as (header, fields).
-fn csv(path: &Path) -> (Vec<String>, Vec<Vec<String>>) {
-    let text = std::fs::read_to_string(path).unwrap();
-    let mut lines = text
-        .lines()
-        .map(|l| l.split(',').map(str::to_string).collect::<Vec<_>>());
-    let header = lines.next().unwrap();
-    (header, lines.collect())
 }
 
 fn position_mm(header: &[String], row: &[String]) -> Vec3 {

@@ -3,10 +3,10 @@
 //! names with or without an attribution beside them, and a new attribution
 //! into the folder leaves no stale dipoles behind.
 
-use std::path::Path;
 use std::process::Output;
 
 use crate::support::cli::patchwise;
+use crate::support::files::csv;
 use crate::support::report::run_demo;
 use crate::support::scratch;
 use patchwise::io::Store;
@@ -17,16 +17,6 @@ fn stdout(o: &Output) -> String {
 
 fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
-}
-
-/// Rows of a CSV as (header, fields); no field of ours holds a comma.
-fn csv(path: &Path) -> (Vec<String>, Vec<Vec<String>>) {
-    let text = std::fs::read_to_string(path).unwrap();
-    let mut lines = text
-        .lines()
-        .map(|l| l.split(',').map(str::to_string).collect::<Vec<_>>());
-    let header = lines.next().unwrap();
-    (header, lines.collect())
 }
 
 /// Item 10, through the real binary on the demo's decoder.

@@ -97,3 +97,14 @@ pub fn attribute_quickly_with_env(
     args.extend_from_slice(extra);
     super::cli::patchwise_with_env(&args, dir, env)
 }
+
+/// Rows of one of our CSV outputs (dipoles.csv, regions.csv, …) as
+/// (header, fields); no field of ours holds a comma.
+pub fn csv(path: &Path) -> (Vec<String>, Vec<Vec<String>>) {
+    let text = std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{}: {e}", path.display()));
+    let mut lines = text
+        .lines()
+        .map(|l| l.split(',').map(str::to_string).collect::<Vec<_>>());
+    let header = lines.next().unwrap();
+    (header, lines.collect())
+}
