@@ -3,8 +3,10 @@
 use rayon::prelude::*;
 
 use crate::dictionary::{build_dictionary, Dictionary, DictionaryInfo, DictionaryParams, Seeds};
-use crate::forward::{bem_lead_field, lead_field, ForwardError, LeadField, Orientation, Reference};
-use crate::geometry::{farthest_point_seeds, norm, sub, GeodesicSolver, SourceSpace};
+use crate::forward::{
+    bem_lead_field, lead_field, ForwardError, Gain, LeadField, Orientation, Reference,
+};
+use crate::geometry::{farthest_point_seeds, norm, sub, GeodesicSolver, SourceSpace, Vec3};
 use crate::head::bem::{project_to_scalp, BemSystem, ScalpPoint};
 use crate::head::SphereHead;
 use crate::montage::{Montage, ProjectionWarning};
@@ -31,17 +33,36 @@ pub fn leadfield_for(
         progress,
     )?;
     Ok((
-        LeadField {
-            labels: projected.labels.clone(),
-            electrode_positions: projected.positions.clone(),
-            sources: sources.clone(),
-            gain: lf.gain,
-            gain_xyz: lf.gain_xyz,
-            reference: "average".to_string(),
-            head_model: head.head_model_json(),
-        },
+        average_referenced(
+            projected.labels,
+            projected.positions,
+            sources,
+            lf,
+            head.head_model_json(),
+        ),
         warnings,
     ))
+}
+
+/// The [`LeadField`] model of an average-referenced `gain` for electrodes
+/// `labels` at `electrode_positions` (m) and `sources`, with the head
+/// file's form `head_model`.
+fn average_referenced(
+    labels: Vec<String>,
+    electrode_positions: Vec<Vec3>,
+    sources: &SourceSpace,
+    gain: Gain,
+    head_model: String,
+) -> LeadField {
+    LeadField {
+        labels,
+        electrode_positions,
+        sources: sources.clone(),
+        gain: gain.gain,
+        gain_xyz: gain.gain_xyz,
+        reference: "average".to_string(),
+        head_model,
+    }
 }
 
 /// The lead field of `montage` (each electrode moved to the nearest point
@@ -68,15 +89,13 @@ pub fn bem_leadfield_for(
         progress,
     )?;
     Ok((
-        LeadField {
-            labels: montage.labels.clone(),
-            electrode_positions: points.iter().map(|p| p.position).collect(),
-            sources: sources.clone(),
-            gain: lf.gain,
-            gain_xyz: lf.gain_xyz,
-            reference: "average".to_string(),
-            head_model: head_json.to_string(),
-        },
+        average_referenced(
+            montage.labels.clone(),
+            points.iter().map(|p| p.position).collect(),
+            sources,
+            lf,
+            head_json.to_string(),
+        ),
         points,
     ))
 }
