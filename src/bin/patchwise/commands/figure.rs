@@ -40,14 +40,14 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     let dir = &args.result_dir;
     format_of(&args.out)?;
     let caption = caption_path(&args.out);
-    for (file, flag) in [(args.out.as_path(), "--out"), (caption.as_path(), "--out")] {
-        patchwise::io::staging::check_output_file(file, flag)?;
-        let sources: Vec<PathBuf> = ["result.h5", "summary.json", "report.html"]
-            .iter()
-            .map(|f| dir.join(f))
-            .collect();
-        let inputs: Vec<(&str, &Path)> = sources.iter().map(|p| ("input", p.as_path())).collect();
-        patchwise::io::staging::refuse_input_as_output(file, flag, &inputs)?;
+    let sources: Vec<PathBuf> = ["result.h5", "summary.json", "report.html"]
+        .iter()
+        .map(|f| dir.join(f))
+        .collect();
+    let inputs: Vec<(&str, &Path)> = sources.iter().map(|p| ("input", p.as_path())).collect();
+    for file in [args.out.as_path(), caption.as_path()] {
+        patchwise::io::staging::check_output_file(file, "--out")?;
+        patchwise::io::staging::refuse_input_as_output(file, "--out", &inputs)?;
     }
     let kind = FigureKind::from_name(&args.kind).ok_or_else(|| {
         CliError::bad_input(anyhow::anyhow!("--kind {}: unknown figure", args.kind))
