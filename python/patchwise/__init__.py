@@ -317,6 +317,53 @@ class Result(Datasets):
             return None
         return mean, self["/filter_gain/region_max"]
 
+    # A decoder with a time axis (docs/time_resolved.md).
+    @property
+    def times(self) -> Optional[np.ndarray]:
+        """The decoder's time points in seconds (n_times); None for a decoder
+        without a time axis."""
+        return self.get("/attribution/times")
+
+    @property
+    def share_time(self) -> Optional[np.ndarray]:
+        """Region x time shares (n_components x n_regions x n_times, fractions):
+        ``share_time[c]`` is one component's region x time picture; None
+        without a time axis."""
+        return self.get("/attribution/share_time")
+
+    @property
+    def share_time_intervals(self) -> Optional[Tuple[np.ndarray, np.ndarray]]:
+        """The 95 % intervals of :attr:`share_time`: (low, high), same shape
+        (NaN without resamples); None without a time axis."""
+        low = self.get("/attribution/share_time_low")
+        if low is None:
+            return None
+        return low, self["/attribution/share_time_high"]
+
+    def time_ranges(self) -> List[Dict[str, Any]]:
+        """The time range of each leading region of each component
+        (time_ranges.csv): dicts with ``component`` and ``region`` (names),
+        ``onset_s``, ``peak_s``, ``offset_s`` and their 2.5-97.5 % ends
+        (``onset_low_s`` ...; seconds, NaN without resamples), ``peak_share``
+        and ``held_frequency`` (fractions). Empty without a time axis."""
+        base = "/attribution/time_range/"
+        if base + "component" not in self:
+            return []
+        columns = {
+            name: np.asarray(self[base + name])
+            for name in ("component", "region", "onset_s", "onset_low_s", "onset_high_s",
+                         "peak_s", "peak_low_s", "peak_high_s", "offset_s", "offset_low_s",
+                         "offset_high_s", "peak_share", "held_frequency")
+        }
+        components, regions = self.component_names, self.region_names
+        rows: List[Dict[str, Any]] = []
+        for i in range(len(columns["component"])):
+            row: Dict[str, Any] = {k: float(v[i]) for k, v in columns.items()}
+            row["component"] = components[int(columns["component"][i])]
+            row["region"] = regions[int(columns["region"][i])]
+            rows.append(row)
+        return rows
+
     def table(self, top: Optional[int] = None) -> List[Region]:
         """The leading regions of each component (regions.csv), largest
         share first within a component; ``top`` keeps that many per component."""
@@ -411,6 +458,7 @@ def attribute(
     fold_covariances: Any = None,
     n_samples: Optional[float] = None,
     noise_covariance: Any = None,
+    times: Any = None,
     component_names: Optional[Sequence[str]] = None,
     decoder: Optional[PathLike] = None,
     montage: Any = None,
@@ -428,7 +476,19 @@ def attribute(
     the decoders of your cross-validation, of the same kind) with
     ``fold_covariances`` (n_folds x n_ch x n_ch) or ``n_samples`` (trials
     behind the covariance) give the noise level. ``noise_covariance``
-    (n_ch x n_ch) whitens the fit. ``montage`` is a name (``"10-20"``,
+    (n_ch x n_ch) whitens the fit.
+
+    A decoder with a time axis (docs/time_resolved.md) gives ``times``
+    (n_times, seconds, increasing) and either one discriminant over
+    channel x time features, ``weights`` n_ch x n_times with ``covariance``
+    of the flattened features ((n_ch*n_times) square, channel-major:
+    ``epochs.reshape(n_trials, -1)``), or one decoder per time point,
+    ``patterns``/``weights`` n_times x n_ch x k with one shared covariance
+    (n_ch x n_ch) or one per time point (n_times x n_ch x n_ch). The
+    result then has :attr:`Result.times`, :attr:`Result.share_time` and
+    :meth:`Result.time_ranges`.
+
+    ``montage`` is a name (``"10-20"``,
     ``"10-10"``, ``"10-5"``), an electrodes file, or an (n, 3) array of
     positions in mm with ``montage_labels`` (default ``channels``).
 
@@ -463,11 +523,12 @@ def attribute(
         noise_covariance = folder / "noise_covariance.npy"
     given["noise_covariance"] = noise_covariance
     arrays = dict(
-        patterns=_float_array("patterns", patterns, (1, 2)),
-        weights=_float_array("weights", weights, (1, 2)),
-        covariance=_float_array("covariance", covariance, (2,)),
+        patterns=_float_array("patterns", patterns, (1, 2, 3) if times is not None else (1, 2)),
+        weights=_float_array("weights", weights, (1, 2, 3) if times is not None else (1, 2)),
+        covariance=_float_array("covariance", covariance, (2, 3) if times is not None else (2,)),
         folds=_float_array("folds", folds, (3,)),
         fold_covariances=_float_array("fold_covariances", fold_covariances, (3,)),
+        times=_float_array("times", times, (1,)),
     )
     if decoder is not None:
         if any(a is not None for a in arrays.values()):

@@ -86,6 +86,15 @@ class Result(Datasets):
     def region_gain(
         self,
     ) -> Optional[Tuple[npt.NDArray[np.float64], npt.NDArray[np.float64]]]: ...
+    @property
+    def times(self) -> Optional[npt.NDArray[np.float64]]: ...
+    @property
+    def share_time(self) -> Optional[npt.NDArray[np.float64]]: ...
+    @property
+    def share_time_intervals(
+        self,
+    ) -> Optional[Tuple[npt.NDArray[np.float64], npt.NDArray[np.float64]]]: ...
+    def time_ranges(self) -> List[Dict[str, Any]]: ...
     def table(self, top: Optional[int] = ...) -> List[Region]: ...
     def to_pandas(self, top: Optional[int] = ...) -> Any: ...
     def save(self, folder: PathLike) -> Path: ...
@@ -102,6 +111,7 @@ def attribute(
     fold_covariances: Optional[ArrayLike] = ...,
     n_samples: Optional[float] = ...,
     noise_covariance: Union[ArrayLike, PathLike, None] = ...,
+    times: Optional[ArrayLike] = ...,
     component_names: Optional[Sequence[str]] = ...,
     decoder: Optional[PathLike] = ...,
     montage: Union[str, PathLike, ArrayLike, None] = ...,
@@ -127,6 +137,7 @@ def attribute(
     seed: Optional[int] = ...,
     forward_perturbations: Optional[int] = ...,
     no_refit: Optional[bool] = ...,
+    time_window: Optional[float] = ...,
 ) -> Result: ...
 def from_estimator(
     estimator: Any,

@@ -60,6 +60,7 @@ pub(crate) struct DecoderArrays<'py> {
     pub(crate) n_samples: Option<f64>,
     pub(crate) folds: Option<PyReadonlyArrayDyn<'py, f64>>,
     pub(crate) fold_covariances: Option<PyReadonlyArrayDyn<'py, f64>>,
+    pub(crate) times: Option<PyReadonlyArrayDyn<'py, f64>>,
     pub(crate) component_names: Option<Vec<String>>,
 }
 
@@ -76,6 +77,7 @@ pub(crate) fn decoder_store(d: &DecoderArrays<'_>) -> Store {
         ("/covariance", &d.covariance),
         ("/folds", &d.folds),
         ("/fold_covariances", &d.fold_covariances),
+        ("/times", &d.times),
     ];
     for (name, array) in arrays {
         if let Some(a) = array {
@@ -102,7 +104,7 @@ fn write_folder(out: &Path, a: &patchwise::job::Attribution) -> Result<PathBuf, 
 /// Run `attribute` on a decoder given as arrays (or, without arrays, on the
 /// decoder file the parameters name) and write its folder to `out`.
 #[pyfunction]
-#[pyo3(signature = (params_json, out, cache, progress, decoder_name, channels=None, patterns=None, weights=None, covariance=None, n_samples=None, folds=None, fold_covariances=None, component_names=None))]
+#[pyo3(signature = (params_json, out, cache, progress, decoder_name, channels=None, patterns=None, weights=None, covariance=None, n_samples=None, folds=None, fold_covariances=None, times=None, component_names=None))]
 #[allow(clippy::too_many_arguments)]
 fn attribute<'py>(
     py: Python<'py>,
@@ -118,6 +120,7 @@ fn attribute<'py>(
     n_samples: Option<f64>,
     folds: Option<PyReadonlyArrayDyn<'py, f64>>,
     fold_covariances: Option<PyReadonlyArrayDyn<'py, f64>>,
+    times: Option<PyReadonlyArrayDyn<'py, f64>>,
     component_names: Option<Vec<String>>,
 ) -> PyResult<PathBuf> {
     let mut params = attribute_params(params_json)?;
@@ -132,6 +135,7 @@ fn attribute<'py>(
                 n_samples,
                 folds,
                 fold_covariances,
+                times,
                 component_names,
             };
             let store = decoder_store(&arrays);

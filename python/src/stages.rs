@@ -176,6 +176,7 @@ pub fn write_decoder<'py>(
         n_samples,
         folds: None,
         fold_covariances: None,
+        times: None,
         component_names,
     };
     let store = crate::decoder_store(&arrays);

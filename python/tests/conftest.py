@@ -13,6 +13,7 @@ Run by the Rust test ``python_package`` (tests/it/python_package.rs) with
 import os
 from pathlib import Path
 
+import h5py
 import numpy as np
 import pytest
 
@@ -59,3 +60,46 @@ def three_class_trials(trials):
     second = np.roll(pattern, 5)
     X = X + 0.6 * np.outer(y == 1, pattern) + 0.6 * np.outer(y == 2, second)
     return X, y
+
+
+def relative(a, b):
+    """max |a - b| over max |b|."""
+    a, b = np.asarray(a, float), np.asarray(b, float)
+    scale = max(np.max(np.abs(b)), np.finfo(float).tiny)
+    return np.max(np.abs(a - b)) / scale
+
+
+def h5_datasets(path):
+    """Every dataset of an HDF5 file by its path."""
+    out = {}
+    with h5py.File(path, "r") as f:
+        def visit(name, obj):
+            if isinstance(obj, h5py.Dataset):
+                out["/" + name] = obj[()]
+        f.visititems(visit)
+    return out
+
+
+def assert_same_datasets(expected, ours):
+    """The same dataset names, shapes, NaN positions and values (1e-12
+    relative: the project's rule for the same inputs; text exactly)."""
+    assert sorted(expected) == sorted(ours)
+    for name, value in expected.items():
+        mine = ours[name]
+        if value.dtype.kind in "fiu":
+            assert mine.shape == value.shape, name
+            finite = np.isfinite(value)
+            assert np.array_equal(finite, np.isfinite(mine)), name
+            if finite.any():
+                assert relative(mine[finite], value[finite]) <= 1e-12, name
+        else:
+            assert mine.tolist() == value.tolist(), name
+
+
+def small_cli_args(binary, decoder, out, cache):
+    """The command line's `attribute` on the small problem (SMALL)."""
+    return [str(binary), "attribute", "--decoder", str(decoder), "--out", str(out),
+            "--cache", str(cache), "--montage", SMALL["montage"], "--sources", SMALL["sources"],
+            "--radii-mm", ",".join(str(r) for r in SMALL["radii_mm"]),
+            "--resamples", str(SMALL["resamples"]),
+            "--forward-perturbations", str(SMALL["forward_perturbations"]), "--no-report"]

@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 import patchwise
-from conftest import CHANNELS, SMALL
+from conftest import CHANNELS, SMALL, assert_same_datasets, small_cli_args, h5_datasets, relative
 
 
 def haufe_patterns(weights, covariance):
@@ -23,22 +23,6 @@ def haufe_patterns(weights, covariance):
     uses (each column minus its mean over channels)."""
     a = covariance @ weights @ np.linalg.inv(weights.T @ covariance @ weights)
     return a - a.mean(axis=0)
-
-
-def relative(a, b):
-    a, b = np.asarray(a, float), np.asarray(b, float)
-    scale = max(np.max(np.abs(b)), np.finfo(float).tiny)
-    return np.max(np.abs(a - b)) / scale
-
-
-def h5_datasets(path):
-    out = {}
-    with h5py.File(path, "r") as f:
-        def visit(name, obj):
-            if isinstance(obj, h5py.Dataset):
-                out["/" + name] = obj[()]
-        f.visititems(visit)
-    return out
 
 
 @pytest.fixture(scope="module")
@@ -72,27 +56,13 @@ def test_same_result_h5_as_the_command_line(decoder, result, cache, tmp_path):
         f["covariance"] = covariance
         f["component_names"] = np.array(["motor", "random"], dtype=h5py.string_dtype())
     out = tmp_path / "cli"
-    args = [binary, "attribute", "--decoder", str(path), "--out", str(out), "--cache", str(cache),
-            "--montage", SMALL["montage"], "--sources", SMALL["sources"],
-            "--radii-mm", ",".join(str(r) for r in SMALL["radii_mm"]),
-            "--resamples", str(SMALL["resamples"]),
-            "--forward-perturbations", str(SMALL["forward_perturbations"]), "--no-report"]
+    args = small_cli_args(binary, path, out, cache)
     done = subprocess.run(args, capture_output=True, text=True)
     assert done.returncode == 0, done.stderr
     saved = result.save(tmp_path / "py")
     cli = h5_datasets(out / "result.h5")
     ours = h5_datasets(saved / "result.h5")
-    assert sorted(cli) == sorted(ours)
-    for name, value in cli.items():
-        mine = ours[name]
-        if value.dtype.kind in "fiu":
-            assert mine.shape == value.shape, name
-            finite = np.isfinite(value)
-            assert np.array_equal(finite, np.isfinite(mine)), name
-            if finite.any():
-                assert relative(mine[finite], value[finite]) <= 1e-12, name
-        else:
-            assert mine.tolist() == value.tolist(), name
+    assert_same_datasets(cli, ours)
     # And the arrays the package returns are those of the file.
     np.testing.assert_array_equal(result.shares, cli["/attribution/share"])
 
@@ -318,10 +288,14 @@ def test_keyboard_interrupt_stops_the_job(decoder, tmp_path):
     while the lead field is computed on a fresh cache; the job stops at its
     next stage and writes nothing."""
     import _thread
+    import signal
     import threading
     import time
 
     weights, covariance = decoder
+    # A process started in the background inherits SIGINT ignored, and then
+    # interrupt_main does nothing: restore Python's own handler for the test.
+    previous = signal.signal(signal.SIGINT, signal.default_int_handler)
     timer = threading.Timer(0.2, _thread.interrupt_main)
     returned = False
     timer.start()
@@ -331,6 +305,7 @@ def test_keyboard_interrupt_stops_the_job(decoder, tmp_path):
         returned = True
         time.sleep(5)  # the interrupt lands here if the job ended first
     timer.cancel()
+    signal.signal(signal.SIGINT, previous)
     assert not returned, "the job ended before the interrupt: nothing was checked"
 
 

@@ -1,6 +1,7 @@
 //! The demonstration scenario: an invented two-class imagined-movement
 //! decoder plus an eye-artefact-like component, simulated on the template
-//! cortex with known generating patches.
+//! cortex with known generating patches, and a time-resolved decoder of the
+//! same subject ([`TimeScenario`]).
 //!
 //! Everything here is made up for the demo and used only there. Three
 //! generators are placed on the template: a patch in the left precentral
@@ -20,8 +21,10 @@
 //! the sampling noise that the λ rule then accounts for.
 
 mod simulate;
+mod time_course;
 
-pub use simulate::{simulate, SimulationError, SIMULATION_SKULL};
+pub use simulate::{simulate, Simulated, SimulationError, SIMULATION_SKULL};
+pub use time_course::{TimeScenario, TimedGenerator, N_TIMES, TIME_STEP_S};
 
 use crate::geometry::{Mesh, Vec3};
 use crate::numeric::SplitMix64;
@@ -159,6 +162,43 @@ fn region_seed(
     Ok(best)
 }
 
+/// The scalp pattern (n_ch, V per unit of the generator's time course) of
+/// one generator patch at the central vertex of `region_name`: a Gaussian
+/// profile in geodesic distance (σ = radius / 2, as the dictionary's
+/// default profile) of the scenario's moment density; with its truth
+/// (component 0 and an empty label, for the caller to set).
+fn generator_pattern(
+    mesh: &Mesh,
+    region: &[i32],
+    region_names: &[String],
+    gain_sim: &[f64],
+    n_channels: usize,
+    distances: &(dyn Fn(usize, f64) -> Vec<(u32, f64)> + Sync),
+    region_name: &str,
+) -> Result<(Vec<f64>, GeneratorTruth), DemoError> {
+    let n_src = mesh.n_vertices();
+    let areas = mesh.vertex_areas();
+    let seed = region_seed(mesh, region, region_names, region_name)?;
+    let sigma = SETTINGS.radius / 2.0;
+    let mut pattern = vec![0.0; n_channels];
+    for (v, d) in distances(seed, SETTINGS.radius) {
+        let v = v as usize;
+        let amplitude = SETTINGS.density * areas[v] * (-0.5 * (d / sigma).powi(2)).exp();
+        for (i, p) in pattern.iter_mut().enumerate() {
+            *p += gain_sim[i * n_src + v] * amplitude;
+        }
+    }
+    let truth = GeneratorTruth {
+        component: 0,
+        label: "",
+        region: region_name.to_string(),
+        seed,
+        position: mesh.vertices[seed],
+        radius_m: SETTINGS.radius,
+    };
+    Ok((pattern, truth))
+}
+
 /// Build the scenario on a source mesh with regions, given the simulation
 /// lead field `gain_sim` (n_ch × n_src row-major, V/(A·m), average
 /// reference, along the normals) and a distance oracle returning the
@@ -185,24 +225,22 @@ pub fn build(
     let mut patterns = vec![0.0; n_channels * k];
     let mut generators = Vec::new();
     for &(component, label, region_name) in &GENERATORS {
-        let seed = region_seed(mesh, region, region_names, region_name)?;
-        // Gaussian profile in geodesic distance, sigma = radius / 2, as the
-        // dictionary's default profile.
-        let sigma = SETTINGS.radius / 2.0;
-        for (v, d) in distances(seed, SETTINGS.radius) {
-            let v = v as usize;
-            let amplitude = SETTINGS.density * areas[v] * (-0.5 * (d / sigma).powi(2)).exp();
-            for i in 0..n_channels {
-                patterns[i * k + component] += gain_sim[i * n_src + v] * amplitude;
-            }
+        let (pattern, truth) = generator_pattern(
+            mesh,
+            region,
+            region_names,
+            gain_sim,
+            n_channels,
+            distances,
+            region_name,
+        )?;
+        for (i, p) in pattern.iter().enumerate() {
+            patterns[i * k + component] += p;
         }
         generators.push(GeneratorTruth {
             component,
             label,
-            region: region_name.to_string(),
-            seed,
-            position: mesh.vertices[seed],
-            radius_m: SETTINGS.radius,
+            ..truth
         });
     }
     // Population covariance: unit-variance generators, independent

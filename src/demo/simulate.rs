@@ -2,7 +2,8 @@
 //! head that differs from the one the fit assumes (a thinner-conducting
 //! skull), on the demo's 64 channels of the 10-10 system.
 
-use super::{build, Scenario, CHANNELS_64};
+use super::time_course::build_time_resolved;
+use super::{build, Scenario, TimeScenario, CHANNELS_64};
 use crate::forward::Orientation;
 use crate::geometry::{template, GeodesicSolver, SourceSpace, TemplateResolution};
 use crate::head::SphereHead;
@@ -33,9 +34,19 @@ fn at<E: std::error::Error + Send + Sync + 'static>(
     }
 }
 
-/// Simulate the scenario on the template at `res`; returns it with the
-/// channel labels in decoder order.
-pub fn simulate(res: TemplateResolution) -> Result<(Scenario, Vec<String>), SimulationError> {
+/// The simulated decoders of the demo.
+#[derive(Debug, Clone)]
+pub struct Simulated {
+    /// The spatial decoder (three components).
+    pub scenario: Scenario,
+    /// The time-resolved decoder of the same subject.
+    pub time: TimeScenario,
+    /// The channel labels, in decoder order.
+    pub labels: Vec<String>,
+}
+
+/// Simulate the scenario on the template at `res`.
+pub fn simulate(res: TemplateResolution) -> Result<Simulated, SimulationError> {
     let t = template(res);
     let fit_head = SphereHead::default_adult();
     let mut cond = fit_head.conductivities().to_vec();
@@ -60,5 +71,19 @@ pub fn simulate(res: TemplateResolution) -> Result<(Scenario, Vec<String>), Simu
         &oracle,
     )
     .map_err(at("building the demo scenario"))?;
-    Ok((scenario, montage.labels))
+    let time = build_time_resolved(
+        &t.mesh,
+        &t.region,
+        &t.region_names,
+        &lf.gain,
+        lf.n_channels(),
+        &oracle,
+        &scenario.covariance,
+    )
+    .map_err(at("building the demo's time-resolved decoder"))?;
+    Ok(Simulated {
+        scenario,
+        time,
+        labels: montage.labels,
+    })
 }

@@ -51,6 +51,8 @@ pub const OUR_FILES: &[&str] = &[
     "result.h5",
     "regions.csv",
     "filter_gain.csv",
+    "regions_time.csv",
+    "time_ranges.csv",
     "summary.json",
     "report.html",
     "dipoles.csv",
@@ -60,6 +62,10 @@ pub const OUR_FILES: &[&str] = &[
     "job.json",
     "decoder.h5",
 ];
+
+/// Folders an output folder of ours may hold, each itself an output folder
+/// of ours (the demo's time-resolved decoder).
+pub const OUR_FOLDERS: &[&str] = &["time-resolved"];
 
 /// Files at least one of which every output folder of ours holds.
 const SIGNATURES: &[&str] = &["result.h5", "summary.json", "compare.h5", "job.json"];
@@ -172,7 +178,9 @@ fn kind(meta: &fs::Metadata) -> &'static str {
 }
 
 /// The entries of the existing folder `dir` that keep it from being ours:
-/// anything but a regular file named in [`OUR_FILES`]; and, when no
+/// anything but a regular file named in [`OUR_FILES`] or a folder named in
+/// [`OUR_FOLDERS`] that is itself ours (its own foreign entries are listed
+/// as `name/entry`); and, when no
 /// [`SIGNATURES`] file is there, every entry. The temporaries that killed
 /// writers of our files left (`.report.html.<host>.<pid>.<n>.tmp` of a
 /// killed `report`) are removed first: they are ours and would otherwise
@@ -188,9 +196,13 @@ pub fn foreign_entries(dir: &Path) -> std::io::Result<Vec<String>> {
         let entry = entry?;
         let name = entry.file_name().to_string_lossy().into_owned();
         let is_file = entry.file_type().is_ok_and(|t| t.is_file());
+        let is_dir = entry.file_type().is_ok_and(|t| t.is_dir());
         if is_file && OUR_FILES.contains(&name.as_str()) {
             names.push(name);
-        } else if entry.file_type().is_ok_and(|t| t.is_dir()) {
+        } else if is_dir && OUR_FOLDERS.contains(&name.as_str()) {
+            let inner = foreign_entries(&entry.path())?;
+            foreign.extend(inner.into_iter().map(|e| format!("{name}/{e}")));
+        } else if is_dir {
             foreign.push(format!("{name}/"));
         } else {
             foreign.push(name);
@@ -336,6 +348,32 @@ pub fn refuse_input_as_output(
     Ok(())
 }
 
+/// Copy the regular files of `from` missing in `to` into it, and, when
+/// `with_folders`, the folders of ours ([`OUR_FOLDERS`]) with their files.
+fn copy_missing(from: &Path, to: &Path, with_folders: bool) -> Result<(), StagingError> {
+    let Ok(entries) = fs::read_dir(from) else {
+        return Ok(());
+    };
+    for entry in entries.flatten() {
+        let staged = to.join(entry.file_name());
+        if staged.exists() {
+            continue;
+        }
+        let kind = entry.file_type();
+        if kind.as_ref().is_ok_and(|t| t.is_file()) {
+            fs::copy(entry.path(), &staged)
+                .map_err(io_error(format!("keeping {}", entry.path().display())))?;
+        } else if with_folders
+            && kind.is_ok_and(|t| t.is_dir())
+            && OUR_FOLDERS.contains(&entry.file_name().to_string_lossy().as_ref())
+        {
+            fs::create_dir(&staged).map_err(io_error(format!("creating {}", staged.display())))?;
+            copy_missing(&entry.path(), &staged, false)?;
+        }
+    }
+    Ok(())
+}
+
 /// A staging folder for the output folder `target`.
 pub struct Staging {
     /// The target as the user wrote it (for messages and the return value).
@@ -380,22 +418,12 @@ impl Staging {
         &self.dir
     }
 
-    /// Copy the files of the existing target (ours) that are not staged
-    /// yet into the staging folder, so that the commit keeps them: for
-    /// commands that add files to a folder (`dipole` beside an attribution).
+    /// Copy the files and the folders of ours ([`OUR_FOLDERS`]) of the
+    /// existing target (ours) that are not staged yet into the staging
+    /// folder, so that the commit keeps them: for commands that add files
+    /// to a folder (`dipole` beside an attribution).
     pub fn keep_existing(&self) -> Result<(), StagingError> {
-        let Ok(entries) = fs::read_dir(&self.target) else {
-            return Ok(());
-        };
-        for entry in entries.flatten() {
-            let staged = self.dir.join(entry.file_name());
-            if staged.exists() || !entry.file_type().is_ok_and(|t| t.is_file()) {
-                continue;
-            }
-            fs::copy(entry.path(), &staged)
-                .map_err(io_error(format!("keeping {}", entry.path().display())))?;
-        }
-        Ok(())
+        copy_missing(&self.target, &self.dir, true)
     }
 
     /// Swap the staged folder in as the target: one rename when the target

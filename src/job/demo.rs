@@ -6,6 +6,7 @@
 use std::path::{Path, PathBuf};
 
 use super::attribute::{attribute_decoder, Attribution, GivenDecoder};
+use super::demo_time::{demo_time_resolved, TimeDemoRun};
 use super::error::{JobError, JobResult};
 use super::observer::JobObserver;
 use super::outputs::{region_names, region_rows};
@@ -29,6 +30,9 @@ pub fn scenario_lines(res: TemplateResolution) -> Vec<String> {
         "  component; 64 channels of the 10-10 system; data simulated with a skull conductivity of"
             .to_string(),
         format!("  {SIMULATION_SKULL} S/m, fitted with the default head's 0.02 S/m."),
+        "  Then a sliding decoder of the same subject (one discriminant per time point, 0-400 ms):"
+            .to_string(),
+        "  a cue in the left visual field, then a right-hand movement is prepared.".to_string(),
     ]
 }
 
@@ -68,26 +72,33 @@ pub struct DemoRun {
     pub params: AttributeParams,
     /// Each component against its known generators.
     pub checks: Vec<GeneratorCheck>,
+    /// The time-resolved decoder's attribution and checks.
+    pub time: TimeDemoRun,
 }
 
 impl DemoRun {
-    /// Whether every component leads with one of its generators' regions.
+    /// Whether every component leads with one of its generators' regions,
+    /// and every generator of the time-resolved decoder leads near its peak.
     pub fn found_all(&self) -> bool {
-        self.checks.iter().all(|c| c.found)
+        self.checks.iter().all(|c| c.found) && self.time.checks.iter().all(|c| c.found)
     }
 }
 
-/// Simulate the scenario on `res` and attribute its decoder with
-/// `resamples` resamples. `decoder_path` names the decoder (the file the
-/// caller saves [`DemoRun::decoder_bytes`] as); it is not read.
+/// Simulate the scenario on `res` and attribute its decoders with
+/// `resamples` resamples. `decoder_paths` name the spatial and the
+/// time-resolved decoder (the files the caller saves
+/// [`DemoRun::decoder_bytes`] and [`TimeDemoRun::decoder_bytes`] as); they
+/// are not read.
 pub fn demo(
     res: TemplateResolution,
     resamples: usize,
-    decoder_path: &Path,
+    decoder_paths: [&Path; 2],
     cache: &Path,
     observer: &dyn JobObserver,
 ) -> Result<DemoRun, JobError> {
-    let (scenario, labels) = simulate(res).compute("simulating the demo scenario")?;
+    let [decoder_path, time_decoder_path] = decoder_paths;
+    let simulated = simulate(res).compute("simulating the demo scenario")?;
+    let (scenario, labels) = (&simulated.scenario, simulated.labels.clone());
     let k = scenario.component_names.len();
     let n = labels.len();
     let mut store = Store::new();
@@ -162,10 +173,19 @@ pub fn demo(
             }
         })
         .collect();
+    let time = demo_time_resolved(
+        &simulated.time,
+        &simulated.labels,
+        &params,
+        time_decoder_path,
+        cache,
+        observer,
+    )?;
     Ok(DemoRun {
         attribution,
         decoder_bytes,
         params,
         checks,
+        time,
     })
 }

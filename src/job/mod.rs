@@ -20,6 +20,7 @@ pub mod compare_inputs;
 pub mod compare_outputs;
 pub mod compare_params;
 pub mod demo;
+pub mod demo_time;
 mod describe;
 pub mod dipole;
 pub mod error;

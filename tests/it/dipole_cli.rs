@@ -141,6 +141,10 @@ fn dipoles_of_the_demo_decoder_lie_near_its_generators() {
     );
     let (header, rows) = csv(&dir.join("demo/dipoles.csv"));
     assert_eq!(rows.len(), 6);
+    // The demo's time-resolved folder is carried over into the new folder.
+    for f in ["result.h5", "time_ranges.csv", "decoder.h5"] {
+        assert!(dir.join("demo/time-resolved").join(f).is_file(), "{f} lost");
+    }
     assert_eq!(header[1], "dipole");
     let eye: Vec<&Vec<String>> = rows.iter().filter(|r| r[0] == "2").collect();
     for (row, region) in eye.iter().zip(["right-frontal-pole", "left-frontal-pole"]) {

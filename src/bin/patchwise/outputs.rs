@@ -4,7 +4,7 @@
 use std::path::{Path, PathBuf};
 
 use patchwise::io::result_file::CAUTION;
-use patchwise::job::outputs::{fmt, region_names, write_attribution_files, RegionRow};
+use patchwise::job::outputs::{fmt, region_names, region_rows, write_attribution_files, RegionRow};
 use patchwise::job::Attribution;
 
 use crate::CliError;
@@ -132,21 +132,61 @@ pub fn write_outputs_with(
     a: &Attribution,
     extra: &[(&str, &[u8])],
 ) -> Result<PathBuf, CliError> {
+    write_outputs_nested(out, a, extra, None)
+}
+
+/// An attribution written as a folder inside another's (the demo's
+/// time-resolved decoder): the folder's name, the attribution, its extra
+/// files.
+pub type Nested<'a> = (&'a str, &'a Attribution, &'a [(&'a str, &'a [u8])]);
+
+/// [`write_outputs_with`], plus a `nested` attribution in a subfolder,
+/// committed together: the whole folder appears at once or not at all.
+pub fn write_outputs_nested(
+    out: &Path,
+    a: &Attribution,
+    extra: &[(&str, &[u8])],
+    nested: Option<Nested<'_>>,
+) -> Result<PathBuf, CliError> {
     let stage = Staging::new(out).map_err(CliError::compute)?;
     let rows = write_files(&stage, a)?;
+    write_extra(stage.dir(), extra)?;
+    if let Some((name, inner, inner_extra)) = nested {
+        let dir = stage.file(name);
+        std::fs::create_dir(&dir)
+            .map_err(|e| CliError::compute(anyhow::anyhow!("creating {}: {e}", dir.display())))?;
+        write_attribution_files(&dir, inner)?;
+        write_extra(&dir, inner_extra)?;
+    }
+    let dir = stage.commit()?;
+    print_outputs(&dir, a, &rows);
+    if let Some((name, inner, _)) = nested {
+        outln!();
+        print_outputs(&dir.join(name), inner, &region_rows(inner));
+    }
+    outln!("caution: {CAUTION}");
+    Ok(dir)
+}
+
+/// Write `extra` files (name, bytes) into `dir`, each atomically.
+fn write_extra(dir: &Path, extra: &[(&str, &[u8])]) -> Result<(), CliError> {
     for (name, bytes) in extra {
-        let path = stage.file(name);
+        let path = dir.join(name);
         patchwise::io::atomic::write_atomic(&path, bytes)
             .map_err(|e| CliError::compute(anyhow::anyhow!("writing {}: {e}", path.display())))?;
     }
-    let dir = stage.commit()?;
+    Ok(())
+}
+
+/// The terminal's tables of a written attribution and the list of its files.
+fn print_outputs(dir: &Path, a: &Attribution, rows: &[Vec<RegionRow>]) {
     if a.time.is_some() {
         // One column per (component, time): the region x time table instead.
         for line in patchwise::job::time_outputs::time_table_lines(a, &region_names(a), 5, 10) {
             outln!("{line}");
         }
     } else {
-        print_table(a, &rows, 6);
+        print_table(a, rows, 6);
     }
     outln!();
     let mut gain_table = if a.filter_gain.is_some() {
@@ -162,8 +202,6 @@ pub fn write_outputs_with(
         "results in {} (result.h5, regions.csv, summary.json{gain_table})",
         dir.display()
     );
-    outln!("caution: {CAUTION}");
-    Ok(dir)
 }
 
 /// Write the attribution's files into a staging folder (committed by the

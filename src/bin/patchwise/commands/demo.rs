@@ -6,8 +6,12 @@ use std::path::PathBuf;
 use patchwise::geometry::TemplateResolution;
 use patchwise::job::cache_folder::CacheOptions;
 use patchwise::job::demo::{demo, scenario_lines, VERDICT_LEGEND};
+use patchwise::job::demo_time::PEAK_TOLERANCE_S;
 
-use crate::outputs::write_outputs_with;
+/// The subfolder of the demo's time-resolved decoder.
+const TIME_FOLDER: &str = "time-resolved";
+
+use crate::outputs::write_outputs_nested;
 use crate::progress::Console;
 use crate::CliError;
 
@@ -54,15 +58,25 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     }
     // The decoder is handed to the job in memory and saved beside the
     // results, under the name the job and the report give it.
+    let time_dir = args.out.join(TIME_FOLDER);
     let run = demo(
         res,
         args.resamples,
-        &args.out.join("decoder.h5"),
+        [&args.out.join("decoder.h5"), &time_dir.join("decoder.h5")],
         cache.path(),
         &Console::default(),
     )?;
     let a = &run.attribution;
-    let dir = write_outputs_with(&args.out, a, &[("decoder.h5", &run.decoder_bytes)])?;
+    let dir = write_outputs_nested(
+        &args.out,
+        a,
+        &[("decoder.h5", &run.decoder_bytes)],
+        Some((
+            TIME_FOLDER,
+            &run.time.attribution,
+            &[("decoder.h5", &run.time.decoder_bytes)],
+        )),
+    )?;
     outln!();
     outln!("known generators:");
     for c in &run.checks {
@@ -82,6 +96,28 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         }
     }
     outln!("{VERDICT_LEGEND}");
+    outln!();
+    outln!("known generators of the sliding decoder ({TIME_FOLDER}/):");
+    for c in &run.time.checks {
+        let ms = |s: f64| format!("{:.0}", s * 1e3);
+        outln!(
+            "  {:<32} in {:<18} active {}-{} ms, peak {} ms; attribution: {}  {}",
+            c.label,
+            c.region,
+            ms(c.true_active_s.0),
+            ms(c.true_active_s.1),
+            ms(c.true_peak_s),
+            c.found_range_s
+                .map_or("the region never leads".to_string(), |(on, peak, off)| {
+                    format!("{}-{} ms, peak {} ms", ms(on), ms(off), ms(peak))
+                }),
+            if c.found { "FOUND" } else { "MISSED" },
+        );
+    }
+    outln!(
+        "FOUND here: the region leads over a time range whose peak lies within {:.0} ms of the generator's",
+        PEAK_TOLERANCE_S * 1e3
+    );
     outln!(
         "{}",
         if run.found_all() {
@@ -95,6 +131,8 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         // DIR` remakes this page; the decoder is the one saved in DIR.
         let job = run.params.describe();
         super::report::report_after_outputs(&dir, job)?;
+        let job = run.time.params.describe();
+        super::report::report_after_outputs(&dir.join(TIME_FOLDER), job)?;
     }
     outln!(
         "the demo decoder is in {}",
