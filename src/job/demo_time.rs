@@ -20,6 +20,13 @@ use crate::io::{Dataset, Store};
 /// checks' tolerance (docs/time_resolved.md).
 pub const PEAK_TOLERANCE_S: f64 = 0.05;
 
+/// At most this many resamples for the sliding decoder (whatever the
+/// demo's `--resamples`): each resample refits every time window, so 10
+/// keep the demo a quick first look (about 0.5 s of CPU per resample on the
+/// 20k template; docs/time_resolved.md). `attribute` on the saved decoder
+/// gives the full intervals.
+pub const TIME_RESAMPLES: usize = 10;
+
 /// One generator of the sliding decoder against the attribution.
 #[derive(Debug, Clone)]
 pub struct TimeCheck {
@@ -52,8 +59,9 @@ pub struct TimeDemoRun {
 }
 
 /// Attribute the sliding decoder `scenario` (channels `labels`) with the
-/// parameters of the demo's first job (`base`: montage, sources,
-/// resamples); `decoder_path` names the decoder, it is not read.
+/// parameters of the demo's first job (`base`: montage, sources; its
+/// resamples capped at [`TIME_RESAMPLES`]); `decoder_path` names the
+/// decoder, it is not read.
 pub fn demo_time_resolved(
     scenario: &TimeScenario,
     labels: &[String],
@@ -90,6 +98,7 @@ pub fn demo_time_resolved(
     };
     let mut params = base.clone();
     params.inputs.decoder = Some(PathBuf::from(decoder_path));
+    params.fit.resamples = params.fit.resamples.min(TIME_RESAMPLES);
     let attribution = attribute_decoder(
         &params,
         given,

@@ -97,7 +97,10 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     }
     outln!("{VERDICT_LEGEND}");
     outln!();
-    outln!("known generators of the sliding decoder ({TIME_FOLDER}/):");
+    outln!(
+        "known generators of the sliding decoder ({TIME_FOLDER}/, {} resamples):",
+        run.time.params.fit.resamples
+    );
     for c in &run.time.checks {
         let ms = |s: f64| format!("{:.0}", s * 1e3);
         outln!(
