@@ -353,13 +353,22 @@ fn scalp(
     let options = TopomapOptions {
         size_px: req.width,
         title: name.to_string(),
-        unit: "relative".to_string(),
+        unit: "a.u.".to_string(),
+        scale: Some(largest),
         limits: Some(1.0),
+        pixel_ratio: 3,
         ..TopomapOptions::default()
     };
     let caption = format!(
-        "{name}: the activation pattern on the scalp (after the average reference), relative to its largest |value|, {largest:.3e} (the pattern's unit); orange positive, blue negative; view from above, nose up; dots: electrodes."
+        "{name}: the activation pattern on the scalp (after the average reference), relative to its largest |value|, {largest:.3e} (a colour-bar tick times this factor, written under the bar, is the value in the pattern's own unit: the data's unit per unit of the component's output for weights with a covariance); orange positive, blue negative; view from above, nose up; dots: electrodes; the outline marks where the map ends when electrodes lie below the level of Fpz, T7, Oz and T8 (dashed)."
     );
+    let caption = match req.format {
+        FigureFormat::Svg => caption,
+        // The PNG is the bare map: no outline, electrodes or colour bar.
+        FigureFormat::Png => format!(
+            "{name}: the activation pattern on the scalp (after the average reference), the bare map without outline or colour bar: colours span \u{b1}{largest:.3e} in the pattern's own unit (the data's unit per unit of the component's output for weights with a covariance), orange positive, blue negative; view from above, nose up, the disc reaching the lowest electrode. The SVG export adds the outline, electrodes and colour bar."
+        ),
+    };
     match req.format {
         FigureFormat::Svg => {
             let figure = topomap_svg(positions, &relative, &options)

@@ -12,23 +12,25 @@ pub fn dipole_section(h: &mut Html, result: &ResultFile) {
     };
     h.raw("<section id=\"dipoles\">\n");
     h.element("h2", "", "Equivalent dipoles");
-    h.raw("<table>\n");
+    // Nine columns: compact, headers that wrap, and a scroll box as the
+    // last resort on a narrow screen, so the page itself never scrolls.
+    h.raw("<div class=\"table-scroll\"><table class=\"compact\">\n");
     h.head_row(&[
         ("component", ""),
-        ("dipole", "num"),
-        ("position (mm)", "num"),
+        ("#", "num"),
+        ("x, y, z (mm)", "num"),
         ("|q| (A\u{00b7}m)", "num"),
         ("95\u{2009}% radius (mm)", "num"),
-        ("nearest cortex region", ""),
+        ("nearest region", ""),
         ("to cortex (mm)", "num"),
         ("to patch peak (mm)", "num"),
-        ("residual variance", "num"),
+        ("residual var.", "num"),
     ]);
     h.raw("<tbody>\n");
     for row in 0..d.component.len() {
         cells(h, result, d, row);
     }
-    h.raw("</tbody></table>\n");
+    h.raw("</tbody></table></div>\n");
     let model = if d.model == "symmetric-pair" {
         "a pair of dipoles mirrored across the midline"
     } else {
@@ -46,7 +48,8 @@ pub fn dipole_section(h: &mut Html, result: &ResultFile) {
              convention, not a test). The distance to the patch peak compares this \
              answer with the patch attribution above: a large distance with a low residual \
              variance points to an extended or bilateral source that one dipole summarises \
-             poorly.",
+             poorly. #: the dipole of the component (0, or 0 and 1 for a pair); x, y, z in \
+             head coordinates (+x right ear, +y nose, +z up).",
             percent(crate::dipole::RESIDUAL_CUT, 0)
         ),
     );

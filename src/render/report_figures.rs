@@ -361,9 +361,12 @@ fn sensor_maps(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportEr
         let norm = |v: &[f64]| v.iter().map(|x| x * x).sum::<f64>().sqrt();
         note = format!(
             "The pattern as stored (after the average reference), its fit D\u{00b7}X and their \
-             difference, all relative to the largest |pattern| value ({:.3e}) on one colour scale; \
-             \u{2016}residual\u{2016} / \u{2016}pattern\u{2016} = {:.1} %. Dots: electrodes; \
-             view from above, nose up.",
+             difference, all relative to the largest |pattern| value ({:.3e}) on one colour scale \
+             (a tick times the factor under the bar is the value in the pattern's own unit: the \
+             data's unit per unit of the component's output for weights with a covariance, e.g. \
+             \u{00b5}V if the data were in \u{00b5}V); \u{2016}residual\u{2016} / \u{2016}pattern\u{2016} = \
+             {:.1} %. Dots: electrodes; view from above, nose up; the outline is drawn where the \
+             map ends when electrodes lie below the level of Fpz, T7, Oz and T8 (dashed).",
             largest,
             100.0 * norm(&residual) / norm(&pattern)
         );
@@ -378,8 +381,10 @@ fn sensor_maps(r: &ResultFile, c: usize) -> Result<Option<FigureGroup>, ReportEr
         let options = TopomapOptions {
             size_px: TOPOMAP_WIDTH,
             title: title.to_string(),
-            unit: "relative".to_string(),
+            unit: "a.u.".to_string(),
+            scale: Some(largest),
             limits: Some(1.0),
+            pixel_ratio: 2,
             ..TopomapOptions::default()
         };
         let svg = topomap_svg(positions, &relative, &options).map_err(|e| {

@@ -59,6 +59,10 @@ table { border-collapse: collapse; width: 100%; font-variant-numeric: tabular-nu
 th, td { text-align: left; padding: 5px 8px; border-bottom: 1px solid var(--rule); vertical-align: top; }
 thead th { border-bottom: 2px solid var(--ink); font-size: 13px; color: var(--muted); font-weight: 600; }
 td.num, th.num { text-align: right; white-space: nowrap; }
+.table-scroll { overflow-x: auto; }
+table.compact { font-size: 13px; }
+table.compact th, table.compact td { padding: 4px 6px; }
+table.compact thead th { white-space: normal; }
 td.hash { font-family: ui-monospace, "DejaVu Sans Mono", Menlo, Consolas, monospace; font-size: 12px; overflow-wrap: anywhere; }
 tbody th { font-weight: 500; }
 tr.lead-row td, tr.lead-row th { background: var(--accent-soft); }

@@ -38,6 +38,10 @@ pub struct TopomapOptions<'a> {
     pub title: String,
     /// Unit written above the colour bar, e.g. "µV" or "a.u." (SVG only).
     pub unit: String,
+    /// The values were divided by this scale: written under the colour bar
+    /// as "×scale", so that a tick times it is the value in `unit` (SVG
+    /// only; `None` writes nothing).
+    pub scale: Option<f64>,
     /// Colour limit: the map is coloured over [−limit, +limit]. `None`: the largest
     /// magnitude of the interpolated field inside the disc, so nothing saturates.
     pub limits: Option<f64>,
@@ -61,6 +65,7 @@ impl Default for TopomapOptions<'_> {
             size_px: 400,
             title: String::new(),
             unit: "a.u.".to_string(),
+            scale: None,
             limits: None,
             labels: None,
             contours: true,
@@ -268,9 +273,11 @@ pub fn topomap_png(
 }
 
 /// The map as an SVG figure `size_px` wide: the raster inlined as a base64 PNG, the head
-/// outline (equator circle, nose toward +y, ears at ±x), electrode dots (and labels when
-/// given), thin contour lines at nice-number levels when `contours` is set (the zero
-/// level dashed), a colour bar with ticks and the unit, and the title.
+/// outline (a circle at the equator, or where the map ends when electrodes lie below
+/// the equator, with the equator then dashed; nose toward +y, ears at ±x), electrode
+/// dots (and labels when given), thin contour lines at nice-number levels when
+/// `contours` is set (negative levels dashed), a colour bar with ticks, the unit and the
+/// scale, and the title.
 ///
 /// Errors as for [`topomap_png`].
 pub fn topomap_svg(
@@ -284,9 +291,11 @@ pub fn topomap_svg(
     let top = if options.title.is_empty() { 12.0 } else { 40.0 };
     let margin = 12.0;
     let map_side = (width - bar_space - 2.0 * margin).max(32.0);
-    // The nose reaches 1.12 equator radii: keep it inside the square when the disc is
-    // smaller than that.
-    let extent = layout.edge.max(1.12);
+    // The head outline is drawn where the map ends when electrodes lie below the
+    // equator (so the disc never spills outside the head), else at the equator;
+    // its nose reaches 1.12 outline radii: keep it inside the square.
+    let outline = layout.edge.max(1.0);
+    let extent = 1.12 * outline;
     let disc_px = (map_side / 2.0 * layout.edge / extent).floor();
     let ratio = options.pixel_ratio;
     let side = (2.0 * disc_px) as u32 * ratio;
@@ -319,8 +328,21 @@ pub fn topomap_svg(
             (cx - disc_px, cy - disc_px),
         );
     }
-    svg.circle(cx, cy, disc_px, &Attrs::new().stroke("#c9ced4", 0.75));
-    draw_head(&mut svg, cx, cy, scale);
+    if layout.edge > 1.0 + 1e-9 {
+        // The equator (Fpz, T7, Oz, T8 on a standard layout), for orientation.
+        svg.circle(
+            cx,
+            cy,
+            scale,
+            &Attrs::new()
+                .stroke(MUTED, 0.6)
+                .set("stroke-dasharray", "3 3")
+                .class("equator"),
+        );
+    } else {
+        svg.circle(cx, cy, disc_px, &Attrs::new().stroke("#c9ced4", 0.75));
+    }
+    draw_head(&mut svg, cx, cy, outline * scale);
     for (i, &(xy, on_disc)) in layout.marks.iter().enumerate() {
         if !on_disc {
             continue;
@@ -361,10 +383,19 @@ pub fn topomap_svg(
         &|t| diverging(2.0 * t - 1.0),
         &options.unit,
     );
+    if let Some(factor) = options.scale {
+        svg.text(
+            margin + map_side + 16.0,
+            cy + bar_height / 2.0 + 16.0,
+            &format!("\u{00d7}{factor:.2e}"),
+            &Attrs::new().fill(INK).class("scale"),
+        );
+    }
     Ok(svg.finish())
 }
 
-/// Head outline: the equator circle, a nose toward +y and ears at ±x, in the ink colour.
+/// Head outline: a circle of `scale` px, a nose toward +y and ears at ±x, in the ink
+/// colour.
 fn draw_head(svg: &mut Svg, cx: f64, cy: f64, scale: f64) {
     let stroke = Attrs::new()
         .stroke(INK, 1.5)

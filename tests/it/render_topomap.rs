@@ -148,8 +148,13 @@ fn the_svg_has_head_electrodes_contours_and_the_raster() {
     keep("render_topomap", "map_labels.svg", &figure.svg);
     assert_eq!(figure.width, 400);
     let elements = parse_svg(&figure.svg, figure.width, figure.height);
+    // With electrodes below the equator the outline is drawn where the map
+    // ends and the equator dashed (issue 23, item 4: the disc stays inside).
+    let equator = elements.iter().find(|e| e.has_class("equator")).unwrap();
+    let (cx, cy, r) = (equator.num("cx"), equator.num("cy"), equator.num("r"));
     let head = elements.iter().find(|e| e.has_class("head")).unwrap();
-    let (cx, cy, r) = (head.num("cx"), head.num("cy"), head.num("r"));
+    assert!((head.num("cx") - cx).abs() < 0.02 && (head.num("cy") - cy).abs() < 0.02);
+    assert!((head.num("r") - 1.25 * r).abs() < 0.02);
     // Azimuthal equidistant about the vertex (Snyder 1987): Cz at the centre, the
     // equator electrodes Fpz, T7, Oz, T8 on the head outline; nose (+y) up, right ear
     // (+x) right. Coordinates are written to 0.01 px: tolerance 0.02 px.
@@ -164,9 +169,10 @@ fn the_svg_has_head_electrodes_contours_and_the_raster() {
     }
     assert!(at("Fpz").1 < cy - 0.9 * r && at("Oz").1 > cy + 0.9 * r);
     assert!(at("T8").0 > cx + 0.9 * r && at("T7").0 < cx - 0.9 * r);
-    // The lowest electrodes (112.5°) lie at 1.25 head radii.
+    // The lowest electrodes (112.5°) lie at 1.25 equator radii, on the outline.
     let iz = at("Iz");
     assert!(((iz.1 - cy) - 1.25 * r).abs() < 0.02);
+    assert!(((iz.1 - cy) - head.num("r")).abs() < 0.02);
     // The nose points up: its tip lies above the outline.
     let nose = elements.iter().find(|e| e.has_class("nose")).unwrap();
     let tip_y: f64 = nose.attrs["d"]
@@ -178,7 +184,7 @@ fn the_svg_has_head_electrodes_contours_and_the_raster() {
         .unwrap()
         .parse()
         .unwrap();
-    assert!(tip_y < cy - r);
+    assert!(tip_y < cy - head.num("r"));
     assert_eq!(elements.iter().filter(|e| e.has_class("ear")).count(), 2);
     // One label per electrode, the title escaped and read back intact.
     let texts: Vec<&str> = elements
@@ -190,6 +196,10 @@ fn the_svg_has_head_electrodes_contours_and_the_raster() {
     assert!(texts.contains(&"Component 1 <pattern> & \"weights\""));
     assert!(texts.contains(&"µV"));
     assert!(elements.iter().any(|e| e.has_class("contour")));
+    assert!(
+        !elements.iter().any(|e| e.has_class("scale")),
+        "no scale factor unless one is given"
+    );
     // The raster is a PNG data URI whose disc spans 1.25 head radii on each side.
     let map = elements.iter().find(|e| e.has_class("map")).unwrap();
     let png = base64::engine::general_purpose::STANDARD
@@ -205,6 +215,29 @@ fn the_svg_has_head_electrodes_contours_and_the_raster() {
     let info = reader.info();
     assert_eq!(f64::from(info.width), map.num("width"));
     assert!((map.num("width") / 2.0 - 1.25 * r).abs() < 0.02);
+}
+
+/// Electrodes only above the equator (z > 0 of the 10-10 layout): the
+/// outline is the equator, the map a disc inside it (no dashed circle); a
+/// scale factor is written under the colour bar as "×factor".
+#[test]
+fn upper_electrodes_keep_the_outline_at_the_equator_and_the_scale_is_written() {
+    let (_, all) = montage_64();
+    let positions: Vec<Vec3> = all.into_iter().filter(|p| p[2] > 0.02).collect();
+    let values = dipolar(&positions);
+    let options = TopomapOptions {
+        unit: "a.u.".into(),
+        scale: Some(2.5e-6),
+        ..TopomapOptions::default()
+    };
+    let figure = topomap_svg(&positions, &values, &options).unwrap();
+    let elements = parse_svg(&figure.svg, figure.width, figure.height);
+    assert!(!elements.iter().any(|e| e.has_class("equator")));
+    let head = elements.iter().find(|e| e.has_class("head")).unwrap();
+    let map = elements.iter().find(|e| e.has_class("map")).unwrap();
+    assert!(map.num("width") / 2.0 <= head.num("r") + 0.02);
+    let scale = elements.iter().find(|e| e.has_class("scale")).unwrap();
+    assert_eq!(scale.text, "\u{00d7}2.50e-6");
 }
 
 #[test]
