@@ -26,6 +26,10 @@ use super::svg::{Attrs, Svg};
 use super::topomap::{topomap_png, topomap_svg, TopomapOptions};
 use crate::io::result_file::ResultFile;
 
+/// Raster pixels across an exported scalp map's SVG, at least (the width of
+/// a 20 cm figure at 300 dpi).
+const PRINT_RASTER_PX: u32 = 2400;
+
 /// Which figure of a result.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum FigureKind {
@@ -356,7 +360,9 @@ fn scalp(
         unit: "a.u.".to_string(),
         scale: Some(largest),
         limits: Some(1.0),
-        pixel_ratio: 3,
+        // At least about 2400 raster pixels across the map whatever the
+        // width (print at 300 dpi over 20 cm), at most 4 per CSS pixel.
+        pixel_ratio: PRINT_RASTER_PX.div_ceil(req.width).clamp(1, 4),
         ..TopomapOptions::default()
     };
     let caption = format!(
