@@ -82,6 +82,7 @@ mod solver_invariants;
 mod solver_reference;
 mod solver_warm_start;
 mod template;
+mod template_shape;
 mod time_resolved_decoders;
 mod trust_answer;
 mod trust_calibration;
