@@ -298,7 +298,7 @@ fn tangential_fraction(t: &Template, side: u8) -> f64 {
 #[test]
 fn sulcal_walls_give_tangential_normals() {
     // Target from the task: at least 20 % of vertices with |n · r̂| < 0.5
-    // (measured 24.0 % at 5k, 23.8 % at 20k; docs/template.md). A smooth
+    // (measured 23.0 % at 5k, 23.2 % at 20k; docs/template.md). A smooth
     // hemisphere without folds has almost none.
     for r in TemplateResolution::ALL {
         let t = cached(r);
