@@ -36,7 +36,7 @@ fn region(t: &Template, name: &str) -> i32 {
 }
 
 /// Left-hemisphere vertices in the named regions.
-fn left_vertices<'a>(t: &'a Template, names: &[&str]) -> Vec<Vec3> {
+fn left_vertices(t: &Template, names: &[&str]) -> Vec<Vec3> {
     let ids: Vec<i32> = names
         .iter()
         .map(|n| region(t, &format!("left-{n}")))
