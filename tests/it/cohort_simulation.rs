@@ -149,7 +149,11 @@ fn a_shared_generating_region_is_found_and_maps_are_similar() {
         .map(|i| comp.transport_m[i])
         .sum::<f64>()
         / (n * n - n) as f64;
-    assert!(mean_t < 0.2 * out.transport_epsilon_m / 0.05, "{mean_t}");
+    assert!(
+        mean_t < 0.2 * out.transport_epsilon_m / 0.05,
+        "{mean_t} m against a mean centroid distance of {} m",
+        out.transport_epsilon_m / 0.05
+    );
 
     // Two subjects on opposite hemispheres' occipital regions: low cosine.
     let other =
