@@ -2,8 +2,10 @@
 //!
 //! The template is our own construction, not a scan. Each hemisphere starts as
 //! an icosphere, is mapped onto a smooth brain-like hemisphere (an ellipsoid of
-//! different semi-axes per octant, with a flattened medial wall and a temporal
-//! lobe that hangs lower than the frontal base), and is then folded: every
+//! different semi-axes per octant, with a flattened medial wall, poles drawn
+//! toward the midline, a narrower and lower occipital lobe, a temporal lobe
+//! that hangs below the frontal base with a rounded pole, and a broad groove
+//! along the lateral fissure), and is then folded: every
 //! vertex moves inward along the unfolded surface's normal by the depth of the
 //! deepest sulcus near it (the sulcal lines are in `template_sulci.rs`).
 //! Because the unfolded surface is a smooth embedded surface and the fold is
@@ -83,32 +85,70 @@ pub struct Template {
 // vertex stays within 78 mm of the head centre (docs/template.md).
 
 /// Lateral semi-axis.
-const SEMI_LATERAL: f64 = 36.0;
+const SEMI_LATERAL: f64 = 37.0;
 /// Medial semi-axis before the medial wall is flattened.
 const SEMI_MEDIAL: f64 = 30.0;
-/// Anterior semi-axis.
-const SEMI_ANTERIOR: f64 = 70.0;
-/// Posterior semi-axis.
-const SEMI_POSTERIOR: f64 = 70.0;
-/// The lateral side narrows toward the poles by this fraction of its width
-/// (times the squared fraction of the way to the pole).
-const POLE_NARROWING: f64 = 0.3;
+/// Anterior semi-axis (to the frontal pole).
+const SEMI_ANTERIOR: f64 = 73.0;
+/// Posterior semi-axis (to the occipital pole).
+const SEMI_POSTERIOR: f64 = 75.0;
 /// Superior semi-axis.
-const SEMI_SUPERIOR: f64 = 46.0;
+const SEMI_SUPERIOR: f64 = 45.0;
 /// Inferior semi-axis before the temporal lobe is lowered.
-const SEMI_INFERIOR: f64 = 28.0;
+const SEMI_INFERIOR: f64 = 20.0;
+/// The upper half grows in front by this fraction (times the squared
+/// fraction of the way to the frontal pole): a full, blunt frontal lobe.
+const FRONTAL_FULLNESS: f64 = 0.10;
+/// The upper half shrinks behind by this fraction (times the squared
+/// fraction of the way to the occipital pole): a low occipital lobe.
+const OCCIPITAL_LOWERING: f64 = 0.12;
+/// The lateral side narrows toward the frontal pole by this fraction of its
+/// width (times the squared fraction of the way to the pole).
+const FRONTAL_NARROWING: f64 = 0.05;
+/// The same toward the occipital pole, which is narrower.
+const OCCIPITAL_NARROWING: f64 = 0.60;
+/// The lateral side widens by this fraction times the fraction of the way
+/// to the occipital pole (and narrows as much toward the frontal pole), so
+/// the brain is widest behind its middle.
+const WIDER_BEHIND: f64 = 0.2;
+/// The lateral side bulges by this fraction of its width over the temporal
+/// and lower parietal lobes, where the brain is widest.
+const TEMPORAL_BULGE: f64 = 0.12;
+/// Anterior position of the middle of the bulge.
+const BULGE_CENTRE: f64 = -25.0;
+/// Anterior-posterior scale of the bulge (a Gaussian along the length).
+const BULGE_SPREAD: f64 = 30.0;
+/// Vertical scale over which the bulge fades above the hemisphere centre.
+const BULGE_FADE: f64 = 12.0;
 /// The medial wall lies this far medial of the hemisphere centre.
 const MEDIAL_WALL: f64 = 24.0;
 /// Sharpness of the medial flattening (1/mm): the wall bends over about 4/k.
 const MEDIAL_SHARPNESS: f64 = 0.25;
+/// The distance from the medial wall shrinks at the frontal pole by this
+/// fraction (times the cube of the fraction of the way to the pole),
+/// so the frontal poles lie near the midline.
+const FRONTAL_POLE_TUCK: f64 = 0.15;
+/// The same at the occipital pole.
+const OCCIPITAL_POLE_TUCK: f64 = 0.40;
 /// How far the temporal lobe hangs below the frontal base.
-const TEMPORAL_DROP: f64 = 12.0;
-/// Anterior position of the middle of the temporal lobe.
-const TEMPORAL_CENTRE: f64 = -5.0;
-/// Anterior-posterior spread (standard deviation) of the temporal drop.
-const TEMPORAL_SPREAD: f64 = 30.0;
+const TEMPORAL_DROP: f64 = 24.0;
+/// The temporal lobe is fully lowered from here (anterior position)...
+const TEMPORAL_FRONT_FULL: f64 = 6.0;
+/// ... to its pole here, in front of which the frontal base is not lowered.
+const TEMPORAL_POLE: f64 = 36.0;
+/// Behind this anterior position the drop fades toward the occipital pole...
+const TEMPORAL_BACK_FULL: f64 = -30.0;
+/// ... to this fraction of itself at the occipital pole.
+const OCCIPITAL_DROP_FRACTION: f64 = 0.25;
 /// Vertical scale over which the temporal drop fades out upward.
-const TEMPORAL_FADE: f64 = 8.0;
+const TEMPORAL_FADE: f64 = 7.0;
+/// The lateral fissure's envelope groove: from its front end to its back end
+/// in (anterior, superior) before the temporal lobe is lowered (mm).
+const SYLVIAN_GROOVE: [[f64; 2]; 2] = [[34.0, -7.0], [-38.0, 6.5]];
+/// Fraction of the lateral width the groove takes away at its middle.
+const SYLVIAN_GROOVE_DEPTH: f64 = 0.14;
+/// Width scale (mm) of the groove (a Gaussian across it).
+const SYLVIAN_GROOVE_WIDTH: f64 = 9.0;
 /// Half the gap between the hemispheres' medial walls.
 const HALF_GAP: f64 = 1.5;
 /// Hemisphere centre, distance from the midline.
@@ -116,7 +156,7 @@ const CENTRE_LATERAL: f64 = MEDIAL_WALL + HALF_GAP;
 /// Hemisphere centre, anterior position.
 const CENTRE_ANTERIOR: f64 = 0.0;
 /// Hemisphere centre, height.
-const CENTRE_SUPERIOR: f64 = 4.0;
+const CENTRE_SUPERIOR: f64 = 2.0;
 /// Length over which a sulcus becomes shallow at each end.
 const END_TAPER: f64 = 12.0;
 /// Angular step (rad) when sampling a sulcal line.
@@ -126,6 +166,11 @@ const LINE_STEP: f64 = 0.01;
 fn smoothstep(t: f64) -> f64 {
     let t = t.clamp(0.0, 1.0);
     t * t * (3.0 - 2.0 * t)
+}
+
+/// `a - b` in a plane.
+fn sub2(a: [f64; 2], b: [f64; 2]) -> [f64; 2] {
+    [a[0] - b[0], a[1] - b[1]]
 }
 
 /// `ln(1 + e^x)` without overflow.
@@ -159,19 +204,59 @@ pub(crate) fn unfolded_point(u: Vec3) -> Vec3 {
             SEMI_INFERIOR
         },
     ];
-    // Narrow the lateral side toward the poles; the factor depends only on
-    // the anterior coordinate and is positive, so the map stays one-to-one.
+    // Fraction of the way to the frontal (> 0) or occipital (< 0) pole; the
+    // anterior coordinate is never changed, so every factor below that
+    // depends on it alone is a one-to-one scaling of the other coordinates.
+    let front = (q[1] / SEMI_ANTERIOR).max(0.0);
+    let back = (-q[1] / SEMI_POSTERIOR).max(0.0);
+    // A full frontal lobe and a low occipital lobe: the upper half scaled by
+    // a positive factor.
+    if q[2] > 0.0 {
+        q[2] *= 1.0 + FRONTAL_FULLNESS * front * front - OCCIPITAL_LOWERING * back * back;
+    }
+    // Narrow the lateral side toward the poles (more toward the occipital
+    // pole) and widen it over the temporal and lower parietal lobes; the
+    // factor is positive and depends on the other two coordinates only.
     if q[0] > 0.0 {
-        q[0] *= 1.0 - POLE_NARROWING * a * a;
+        let along = (q[1] - BULGE_CENTRE) / BULGE_SPREAD;
+        let low = 1.0 / (1.0 + (q[2] / BULGE_FADE).exp());
+        // A broad groove along the lateral fissure sets the temporal lobe
+        // off from the frontal and parietal lobes above it.
+        let (p, d) = (
+            SYLVIAN_GROOVE[0],
+            sub2(SYLVIAN_GROOVE[1], SYLVIAN_GROOVE[0]),
+        );
+        let t = (((q[1] - p[0]) * d[0] + (q[2] - p[1]) * d[1]) / (d[0] * d[0] + d[1] * d[1]))
+            .clamp(0.0, 1.0);
+        let off = [q[1] - p[0] - t * d[0], q[2] - p[1] - t * d[1]];
+        let groove = (-(off[0] * off[0] + off[1] * off[1])
+            / (SYLVIAN_GROOVE_WIDTH * SYLVIAN_GROOVE_WIDTH))
+            .exp();
+        q[0] *= (1.0 - FRONTAL_NARROWING * front * front - OCCIPITAL_NARROWING * back * back
+            + WIDER_BEHIND * (back - front))
+            * (1.0 + TEMPORAL_BULGE * (-along * along).exp() * low)
+            * (1.0 - SYLVIAN_GROOVE_DEPTH * groove);
     }
     // Flatten the medial side onto the wall at -MEDIAL_WALL: a soft maximum
     // keeps the map smooth and increasing.
-    q[0] = -MEDIAL_WALL + softplus(MEDIAL_SHARPNESS * (q[0] + MEDIAL_WALL)) / MEDIAL_SHARPNESS;
-    // Lower the middle of the base (the temporal lobe); the weight falls as
-    // the point rises, so heights keep their order.
-    let along = (q[1] - TEMPORAL_CENTRE) / TEMPORAL_SPREAD;
+    let wall = softplus(MEDIAL_SHARPNESS * (q[0] + MEDIAL_WALL)) / MEDIAL_SHARPNESS;
+    // Bring the poles toward the midline: the distance from the wall shrinks
+    // by a positive factor of the anterior coordinate.
+    let tuck = 1.0 - FRONTAL_POLE_TUCK * front.powi(3) - OCCIPITAL_POLE_TUCK * back.powi(3);
+    q[0] = -MEDIAL_WALL + wall * tuck;
+    // Lower the base between the temporal pole and the occipital lobe (the
+    // temporal lobe); the weight falls as the point rises, so heights keep
+    // their order.
+    let along = if q[1] > TEMPORAL_FRONT_FULL {
+        1.0 - smoothstep((q[1] - TEMPORAL_FRONT_FULL) / (TEMPORAL_POLE - TEMPORAL_FRONT_FULL))
+    } else if q[1] < TEMPORAL_BACK_FULL {
+        let t = (TEMPORAL_BACK_FULL - q[1]) / (SEMI_POSTERIOR + TEMPORAL_BACK_FULL);
+        1.0 - (1.0 - OCCIPITAL_DROP_FRACTION) * smoothstep(t)
+    } else {
+        1.0
+    };
     let weight = 1.0 / (1.0 + (q[2] / TEMPORAL_FADE).exp());
-    q[2] -= TEMPORAL_DROP * (-0.5 * along * along).exp() * weight;
+    q[2] -= TEMPORAL_DROP * along * weight;
     q
 }
 

@@ -79,7 +79,12 @@ const OCCIPITAL_COSINE: f64 = 0.766;
 /// The border between the temporal pole and the orbital frontal surface
 /// below the lateral fissure: the plane through the front of the fissure
 /// and a point on the base between the orbit and the temporal pole.
-const TEMPORAL_POLE_BORDER: [Vec3; 2] = [[0.75, 0.62, -0.30], [0.0, 0.45, -0.9]];
+const TEMPORAL_POLE_BORDER: [Vec3; 2] = [[0.82, 0.47, -0.33], [0.0, 0.40, -0.9]];
+
+/// In front of the precentral sulcus, directions below this height are on
+/// the orbital surface (ventral frontal) even where the inferior frontal
+/// sulcus' plane, extended past the frontal pole, would put them above it.
+const ORBITAL_SUPERIOR: f64 = -0.2;
 
 const ANTERIOR: Vec3 = [0.0, 1.0, 0.0];
 const SUPERIOR: Vec3 = [0.0, 0.0, 1.0];
@@ -118,7 +123,7 @@ fn classify(u: Vec3) -> Region {
             Region::InferiorTemporal
         }
     } else if anterior_of(&PRECENTRAL) {
-        if above(&INFERIOR_FRONTAL) {
+        if above(&INFERIOR_FRONTAL) && s > ORBITAL_SUPERIOR {
             Region::DorsalFrontal
         } else {
             Region::VentralFrontal

@@ -68,7 +68,7 @@ pub(crate) const CENTRAL: SulcalLine =
 /// rising toward the parietal lobe; wider than the others.
 pub(crate) const LATERAL: SulcalLine = SulcalLine {
     name: "lateral fissure",
-    path: &[[0.75, 0.62, -0.30], [0.85, -0.50, 0.14]],
+    path: &[[0.82, 0.47, -0.33], [0.85, -0.50, 0.14]],
     depth_mm: 12.0,
     fundus_half_width_mm: 2.0,
     wall_width_mm: 4.5,
@@ -316,7 +316,7 @@ pub(crate) const SUPERIOR_ROSTRAL: SulcalLine = sulcus(
 /// Hippocampal sulcus, on the medial temporal surface.
 pub(crate) const HIPPOCAMPAL: SulcalLine = sulcus(
     "hippocampal",
-    &[[-0.78, 0.25, -0.58], [-0.80, -0.30, -0.52]],
+    &[[-0.78, 0.10, -0.60], [-0.80, -0.36, -0.50]],
     8.0,
 );
 

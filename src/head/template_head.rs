@@ -21,13 +21,13 @@ pub const TEMPLATE_BEM_NAME: &str = "template-bem";
 const MM: f64 = 1e-3;
 
 /// Centre of the surfaces (mm, head coordinates): the template cortex spans
-/// z from −36 to 50 mm, its base hangs lower than its top rises.
+/// z from −41 to 47 mm, its base hangs lower than its top rises.
 const CENTRE_MM: Vec3 = [0.0, 0.0, -5.0];
 
 /// Inner skull semi-axes (mm): lateral, anterior, posterior, superior,
-/// inferior. Chosen to hold the template cortex (x within ±61.5 mm, y within
-/// ±70 mm) with at least 3 mm to spare, and to give the scalp a length/width
-/// ratio of 1.2625 (see [`LENGTH_WIDTH_RATIO`]).
+/// inferior. Chosen to hold the template cortex (x within ±61.2 mm, y from
+/// −75 to 73 mm) with at least 5 mm to spare (5.1 mm measured), and to give
+/// the scalp a length/width ratio of 1.2625 (see [`LENGTH_WIDTH_RATIO`]).
 const INNER_LATERAL: f64 = 70.0;
 const INNER_ANTERIOR: f64 = 86.0;
 const INNER_POSTERIOR: f64 = 90.0;

@@ -142,15 +142,12 @@ fn a_shared_generating_region_is_found_and_maps_are_similar() {
     let mean_cos = off.iter().sum::<f64>() / off.len() as f64;
     println!("mean cosine {mean_cos}");
     assert!(mean_cos > 0.5, "mean cosine {mean_cos}");
-    // The transport distance between subjects with the same region is far
-    // smaller than the typical distance between region centroids.
+    // The mean transport distance between subjects with the same region.
     let mean_t: f64 = (0..n * n)
         .filter(|i| i / n != i % n)
         .map(|i| comp.transport_m[i])
         .sum::<f64>()
         / (n * n - n) as f64;
-    assert!(mean_t < 0.2 * out.transport_epsilon_m / 0.05, "{mean_t}");
-
     // Two subjects on opposite hemispheres' occipital regions: low cosine.
     let other =
         s.t.region_names
@@ -160,6 +157,22 @@ fn a_shared_generating_region_is_found_and_maps_are_similar() {
     let far = vec![subjects[0].clone(), subject(s, "far", other, &mut rng)];
     let out = compare(&far, &s.kernel, &s.t.region, Some(&s.costs), &params()).unwrap();
     println!("cosine across regions {}", out.components[0].cosine[1]);
+    println!("mean transport same region {mean_t} m");
+    // The transport distance between subjects with the same region stays
+    // below the largest distance between their seeds (each within 10 mm of
+    // the region's centroid, so at most 20 mm apart by construction) and
+    // well below that of two subjects in unrelated regions (at most half).
+    // (An earlier bound, a fifth of the mean distance between region
+    // centroids, was 16.5 mm on the brain-shaped template: 17.1 mm failed it
+    // although the seeds are placed as before; entropic transport with
+    // spurious values on 2 % of the vertices compresses long distances, so
+    // the pair in unrelated regions measures 44 mm, not their ~100 mm.)
+    let far_t = out.components[0].transport_m[1];
+    assert!(mean_t < 0.020, "{mean_t} m");
+    assert!(
+        mean_t < 0.5 * far_t,
+        "{mean_t} m against {far_t} m for unrelated regions"
+    );
     assert!(
         out.components[0].cosine[1] < 0.2,
         "{}",

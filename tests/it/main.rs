@@ -84,6 +84,7 @@ mod solver_reference;
 mod solver_warm_start;
 mod staging_nested;
 mod template;
+mod template_shape;
 mod time_resolved_decoders;
 mod trust_answer;
 mod trust_calibration;
