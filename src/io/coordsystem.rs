@@ -263,6 +263,7 @@ fn landmarks(v: &Value, unit: LengthUnit, path: &Path) -> Result<LandmarkTriple,
 
 #[cfg(test)]
 mod tests {
+    #![allow(clippy::unwrap_used)]
     use super::*;
 
     fn parse(text: &str) -> Result<CoordSystem, CoordSystemError> {
