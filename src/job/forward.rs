@@ -7,7 +7,7 @@ use std::path::Path;
 
 use super::bem_head::{bem_system, check_bem_sources, load_bem_head, template_bem_head, HeadModel};
 use super::error::{JobError, JobResult};
-use super::montage_frame::{load_bem_montage, load_montage, BemFrame};
+use super::montage_frame::{load_bem_montage, load_montage, refuse_special_file, BemFrame};
 use super::observer::{staged, JobObserver};
 use super::params::{ForwardParams, PatchParams};
 use super::specs::{HeadChoice, SourcesSpec};
@@ -227,19 +227,6 @@ pub fn build_dictionary(
         ));
     }
     Ok((d, info))
-}
-
-/// Refuse `path` when it names something that exists but is not a regular
-/// file (a folder, pipe, socket or device): saying "no such file" there
-/// would mislead, and opening a pipe would block.
-pub(super) fn refuse_special_file(what: &str, path: &Path) -> Result<(), JobError> {
-    match std::fs::metadata(path) {
-        Ok(meta) if !meta.is_file() => Err(JobError::input(format!(
-            "{what} {:?}: not a regular file (a folder, pipe, socket or device); give a file or a built-in name",
-            path.display().to_string()
-        ))),
-        _ => Ok(()),
-    }
 }
 
 /// Sources: the template or a surface/table file; regions from the

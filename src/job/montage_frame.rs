@@ -8,7 +8,6 @@
 use std::path::{Path, PathBuf};
 
 use super::error::{JobError, JobResult};
-use super::forward::refuse_special_file;
 use super::observer::JobObserver;
 use super::specs::MontageSpec;
 use crate::head::{HeadLandmarksMm, SphereHead};
@@ -146,4 +145,17 @@ pub fn load_bem_montage(
         aligned.len()
     ));
     Ok((aligned, true))
+}
+
+/// Refuse `path` when it names something that exists but is not a regular
+/// file (a folder, pipe, socket or device): saying "no such file" there
+/// would mislead, and opening a pipe would block.
+pub(super) fn refuse_special_file(what: &str, path: &Path) -> Result<(), JobError> {
+    match std::fs::metadata(path) {
+        Ok(meta) if !meta.is_file() => Err(JobError::input(format!(
+            "{what} {:?}: not a regular file (a folder, pipe, socket or device); give a file or a built-in name",
+            path.display().to_string()
+        ))),
+        _ => Ok(()),
+    }
 }
