@@ -125,6 +125,14 @@ pub enum HeadError {
         /// The model of the file.
         model: &'static str,
     },
+    /// A landmark of a head file is not three finite numbers.
+    #[error("landmarks_mm.{landmark} is {value:?}: expected three finite numbers (mm)")]
+    LandmarkNotFinite {
+        /// nasion, lpa or rpa.
+        landmark: &'static str,
+        /// The value given.
+        value: [f64; 3],
+    },
     /// A boundary-element head file's counts or values are wrong.
     #[error("{0}")]
     Bem(BemError),

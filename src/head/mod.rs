@@ -16,7 +16,7 @@ mod spheres;
 pub mod template_head;
 
 pub use error::HeadError;
-pub use spec::{HeadModelKind, HeadSpec};
+pub use spec::{HeadLandmarksMm, HeadModelKind, HeadSpec};
 pub use spheres::{SphereHead, MAX_SHELLS, SERIES_TABLE_LEN};
 
 pub(crate) use series::SeriesForm;

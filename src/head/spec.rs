@@ -20,8 +20,9 @@ pub enum HeadModelKind {
 /// A head as written in files: `model = "spheres"`, `radii_mm`, `conductivities`
 /// (S/m), optional `center_mm` (default the origin); or `model = "bem"`,
 /// `surfaces` (files, innermost first, relative to the head file) and
-/// `conductivities` (one per compartment, innermost first). Unknown keys
-/// are an error.
+/// `conductivities` (one per compartment, innermost first), optionally
+/// `landmarks_mm` (the head's nasion, LPA and RPA, to align electrodes
+/// given in another frame). Unknown keys are an error.
 ///
 /// TOML examples:
 /// ```toml
@@ -34,6 +35,7 @@ pub enum HeadModelKind {
 /// model = "bem"
 /// surfaces = ["inner_skull.gii", "outer_skull.gii", "scalp.gii"]
 /// conductivities = [0.47, 0.02, 0.41]
+/// landmarks_mm = { nasion = [0.0, 95.0, -30.0], lpa = [-78.0, 0.0, -30.0], rpa = [78.0, 0.0, -30.0] }
 /// ```
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -57,6 +59,24 @@ pub struct HeadSpec {
     /// Centre (mm); the origin when absent.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub center_mm: Option<[f64; 3]>,
+    /// The head's anatomical landmarks (mm, the surfaces' frame; bem
+    /// only): electrodes that come with their own landmarks are aligned to
+    /// these.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub landmarks_mm: Option<HeadLandmarksMm>,
+}
+
+/// The landmarks of a bem head file (mm, head coordinates):
+/// `landmarks_mm = { nasion = [x, y, z], lpa = [...], rpa = [...] }`.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct HeadLandmarksMm {
+    /// Nasion.
+    pub nasion: [f64; 3],
+    /// Left preauricular point.
+    pub lpa: [f64; 3],
+    /// Right preauricular point.
+    pub rpa: [f64; 3],
 }
 
 /// The radii (mm) a head file may give: wide enough for any head and its
@@ -92,11 +112,16 @@ impl HeadSpec {
             self.check_bem().map_err(invalid)?;
             return Ok(self);
         }
-        if !self.surfaces.is_empty() {
-            return Err(invalid(HeadError::FieldNotForModel {
-                field: "surfaces",
-                model: "spheres",
-            }));
+        for (field, given) in [
+            ("surfaces", !self.surfaces.is_empty()),
+            ("landmarks_mm", self.landmarks_mm.is_some()),
+        ] {
+            if given {
+                return Err(invalid(HeadError::FieldNotForModel {
+                    field,
+                    model: "spheres",
+                }));
+            }
         }
         self.to_head().map_err(invalid)?;
         // A file's radii are in millimetres; a value far outside a head's
@@ -122,6 +147,13 @@ impl HeadSpec {
     /// surfaces are read: 1 to 4 surfaces, one positive conductivity each,
     /// no sphere fields.
     fn check_bem(&self) -> Result<(), HeadError> {
+        if let Some(l) = &self.landmarks_mm {
+            for (landmark, value) in [("nasion", l.nasion), ("lpa", l.lpa), ("rpa", l.rpa)] {
+                if !value.iter().all(|c| c.is_finite()) {
+                    return Err(HeadError::LandmarkNotFinite { landmark, value });
+                }
+            }
+        }
         for (field, given) in [
             ("radii_mm", !self.radii_mm.is_empty()),
             ("center_mm", self.center_mm.is_some()),
@@ -191,6 +223,7 @@ impl SphereHead {
             surfaces_hash: None,
             conductivities: self.conductivities().to_vec(),
             center_mm: Some(self.center().map(|v| v * 1e3)),
+            landmarks_mm: None,
         }
     }
 

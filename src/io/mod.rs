@@ -9,6 +9,7 @@ pub mod cache;
 pub mod cache_entries;
 pub mod compare_file;
 pub mod compare_read;
+pub mod coordsystem;
 pub mod decoder_extras;
 pub mod decoder_file;
 pub mod decoder_times;

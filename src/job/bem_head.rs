@@ -135,6 +135,7 @@ pub fn template_bem_head(observer: &dyn JobObserver) -> Result<BemHead, JobError
         surfaces_hash: Some(geometry_hash(&geometry)),
         conductivities,
         center_mm: None,
+        landmarks_mm: None,
     };
     Ok(BemHead { geometry, spec })
 }

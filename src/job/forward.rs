@@ -7,19 +7,16 @@ use std::path::Path;
 
 use super::bem_head::{bem_system, check_bem_sources, load_bem_head, template_bem_head, HeadModel};
 use super::error::{JobError, JobResult};
+use super::montage_frame::{load_bem_montage, load_montage, refuse_special_file, BemFrame};
 use super::observer::{staged, JobObserver};
 use super::params::{ForwardParams, PatchParams};
-use super::specs::{HeadChoice, MontageSpec, SourcesSpec};
+use super::specs::{HeadChoice, SourcesSpec};
 use crate::dictionary::{Dictionary, DictionaryInfo};
 use crate::forward::{LeadField, Orientation};
 use crate::geometry::SourceSpace;
 use crate::head::{HeadModelKind, HeadSpec, SphereHead};
-use crate::io::electrodes::read_electrodes;
 use crate::io::sources_file::{read_regions, read_sources, POINT_SOURCE_AREA_MM2};
-use crate::montage::{
-    align_to_landmarks, fit_sphere, split_landmarks, standard, standard_names,
-    standard_on_template_head, LandmarkTriple, Montage,
-};
+use crate::montage::{fit_sphere, Montage};
 use crate::pipeline::{bem_leadfield_for, dictionary_for, leadfield_for, DistanceKind};
 
 impl ForwardParams {
@@ -30,10 +27,18 @@ impl ForwardParams {
         labels: Option<&[String]>,
         observer: &dyn JobObserver,
     ) -> Result<(Montage, SourceSpace, HeadModel), JobError> {
-        let (mut montage, from_file) = if self.head == HeadChoice::TemplateBem {
-            load_template_head_montage(&self.montage, observer)?
-        } else {
-            load_montage(&self.montage)?
+        let bem = bem_spec(&self.head)?;
+        let frame = match (&self.head, &bem) {
+            (HeadChoice::TemplateBem, _) => Some(BemFrame::Template),
+            (_, Some((spec, path))) => Some(BemFrame::File {
+                path: path.clone(),
+                landmarks: spec.landmarks_mm,
+            }),
+            _ => None,
+        };
+        let (mut montage, from_file) = match &frame {
+            Some(frame) => load_bem_montage(&self.montage, frame, observer)?,
+            None => load_montage(&self.montage)?,
         };
         if let Some(labels) = labels {
             let idx = montage.select(labels).input(format!(
@@ -48,7 +53,7 @@ impl ForwardParams {
             check_bem_sources(&head, &sources)?;
             return Ok((montage, sources, HeadModel::Bem(head)));
         }
-        if let Some((spec, path)) = bem_spec(&self.head)? {
+        if let Some((spec, path)) = bem {
             let head = load_bem_head(spec, &path, observer)?;
             check_bem_sources(&head, &sources)?;
             return Ok((montage, sources, HeadModel::Bem(head)));
@@ -222,83 +227,6 @@ pub fn build_dictionary(
         ));
     }
     Ok((d, info))
-}
-
-/// A montage by standard name (on the default head's scalp sphere) or from
-/// an electrodes file (BIDS TSV or CSV, mm). Returns whether it came from a
-/// file.
-pub fn load_montage(spec: &MontageSpec) -> Result<(Montage, bool), JobError> {
-    let path = match spec {
-        MontageSpec::Standard(name) => {
-            let radius = SphereHead::default_adult().outer_radius();
-            return Ok((standard(name, radius).input("choosing a montage")?, false));
-        }
-        MontageSpec::File(path) => path,
-    };
-    if path.is_file() {
-        let m = read_electrodes(path).input("reading electrodes")?;
-        return Ok((m, true));
-    }
-    refuse_special_file("montage", path)?;
-    Err(JobError::input(format!(
-        "montage {:?} is neither a standard layout ({}) nor an existing electrodes file",
-        path.display().to_string(),
-        standard_names().join(", ")
-    )))
-}
-
-/// The montage for the template head: a standard layout placed on its
-/// scalp from its own landmarks, or an electrodes file (mm): aligned to the
-/// head by its nasion, LPA and RPA rows when it has them, else taken to be
-/// in the template head's frame.
-fn load_template_head_montage(
-    spec: &MontageSpec,
-    observer: &dyn JobObserver,
-) -> Result<(Montage, bool), JobError> {
-    let path = match spec {
-        MontageSpec::Standard(name) => {
-            return Ok((
-                standard_on_template_head(name).input("choosing a montage")?,
-                false,
-            ))
-        }
-        MontageSpec::File(path) => path,
-    };
-    let (montage, from_file) = load_montage(spec)?;
-    let context = format!(
-        "aligning the electrodes of {} to the template head",
-        path.display()
-    );
-    let (rest, landmarks) = split_landmarks(&montage).input(&context)?;
-    let Some(from) = landmarks else {
-        return Ok((rest, from_file));
-    };
-    let l = crate::head::template_head::template_landmarks();
-    let to = LandmarkTriple {
-        nasion: l.nasion,
-        lpa: l.lpa,
-        rpa: l.rpa,
-    };
-    let aligned = align_to_landmarks(&rest, &from, &to).input(&context)?;
-    observer.note(&format!(
-        "note: {}: {} electrodes aligned to the template head by their nasion, LPA and RPA (rigid; origin between the preauricular points, x to the right one, y to the nasion), then moved onto its scalp",
-        path.display(),
-        aligned.len()
-    ));
-    Ok((aligned, from_file))
-}
-
-/// Refuse `path` when it names something that exists but is not a regular
-/// file (a folder, pipe, socket or device): saying "no such file" there
-/// would mislead, and opening a pipe would block.
-fn refuse_special_file(what: &str, path: &Path) -> Result<(), JobError> {
-    match std::fs::metadata(path) {
-        Ok(meta) if !meta.is_file() => Err(JobError::input(format!(
-            "{what} {:?}: not a regular file (a folder, pipe, socket or device); give a file or a built-in name",
-            path.display().to_string()
-        ))),
-        _ => Ok(()),
-    }
 }
 
 /// Sources: the template or a surface/table file; regions from the

@@ -29,6 +29,7 @@ pub mod forward;
 pub mod gain_outputs;
 pub mod keyed_lock;
 pub mod leadfield_import;
+pub mod montage_frame;
 pub mod noise;
 pub mod observer;
 pub mod outputs;

@@ -20,6 +20,17 @@ const LANDMARK_NAMES: [(&str, &[&str]); 3] = [
     ("RPA", &["rpa", "right_preauricular"]),
 ];
 
+/// Which of the three landmarks (0 nasion, 1 LPA, 2 RPA) a row or key
+/// named `name` is (compared ignoring case and surrounding blanks), with
+/// the name used in messages.
+pub fn landmark_slot(name: &str) -> Option<(usize, &'static str)> {
+    let key = name.trim().to_lowercase();
+    LANDMARK_NAMES
+        .iter()
+        .position(|(_, names)| names.contains(&key.as_str()))
+        .map(|k| (k, LANDMARK_NAMES[k].0))
+}
+
 /// Nasion, left and right preauricular points (m), in one frame.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct LandmarkTriple {
@@ -61,12 +72,8 @@ pub fn split_landmarks(
     let mut found: [Option<Vec3>; 3] = [None; 3];
     let mut keep = Vec::with_capacity(montage.len());
     for (i, label) in montage.labels.iter().enumerate() {
-        let key = label.trim().to_lowercase();
-        match LANDMARK_NAMES
-            .iter()
-            .position(|(_, names)| names.contains(&key.as_str()))
-        {
-            Some(k) => found[k] = Some(montage.positions[i]),
+        match landmark_slot(label) {
+            Some((k, _)) => found[k] = Some(montage.positions[i]),
             None => keep.push(i),
         }
     }

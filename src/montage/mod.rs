@@ -13,7 +13,7 @@ mod standard;
 use crate::geometry::Vec3;
 use std::collections::{HashMap, HashSet};
 
-pub use coregister::{align_to_landmarks, split_landmarks, LandmarkTriple};
+pub use coregister::{align_to_landmarks, landmark_slot, split_landmarks, LandmarkTriple};
 pub use error::{MontageError, ProjectionWarning, PROJECTION_WARNING_M};
 pub use labels::{canonical_label, TEMPORAL_ALIASES};
 pub use scalp_layout::{standard_on_scalp, standard_on_template_head, ScalpExit, ScalpLandmarks};

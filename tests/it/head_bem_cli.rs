@@ -10,64 +10,8 @@ use patchwise::geometry::{Mesh, Vec3};
 use patchwise::io::leadfield_file::read_leadfield;
 use patchwise::validation::rdm_mag;
 
+use crate::support::bem_head::{bem_toml, leadfield, write_off, write_shells, SHELLS};
 use crate::support::{self, cli::patchwise};
-
-/// An OFF file of `mesh` (metres) in millimetres.
-fn write_off(path: &Path, mesh: &Mesh) {
-    let mut text = format!("OFF\n{} {} 0\n", mesh.n_vertices(), mesh.n_triangles());
-    for v in &mesh.vertices {
-        text += &format!("{} {} {}\n", v[0] * 1e3, v[1] * 1e3, v[2] * 1e3);
-    }
-    for t in &mesh.triangles {
-        text += &format!("3 {} {} {}\n", t[0], t[1], t[2]);
-    }
-    std::fs::write(path, text).unwrap();
-}
-
-/// Icospheres of level 3 (642 vertices) with `radii` (m) in `dir/head/`,
-/// named inner_skull.off, outer_skull.off, scalp.off (as many as given).
-fn write_shells(dir: &Path, radii: &[f64]) {
-    std::fs::create_dir_all(dir.join("head")).unwrap();
-    for (name, &r) in ["inner_skull.off", "outer_skull.off", "scalp.off"]
-        .iter()
-        .zip(radii)
-    {
-        write_off(&dir.join("head").join(name), &Mesh::icosphere(3, r));
-    }
-}
-
-fn bem_toml(dir: &Path, file: &str, surfaces: &[&str], conductivities: &[f64]) {
-    let s: Vec<String> = surfaces.iter().map(|s| format!("{s:?}")).collect();
-    let c: Vec<String> = conductivities.iter().map(|c| format!("{c:?}")).collect();
-    std::fs::write(
-        dir.join("head").join(file),
-        format!(
-            "model = \"bem\"\nsurfaces = [{}]\nconductivities = [{}]\n",
-            s.join(", "),
-            c.join(", ")
-        ),
-    )
-    .unwrap();
-}
-
-const SHELLS: [&str; 3] = ["inner_skull.off", "outer_skull.off", "scalp.off"];
-
-fn leadfield(dir: &Path, head: &str, montage: &str, out: &str) -> std::process::Output {
-    patchwise(
-        &[
-            "leadfield",
-            "--montage",
-            montage,
-            "--sources",
-            "template-5k",
-            "--head",
-            head,
-            "--out",
-            out,
-        ],
-        dir,
-    )
-}
 
 #[test]
 fn a_bem_head_file_gives_the_sphere_lead_field_of_its_shells() {

@@ -13,6 +13,7 @@ mod batch_errors;
 mod batch_resume;
 mod batch_script;
 mod batch_shards;
+mod batch_template_bem;
 mod behaviour_kept;
 mod cache_cli;
 mod cli_bring_your_own;

@@ -3,6 +3,7 @@
 //! batch, cohort, dictionary, render, report and solver fixtures, and the
 //! one scratch-folder helper ([`scratch`]).
 pub mod batch;
+pub mod bem_head;
 pub mod browser;
 pub mod cli;
 pub mod cohort;
