@@ -15,7 +15,9 @@
 //! went to 32-bit atoms and profile values (issue 25): shares moved by at most 4e-8 (absolute),
 //! λ and explained variance in the 8th digit, and only the demo's 10-resample intervals and
 //! selection frequencies by more (up to 0.063 and one resample in ten), less than the change
-//! between two resampling seeds). Regression check against our
+//! between two resampling seeds); and when summary.json gained the solver's pass counts
+//! (`dictionary_passes`, `resampled_fit_dictionary_passes`, `resampling_dictionary_passes`;
+//! issue 25) with the resampled fits solved in blocks: additions only, no value changed). Regression check against our
 //! own earlier outputs, no outside source: strings must match exactly
 //! (paths, content hashes and the software line excepted), numbers within
 //! 1e-6 relative (bit-for-bit equal on the machine that recorded them; the
