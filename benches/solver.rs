@@ -159,7 +159,7 @@ fn resamples() -> Resamples {
     let y4 = patterns(&dict, 4);
     let p = Params {
         lambda: Lambda::Ratio(0.1),
-        tol: 1e-8,
+        tol: 1e-6,
         ..Params::default()
     }
     .validate()
