@@ -18,7 +18,7 @@ use super::lambda_rule::{bic, LambdaRule, BIC_MIN_RATIO, BIC_PATH_POINTS};
 use super::noise_rule::{fit_block_noise, null_quantile, PatternNoise, NULL_QUANTILE};
 use super::outcome::{BlockFit, FitOutcome, FittedComponent};
 use super::resample::{ResampleOptions, ResampleSummary};
-use super::resample_fits::ResampleFits;
+use super::resample_fits::{column_block, ResampleFits};
 use super::PipelineError;
 
 /// The fitted problem and the source space the attribution needs.
@@ -120,17 +120,6 @@ const FIT_MAX_SECONDS: f64 = 60.0;
 /// Iteration and time budget of one resampled fit.
 const RESAMPLE_MAX_ITER: usize = 5_000;
 const RESAMPLE_MAX_SECONDS: f64 = 10.0;
-
-pub(super) fn column_block(y: &[f64], k: usize, cols: &[usize]) -> Vec<f64> {
-    let n = y.len() / k.max(1);
-    let mut out = Vec::with_capacity(n * cols.len());
-    for i in 0..n {
-        for &c in cols {
-            out.push(y[i * k + c]);
-        }
-    }
-    out
-}
 
 /// How one block's λ is set: the rule, plus the noise rule's quantile and
 /// the block's given noise level.

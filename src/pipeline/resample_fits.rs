@@ -12,12 +12,23 @@ use rayon::prelude::*;
 
 use crate::solver::{fit_warm_block, BlockProblem, DenseDictionary, Groups, Lambda, ValidParams};
 
-use super::fit_stage::column_block;
 use super::PipelineError;
 
 /// Pattern columns stacked in one block product at most: bounds the product
 /// (n_atoms × this many values) and the problems' workspaces.
 const MAX_STACKED_COLUMNS: usize = 128;
+
+/// The columns `cols` of the row-major n × k matrix `y`, row-major n × cols.len().
+pub(super) fn column_block(y: &[f64], k: usize, cols: &[usize]) -> Vec<f64> {
+    let n = y.len() / k.max(1);
+    let mut out = Vec::with_capacity(n * cols.len());
+    for i in 0..n {
+        for &c in cols {
+            out.push(y[i * k + c]);
+        }
+    }
+    out
+}
 
 /// The fixed parts of the resampled fits: the column blocks, their λ, the
 /// fit they start from (row-major n_atoms × k) and the columns' scale.
