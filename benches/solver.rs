@@ -13,7 +13,8 @@
 
 use divan::Bencher;
 use patchwise::solver::{
-    path, DenseDictionary, Groups, LinearOperator, NoObserver, Params, PathSpec,
+    fit, fit_warm, fit_warm_block, path, BlockProblem, DenseDictionary, Groups, Lambda,
+    LinearOperator, NoObserver, Params, PathSpec,
 };
 use rayon::prelude::*;
 
@@ -137,4 +138,127 @@ fn stream_triad_4mi(bencher: Bencher) {
             });
         divan::black_box(&a);
     });
+}
+
+/// Resamples of the bootstrap's shape: the 4 pattern columns fitted alone at
+/// 0.1 λ_max, then 25 resamples of each (the fit's reconstruction plus
+/// white noise of 5 % of its largest value, seeded), warm-started from the
+/// fit at the same λ, relative gap 1e-4 (the resampling stage's): 100
+/// problems, as one forward model's share of 100 resamples × 4 components.
+struct Resamples {
+    dict: DenseDictionary,
+    groups: Groups,
+    ys: Vec<Vec<f64>>,
+    warm: Vec<Vec<f64>>,
+    lambdas: Vec<f64>,
+}
+
+fn resamples() -> Resamples {
+    let dict = dictionary();
+    let groups = Groups::singletons(dict.n_atoms()).unwrap();
+    let y4 = patterns(&dict, 4);
+    let p = Params {
+        lambda: Lambda::Ratio(0.1),
+        tol: 1e-6,
+        ..Params::default()
+    }
+    .validate()
+    .unwrap();
+    let mut state = 0x2545_f491_4f6c_dd1du64;
+    let mut uniform = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+    };
+    let (mut ys, mut warm, mut lambdas) = (Vec::new(), Vec::new(), Vec::new());
+    let mut base = Vec::new();
+    for q in 0..4 {
+        let y: Vec<f64> = (0..N_CH).map(|c| y4[c * 4 + q]).collect();
+        let (f, info) = fit(&dict, &groups, &y, 1, &p, &mut NoObserver).unwrap();
+        let y_hat: Vec<f64> = y.iter().zip(&f.residual).map(|(a, r)| a - r).collect();
+        base.push((y_hat, f.coefficients, info.lambda));
+    }
+    for _ in 0..25 {
+        for (y_hat, x, lambda) in &base {
+            let size = y_hat.iter().map(|v| v.abs()).fold(0.0, f64::max);
+            ys.push(y_hat.iter().map(|v| v + 0.1 * size * uniform()).collect());
+            warm.push(x.clone());
+            lambdas.push(*lambda);
+        }
+    }
+    Resamples {
+        dict,
+        groups,
+        ys,
+        warm,
+        lambdas,
+    }
+}
+
+fn resample_params() -> patchwise::solver::ValidParams {
+    Params {
+        tol: 1e-4,
+        ..Params::default()
+    }
+    .validate()
+    .unwrap()
+}
+
+/// The 100 resampled fits one by one (`fit_warm`, in parallel over the
+/// resamples as the resampling stage did before blocks).
+#[divan::bench(sample_count = 5, sample_size = 1)]
+fn resample_100_one_by_one(bencher: Bencher) {
+    let r = resamples();
+    let params = resample_params();
+    let run = || {
+        (0..r.ys.len())
+            .into_par_iter()
+            .map(|i| {
+                let p = params.with_lambda(Lambda::Absolute(r.lambdas[i])).unwrap();
+                fit_warm(
+                    &r.dict,
+                    &r.groups,
+                    &r.ys[i],
+                    1,
+                    &r.warm[i],
+                    &p,
+                    &mut NoObserver,
+                )
+                .unwrap()
+                .1
+                .dictionary_passes
+            })
+            .collect::<Vec<f64>>()
+    };
+    let passes = run();
+    eprintln!(
+        "one by one: {:.2} passes per fit, {:.0} in all",
+        passes.iter().sum::<f64>() / passes.len() as f64,
+        passes.iter().sum::<f64>()
+    );
+    bencher.bench_local(run);
+}
+
+/// The same 100 fits in one lockstep block (`fit_warm_block`).
+#[divan::bench(sample_count = 5, sample_size = 1)]
+fn resample_100_block(bencher: Bencher) {
+    let r = resamples();
+    let params = resample_params();
+    let problems: Vec<BlockProblem<'_>> = (0..r.ys.len())
+        .map(|i| BlockProblem {
+            y: &r.ys[i],
+            k: 1,
+            x0: &r.warm[i],
+            lambda: Lambda::Absolute(r.lambdas[i]),
+        })
+        .collect();
+    let fits = fit_warm_block(&r.dict, &r.groups, &problems, &params).unwrap();
+    eprintln!(
+        "block: {} stacked passes for {} fits ({:.2} passes per fit counted alone)",
+        fits.stacked_passes,
+        fits.fits.len(),
+        fits.fits.iter().map(|f| f.1.dictionary_passes).sum::<f64>() / fits.fits.len() as f64
+    );
+    bencher.bench_local(|| fit_warm_block(&r.dict, &r.groups, &problems, &params).unwrap());
 }

@@ -18,6 +18,7 @@ use super::lambda_rule::{bic, LambdaRule, BIC_MIN_RATIO, BIC_PATH_POINTS};
 use super::noise_rule::{fit_block_noise, null_quantile, PatternNoise, NULL_QUANTILE};
 use super::outcome::{BlockFit, FitOutcome, FittedComponent};
 use super::resample::{ResampleOptions, ResampleSummary};
+use super::resample_fits::{column_block, ResampleFits};
 use super::PipelineError;
 
 /// The fitted problem and the source space the attribution needs.
@@ -120,17 +121,6 @@ const FIT_MAX_SECONDS: f64 = 60.0;
 const RESAMPLE_MAX_ITER: usize = 5_000;
 const RESAMPLE_MAX_SECONDS: f64 = 10.0;
 
-fn column_block(y: &[f64], k: usize, cols: &[usize]) -> Vec<f64> {
-    let n = y.len() / k.max(1);
-    let mut out = Vec::with_capacity(n * cols.len());
-    for i in 0..n {
-        for &c in cols {
-            out.push(y[i * k + c]);
-        }
-    }
-    out
-}
-
 /// How one block's λ is set: the rule, plus the noise rule's quantile and
 /// the block's given noise level.
 #[derive(Clone, Copy)]
@@ -214,15 +204,12 @@ fn fit_block(
             }
             let chosen = &points[best];
             let at_range_end = best + 1 == points.len();
+            let mut info =
+                FittedComponent::from_info(cols, &chosen.info, summary, f64::NAN, at_range_end);
+            info.dictionary_passes = points.iter().map(|p| p.info.dictionary_passes).sum();
             Ok(BlockFit {
                 coefficients: chosen.coefficients.to_dense(),
-                info: FittedComponent::from_info(
-                    cols,
-                    &chosen.info,
-                    summary,
-                    f64::NAN,
-                    at_range_end,
-                ),
+                info,
             })
         }
     }
@@ -521,17 +508,15 @@ fn resample(
         .zip(&full.residual)
         .map(|(y, r)| y - r)
         .collect();
-    let rules: Vec<BlockRule> = infos
+    let lambdas: Vec<Lambda> = infos
         .iter()
-        .map(|b| BlockRule {
+        .map(|b| {
             // λ = 0 (a block fitted to zero) means λ_max of the resample.
-            rule: if b.lambda > 0.0 {
-                LambdaRule::Absolute(b.lambda)
+            if b.lambda > 0.0 {
+                Lambda::Absolute(b.lambda)
             } else {
-                LambdaRule::Ratio(1.0)
-            },
-            quantile: f64::NAN,
-            noise_sd: None,
+                Lambda::Ratio(1.0)
+            }
         })
         .collect();
     // Resampled fits only feed percentiles of shares, which need no 1e-8
@@ -560,80 +545,85 @@ fn resample(
         .iter()
         .map(|a| DenseDictionary::from_row_major(n_ch, n_atoms, a))
         .collect::<Result<_, _>>()?;
-    let done = std::sync::atomic::AtomicUsize::new(0);
-    let budget_stops = std::sync::atomic::AtomicUsize::new(0);
-    let runs: Vec<Result<Vec<Vec<f64>>, PipelineError>> = (0..opts.n_resamples)
-        .into_par_iter()
-        .map(|b| {
-            if progress.cancelled() {
-                return Err(PipelineError::Cancelled);
+    // Resample b draws from random stream b of the seed, whatever the order
+    // of the fits.
+    let draw = |b: usize| -> Vec<f64> {
+        let mut rng = SplitMix64::new(opts.seed, b as u64);
+        match &options.noise.fold_deviations {
+            // Noise of the folds' own shape: Σ_f g_f d_f has the
+            // jackknife covariance of the pattern (a Gaussian multiplier
+            // bootstrap; Wu 1986, Ann Stat 14:1261, from memory).
+            Some(deviations) => {
+                let mut y_star = y_hat.clone();
+                for d in deviations {
+                    let g = rng.normal();
+                    for (v, dv) in y_star.iter_mut().zip(d) {
+                        *v += g * dv;
+                    }
+                }
+                y_star
             }
-            let mut rng = SplitMix64::new(opts.seed, b as u64);
-            let y_star = match &options.noise.fold_deviations {
-                // Noise of the folds' own shape: Σ_f g_f d_f has the
-                // jackknife covariance of the pattern (a Gaussian multiplier
-                // bootstrap; Wu 1986, Ann Stat 14:1261, from memory).
-                Some(deviations) => {
-                    let mut y_star = y_hat.clone();
-                    for d in deviations {
-                        let g = rng.normal();
-                        for (v, dv) in y_star.iter_mut().zip(d) {
-                            *v += g * dv;
-                        }
+            None => {
+                let mut y_star = vec![0.0; n_ch * k];
+                for c in 0..k {
+                    let mut e: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
+                    if !options.whitened {
+                        average_reference_columns(&mut e, 1);
                     }
-                    y_star
-                }
-                None => {
-                    let mut y_star = vec![0.0; n_ch * k];
-                    for c in 0..k {
-                        let mut e: Vec<f64> = (0..n_ch).map(|_| rng.normal()).collect();
-                        if !options.whitened {
-                            average_reference_columns(&mut e, 1);
-                        }
-                        for i in 0..n_ch {
-                            y_star[i * k + c] = y_hat[i * k + c] + noise_sd[c] * e[i];
-                        }
+                    for i in 0..n_ch {
+                        y_star[i * k + c] = y_hat[i * k + c] + noise_sd[c] * e[i];
                     }
-                    y_star
                 }
-            };
-            // Warm-started from the fit itself: the resampled problem is close.
-            let (model, atoms) = if perturbed.is_empty() {
-                (dict, problem.atoms)
-            } else {
-                let m = b % perturbed.len();
-                (&perturbed[m], problem.perturbed[m].as_slice())
-            };
-            let (coef, fitted) = fit_all(
-                model,
-                groups,
-                &y_star,
-                k,
-                blocks,
-                &rules,
-                params,
-                Some(coefficients),
-                scale,
-            )?;
-            // Only the region shares are needed: no source map, no peak.
-            let shares = (0..k)
+                y_star
+            }
+        }
+    };
+    let fits = ResampleFits {
+        groups,
+        k,
+        blocks,
+        lambdas: &lambdas,
+        // Warm-started from the fit itself: the resampled problems are close.
+        warm: coefficients,
+        scale,
+        params,
+    };
+    // The resamples on one forward model (b mod P) are fitted as blocks.
+    let n_models = perturbed.len().max(1);
+    let mut runs: Vec<Vec<Vec<f64>>> = vec![Vec::new(); opts.n_resamples];
+    let mut budget_stops = 0;
+    let (mut stacked_passes, mut fit_passes, mut n_fits) = (0, 0.0, 0);
+    for m in 0..n_models.min(opts.n_resamples) {
+        if progress.cancelled() {
+            return Err(PipelineError::Cancelled);
+        }
+        let members: Vec<usize> = (m..opts.n_resamples).step_by(n_models).collect();
+        let y_stars: Vec<Vec<f64>> = members.par_iter().map(|&b| draw(b)).collect();
+        let (model, atoms) = if perturbed.is_empty() {
+            (dict, problem.atoms)
+        } else {
+            (&perturbed[m], problem.perturbed[m].as_slice())
+        };
+        // Only the region shares are needed: no source map, no peak.
+        let fitted = fits.fit(model, &y_stars, |coef| -> Vec<Vec<f64>> {
+            (0..k)
                 .map(|c| {
                     let x: Vec<f64> = (0..n_atoms).map(|j| coef[j * k + c]).collect();
                     component_shares(atoms, n_ch, problem.group, &x, &mass).region_share
                 })
-                .collect();
-            let stops = fitted.iter().filter(|f| f.stop_reason.on_budget()).count();
-            budget_stops.fetch_add(stops, std::sync::atomic::Ordering::Relaxed);
-            let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
-            if n % 4 == 3 {
-                progress.advance(4);
-            }
-            Ok(shares)
-        })
-        .collect();
+                .collect()
+        })?;
+        budget_stops += fitted.budget_stops;
+        stacked_passes += fitted.stacked_passes;
+        fit_passes += fitted.fit_passes;
+        n_fits += fitted.n_fits;
+        for (&b, s) in members.iter().zip(fitted.kept) {
+            runs[b] = s;
+        }
+        progress.advance(members.len());
+    }
     let mut shares: Vec<Vec<Vec<f64>>> = vec![vec![Vec::new(); problem.n_regions]; k];
     for run in runs {
-        let run = run?;
         for (c, regions) in run.into_iter().enumerate() {
             for (r, s) in regions.into_iter().enumerate() {
                 shares[c][r].push(s);
@@ -692,7 +682,13 @@ fn resample(
             Vec::new()
         },
         leader_probability,
-        budget_stops: budget_stops.into_inner(),
+        budget_stops,
+        dictionary_passes: stacked_passes,
+        fit_passes: if n_fits > 0 {
+            fit_passes / n_fits as f64
+        } else {
+            0.0
+        },
         intervals,
         noise_sd,
         n_resamples: opts.n_resamples,

@@ -11,6 +11,7 @@ mod outcome;
 mod perturb;
 mod quality;
 mod resample;
+mod resample_fits;
 mod time_resolved;
 
 pub use error::PipelineError;

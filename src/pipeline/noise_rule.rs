@@ -104,9 +104,12 @@ pub(crate) fn fit_block_noise(
     let mut above: Option<(f64, Vec<f64>, crate::solver::Info, f64)> = None;
     let mut ratio = 1.0;
     let mut bracketed = false;
+    // Passes over the dictionary of every fit of the search.
+    let mut passes = 0.0;
     loop {
         let p = params.with_lambda(Lambda::Ratio(ratio))?;
         let (f, info) = fit_warm(dict, groups, y, kb, &x, &p, &mut NoObserver)?;
+        passes += info.dictionary_passes;
         x = f.coefficients;
         let rss: f64 = f.residual.iter().map(|v| v * v).sum();
         let sigma_hat = (rss / n_eff).sqrt();
@@ -132,7 +135,7 @@ pub(crate) fn fit_block_noise(
             bracketed = true;
             if above.is_none() {
                 // Noise alone reaches λ_max: the empty fit is the answer.
-                return Ok(block(cols, x, info, path, sigma, false));
+                return Ok(block(cols, x, info, path, sigma, false, passes));
             }
             break;
         }
@@ -151,7 +154,15 @@ pub(crate) fn fit_block_noise(
     };
     if !bracketed {
         // Still below the noise at the floor: an essentially noise-free pattern.
-        return Ok(block(cols, x_above, info_above, path, sigma_above, true));
+        return Ok(block(
+            cols,
+            x_above,
+            info_above,
+            path,
+            sigma_above,
+            true,
+            passes,
+        ));
     }
     let lambda_max = info_above.lambda_max;
     // The fixed point lies between the grid point below and the one above.
@@ -161,6 +172,7 @@ pub(crate) fn fit_block_noise(
     for _ in 0..MAX_FIXED_POINT {
         let p = params.with_lambda(Lambda::Ratio(rho))?;
         let (f, info) = fit_warm(dict, groups, y, kb, &x, &p, &mut NoObserver)?;
+        passes += info.dictionary_passes;
         x = f.coefficients;
         let rss: f64 = f.residual.iter().map(|v| v * v).sum();
         let sigma = given_sd.unwrap_or((rss / n_eff).sqrt());
@@ -177,7 +189,7 @@ pub(crate) fn fit_block_noise(
             "noise rule: no fixed-point step".to_string(),
         ));
     };
-    Ok(block(cols, x, info, path, sigma, false))
+    Ok(block(cols, x, info, path, sigma, false, passes))
 }
 
 fn block(
@@ -187,9 +199,9 @@ fn block(
     path: Vec<(f64, f64, usize, f64)>,
     noise_sd: f64,
     at_floor: bool,
+    passes: f64,
 ) -> BlockFit {
-    BlockFit {
-        coefficients,
-        info: FittedComponent::from_info(cols, &info, path, noise_sd, at_floor),
-    }
+    let mut info = FittedComponent::from_info(cols, &info, path, noise_sd, at_floor);
+    info.dictionary_passes = passes;
+    BlockFit { coefficients, info }
 }

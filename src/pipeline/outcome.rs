@@ -33,6 +33,10 @@ pub struct FittedComponent {
     /// criterion's path, or the noise rule's floor): λ is set by the range,
     /// not by the data.
     pub at_range_end: bool,
+    /// Passes over the dictionary of every solve that chose λ and fitted
+    /// the block (a path or the noise rule's search: all its points), as
+    /// `solver::Info::dictionary_passes` counts them.
+    pub dictionary_passes: f64,
 }
 
 impl FittedComponent {
@@ -57,6 +61,7 @@ impl FittedComponent {
             stop_reason: info.stop_reason,
             noise_sd,
             at_range_end,
+            dictionary_passes: info.dictionary_passes,
         }
     }
 }

@@ -49,6 +49,13 @@ pub struct ResampleSummary {
     /// Resampled block fits that stopped on their iteration or time budget
     /// (their shares are used as they are, with the gap they reached).
     pub budget_stops: usize,
+    /// Reads of the whole dictionary by the resampled fits' block products
+    /// (λ_max and the full certificates of all resamples on one forward
+    /// model share each read).
+    pub dictionary_passes: usize,
+    /// Mean passes over the dictionary per resampled block fit, counted as
+    /// if the fit ran alone (`solver::Info::dictionary_passes`).
+    pub fit_passes: f64,
     /// Per component, the probability that the estimate's leading region is
     /// the truth's: its lead frequency through the calibration map
     /// (`attribution::leader_probability`); NaN without a leader.

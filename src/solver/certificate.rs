@@ -89,20 +89,59 @@ impl Certificate {
         lambda: f64,
         x: &[f64],
     ) {
-        dict.apply_into(x, k, &mut self.residual);
-        for (r, &yv) in self.residual.iter_mut().zip(y_cols) {
-            *r = yv - *r;
-        }
+        let _ = self.set_residual(dict, y_cols, k, x);
         match screened {
             Some((_, atom_kept)) => {
                 dict.adjoint_kept_into(&self.residual, k, atom_kept, &mut self.correlation)
             }
             None => dict.adjoint_into(&self.residual, k, &mut self.correlation),
         }
+        self.reduce(
+            n_groups,
+            group_atoms,
+            screened.map(|(s, _)| s),
+            y_cols,
+            y_half_sq,
+            k,
+            lambda,
+            x,
+        );
+    }
+
+    /// R = Y − DX into `residual`; returns the number of atoms read.
+    pub fn set_residual(
+        &mut self,
+        dict: &DenseDictionary,
+        y_cols: &[f64],
+        k: usize,
+        x: &[f64],
+    ) -> usize {
+        let touched = dict.apply_into(x, k, &mut self.residual);
+        for (r, &yv) in self.residual.iter_mut().zip(y_cols) {
+            *r = yv - *r;
+        }
+        touched
+    }
+
+    /// The rest of [`Self::compute_unscreened`] once `residual` and
+    /// `correlation` (Dᵀ R on the unscreened atoms) are set: group
+    /// correlations, primal, dual and gap.
+    #[allow(clippy::too_many_arguments)]
+    pub fn reduce<'g>(
+        &mut self,
+        n_groups: usize,
+        group_atoms: impl Fn(usize) -> &'g [usize],
+        screened: Option<&[bool]>,
+        y_cols: &[f64],
+        y_half_sq: f64,
+        k: usize,
+        lambda: f64,
+        x: &[f64],
+    ) {
         let mut penalty = 0.0;
         let mut max_corr = 0.0f64;
         for g in 0..n_groups {
-            if screened.is_some_and(|(s, _)| s[g]) {
+            if screened.is_some_and(|s| s[g]) {
                 self.group_correlation[g] = 0.0;
                 continue;
             }

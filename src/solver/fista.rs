@@ -39,18 +39,24 @@ impl SubProblem {
 /// Result of a sub-problem solve.
 pub(crate) struct SubResult {
     pub iterations: usize,
+    /// Atoms of the sub-problem read by products with its dictionary
+    /// (an adjoint counts every atom, a forward product the nonzero rows).
+    pub atom_reads: usize,
 }
 
 /// Largest eigenvalue of a positive semidefinite m x m operator by power
 /// iteration from a deterministic start; `apply(v, w)` sets w = A v. Stops at
 /// a relative change of 1e-10 or after 300 steps (an estimate from below).
-fn power_iteration(m: usize, mut apply: impl FnMut(&[f64], &mut [f64])) -> f64 {
+/// Returns the estimate and the number of steps.
+fn power_iteration(m: usize, mut apply: impl FnMut(&[f64], &mut [f64])) -> (f64, usize) {
     let mut v: Vec<f64> = (0..m)
         .map(|j| 1.0 + 0.5 * ((j as f64) * 0.7).sin())
         .collect();
     let mut w = vec![0.0; m];
     let mut estimate = 0.0;
+    let mut steps = 0;
     for _ in 0..300 {
+        steps += 1;
         let vn = norm_sq(&v).sqrt();
         if vn == 0.0 {
             break;
@@ -65,21 +71,23 @@ fn power_iteration(m: usize, mut apply: impl FnMut(&[f64], &mut [f64])) -> f64 {
             break;
         }
     }
-    estimate
+    (estimate, steps)
 }
 
 /// L = ‖D‖₂² by power iteration on DᵀD, with a margin and capped by
-/// ‖D‖_F², which is always an upper bound.
-pub(crate) fn lipschitz(dict: &DenseDictionary) -> f64 {
+/// ‖D‖_F², which is always an upper bound; and the atoms read on the way.
+pub(crate) fn lipschitz(dict: &DenseDictionary) -> (f64, usize) {
     let frobenius_sq = norm_sq(dict.as_column_major());
     let mut u = vec![0.0; dict.n_channels()];
-    let estimate = power_iteration(dict.n_atoms(), |v, w| {
-        dict.apply_into(v, 1, &mut u);
+    let mut reads = dict.n_atoms();
+    let (estimate, _) = power_iteration(dict.n_atoms(), |v, w| {
+        reads += dict.apply_into(v, 1, &mut u) + dict.n_atoms();
         dict.adjoint_into(&u, 1, w);
     });
-    (LIPSCHITZ_MARGIN * estimate)
+    let l = (LIPSCHITZ_MARGIN * estimate)
         .min(frobenius_sq)
-        .max(f64::MIN_POSITIVE)
+        .max(f64::MIN_POSITIVE);
+    (l, reads)
 }
 
 /// Block soft-thresholding of every group of `v` in place:
@@ -113,7 +121,7 @@ enum Gradient {
 /// [`lipschitz`], capped by trace(G) ≥ ‖G‖₂ (G is positive semidefinite).
 fn lipschitz_gram(gram: &[f64], m: usize) -> f64 {
     let trace: f64 = (0..m).map(|i| gram[i * m + i]).sum();
-    let estimate = power_iteration(m, |v, w| {
+    let (estimate, _) = power_iteration(m, |v, w| {
         for (i, wi) in w.iter_mut().enumerate() {
             *wi = dot(&gram[i * m..(i + 1) * m], v);
         }
@@ -180,15 +188,25 @@ pub(crate) fn solve_sub(
     } else {
         Gradient::Direct
     };
+    // The Gram matrix and DᵀY read every atom of the sub-problem once
+    // (the m² products run from cache); the Gram iterations read none.
+    let mut atom_reads = 0;
     let step = match &gradient {
-        Gradient::Gram { gram, .. } => 1.0 / lipschitz_gram(gram, m),
-        Gradient::Direct => 1.0 / lipschitz(&sub.dict),
+        Gradient::Gram { gram, .. } => {
+            atom_reads += m;
+            1.0 / lipschitz_gram(gram, m)
+        }
+        Gradient::Direct => {
+            let (l, reads) = lipschitz(&sub.dict);
+            atom_reads += reads;
+            1.0 / l
+        }
     };
     let mut cert = Certificate::new(n, m, sub.n_groups(), k);
     let mut dx = vec![0.0; n * k];
     let direct = matches!(gradient, Gradient::Direct);
     if direct {
-        sub.dict.apply_into(x, k, &mut dx);
+        atom_reads += sub.dict.apply_into(x, k, &mut dx);
     }
     let mut z = x.to_vec();
     let mut dz = dx.clone();
@@ -210,6 +228,7 @@ pub(crate) fn solve_sub(
                     *r = yv - d;
                 }
                 sub.dict.adjoint_into(&resid, k, &mut grad);
+                atom_reads += m;
             }
         }
         for ((xn, &zv), &gv) in x_new.iter_mut().zip(&z).zip(&grad) {
@@ -217,7 +236,7 @@ pub(crate) fn solve_sub(
         }
         block_soft_threshold(sub, k, lambda * step, &mut x_new);
         if direct {
-            sub.dict.apply_into(&x_new, k, &mut dx_new);
+            atom_reads += sub.dict.apply_into(&x_new, k, &mut dx_new);
         }
         // ⟨z − x⁺, x⁺ − x⟩ > 0 means the last momentum step went uphill.
         let uphill: f64 = z
@@ -247,6 +266,10 @@ pub(crate) fn solve_sub(
         x.copy_from_slice(&x_new);
         std::mem::swap(&mut dx, &mut dx_new);
         if iterations % CHECK_EVERY == 0 || iterations == max_iter {
+            atom_reads += m + x
+                .chunks_exact(k)
+                .filter(|r| r.iter().any(|&v| v != 0.0))
+                .count();
             cert.compute(
                 &sub.dict,
                 sub.n_groups(),
@@ -263,5 +286,8 @@ pub(crate) fn solve_sub(
             }
         }
     }
-    SubResult { iterations }
+    SubResult {
+        iterations,
+        atom_reads,
+    }
 }

@@ -109,7 +109,8 @@ fn fit_prepared(
     let lmax = lambda_max(prep, targets);
     let lambda = params.lambda.resolve(lmax);
     let mut x = vec![0.0; prep.dict.n_atoms() * targets.k];
-    let info = solve(prep, targets, lambda, lmax, params, &mut x, observer)?;
+    let mut info = solve(prep, targets, lambda, lmax, params, &mut x, observer)?;
+    info.dictionary_passes += 1.0; // λ_max
     Ok((Fit::from_coefficients(prep.dict, targets, x), info))
 }
 
@@ -139,7 +140,8 @@ pub fn fit_warm(
     let lmax = lambda_max(&prep, &targets);
     let lambda = params.lambda.resolve(lmax);
     let mut x = x0.to_vec();
-    let info = solve(&prep, &targets, lambda, lmax, params, &mut x, observer)?;
+    let mut info = solve(&prep, &targets, lambda, lmax, params, &mut x, observer)?;
+    info.dictionary_passes += 1.0; // λ_max
     Ok((Fit::from_coefficients(prep.dict, &targets, x), info))
 }
 

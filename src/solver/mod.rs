@@ -33,6 +33,7 @@
 //! assert!(info.duality_gap <= 1e-8);
 //! ```
 
+mod block;
 mod certificate;
 mod error;
 mod fista;
@@ -47,6 +48,7 @@ mod path;
 mod problem;
 mod refit;
 
+pub use block::{fit_warm_block, BlockFits, BlockProblem};
 pub use error::SolverError;
 pub use fit::{fit, fit_separately, fit_warm, Fit};
 pub use groups::Groups;

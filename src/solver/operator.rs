@@ -30,6 +30,10 @@ pub trait LinearOperator: Sync {
 /// not depend on the number of threads.
 const ATOM_CHUNK: usize = 256;
 
+/// Atoms per parallel task in [`DenseDictionary::adjoint_stacked`] (fixed, so
+/// the result does not depend on the number of threads).
+pub(crate) const STACKED_CHUNK: usize = 1024;
+
 /// Below this many matrix entries times `k`, the adjoint runs on one thread.
 const PARALLEL_MIN_WORK: usize = 1 << 17;
 
@@ -215,14 +219,47 @@ impl DenseDictionary {
         }
     }
 
-    /// `out = D x` without shape checks; skips zero rows of `x`.
-    pub(crate) fn apply_into(&self, x: &[f64], k: usize, out: &mut [f64]) {
+    /// `Dᵀ [R_1 … R_b]` for `total` stacked columns (`cols`, each `n_ch`
+    /// contiguous values), in chunks of [`STACKED_CHUNK`] atoms, each chunk
+    /// column-major (`rows x total`, the last chunk shorter): one read of the
+    /// dictionary for all columns, as a matrix product (faer) per fixed
+    /// chunk of atoms, sequential within a chunk, so the numbers do not
+    /// depend on the number of threads. The sums run in faer's order, not
+    /// [`super::kernels::dot`]'s, so they may differ from
+    /// [`Self::adjoint_into`] in the last bits.
+    pub(crate) fn adjoint_stacked(&self, cols: &[f64], total: usize) -> Vec<f64> {
+        use faer::linalg::matmul::matmul;
+        use faer::{Accum, MatMut, MatRef, Par};
+        let n = self.n_channels;
+        let mut out = vec![0.0; self.n_atoms * total];
+        if total == 0 {
+            return out;
+        }
+        let rhs = MatRef::from_column_major_slice(cols, n, total);
+        out.par_chunks_mut(STACKED_CHUNK * total)
+            .enumerate()
+            .for_each(|(chunk, out_chunk)| {
+                let rows = out_chunk.len() / total;
+                let j0 = chunk * STACKED_CHUNK;
+                let atoms =
+                    MatRef::from_column_major_slice(&self.atoms[j0 * n..(j0 + rows) * n], n, rows);
+                let dst = MatMut::from_column_major_slice_mut(out_chunk, rows, total);
+                matmul(dst, Accum::Replace, atoms.transpose(), rhs, 1.0, Par::Seq);
+            });
+        out
+    }
+
+    /// `out = D x` without shape checks; skips zero rows of `x`. Returns the
+    /// number of atoms read (the nonzero rows).
+    pub(crate) fn apply_into(&self, x: &[f64], k: usize, out: &mut [f64]) -> usize {
         let n = self.n_channels;
         out.fill(0.0);
+        let mut touched = 0;
         for (j, row) in x.chunks_exact(k).enumerate() {
             if row.iter().all(|&v| v == 0.0) {
                 continue;
             }
+            touched += 1;
             let atom = self.atom(j);
             for (c, &v) in row.iter().enumerate() {
                 if v != 0.0 {
@@ -230,6 +267,7 @@ impl DenseDictionary {
                 }
             }
         }
+        touched
     }
 
     fn check_block(
@@ -263,7 +301,7 @@ impl LinearOperator for DenseDictionary {
             "out (n_ch x k, column-major)",
             out.len(),
         )?;
-        self.apply_into(x, k, out);
+        let _ = self.apply_into(x, k, out);
         Ok(())
     }
 

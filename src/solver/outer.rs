@@ -31,73 +31,156 @@ pub(crate) fn solve(
     x: &mut [f64],
     observer: &mut dyn Observer,
 ) -> Result<Info, SolverError> {
-    let dict = prep.dict;
-    let groups = prep.groups;
-    let (n_ch, n_atoms, n_groups, k) = (dict.n_channels(), dict.n_atoms(), groups.n_groups(), y.k);
-    observer.observe_init(
-        "group_lasso",
-        &[
-            ("n_atoms", n_atoms as f64),
-            ("n_groups", n_groups as f64),
-            ("k", k as f64),
-            ("lambda", lambda),
-            ("lambda_max", lambda_max),
-        ],
-    );
-    if lambda >= lambda_max {
-        // X = 0 is optimal: R = Y, θ = Y/λ is feasible and primal = dual = ½‖Y‖².
-        x.fill(0.0);
-        let info = Info {
-            iterations: 0,
-            outer_iterations: 0,
-            duality_gap: 0.0,
-            primal: y.half_sq,
-            dual: y.half_sq,
+    let mut state = match Outer::start(prep, y, lambda, lambda_max, params, x, observer) {
+        Ok(state) => state,
+        Err(info) => return Ok(info),
+    };
+    loop {
+        state.certify(prep, y, x);
+        if let Some(info) = state.advance(prep, y, params, x, observer)? {
+            return Ok(info);
+        }
+    }
+}
+
+/// The state of [`solve`] between two full-problem certificates, so that a
+/// caller can compute the certificates of many problems together
+/// (`super::block`) and run the rest of each pass problem by problem.
+pub(crate) struct Outer {
+    pub lambda: f64,
+    lambda_max: f64,
+    deadline: Option<std::time::Instant>,
+    pub cert: Certificate,
+    pub screened: Vec<bool>,
+    pub atom_kept: Vec<bool>,
+    ws_size: usize,
+    iterations: usize,
+    outer: usize,
+    last_ws: usize,
+    /// Atoms read by products with the full dictionary or its restrictions.
+    pub atom_reads: usize,
+}
+
+impl Outer {
+    /// The state before the first certificate; `Err(info)` when λ ≥ λ_max,
+    /// where X = 0 is optimal (and `x` is set to it).
+    pub fn start(
+        prep: &Prepared,
+        y: &Targets,
+        lambda: f64,
+        lambda_max: f64,
+        params: &ValidParams,
+        x: &mut [f64],
+        observer: &mut dyn Observer,
+    ) -> Result<Self, Info> {
+        let dict = prep.dict;
+        let (n_ch, n_atoms, n_groups, k) = (
+            dict.n_channels(),
+            dict.n_atoms(),
+            prep.groups.n_groups(),
+            y.k,
+        );
+        observer.observe_init(
+            "group_lasso",
+            &[
+                ("n_atoms", n_atoms as f64),
+                ("n_groups", n_groups as f64),
+                ("k", k as f64),
+                ("lambda", lambda),
+                ("lambda_max", lambda_max),
+            ],
+        );
+        if lambda >= lambda_max {
+            // X = 0 is optimal: R = Y, θ = Y/λ is feasible and primal = dual = ½‖Y‖².
+            x.fill(0.0);
+            observer.observe_final(&[("iterations", 0.0), ("gap", 0.0), ("n_active_groups", 0.0)]);
+            return Err(Info {
+                iterations: 0,
+                outer_iterations: 0,
+                duality_gap: 0.0,
+                primal: y.half_sq,
+                dual: y.half_sq,
+                lambda,
+                lambda_max,
+                stop_reason: StopReason::ZeroSolution,
+                n_active_groups: 0,
+                n_active_atoms: 0,
+                n_screened_groups: n_groups,
+                working_set_size: 0,
+                dictionary_passes: 0.0,
+            });
+        }
+        let deadline = params
+            .max_seconds
+            .map(|t| std::time::Instant::now() + std::time::Duration::from_secs_f64(t));
+        Ok(Self {
             lambda,
             lambda_max,
-            stop_reason: StopReason::ZeroSolution,
-            n_active_groups: 0,
-            n_active_atoms: 0,
-            n_screened_groups: n_groups,
-            working_set_size: 0,
-        };
-        observer.observe_final(&[("iterations", 0.0), ("gap", 0.0), ("n_active_groups", 0.0)]);
-        return Ok(info);
+            deadline,
+            cert: Certificate::new(n_ch, n_atoms, n_groups, k),
+            screened: vec![false; n_groups],
+            atom_kept: vec![true; n_atoms],
+            ws_size: params.initial_working_set.min(n_groups),
+            iterations: 0,
+            outer: 0,
+            last_ws: 0,
+            atom_reads: 0,
+        })
     }
-    let deadline = params
-        .max_seconds
-        .map(|t| std::time::Instant::now() + std::time::Duration::from_secs_f64(t));
-    let mut cert = Certificate::new(n_ch, n_atoms, n_groups, k);
-    let mut screened = vec![false; n_groups];
-    let mut atom_kept = vec![true; n_atoms];
-    let mut ws_size = params.initial_working_set.min(n_groups);
-    let mut iterations = 0;
-    let mut outer = 0;
-    let mut last_ws = 0;
-    loop {
-        cert.compute_unscreened(
-            dict,
-            n_groups,
-            |g| groups.atoms(g),
-            Some((&screened, &atom_kept)),
+
+    /// The full-problem certificate of `x`, without the screened groups.
+    pub fn certify(&mut self, prep: &Prepared, y: &Targets, x: &[f64]) {
+        self.atom_reads += self.certificate_reads(x, y.k);
+        self.cert.compute_unscreened(
+            prep.dict,
+            prep.groups.n_groups(),
+            |g| prep.groups.atoms(g),
+            Some((&self.screened, &self.atom_kept)),
             &y.cols,
             y.half_sq,
-            k,
-            lambda,
+            y.k,
+            self.lambda,
             x,
         );
-        outer += 1;
-        let n_screened = screened.iter().filter(|&&s| s).count();
+    }
+
+    /// Atoms a certificate of `x` reads: the forward product's nonzero rows
+    /// and the adjoint's unscreened atoms.
+    pub fn certificate_reads(&self, x: &[f64], k: usize) -> usize {
+        let nonzero = x
+            .chunks_exact(k)
+            .filter(|r| r.iter().any(|&v| v != 0.0))
+            .count();
+        nonzero + self.atom_kept.iter().filter(|&&b| b).count()
+    }
+
+    /// The rest of a pass once the certificate is computed: stop (with the
+    /// fit's [`Info`]), or screen, choose a working set and solve on it.
+    pub fn advance(
+        &mut self,
+        prep: &Prepared,
+        y: &Targets,
+        params: &ValidParams,
+        x: &mut [f64],
+        observer: &mut dyn Observer,
+    ) -> Result<Option<Info>, SolverError> {
+        let groups = prep.groups;
+        let (n_groups, k, lambda) = (groups.n_groups(), y.k, self.lambda);
+        let cert = &self.cert;
+        self.outer += 1;
+        let n_screened = self.screened.iter().filter(|&&s| s).count();
         observer.observe_iter(&[
-            ("outer", outer as f64),
-            ("iterations", iterations as f64),
+            ("outer", self.outer as f64),
+            ("iterations", self.iterations as f64),
             ("gap", cert.relative_gap),
             ("primal", cert.primal),
-            ("working_set", last_ws as f64),
+            ("working_set", self.last_ws as f64),
             ("screened", n_screened as f64),
         ]);
-        let out_of_time = deadline.is_some_and(|d| std::time::Instant::now() >= d);
-        let on_budget = iterations >= params.max_iter || out_of_time;
+        let out_of_time = self
+            .deadline
+            .is_some_and(|d| std::time::Instant::now() >= d);
+        let on_budget = self.iterations >= params.max_iter || out_of_time;
         let stop_reason = if cert.relative_gap <= params.tol {
             Some(StopReason::Converged)
         } else if !on_budget {
@@ -105,7 +188,7 @@ pub(crate) fn solve(
         } else if !params.stop_on_budget {
             return Err(SolverError::NotConverged {
                 gap: cert.relative_gap,
-                iterations,
+                iterations: self.iterations,
             });
         } else if out_of_time {
             Some(StopReason::TimeBudget)
@@ -115,46 +198,54 @@ pub(crate) fn solve(
         if let Some(stop_reason) = stop_reason {
             let (n_active_groups, n_active_atoms) = count_active(prep, x, k);
             observer.observe_final(&[
-                ("iterations", iterations as f64),
+                ("iterations", self.iterations as f64),
                 ("gap", cert.relative_gap),
                 ("n_active_groups", n_active_groups as f64),
             ]);
-            return Ok(Info {
-                iterations,
-                outer_iterations: outer,
+            return Ok(Some(Info {
+                iterations: self.iterations,
+                outer_iterations: self.outer,
                 duality_gap: cert.relative_gap,
                 primal: cert.primal,
                 dual: cert.dual,
                 lambda,
-                lambda_max,
+                lambda_max: self.lambda_max,
                 stop_reason,
                 n_active_groups,
                 n_active_atoms,
                 n_screened_groups: n_screened,
-                working_set_size: last_ws,
-            });
+                working_set_size: self.last_ws,
+                dictionary_passes: self.atom_reads as f64 / prep.dict.n_atoms() as f64,
+            }));
         }
         if params.screening {
             let radius = cert.safe_radius(lambda);
-            for (g, s) in screened.iter_mut().enumerate() {
+            for (g, s) in self.screened.iter_mut().enumerate() {
                 if !*s && cert.screens(g, radius, prep.group_norm[g]) {
                     *s = true;
                     // The optimum is zero on this group, whatever the iterate holds.
                     for &j in groups.atoms(g) {
                         x[j * k..(j + 1) * k].fill(0.0);
-                        atom_kept[j] = false;
+                        self.atom_kept[j] = false;
                     }
                 }
             }
         }
-        let (ws, n_active) =
-            choose_working_set(prep, &cert, &screened, x, k, params.working_set, ws_size);
-        last_ws = ws.len();
+        let (ws, n_active) = choose_working_set(
+            prep,
+            cert,
+            &self.screened,
+            x,
+            k,
+            params.working_set,
+            self.ws_size,
+        );
+        self.last_ws = ws.len();
         // Next size: twice the active groups, so the set stays small while
         // the support is small; after a few passes at one λ it doubles each
         // pass, which guarantees that it reaches the whole problem if needed.
-        ws_size = if outer > 3 {
-            (2 * ws_size).min(n_groups)
+        self.ws_size = if self.outer > 3 {
+            (2 * self.ws_size).min(n_groups)
         } else {
             params.initial_working_set.max(2 * n_active).min(n_groups)
         };
@@ -172,13 +263,15 @@ pub(crate) fn solve(
             lambda,
             &mut x_ws,
             inner_tol,
-            params.max_iter - iterations,
-            deadline,
+            params.max_iter - self.iterations,
+            self.deadline,
         );
-        iterations += result.iterations;
+        self.iterations += result.iterations;
+        self.atom_reads += result.atom_reads;
         for (i, &j) in atoms.iter().enumerate() {
             x[j * k..(j + 1) * k].copy_from_slice(&x_ws[i * k..(i + 1) * k]);
         }
+        Ok(None)
     }
 }
 

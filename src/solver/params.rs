@@ -207,4 +207,10 @@ pub struct Info {
     pub n_screened_groups: usize,
     /// Groups in the last working set.
     pub working_set_size: usize,
+    /// Passes over the dictionary: atoms read by every product with the
+    /// dictionary or a working set's copy of it (an adjoint Dᵀ R counts
+    /// each atom it computes, a forward product D X each nonzero row, a
+    /// working set's Gram matrix its atoms once), divided by the number of
+    /// atoms. Includes λ_max (one pass) when the fit computed it.
+    pub dictionary_passes: f64,
 }

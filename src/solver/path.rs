@@ -153,7 +153,7 @@ pub fn path(
     let mut points = Vec::with_capacity(ratios.len());
     for (index, &ratio) in ratios.iter().enumerate() {
         let lambda = ratio * lmax;
-        let info = solve(
+        let mut info = solve(
             &prep,
             &targets,
             lambda,
@@ -162,6 +162,9 @@ pub fn path(
             &mut x,
             &mut NoObserver,
         )?;
+        if index == 0 {
+            info.dictionary_passes += 1.0; // λ_max
+        }
         let fit = Fit::from_coefficients(dict, &targets, x.clone());
         let total = if targets.half_sq > 0.0 {
             let r2: f64 = fit.residual.iter().map(|v| v * v).sum();

@@ -15,11 +15,13 @@
 //! went to 32-bit atoms and profile values (issue 25): shares moved by at most 4e-8 (absolute),
 //! λ and explained variance in the 8th digit, and only the demo's 10-resample intervals and
 //! selection frequencies by more (up to 0.063 and one resample in ten), less than the change
-//! between two resampling seeds); and when the template cortex got its
+//! between two resampling seeds); when the template cortex got its
 //! brain-shaped envelope (issue 23 item 1): every source moved, so every
 //! share, interval, peak, λ and explained variance moved, and the batch
 //! job's input hash (it covers the cortex) changed; the leading regions of
-//! the demo's first two components stayed the same. Regression check against our
+//! the demo's first two components stayed the same; and when summary.json gained the solver's pass counts
+//! (`dictionary_passes`, `resampled_fit_dictionary_passes`, `resampling_dictionary_passes`;
+//! issue 25) with the resampled fits solved in blocks: additions only, no value changed). Regression check against our
 //! own earlier outputs, no outside source: strings must match exactly
 //! (paths, content hashes and the software line excepted), numbers within
 //! 1e-6 relative (bit-for-bit equal on the machine that recorded them; the

@@ -80,6 +80,7 @@ mod report_browser;
 mod report_compare;
 mod report_dipole_marks;
 mod report_html;
+mod solver_block;
 mod solver_invariants;
 mod solver_reference;
 mod solver_warm_start;
