@@ -162,20 +162,42 @@ fn region_seed(
     Ok(best)
 }
 
+/// What the scenario is simulated on: a source mesh with regions, the
+/// simulation lead field `gain_sim` (n_ch × n_src row-major, V/(A·m),
+/// average reference, along the normals) and a distance oracle returning
+/// the vertices within a radius of a seed with their geodesic distances (m).
+pub struct SimulationSpace<'a> {
+    /// The source mesh (m).
+    pub mesh: &'a Mesh,
+    /// Region index per vertex (-1: none).
+    pub region: &'a [i32],
+    /// Region names.
+    pub region_names: &'a [String],
+    /// The simulation lead field.
+    pub gain_sim: &'a [f64],
+    /// Channels of the lead field.
+    pub n_channels: usize,
+    /// The distance oracle.
+    pub distances: &'a (dyn Fn(usize, f64) -> Vec<(u32, f64)> + Sync),
+}
+
 /// The scalp pattern (n_ch, V per unit of the generator's time course) of
 /// one generator patch at the central vertex of `region_name`: a Gaussian
 /// profile in geodesic distance (σ = radius / 2, as the dictionary's
 /// default profile) of the scenario's moment density; with its truth
 /// (component 0 and an empty label, for the caller to set).
 fn generator_pattern(
-    mesh: &Mesh,
-    region: &[i32],
-    region_names: &[String],
-    gain_sim: &[f64],
-    n_channels: usize,
-    distances: &(dyn Fn(usize, f64) -> Vec<(u32, f64)> + Sync),
+    space: &SimulationSpace<'_>,
     region_name: &str,
 ) -> Result<(Vec<f64>, GeneratorTruth), DemoError> {
+    let SimulationSpace {
+        mesh,
+        region,
+        region_names,
+        gain_sim,
+        n_channels,
+        distances,
+    } = *space;
     let n_src = mesh.n_vertices();
     let areas = mesh.vertex_areas();
     let seed = region_seed(mesh, region, region_names, region_name)?;
@@ -199,18 +221,15 @@ fn generator_pattern(
     Ok((pattern, truth))
 }
 
-/// Build the scenario on a source mesh with regions, given the simulation
-/// lead field `gain_sim` (n_ch × n_src row-major, V/(A·m), average
-/// reference, along the normals) and a distance oracle returning the
-/// vertices within a radius of a seed with their geodesic distances (m).
-pub fn build(
-    mesh: &Mesh,
-    region: &[i32],
-    region_names: &[String],
-    gain_sim: &[f64],
-    n_channels: usize,
-    distances: &(dyn Fn(usize, f64) -> Vec<(u32, f64)> + Sync),
-) -> Result<Scenario, DemoError> {
+/// Build the scenario on `space`.
+pub fn build(space: &SimulationSpace<'_>) -> Result<Scenario, DemoError> {
+    let SimulationSpace {
+        mesh,
+        region,
+        gain_sim,
+        n_channels,
+        ..
+    } = *space;
     let n_src = mesh.n_vertices();
     if gain_sim.len() != n_channels * n_src || region.len() != n_src {
         return Err(DemoError::Shape(format!(
@@ -225,15 +244,7 @@ pub fn build(
     let mut patterns = vec![0.0; n_channels * k];
     let mut generators = Vec::new();
     for &(component, label, region_name) in &GENERATORS {
-        let (pattern, truth) = generator_pattern(
-            mesh,
-            region,
-            region_names,
-            gain_sim,
-            n_channels,
-            distances,
-            region_name,
-        )?;
+        let (pattern, truth) = generator_pattern(space, region_name)?;
         for (i, p) in pattern.iter().enumerate() {
             patterns[i * k + component] += p;
         }

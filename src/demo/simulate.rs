@@ -3,7 +3,7 @@
 //! skull), on the demo's 64 channels of the 10-10 system.
 
 use super::time_course::build_time_resolved;
-use super::{build, Scenario, TimeScenario, CHANNELS_64};
+use super::{build, Scenario, SimulationSpace, TimeScenario, CHANNELS_64};
 use crate::forward::Orientation;
 use crate::geometry::{template, GeodesicSolver, SourceSpace, TemplateResolution};
 use crate::head::SphereHead;
@@ -62,25 +62,17 @@ pub fn simulate(res: TemplateResolution) -> Result<Simulated, SimulationError> {
         .map_err(at("simulation lead field"))?;
     let solver = GeodesicSolver::new(&t.mesh).map_err(at("template mesh"))?;
     let oracle = |s: usize, r: f64| solver.distances_within(s, r);
-    let scenario = build(
-        &t.mesh,
-        &t.region,
-        &t.region_names,
-        &lf.gain,
-        lf.n_channels(),
-        &oracle,
-    )
-    .map_err(at("building the demo scenario"))?;
-    let time = build_time_resolved(
-        &t.mesh,
-        &t.region,
-        &t.region_names,
-        &lf.gain,
-        lf.n_channels(),
-        &oracle,
-        &scenario.covariance,
-    )
-    .map_err(at("building the demo's time-resolved decoder"))?;
+    let space = SimulationSpace {
+        mesh: &t.mesh,
+        region: &t.region,
+        region_names: &t.region_names,
+        gain_sim: &lf.gain,
+        n_channels: lf.n_channels(),
+        distances: &oracle,
+    };
+    let scenario = build(&space).map_err(at("building the demo scenario"))?;
+    let time = build_time_resolved(&space, &scenario.covariance)
+        .map_err(at("building the demo's time-resolved decoder"))?;
     Ok(Simulated {
         scenario,
         time,

@@ -16,8 +16,7 @@
 use faer::linalg::solvers::Solve;
 use faer::{Mat, Side};
 
-use super::{generator_pattern, DemoError, GeneratorTruth};
-use crate::geometry::Mesh;
+use super::{generator_pattern, DemoError, GeneratorTruth, SimulationSpace};
 use crate::numeric::SplitMix64;
 
 /// Time points of the decoder: 0 to 400 ms every 20 ms (s).
@@ -73,19 +72,14 @@ fn hann(t: f64, peak: f64) -> f64 {
     0.5 * (1.0 + (std::f64::consts::PI * x).cos())
 }
 
-/// Build the sliding decoder on the demo's mesh and simulation lead field
-/// (as [`super::build`]), with `covariance` the demo decoder's estimated
-/// covariance (n_ch × n_ch row-major), shared by every time point.
+/// Build the sliding decoder on `space` (as [`super::build`]), with
+/// `covariance` the demo decoder's estimated covariance (n_ch × n_ch
+/// row-major), shared by every time point.
 pub fn build_time_resolved(
-    mesh: &Mesh,
-    region: &[i32],
-    region_names: &[String],
-    gain_sim: &[f64],
-    n_channels: usize,
-    distances: &(dyn Fn(usize, f64) -> Vec<(u32, f64)> + Sync),
+    space: &SimulationSpace<'_>,
     covariance: &[f64],
 ) -> Result<TimeScenario, DemoError> {
-    let n = n_channels;
+    let n = space.n_channels;
     if covariance.len() != n * n {
         return Err(DemoError::Shape(format!(
             "covariance has {} values, expected {n} x {n}",
@@ -95,8 +89,7 @@ pub fn build_time_resolved(
     let mut patterns = Vec::new();
     let mut generators = Vec::new();
     for &(label, name, peak_s) in &TIMED_GENERATORS {
-        let (pattern, truth) =
-            generator_pattern(mesh, region, region_names, gain_sim, n, distances, name)?;
+        let (pattern, truth) = generator_pattern(space, name)?;
         patterns.push(pattern);
         generators.push(TimedGenerator {
             truth: GeneratorTruth { label, ..truth },
