@@ -79,6 +79,7 @@ mod render_topomap;
 mod report_browser;
 mod report_compare;
 mod report_dipole_marks;
+mod report_generators_visible;
 mod report_html;
 mod solver_block;
 mod solver_invariants;
