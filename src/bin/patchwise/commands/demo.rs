@@ -122,12 +122,18 @@ pub fn exec(args: Args) -> Result<(), CliError> {
         PEAK_TOLERANCE_S * 1e3
     );
     outln!(
-        "{}",
+        "spatial decoder: {}",
         if run.found_all() {
             "all known generators were found as the leading region of their component"
         } else {
             "some known generators were not the leading region of their component"
         }
+    );
+    let (found, of) = run.found_in_time();
+    outln!(
+        "sliding decoder: {found} of {of} generators found in their time range (a region leads when its share reaches {:.0} % and its peak strength {:.0} % of the strongest region's)",
+        100.0 * patchwise::pipeline::LEADING_SHARE,
+        100.0 * patchwise::pipeline::LEADING_STRENGTH
     );
     if !args.no_report {
         // The job record as summary.json keeps it, so `patchwise report
