@@ -3,11 +3,11 @@
 //! attribution's result.h5, and bad patterns exit 2 leaving no output.
 
 use crate::support;
-use std::path::Path;
 use std::process::Output;
 
 use crate::support::cli::patchwise;
 use crate::support::files::csv;
+use crate::support::report::dipole_on_demo;
 use patchwise::geometry::{template, TemplateResolution, Vec3};
 use patchwise::io::{Array, Store};
 
@@ -55,21 +55,6 @@ fn distance_mm(p_mm: Vec3, q_m: Vec3) -> f64 {
         .map(|a| (p_mm[a] - q_m[a] * 1e3).powi(2))
         .sum::<f64>()
         .sqrt()
-}
-
-/// `patchwise dipole` on the demo's decoder (10-10, template-5k) plus `extra`.
-fn dipole_on_demo(dir: &Path, extra: &[&str]) -> Output {
-    let mut args = vec![
-        "dipole",
-        "--decoder",
-        "demo/decoder.h5",
-        "--montage",
-        "10-10",
-        "--sources",
-        "template-5k",
-    ];
-    args.extend_from_slice(extra);
-    patchwise(&args, dir)
 }
 
 #[test]

@@ -24,23 +24,8 @@ fn stderr(o: &Output) -> String {
 fn dipoles_carry_the_patch_peak_distance_and_names_and_do_not_go_stale() {
     let dir = scratch("first-hour-dipoles");
     let demo = run_demo(&dir, "demo", &["--resamples", "0", "--no-report"]);
-    let dipole = |out: &str| {
-        patchwise(
-            &[
-                "dipole",
-                "--decoder",
-                "demo/decoder.h5",
-                "--montage",
-                "10-10",
-                "--sources",
-                "template-5k",
-                "--no-report",
-                "--out",
-                out,
-            ],
-            &dir,
-        )
-    };
+    let dipole =
+        |out: &str| crate::support::report::dipole_on_demo(&dir, &["--no-report", "--out", out]);
     // Beside the attribution: the distance to the patch peak reaches
     // dipoles.csv and the terminal, equal to result.h5's within the CSV's
     // rounding (3 decimals).

@@ -10,7 +10,8 @@ use patchwise::geometry::{Mesh, Vec3};
 use patchwise::io::leadfield_file::read_leadfield;
 use patchwise::validation::rdm_mag;
 
-use crate::support::bem_head::{bem_toml, leadfield, write_off, write_shells, SHELLS};
+use crate::support::bem_head::{bem_toml, write_off, write_shells, SHELLS};
+use crate::support::cli::leadfield;
 use crate::support::{self, cli::patchwise};
 
 #[test]

@@ -10,7 +10,7 @@ use crate::support::{self, cli::patchwise};
 #[test]
 fn the_template_bem_head_gives_a_lead_field_end_to_end() {
     let dir = support::scratch("template_bem_cli");
-    let run = |head: &str, out: &str| support::bem_head::leadfield(&dir, head, "10-20", out);
+    let run = |head: &str, out: &str| support::cli::leadfield(&dir, head, "10-20", out);
     let o = run("template-bem", "bem.h5");
     let err = String::from_utf8_lossy(&o.stderr);
     assert!(o.status.success(), "{err}");

@@ -17,7 +17,8 @@ use patchwise::job::montage_frame::{load_bem_montage, BemFrame};
 use patchwise::job::observer::NoteKeeper;
 use patchwise::job::specs::MontageSpec;
 
-use crate::support::bem_head::{bem_toml, leadfield, write_shells, SHELLS};
+use crate::support::bem_head::{bem_toml, write_shells, SHELLS};
+use crate::support::cli::leadfield;
 use crate::support::{self, refusal::assert_refused};
 
 /// A rigid motion: rotation by `a` about z then `b` about x, then a shift.

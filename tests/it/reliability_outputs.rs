@@ -189,18 +189,7 @@ fn no_command_replaces_its_own_input() {
     assert_eq!(snapshot(&dir.join("same")), before);
 
     // dictionary over its lead field.
-    let lf = patchwise(
-        &[
-            "leadfield",
-            "--montage",
-            "10-20",
-            "--sources",
-            "template-5k",
-            "--out",
-            "lf.h5",
-        ],
-        &dir,
-    );
+    let lf = crate::support::cli::leadfield(&dir, "default", "10-20", "lf.h5");
     assert!(lf.status.success(), "{}", text(&lf));
     let bytes = std::fs::read(dir.join("lf.h5")).unwrap();
     let o = patchwise(

@@ -3,7 +3,6 @@
 //! a ring on the views of its hemisphere and on the top, front and back
 //! views, on the correct side of the picture.
 
-use crate::support::cli::patchwise;
 use crate::support::report::run_demo;
 use crate::support::scratch;
 
@@ -41,20 +40,7 @@ fn dipoles_are_ringed_on_the_views_of_their_side() {
     let demo = run_demo(&dir, "demo", &["--resamples", "0"]);
     let before = std::fs::read_to_string(demo.join("report.html")).unwrap();
     assert!(rings(&before).is_empty(), "rings before any dipole fit");
-    let run = patchwise(
-        &[
-            "dipole",
-            "--decoder",
-            "demo/decoder.h5",
-            "--montage",
-            "10-10",
-            "--sources",
-            "template-5k",
-            "--out",
-            "demo",
-        ],
-        &dir,
-    );
+    let run = crate::support::report::dipole_on_demo(&dir, &["--out", "demo"]);
     assert!(
         run.status.success(),
         "{}",

@@ -116,18 +116,7 @@ fn support_and_localisation(dir: &Path, truth: &serde_json::Value) -> (f64, f64)
 fn event_related_decoders_name_each_generator_in_its_time_range() {
     let py = python::python();
     let dir = crate::support::scratch("time_resolved_decoders");
-    let lf = patchwise(
-        &[
-            "leadfield",
-            "--montage",
-            "10-20",
-            "--sources",
-            "template-5k",
-            "--out",
-            "lf.h5",
-        ],
-        &dir,
-    );
+    let lf = crate::support::cli::leadfield(&dir, "default", "10-20", "lf.h5");
     assert!(
         lf.status.success(),
         "leadfield: {}",

@@ -61,18 +61,7 @@ fn leading_region(dir: &Path) -> String {
 fn lda_trained_on_200_trials_leads_with_its_generator_and_uses_its_folds() {
     let py = python::python();
     let dir = crate::support::scratch("trained_decoder_folds");
-    let lf = patchwise(
-        &[
-            "leadfield",
-            "--montage",
-            "10-10",
-            "--sources",
-            "template-5k",
-            "--out",
-            "lf.h5",
-        ],
-        &dir,
-    );
+    let lf = crate::support::cli::leadfield(&dir, "default", "10-10", "lf.h5");
     assert!(
         lf.status.success(),
         "leadfield failed: {}",

@@ -5,8 +5,6 @@ use std::path::Path;
 
 use patchwise::geometry::Mesh;
 
-use super::cli::patchwise;
-
 /// An OFF file of `mesh` (metres) in millimetres.
 pub fn write_off(path: &Path, mesh: &Mesh) {
     let mut text = format!("OFF\n{} {} 0\n", mesh.n_vertices(), mesh.n_triangles());
@@ -48,22 +46,3 @@ pub fn bem_toml(dir: &Path, file: &str, surfaces: &[&str], conductivities: &[f64
 
 /// The surface names [`write_shells`] writes.
 pub const SHELLS: [&str; 3] = ["inner_skull.off", "outer_skull.off", "scalp.off"];
-
-/// `patchwise leadfield` of the template-5k sources with `head` and
-/// `montage` into `out`, run in `dir`.
-pub fn leadfield(dir: &Path, head: &str, montage: &str, out: &str) -> std::process::Output {
-    patchwise(
-        &[
-            "leadfield",
-            "--montage",
-            montage,
-            "--sources",
-            "template-5k",
-            "--head",
-            head,
-            "--out",
-            out,
-        ],
-        dir,
-    )
-}

@@ -24,3 +24,23 @@ pub fn patchwise_with_env(args: &[&str], cwd: &Path, env: &[(&str, &str)]) -> Ou
         .output()
         .unwrap_or_else(|e| panic!("running patchwise: {e}"))
 }
+
+/// `patchwise leadfield` of the template-5k sources with `head` and
+/// `montage` into `out`, run in `dir` (`head` "default" for the four
+/// spheres).
+pub fn leadfield(dir: &Path, head: &str, montage: &str, out: &str) -> std::process::Output {
+    patchwise(
+        &[
+            "leadfield",
+            "--montage",
+            montage,
+            "--sources",
+            "template-5k",
+            "--head",
+            head,
+            "--out",
+            out,
+        ],
+        dir,
+    )
+}

@@ -40,3 +40,18 @@ pub fn demo_result(root: &Path) -> PathBuf {
     );
     out
 }
+
+/// `patchwise dipole` on the demo's decoder (10-10, template-5k) plus `extra`.
+pub fn dipole_on_demo(dir: &Path, extra: &[&str]) -> std::process::Output {
+    let mut args = vec![
+        "dipole",
+        "--decoder",
+        "demo/decoder.h5",
+        "--montage",
+        "10-10",
+        "--sources",
+        "template-5k",
+    ];
+    args.extend_from_slice(extra);
+    patchwise(&args, dir)
+}
