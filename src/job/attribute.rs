@@ -343,6 +343,7 @@ fn run(
                 .zip(&outcome.fit.residual)
                 .map(|(y, r)| y - r)
                 .collect();
+            let n_fit = fit_y.len() / k.max(1);
             let strength =
                 crate::pipeline::column_strength(&fitted, k, outcome.column_scale.as_deref());
             let shares = crate::pipeline::time_shares(
@@ -350,8 +351,13 @@ fn run(
                 outcome.resample.as_ref(),
                 &strength,
                 &axis.times,
-                axis.n_components,
-                names.len(),
+                (axis.n_components, names.len()),
+                // Free directions of the fit's space (as for the noise level).
+                if average {
+                    n_fit.saturating_sub(1)
+                } else {
+                    n_fit
+                },
             )
             .compute("region x time shares")?;
             (columns, Some(shares))

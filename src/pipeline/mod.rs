@@ -24,6 +24,6 @@ pub use perturb::{perturbed_atoms, perturbed_model, ForwardPerturbation};
 pub use quality::{component_flags, is_poorly_explained, POORLY_EXPLAINED_EV};
 pub use resample::{ResampleOptions, ResampleSummary, SELECTION_THRESHOLD};
 pub use time_resolved::{
-    column_strength, time_shares, time_window_blocks, TimeRange, TimeShares, LEADING_SHARE,
-    LEADING_STRENGTH,
+    column_strength, leading_floor, time_shares, time_window_blocks, TimeRange, TimeShares,
+    LEADING_SHARE,
 };

@@ -111,8 +111,8 @@ pub struct TimeShares {
     pub share_high: Vec<f64>,
     /// The leading regions' time ranges, per component by decreasing peak
     /// strength (regions whose largest share is at least [`LEADING_SHARE`]
-    /// and whose peak strength is at least [`LEADING_STRENGTH`] of the
-    /// strongest).
+    /// and whose part of the fitted pattern at the peak stands above that
+    /// time point's noise: [`leading_floor`]).
     pub ranges: Vec<TimeRange>,
 }
 
@@ -120,11 +120,19 @@ pub struct TimeShares {
 /// our choice, no source).
 pub const LEADING_SHARE: f64 = 0.2;
 
-/// A leading region's peak strength is at least this fraction of the
-/// strongest region's of its component (20 %; our choice, no source): a
-/// region fitted to the noise of a time point with no signal holds a large
-/// share of a weak pattern and is left out.
-pub const LEADING_STRENGTH: f64 = 0.2;
+/// The smallest peak strength (share × strength at the peak, in units of
+/// that time point's own noise level σ) at which a region leads: √n_free,
+/// the expected norm of white noise of level σ over the `n_free` free
+/// directions of the fit's space (channels, less one for the average
+/// reference). A region whose part of the fitted pattern is smaller than
+/// the noise it sits in cannot be told from a fit to that noise, whatever
+/// the other regions of the component do; a real but weaker generator is
+/// kept as long as it stands above its own time point's noise
+/// (docs/time_resolved.md, "Leading regions"; the threshold is our choice,
+/// no source).
+pub fn leading_floor(n_free: usize) -> f64 {
+    (n_free.max(1) as f64).sqrt()
+}
 
 /// The run of time points around the region's peak where its share is at
 /// least half its largest share: (onset index, peak index, offset index,
@@ -188,14 +196,15 @@ fn quantiles(v: &[f64]) -> (f64, f64) {
 /// The region × time shares of `attribution` (columns c · n_times + t),
 /// their intervals from `resample`, and the leading regions' time ranges;
 /// `strength` per column (the fitted pattern's norm over its noise level,
-/// [`column_strength`]) places each region's peak.
+/// [`column_strength`]) places each region's peak, and a region leads when
+/// its part of the pattern there reaches [`leading_floor`]`(n_free)`.
 pub fn time_shares(
     attribution: &Attribution,
     resample: Option<&ResampleSummary>,
     strength: &[f64],
     times: &[f64],
-    n_components: usize,
-    n_regions: usize,
+    (n_components, n_regions): (usize, usize),
+    n_free: usize,
 ) -> Result<TimeShares, PipelineError> {
     let n_t = times.len();
     if attribution.components.len() != n_components * n_t || strength.len() != n_components * n_t {
@@ -282,12 +291,8 @@ pub fn time_shares(
                 .total_cmp(&a.peak_strength)
                 .then(a.region.cmp(&b.region))
         });
-        let top = found.first().map_or(0.0, |g| g.peak_strength);
-        ranges.extend(
-            found
-                .into_iter()
-                .filter(|g| g.peak_strength >= LEADING_STRENGTH * top),
-        );
+        let floor = leading_floor(n_free);
+        ranges.extend(found.into_iter().filter(|g| g.peak_strength >= floor));
     }
     Ok(TimeShares {
         times: times.to_vec(),

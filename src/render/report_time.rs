@@ -133,8 +133,9 @@ pub fn time_section(h: &mut Html, r: &ResultFile) -> Result<(), ReportError> {
     h.element(
         "p",
         "note",
-        "Rows: the regions that lead at some time (largest share at least 20 % and a peak at least \
-         20 % as strong as the strongest region's). Onset and offset: the run of time points around \
+        "Rows: the regions that lead at some time (largest share at least 20 %, and at the peak a \
+         part of the fitted pattern at least as large as the noise of that time point). Onset and \
+         offset: the run of time points around \
          the peak where the region holds at least half its largest share; in brackets the 95 % \
          range over the resamples. The sections below show the cortex at each leading region's \
          peak time.",

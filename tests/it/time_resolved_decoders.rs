@@ -16,6 +16,11 @@
 //!   of `time_ranges.csv` with onset and offset within 50 ms of the
 //!   generator's (the tolerance), and leads (largest share in
 //!   `regions_time.csv`) at the generator's peak time;
+//! - no region leads over time points with noise only (0–100, 200–300 and
+//!   400–500 ms): every range of `time_ranges.csv` peaks inside a
+//!   generator's active span (the leading-region rule of
+//!   docs/time_resolved.md; before it, regions fitted to those time points'
+//!   noise were dropped only relative to the strongest region);
 //! - the windowed fit (the default 50 ms windows) beats fitting each time
 //!   point alone (`--time-window 0`) on the stability of the support over
 //!   time, the mean Jaccard index |S_t ∩ S_t+1| / |S_t ∪ S_t+1| of the
@@ -198,6 +203,21 @@ fn event_related_decoders_name_each_generator_in_its_time_range() {
                     .max_by(|a, b| number(a, "share").total_cmp(&number(b, "share")))
                     .expect("rows at the peak time");
                 assert_eq!(leader["region"], region, "{decoder}: leader at {peak} s");
+            }
+            // No region leads over time points with noise only: every
+            // leading range peaks where a generator is active.
+            let generators = truth["generators"].as_array().expect("generators");
+            for row in &ranges {
+                let peak = number(row, "peak_s");
+                assert!(
+                    generators.iter().any(|g| {
+                        let on = g["onset_s"].as_f64().expect("onset");
+                        let off = g["offset_s"].as_f64().expect("offset");
+                        peak >= on - 1e-9 && peak <= off + 1e-9
+                    }),
+                    "{decoder}: {} leads at {peak} s, a time point with noise only",
+                    row["region"]
+                );
             }
         }
         let ((jw, dw), (ja, da)) = (scores[0], scores[1]);

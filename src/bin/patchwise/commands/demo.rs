@@ -131,9 +131,8 @@ pub fn exec(args: Args) -> Result<(), CliError> {
     );
     let (found, of) = run.found_in_time();
     outln!(
-        "sliding decoder: {found} of {of} generators found in their time range (a region leads when its share reaches {:.0} % and its peak strength {:.0} % of the strongest region's)",
-        100.0 * patchwise::pipeline::LEADING_SHARE,
-        100.0 * patchwise::pipeline::LEADING_STRENGTH
+        "sliding decoder: {found} of {of} generators found in their time range (a region leads when its share reaches {:.0} % and its part of the fitted pattern stands above that time point's noise)",
+        100.0 * patchwise::pipeline::LEADING_SHARE
     );
     if !args.no_report {
         // The job record as summary.json keeps it, so `patchwise report
