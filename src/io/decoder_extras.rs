@@ -252,13 +252,15 @@ fn npz_numbers(path: &Path, what: &str, a: &NpyArray) -> Result<Vec<f64>, InputE
     Ok(values)
 }
 
-/// The extras of an `.npz` decoder.
+/// The extras of an `.npz` decoder (`folds` and `fold_covariances` only
+/// with `read_folds`).
 pub(crate) fn extras_from_npz(
     path: &Path,
     arrays: &BTreeMap<String, NpyArray>,
     n_ch: usize,
     k: usize,
     weights_covariance: Option<&[f64]>,
+    read_folds: bool,
 ) -> Result<DecoderExtras, InputError> {
     let get = |name: &str| {
         arrays
@@ -297,8 +299,13 @@ pub(crate) fn extras_from_npz(
             Some(a) => as_array3(path, name, npz_numbers(path, name, a)?, &a.shape).map(Some),
         }
     };
-    let folds = array3("folds")?;
-    let fold_covariances = array3("fold_covariances")?;
+    // A decoder with a time axis reads its folds with its own layout
+    // (`decoder_times::time_folds`).
+    let (folds, fold_covariances) = if read_folds {
+        (array3("folds")?, array3("fold_covariances")?)
+    } else {
+        (None, None)
+    };
     assemble(
         path,
         n_ch,
@@ -312,13 +319,14 @@ pub(crate) fn extras_from_npz(
 }
 
 /// The extras of an HDF5 or MATLAB v7.3 decoder (names with or without a
-/// leading slash).
+/// leading slash; `folds` and `fold_covariances` only with `read_folds`).
 pub(crate) fn extras_from_store(
     path: &Path,
     store: &Store,
     n_ch: usize,
     k: usize,
     weights_covariance: Option<&[f64]>,
+    read_folds: bool,
 ) -> Result<DecoderExtras, InputError> {
     let name = |n: &str| {
         if store.contains(n) {
@@ -346,8 +354,13 @@ pub(crate) fn extras_from_store(
         let matlab = store.dataset(path, &full)?.is_matlab();
         Ok(Some(if matlab { reverse_axes(&a.0, a.1) } else { a }))
     };
-    let folds = array3("folds")?;
-    let fold_covariances = array3("fold_covariances")?;
+    // A decoder with a time axis reads its folds with its own layout
+    // (`decoder_times::time_folds`).
+    let (folds, fold_covariances) = if read_folds {
+        (array3("folds")?, array3("fold_covariances")?)
+    } else {
+        (None, None)
+    };
     assemble(
         path,
         n_ch,

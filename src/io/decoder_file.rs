@@ -45,7 +45,8 @@ impl DecoderFile {
 
 /// A decoder with a time axis: its content and columns from
 /// [`super::decoder_times::time_resolved`], the extras with `k` = the
-/// components per time point; folds with a time axis are refused.
+/// components per time point; folds laid out like the decoder
+/// ([`super::decoder_times::time_folds`]).
 fn with_time_axis(
     path: &Path,
     channels: Vec<String>,
@@ -56,12 +57,7 @@ fn with_time_axis(
     let (k, content, axis) =
         super::decoder_times::time_resolved(path, channels.len(), times, fetch)?;
     let mut extras = extras(axis.n_components)?;
-    if extras.folds.is_some() {
-        return Err(content_error(
-            path,
-            "has folds and times; fold decoders with a time axis are not read yet: drop folds (the noise level then comes from --noise-sd or the fit)".to_string(),
-        ));
-    }
+    extras.folds = super::decoder_times::time_folds(path, channels.len(), &content, &axis, fetch)?;
     extras.time = Some(axis);
     Ok(DecoderFile {
         channels,
@@ -211,13 +207,13 @@ fn read_npz_decoder(path: &Path) -> Result<DecoderFile, InputError> {
             };
         let fetch = |name: &str| get(name).map(|a| numbers(name, a)).transpose();
         return with_time_axis(path, channels, numbers("times", t)?, &fetch, &|k| {
-            extras_from_npz(path, &arrays, n, k, None)
+            extras_from_npz(path, &arrays, n, k, None, false)
         });
     }
     if let Some(p) = get("patterns") {
         let (values, rows, k) = matrix_of(path, "entry patterns", p)?;
         check_rows(path, "patterns", rows, n)?;
-        let extras = extras_from_npz(path, &arrays, n, k, None)?;
+        let extras = extras_from_npz(path, &arrays, n, k, None, true)?;
         return Ok(DecoderFile {
             channels,
             k,
@@ -235,7 +231,7 @@ fn read_npz_decoder(path: &Path) -> Result<DecoderFile, InputError> {
     check_rows(path, "weights", rows, n)?;
     let (covariance, cr, cc) = matrix_of(path, "entry covariance", c)?;
     check_square(path, cr, cc, n)?;
-    let extras = extras_from_npz(path, &arrays, n, k, Some(&covariance))?;
+    let extras = extras_from_npz(path, &arrays, n, k, Some(&covariance), true)?;
     Ok(DecoderFile {
         channels,
         k,
@@ -315,12 +311,12 @@ pub fn decoder_from_store(store: &Store, path: &Path) -> Result<DecoderFile, Inp
         };
         let times = fetch("times")?.unwrap_or_default();
         return with_time_axis(path, channels, times, &fetch, &|k| {
-            extras_from_store(path, store, n, k, None)
+            extras_from_store(path, store, n, k, None, false)
         });
     }
     if store.contains(&name("patterns")) {
         let (values, _, k) = store.f64_matrix_or_vector(path, &name("patterns"), n)?;
-        let extras = extras_from_store(path, store, n, k, None)?;
+        let extras = extras_from_store(path, store, n, k, None, true)?;
         return Ok(DecoderFile {
             channels,
             k,
@@ -336,7 +332,7 @@ pub fn decoder_from_store(store: &Store, path: &Path) -> Result<DecoderFile, Inp
     }
     let (weights, _, k) = store.f64_matrix_or_vector(path, &name("weights"), n)?;
     let (covariance, _, _) = store.f64_matrix(path, &name("covariance"), Some(n), Some(n))?;
-    let extras = extras_from_store(path, store, n, k, Some(&covariance))?;
+    let extras = extras_from_store(path, store, n, k, Some(&covariance), true)?;
     Ok(DecoderFile {
         channels,
         k,

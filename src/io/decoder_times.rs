@@ -85,6 +85,141 @@ fn read_times(path: &Path, (values, shape): Array) -> Result<Vec<f64>, InputErro
     Ok(values)
 }
 
+/// A damaged file can declare more elements than it holds: every array's
+/// length is checked against its shape before anything indexes it.
+fn whole(path: &Path, name: &str, (values, shape): Array) -> Result<Array, InputError> {
+    if shape.iter().try_fold(1usize, |n, &d| n.checked_mul(d)) != Some(values.len()) {
+        return Err(content_error(
+            path,
+            format!(
+                "entry {name} declares shape {shape:?} but holds {} values",
+                values.len()
+            ),
+        ));
+    }
+    Ok((values, shape))
+}
+
+/// The fold decoders of a decoder with a time axis (`content`, read by
+/// [`time_resolved`]), or `None` when the file has no `folds`: `folds` holds
+/// n_folds (at least 2) decoders laid out like the main `patterns` or
+/// `weights` (n_folds × n_ch × n_times, or n_folds × n_times × n_ch × k),
+/// of the same kind (patterns or weights); weight folds take their
+/// covariances from `fold_covariances` (n_folds × the main covariance's
+/// shape, or n_folds × n_ch × n_ch for decoders per time point: one shared
+/// per fold), else the main covariance. Each fold becomes the same columns
+/// as the main decoder.
+pub(crate) fn time_folds(
+    path: &Path,
+    n_ch: usize,
+    content: &DecoderContent,
+    axis: &TimeAxis,
+    fetch: &dyn Fn(&str) -> Result<Option<Array>, InputError>,
+) -> Result<Option<Vec<DecoderContent>>, InputError> {
+    let fetch = |name: &str| -> Result<Option<Array>, InputError> {
+        fetch(name)?.map(|a| whole(path, name, a)).transpose()
+    };
+    let Some((values, shape)) = fetch("folds")? else {
+        if fetch("fold_covariances")?.is_some() {
+            return Err(content_error(
+                path,
+                "has fold_covariances but no folds; expected folds beside them".to_string(),
+            ));
+        }
+        return Ok(None);
+    };
+    let n_t = axis.times.len();
+    let k = axis.n_components;
+    let one: Vec<usize> = match axis.layout {
+        TimeLayout::SpaceTime => vec![n_ch, n_t],
+        TimeLayout::PerTime => vec![n_t, n_ch, k],
+    };
+    let is_patterns = matches!(content, DecoderContent::Patterns(_));
+    let kind = if is_patterns { "patterns" } else { "weights" };
+    let n_folds = shape.first().copied().unwrap_or(0);
+    if n_folds < 2 || shape[1..] != one[..] {
+        return Err(content_error(
+            path,
+            format!(
+                "entry folds has shape {shape:?}; expected n_folds x {} (at least 2 folds, each laid out like {kind})",
+                one.iter().map(usize::to_string).collect::<Vec<_>>().join(" x ")
+            ),
+        ));
+    }
+    let per: usize = one.iter().product();
+    let fold = |f: usize| values[f * per..(f + 1) * per].to_vec();
+    let covariances = fetch("fold_covariances")?;
+    if is_patterns && covariances.is_some() {
+        return Err(content_error(
+            path,
+            "has fold_covariances but its folds are patterns; fold covariances go with weight folds"
+                .to_string(),
+        ));
+    }
+    // Each fold's covariance: (values, shared) for a decoder per time point.
+    let fold_covariance = |f: usize| -> Result<Option<(Vec<f64>, bool)>, InputError> {
+        let Some((cv, cshape)) = &covariances else {
+            return Ok(None);
+        };
+        let main: Vec<usize> = match content {
+            DecoderContent::SpaceTimeWeights { .. } => vec![n_ch * n_t, n_ch * n_t],
+            DecoderContent::PerTimeWeights { shared: true, .. } => vec![n_ch, n_ch],
+            _ => vec![n_t, n_ch, n_ch],
+        };
+        let shared_per_fold =
+            matches!(content, DecoderContent::PerTimeWeights { .. }) && cshape.len() == 3;
+        let ok = cshape.first() == Some(&n_folds)
+            && (cshape[1..] == main[..] || (shared_per_fold && cshape[1..] == [n_ch, n_ch]));
+        if !ok {
+            return Err(content_error(
+                path,
+                format!(
+                    "entry fold_covariances has shape {cshape:?}; expected {n_folds} x {} (one covariance per fold, laid out like covariance)",
+                    main.iter().map(usize::to_string).collect::<Vec<_>>().join(" x ")
+                ),
+            ));
+        }
+        let m: usize = cshape[1..].iter().product();
+        Ok(Some((cv[f * m..(f + 1) * m].to_vec(), cshape.len() == 3)))
+    };
+    let mut folds = Vec::with_capacity(n_folds);
+    for f in 0..n_folds {
+        folds.push(match content {
+            DecoderContent::Patterns(_) => DecoderContent::Patterns(match axis.layout {
+                TimeLayout::SpaceTime => fold(f),
+                TimeLayout::PerTime => per_time_to_columns(&fold(f), n_t, n_ch, k),
+            }),
+            DecoderContent::SpaceTimeWeights { covariance, .. } => {
+                DecoderContent::SpaceTimeWeights {
+                    weights: fold(f),
+                    covariance: fold_covariance(f)?.map_or_else(|| covariance.clone(), |c| c.0),
+                }
+            }
+            DecoderContent::PerTimeWeights {
+                covariances: main,
+                shared: main_shared,
+                ..
+            } => {
+                let (covariances, shared) =
+                    fold_covariance(f)?.unwrap_or_else(|| (main.clone(), *main_shared));
+                DecoderContent::PerTimeWeights {
+                    weights: fold(f),
+                    covariances,
+                    n_times: n_t,
+                    shared,
+                }
+            }
+            DecoderContent::Weights { .. } => {
+                return Err(content_error(
+                    path,
+                    "has times but weights without a time axis".to_string(),
+                ))
+            }
+        });
+    }
+    Ok(Some(folds))
+}
+
 /// n_times × n_ch × k (row-major) as n_ch × (k · n_times), column c · n_times + t.
 pub fn per_time_to_columns(values: &[f64], n_t: usize, n_ch: usize, k: usize) -> Vec<f64> {
     let mut out = vec![0.0; values.len()];
@@ -107,20 +242,7 @@ pub(crate) fn time_resolved(
     times: Array,
     fetch: &dyn Fn(&str) -> Result<Option<Array>, InputError>,
 ) -> Result<(usize, DecoderContent, TimeAxis), InputError> {
-    // A damaged file can declare more elements than it holds: every array's
-    // length is checked against its shape before anything indexes it.
-    let whole = |name: &str, (values, shape): Array| -> Result<Array, InputError> {
-        if shape.iter().try_fold(1usize, |n, &d| n.checked_mul(d)) != Some(values.len()) {
-            return Err(content_error(
-                path,
-                format!(
-                    "entry {name} declares shape {shape:?} but holds {} values",
-                    values.len()
-                ),
-            ));
-        }
-        Ok((values, shape))
-    };
+    let whole = |name: &str, a: Array| whole(path, name, a);
     let fetch = |name: &str| -> Result<Option<Array>, InputError> {
         fetch(name)?.map(|a| whole(name, a)).transpose()
     };

@@ -113,6 +113,77 @@ fn support_and_localisation(dir: &Path, truth: &serde_json::Value) -> (f64, f64)
     (mean(&jaccard), mean(&distance))
 }
 
+/// The sliding decoder with its cross-validation folds: the noise level of
+/// every time point comes from the folds (the grouped jackknife of
+/// docs/time_resolved.md), and the generators' regions still lead with
+/// onset and offset within 50 ms; folds of the wrong shape exit 2 naming
+/// the file and the field, leaving no output.
+fn folds_give_the_noise_level(dir: &Path, truth: &serde_json::Value) {
+    let run = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "sliding_folds.npz",
+            "--sources",
+            "template-5k",
+            "--montage",
+            "10-20",
+            "--resamples",
+            "20",
+            "--no-report",
+            "--out",
+            "sliding_folds",
+        ],
+        dir,
+    );
+    assert!(
+        run.status.success(),
+        "attribute sliding_folds.npz: {}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let summary = std::fs::read_to_string(dir.join("sliding_folds/summary.json")).expect("summary");
+    assert!(
+        summary.contains("from 5 fold decoders"),
+        "the noise level does not come from the folds: {summary}"
+    );
+    let ranges = csv_rows(&dir.join("sliding_folds/time_ranges.csv"));
+    for g in truth["generators"].as_array().expect("generators") {
+        let region = g["region"].as_str().expect("region");
+        let row = ranges
+            .iter()
+            .find(|r| r["region"] == region)
+            .unwrap_or_else(|| panic!("folds: {region} is not among the leading regions"));
+        for key in ["onset_s", "offset_s"] {
+            let (got, want) = (number(row, key), g[key].as_f64().expect("time"));
+            assert!(
+                (got - want).abs() <= TIME_TOLERANCE + 1e-9,
+                "folds: {region} {key} {got} s, the generator's {want} s"
+            );
+        }
+    }
+    let bad = patchwise(
+        &[
+            "attribute",
+            "--decoder",
+            "sliding_bad_folds.npz",
+            "--sources",
+            "template-5k",
+            "--montage",
+            "10-20",
+            "--out",
+            "bad_folds",
+        ],
+        dir,
+    );
+    let err = String::from_utf8_lossy(&bad.stderr);
+    assert_eq!(bad.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains("sliding_bad_folds.npz") && err.contains("entry folds"),
+        "{err}"
+    );
+    assert!(!dir.join("bad_folds").exists(), "no output for a bad file");
+}
+
 #[test]
 #[cfg_attr(
     no_reference_python,
@@ -219,6 +290,9 @@ fn event_related_decoders_name_each_generator_in_its_time_range() {
                     row["region"]
                 );
             }
+        }
+        if decoder == "sliding" {
+            folds_give_the_noise_level(&dir, &truth);
         }
         let ((jw, dw), (ja, da)) = (scores[0], scores[1]);
         eprintln!(

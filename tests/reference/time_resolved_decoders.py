@@ -19,6 +19,11 @@ Writes into OUT:
     sliding.npz      channels, times, weights (n_times x n_ch x 1), covariance
                      (n_times x n_ch x n_ch): one shrinkage LDA per time point
                      on its channels.
+    sliding_folds.npz  the sliding decoder with folds (5 x n_times x n_ch x 1:
+                     the LDA per time point of each cross-validation fold)
+                     and fold_covariances (5 x n_times x n_ch x n_ch).
+    sliding_bad_folds.npz  the same with folds of the wrong shape
+                     (5 x n_times x n_ch: no component axis).
     truth.json       each generator's region (the region with the largest
                      share of its field, share_r = <G x_r, G x>/||G x||^2),
                      seed position (mm), and the time range it is active
@@ -48,6 +53,7 @@ SENSOR_NOISE_DB = -10.0
 SNR_DB = 20.0
 TIMES = np.round(np.arange(0.0, 0.5001, 0.01), 6)
 COURSES = [(0.100, 0.100), (0.300, 0.100)]  # (onset, duration) in s
+FOLDS = 5
 
 
 def strings(ds):
@@ -132,6 +138,23 @@ def main(lf_path, out):
         weights[t, :, 0] = LinearDiscriminantAnalysis(solver="lsqr", shrinkage="auto").fit(xt, y).coef_[0]
         covs[t] = np.cov(xt, rowvar=False)
     np.savez(f"{out}/sliding.npz", channels=np.array(labels), times=TIMES, weights=weights, covariance=covs)
+    # The same sliding decoder with its cross-validation folds: fold f leaves
+    # out every FOLDS-th trial from f (each class in every fold), its weights
+    # and covariances laid out like the main ones with the fold in front.
+    fold_weights = np.empty((FOLDS, n_t, n_ch, 1))
+    fold_covs = np.empty((FOLDS, n_t, n_ch, n_ch))
+    for f in range(FOLDS):
+        train = np.arange(N_TRIALS) % FOLDS != f
+        for t in range(n_t):
+            xt = x[train, :, t]
+            lda = LinearDiscriminantAnalysis(solver="lsqr", shrinkage="auto").fit(xt, y[train])
+            fold_weights[f, t, :, 0] = lda.coef_[0]
+            fold_covs[f, t] = np.cov(xt, rowvar=False)
+    np.savez(f"{out}/sliding_folds.npz", channels=np.array(labels), times=TIMES, weights=weights,
+             covariance=covs, folds=fold_weights, fold_covariances=fold_covs)
+    # A malformed one: folds without the component axis.
+    np.savez(f"{out}/sliding_bad_folds.npz", channels=np.array(labels), times=TIMES,
+             weights=weights, covariance=covs, folds=fold_weights[..., 0])
     truth = {
         "generators": [
             {
