@@ -467,6 +467,20 @@ pub fn fit_patterns(
     })
 }
 
+/// The nonzero entries (row, value) of each column of the row-major
+/// matrix `coef` with `k` columns, in one pass over its rows.
+fn sparse_columns(coef: &[f64], k: usize) -> Vec<Vec<(usize, f64)>> {
+    let mut columns = vec![Vec::new(); k];
+    for (j, row) in coef.chunks_exact(k.max(1)).enumerate() {
+        for (column, &v) in columns.iter_mut().zip(row) {
+            if v != 0.0 {
+                column.push((j, v));
+            }
+        }
+    }
+    columns
+}
+
 #[allow(clippy::too_many_arguments)]
 fn resample(
     problem: &Problem<'_>,
@@ -604,11 +618,18 @@ fn resample(
         } else {
             (&perturbed[m], problem.perturbed[m].as_slice())
         };
-        // Only the region shares are needed: no source map, no peak.
+        // Only the region shares are needed: no source map, no peak. The
+        // columns are read in one pass over the rows and their shares run in
+        // parallel (a decoder with a time axis has a column per time point,
+        // and a block of resamples may hold a single one).
         let fitted = fits.fit(model, &y_stars, |coef| -> Vec<Vec<f64>> {
-            (0..k)
-                .map(|c| {
-                    let x: Vec<f64> = (0..n_atoms).map(|j| coef[j * k + c]).collect();
+            sparse_columns(coef, k)
+                .into_par_iter()
+                .map(|nonzero| {
+                    let mut x = vec![0.0; n_atoms];
+                    for (j, v) in nonzero {
+                        x[j] = v;
+                    }
                     component_shares(atoms, n_ch, problem.group, &x, &mass).region_share
                 })
                 .collect()

@@ -108,6 +108,11 @@ impl ResampleFits<'_> {
             fit_passes: 0.0,
             n_fits: 0,
         };
+        // Coefficient matrices (n_atoms × k each) reused from block to
+        // block: with many columns (a decoder with a time axis) each is tens
+        // of megabytes, and a fresh one per resample costs more in page
+        // faults than the fill.
+        let mut spare: Vec<Vec<f64>> = Vec::new();
         for chunk in y_stars.chunks(per_call) {
             let ys: Vec<Vec<f64>> = chunk
                 .iter()
@@ -137,7 +142,9 @@ impl ResampleFits<'_> {
             let mut per_resample = fits.fits.into_iter();
             let mut coefficients = Vec::with_capacity(chunk.len());
             for _ in chunk {
-                let mut coef = vec![0.0; n_atoms * k];
+                let mut coef = spare.pop().unwrap_or_default();
+                coef.clear();
+                coef.resize(n_atoms * k, 0.0);
                 for cols in self.blocks {
                     let Some((mut x, info)) = per_resample.next() else {
                         return Err(PipelineError::Inconsistent(
@@ -159,6 +166,7 @@ impl ResampleFits<'_> {
             }
             out.kept
                 .extend(coefficients.par_iter().map(|c| keep(c)).collect::<Vec<T>>());
+            spare.extend(coefficients);
         }
         Ok(out)
     }
