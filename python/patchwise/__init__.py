@@ -486,7 +486,11 @@ def attribute(
     ``patterns``/``weights`` n_times x n_ch x k with one shared covariance
     (n_ch x n_ch) or one per time point (n_times x n_ch x n_ch). The
     result then has :attr:`Result.times`, :attr:`Result.share_time` and
-    :meth:`Result.time_ranges`.
+    :meth:`Result.time_ranges`. Its ``folds`` are n_folds x the decoder's
+    layout (n_folds x n_ch x n_times, or n_folds x n_times x n_ch x k) with
+    ``fold_covariances`` n_folds x the covariance's layout (or n_folds x
+    n_ch x n_ch for decoders per time point): each time point then gets its
+    noise level from the folds.
 
     ``montage`` is a name (``"10-20"``,
     ``"10-10"``, ``"10-5"``), an electrodes file, or an (n, 3) array of
@@ -526,8 +530,10 @@ def attribute(
         patterns=_float_array("patterns", patterns, (1, 2, 3) if times is not None else (1, 2)),
         weights=_float_array("weights", weights, (1, 2, 3) if times is not None else (1, 2)),
         covariance=_float_array("covariance", covariance, (2, 3) if times is not None else (2,)),
-        folds=_float_array("folds", folds, (3,)),
-        fold_covariances=_float_array("fold_covariances", fold_covariances, (3,)),
+        folds=_float_array("folds", folds, (3, 4) if times is not None else (3,)),
+        fold_covariances=_float_array(
+            "fold_covariances", fold_covariances, (3, 4) if times is not None else (3,)
+        ),
         times=_float_array("times", times, (1,)),
     )
     if decoder is not None:

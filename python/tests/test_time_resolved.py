@@ -134,6 +134,38 @@ def test_same_result_h5_as_the_command_line(sliding, result, cache, tmp_path):
     assert_same_datasets(h5_datasets(out / "result.h5"), h5_datasets(saved / "result.h5"))
 
 
+def test_fold_decoders_give_the_command_lines_result_h5(sliding, cache, tmp_path):
+    """Fold decoders with a time axis from Python (n_folds x n_times x n_ch x k
+    with one covariance per fold) give the command line's result.h5 on the
+    same arrays saved as a file (identical to 1e-12 relative, the project's
+    rule for same inputs), and the noise level comes from the folds."""
+    binary = os.environ.get("PATCHWISE_BIN")
+    if not binary:
+        pytest.skip("PATCHWISE_BIN (the command line) not set")
+    weights, covariances = sliding
+    rng = np.random.default_rng(5)
+    # Invented folds: the decoder with 5 % multiplicative jitter per fold.
+    folds = weights[None] * (1.0 + 0.05 * rng.standard_normal((4,) + weights.shape))
+    fold_covariances = np.repeat(covariances.mean(axis=0)[None], 4, axis=0)
+    r = patchwise.attribute(weights=weights, covariance=covariances, channels=CHANNELS,
+                            times=TIMES, folds=folds, fold_covariances=fold_covariances,
+                            cache=cache, **SMALL)
+    path = tmp_path / "sliding_folds.npz"
+    np.savez(path, channels=np.array(CHANNELS), weights=weights, covariance=covariances,
+             times=TIMES, folds=folds, fold_covariances=fold_covariances)
+    out = tmp_path / "cli"
+    done = subprocess.run(small_cli_args(binary, path, out, cache), capture_output=True,
+                          text=True)
+    assert done.returncode == 0, done.stderr
+    assert "fold" in done.stdout + done.stderr
+    saved = r.save(tmp_path / "py")
+    assert_same_datasets(h5_datasets(out / "result.h5"), h5_datasets(saved / "result.h5"))
+    with pytest.raises(ValueError, match="folds"):
+        patchwise.attribute(weights=weights, covariance=covariances, channels=CHANNELS,
+                            times=TIMES, folds=folds[:, :-1], fold_covariances=fold_covariances,
+                            cache=cache, **SMALL)
+
+
 def test_time_arrays_follow_the_documented_layout(result):
     n_t = len(TIMES)
     np.testing.assert_array_equal(result.times, TIMES)
