@@ -5,7 +5,7 @@
 
 /// Number of independent partial sums in [`dot`]; lets the compiler vectorise
 /// while keeping one fixed summation order.
-const LANES: usize = 8;
+pub(crate) const LANES: usize = 8;
 
 /// Dot product with eight interleaved partial sums combined in a fixed tree.
 #[inline]
