@@ -27,21 +27,6 @@ pub(crate) fn dot(a: &[f64], b: &[f64]) -> f64 {
     ((acc[0] + acc[4]) + (acc[1] + acc[5])) + ((acc[2] + acc[6]) + (acc[3] + acc[7])) + tail
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    // The one-value shortcut of `norm_sq` equals `dot` bit for bit, for
-    // signed zeros, subnormals, overflow and ordinary values alike
-    // (floating-point identity, common practice, no source).
-    #[test]
-    fn norm_of_one_value_equals_the_lane_sum() {
-        for x in [0.0, -0.0, 1e-310, -3.5, 0.1, 1e200, f64::MAX, -f64::MIN_POSITIVE] {
-            assert_eq!(norm_sq(&[x]).to_bits(), dot(&[x], &[x]).to_bits(), "{x}");
-        }
-    }
-}
-
 /// Squared Euclidean norm, same summation order as [`dot`].
 ///
 /// One value (a row of a single-column fit, summed once per atom in every
@@ -61,5 +46,29 @@ pub(crate) fn axpy(alpha: f64, x: &[f64], y: &mut [f64]) {
     debug_assert_eq!(x.len(), y.len());
     for (yi, xi) in y.iter_mut().zip(x) {
         *yi += alpha * xi;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // The one-value shortcut of `norm_sq` equals `dot` bit for bit, for
+    // signed zeros, subnormals, overflow and ordinary values alike
+    // (floating-point identity, common practice, no source).
+    #[test]
+    fn norm_of_one_value_equals_the_lane_sum() {
+        for x in [
+            0.0,
+            -0.0,
+            1e-310,
+            -3.5,
+            0.1,
+            1e200,
+            f64::MAX,
+            -f64::MIN_POSITIVE,
+        ] {
+            assert_eq!(norm_sq(&[x]).to_bits(), dot(&[x], &[x]).to_bits(), "{x}");
+        }
     }
 }
