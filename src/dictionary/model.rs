@@ -11,7 +11,7 @@ use super::{
 };
 use crate::forward::LeadField;
 use crate::montage::{Montage, MontageError};
-use crate::numeric::rescale_to_unit_norm;
+use crate::numeric::{rescale_all_to_unit_norm, rescale_to_unit_norm};
 use crate::patterns::{PatternsError, Whitener};
 
 /// A patch dictionary: atoms (scalp fields of cortical patches) with their
@@ -169,17 +169,16 @@ impl PatchDictionary {
     /// rescale removed; 1 where the atom's norm was 0), so fits can be
     /// mapped back to the unwhitened units.
     pub fn whiten(&mut self, whitener: &Whitener) -> Result<Vec<f64>, PatternsError> {
-        let (n, m) = (self.n_channels, self.n_atoms);
+        let m = self.n_atoms;
         let mut atoms = whitener.apply(&self.atoms, m)?;
         let mut norms = self.atom_norms.clone().unwrap_or_else(|| vec![1.0; m]);
-        let mut scales = vec![1.0; m];
-        for (j, norm) in norms.iter_mut().enumerate() {
-            let before = *norm;
-            rescale_to_unit_norm(&mut atoms, n, m, j, norm);
-            if before > 0.0 {
-                scales[j] = *norm / before;
-            }
-        }
+        let before = norms.clone();
+        rescale_all_to_unit_norm(&mut atoms, m, &mut norms);
+        let scales = norms
+            .iter()
+            .zip(&before)
+            .map(|(&after, &b)| if b > 0.0 { after / b } else { 1.0 })
+            .collect();
         self.atoms = atoms;
         self.atom_norms = Some(norms);
         Ok(scales)

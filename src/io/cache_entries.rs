@@ -18,7 +18,7 @@ use std::path::{Path, PathBuf};
 use std::time::SystemTime;
 
 /// The kinds of cache entry patchwise writes.
-pub const ENTRY_KINDS: [&str; 4] = ["leadfield", "dictionary", "kernel", "bem"];
+pub const ENTRY_KINDS: [&str; 5] = ["leadfield", "dictionary", "atoms", "kernel", "bem"];
 
 /// One cache entry.
 #[derive(Clone, Debug, PartialEq)]

@@ -4,6 +4,7 @@
 //! (millimetres where a field says `_mm`) and the library's SI types.
 
 pub mod atomic;
+pub mod atoms_file;
 pub mod bem_file;
 pub mod cache;
 pub mod cache_entries;

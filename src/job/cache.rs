@@ -34,6 +34,9 @@ pub struct ForwardModel {
     pub orientation: Orientation,
     /// The cache folder.
     pub cache: PathBuf,
+    /// The cache key of the dictionary built on this model (its profiles
+    /// make the perturbed models' atoms, cached under keys derived from it).
+    pub dictionary_hash: String,
 }
 
 /// The content hash of a lead field: labels, positions, sources, head and
@@ -151,6 +154,7 @@ pub fn dictionary_for_channels(
             head,
             orientation,
             cache: cache.to_path_buf(),
+            dictionary_hash: d_hash,
         },
     ))
 }

@@ -178,9 +178,10 @@ pub struct CleanParams {
     /// Remove only entries last used longer ago than this (30d, 12h, 90m).
     #[arg(long, value_name = "AGE", value_parser = parse_age)]
     pub older_than: Option<Duration>,
-    /// Remove only entries of this kind (leadfield, dictionary, kernel, bem: a boundary-element
-    /// head's factorised system); may be repeated.
-    #[arg(long, value_name = "KIND", value_parser = ["leadfield", "dictionary", "kernel", "bem"])]
+    /// Remove only entries of this kind (leadfield, dictionary, atoms: a dictionary's atoms
+    /// under a perturbed head of the resamples, kernel, bem: a boundary-element head's
+    /// factorised system); may be repeated.
+    #[arg(long, value_name = "KIND", value_parser = ["leadfield", "dictionary", "atoms", "kernel", "bem"])]
     pub kind: Vec<String>,
     /// Remove least recently used entries until the cache holds at most this much (2GB, 500MB, 1.5GiB).
     #[arg(long, value_name = "SIZE", value_parser = parse_size)]

@@ -1,18 +1,25 @@
 //! The fit's atoms under perturbed forward models, for resamples that also
 //! draw the head model's uncertainty (`pipeline::perturb`). Each perturbed
 //! model is an ordinary lead field of another head, cached like any lead
-//! field by the content hash of its montage, sources and head.
+//! field by the content hash of its montage, sources and head; its atoms
+//! (before whitening) are cached too, keyed by the dictionary's key and the
+//! perturbed lead field's, so a warm run reads them instead of multiplying
+//! the profiles again (`io::atoms_file`; docs/benchmarks.md, issue 25).
 
 use super::bem_head::HeadModel;
 use super::cache::{cached_leadfield, leadfield_hash, ForwardModel};
 use super::error::{JobError, JobResult};
+use super::keyed_lock::with_entry_lock;
 use super::observer::JobObserver;
 use super::params::FitParams;
 use crate::dictionary::{
     atoms_for_channels, AtomComponent, PatchDictionary, DEFAULT_DROP_RELATIVE_NORM,
 };
+use crate::io::atoms_file::{read_atoms, write_atoms};
+use crate::io::cache::{entry_path, ContentHash};
+use crate::io::cache_entries::read_held_entry;
 use crate::montage::Montage;
-use crate::numeric::rescale_to_unit_norm;
+use crate::numeric::rescale_all_to_unit_norm;
 use crate::patterns::Whitener;
 use crate::pipeline::{perturbed_model, ForwardPerturbation};
 
@@ -62,32 +69,55 @@ pub fn perturbed_for_resamples(
             .compute("perturbing the forward model")?;
         let montage =
             Montage::new(f.montage.labels.clone(), electrodes).compute("perturbed montage")?;
-        let hash = leadfield_hash(&montage, &f.sources, &head.head_model_json(), f.orientation);
-        let plf = cached_leadfield(
-            &f.cache,
-            &hash,
-            (&montage, &f.sources, &HeadModel::Spheres(head)),
-            f.orientation,
-            observer,
-        )?;
-        let (mut atoms, _) = atoms_for_channels(
-            profile,
-            &component,
-            &plf.gain,
-            plf.gain_xyz.as_deref(),
-            n,
-            true,
-            DEFAULT_DROP_RELATIVE_NORM,
-        )
-        .compute("atoms of a perturbed forward model")?;
+        let lf_hash = leadfield_hash(&montage, &f.sources, &head.head_model_json(), f.orientation);
+        // The atoms depend on the dictionary's profiles (its key) and the
+        // perturbed lead field (its key) only; the whitening, which depends
+        // on the decoder, comes after.
+        let mut key = ContentHash::new("atoms-v1");
+        key.str(&f.dictionary_hash)
+            .str(&lf_hash)
+            .u64s(&[n as u64, m as u64])
+            .f64s(&[DEFAULT_DROP_RELATIVE_NORM]);
+        let path = entry_path(&f.cache, "atoms", &key.hex());
+        let mut atoms = with_entry_lock(&path, || {
+            match read_held_entry(&path, |p| read_atoms(p, n, m)) {
+                Some(Ok(atoms)) => return Ok(atoms),
+                Some(Err(e)) => observer.note(&format!(
+                    "note: the cached perturbed atoms are damaged ({e}); rebuilding them"
+                )),
+                None => {}
+            }
+            let plf = cached_leadfield(
+                &f.cache,
+                &lf_hash,
+                (&montage, &f.sources, &HeadModel::Spheres(head)),
+                f.orientation,
+                observer,
+            )?;
+            let (atoms, _) = atoms_for_channels(
+                profile,
+                &component,
+                &plf.gain,
+                plf.gain_xyz.as_deref(),
+                n,
+                true,
+                DEFAULT_DROP_RELATIVE_NORM,
+            )
+            .compute("atoms of a perturbed forward model")?;
+            // A cache that cannot be written costs the next run the product.
+            if let Err(e) = write_atoms(&path, n, m, &atoms) {
+                observer.note(&format!(
+                    "note: could not cache the perturbed atoms in {}: {e}",
+                    f.cache.display()
+                ));
+            }
+            Ok::<_, JobError>(atoms)
+        })?;
         if let Some(w) = whitener {
             atoms = w
                 .apply(&atoms, m)
                 .compute("whitening the perturbed atoms")?;
-            let mut unused = 1.0;
-            for j in 0..m {
-                rescale_to_unit_norm(&mut atoms, n, m, j, &mut unused);
-            }
+            rescale_all_to_unit_norm(&mut atoms, m, &mut vec![1.0; m]);
         }
         models.push(atoms);
     }

@@ -27,7 +27,7 @@ mod ranks;
 mod reference;
 mod rng;
 
-pub use columns::rescale_to_unit_norm;
+pub use columns::{rescale_all_to_unit_norm, rescale_to_unit_norm};
 pub(crate) use eigen::symmetric_eigen;
 pub use progress::{Progress, Quiet};
 pub use ranks::average_ranks;

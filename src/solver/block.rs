@@ -19,7 +19,7 @@ use rayon::prelude::*;
 use super::error::{check_len, SolverError};
 use super::groups::Groups;
 use super::observer::NoObserver;
-use super::operator::{DenseDictionary, STACKED_CHUNK};
+use super::operator::{DenseDictionary, StackedOut};
 use super::outer::Outer;
 use super::params::{Info, Lambda, ValidParams};
 use super::problem::{Prepared, Targets};
@@ -92,22 +92,26 @@ pub fn fit_warm_block(
         .flat_map(|t| t.cols.iter().copied())
         .collect();
     let total: usize = targets.iter().map(|t| t.k).sum();
-    let corr = dict.adjoint_stacked(&stacked, total);
-    let mut stacked_passes = 1;
-    let mut offsets = Vec::with_capacity(targets.len());
+    let mut corr: Vec<Vec<f64>> = targets.iter().map(|t| vec![0.0; n_atoms * t.k]).collect();
+    let mut outs = Vec::with_capacity(targets.len());
     let mut offset = 0;
-    for t in &targets {
-        offsets.push(offset);
+    for (block, t) in corr.iter_mut().zip(&targets) {
+        outs.push(StackedOut {
+            block,
+            k: t.k,
+            offset,
+            keep: None,
+        });
         offset += t.k;
     }
-    let lambda_max: Vec<f64> = targets
+    dict.adjoint_stacked_into(&stacked, total, outs);
+    let mut stacked_passes = 1;
+    let lambda_max: Vec<f64> = corr
         .par_iter()
-        .zip(&offsets)
-        .map(|(t, &off)| {
-            let mut block = vec![0.0; n_atoms * t.k];
-            gather(&corr, total, off, t.k, None, &mut block);
+        .zip(&targets)
+        .map(|(block, t)| {
             let mut norms = vec![0.0; groups.n_groups()];
-            prep.group_frobenius(&block, t.k, &mut norms);
+            prep.group_frobenius(block, t.k, &mut norms);
             norms.iter().copied().fold(0.0, f64::max)
         })
         .collect();
@@ -146,43 +150,49 @@ pub fn fit_warm_block(
             .for_each(|(s, t)| {
                 if let Some(o) = s.outer.as_mut() {
                     o.atom_reads += o.certificate_reads(&s.x, t.k);
-                    let _ = o.cert.set_residual(dict, &t.cols, t.k, &s.x);
+                    let _ = o
+                        .cert
+                        .set_residual(dict, &t.cols, t.k, &s.x, Some(&o.kept_atoms));
                 }
             });
-        let mut live_offset = vec![usize::MAX; slots.len()];
         let mut total = 0;
         let mut stacked = Vec::new();
         for &i in &live {
-            live_offset[i] = total;
             total += targets[i].k;
             if let Some(o) = &slots[i].outer {
                 stacked.extend_from_slice(&o.cert.residual);
             }
         }
-        let corr = dict.adjoint_stacked(&stacked, total);
+        // One stacked adjoint, written straight into every live problem's
+        // correlation (its screened atoms' rows set to zero).
+        let mut outs = Vec::with_capacity(live.len());
+        let mut offset = 0;
+        for (s, t) in slots.iter_mut().zip(&targets) {
+            if let Some(o) = s.outer.as_mut() {
+                outs.push(StackedOut {
+                    block: &mut o.cert.correlation,
+                    k: t.k,
+                    offset,
+                    keep: Some(&o.atom_kept),
+                });
+                offset += t.k;
+            }
+        }
+        dict.adjoint_stacked_into(&stacked, total, outs);
         stacked_passes += 1;
         let results: Vec<(usize, Result<(), SolverError>)> = slots
             .par_iter_mut()
             .zip(&targets)
-            .zip(&live_offset)
             .enumerate()
-            .filter(|(_, ((s, _), _))| s.outer.is_some())
-            .map(|(i, ((s, t), &off))| {
+            .filter(|(_, (s, _))| s.outer.is_some())
+            .map(|(i, (s, t))| {
                 let Some(o) = s.outer.as_mut() else {
                     return (i, Ok(()));
                 };
-                gather(
-                    &corr,
-                    total,
-                    off,
-                    t.k,
-                    Some(&o.atom_kept),
-                    &mut o.cert.correlation,
-                );
                 o.cert.reduce(
                     groups.n_groups(),
                     |g| groups.atoms(g),
-                    Some(&o.screened),
+                    Some(&o.unscreened_groups),
                     &t.cols,
                     t.half_sq,
                     t.k,
@@ -226,39 +236,4 @@ pub fn fit_warm_block(
         fits,
         stacked_passes,
     })
-}
-
-/// Copies columns `off..off + k` of the product `corr` (the chunked layout
-/// of [`DenseDictionary::adjoint_stacked`], `total` columns) into the
-/// row-major `n_atoms x k` block `out`; rows of atoms not in `keep` (when
-/// given) are set to zero, as the screened adjoint does.
-fn gather(
-    corr: &[f64],
-    total: usize,
-    off: usize,
-    k: usize,
-    keep: Option<&[bool]>,
-    out: &mut [f64],
-) {
-    for (chunk, (src, dst)) in corr
-        .chunks(STACKED_CHUNK * total)
-        .zip(out.chunks_mut(STACKED_CHUNK * k))
-        .enumerate()
-    {
-        let rows = src.len() / total;
-        for c in 0..k {
-            let column = &src[(off + c) * rows..(off + c + 1) * rows];
-            for (i, &v) in column.iter().enumerate() {
-                dst[i * k + c] = v;
-            }
-        }
-        if let Some(m) = keep {
-            let j0 = chunk * STACKED_CHUNK;
-            for (i, row) in dst.chunks_exact_mut(k).enumerate() {
-                if !m[j0 + i] {
-                    row.fill(0.0);
-                }
-            }
-        }
-    }
 }

@@ -9,6 +9,15 @@
 use super::kernels::norm_sq;
 use super::operator::DenseDictionary;
 
+/// What Gap Safe screening has left of a problem: the unscreened groups and
+/// atoms (each increasing), and per atom whether it is kept.
+#[derive(Clone, Copy)]
+pub(crate) struct Unscreened<'a> {
+    pub groups: &'a [usize],
+    pub atoms: &'a [usize],
+    pub atom_kept: &'a [bool],
+}
+
 /// Workspace and result of one certificate.
 pub(crate) struct Certificate {
     /// R = Y − DX, `k` contiguous columns.
@@ -69,37 +78,38 @@ impl Certificate {
     }
 
     /// [`Self::compute`] on the problem without the groups that Gap Safe
-    /// screening has removed (`screened` per group, `atom_kept` per atom its
-    /// complement). Screening is safe, so the reduced problem has the same
-    /// solution and optimal value as the full one: a dual point feasible for
-    /// the reduced problem bounds P(X) − P* just as well, and the screened
-    /// atoms' correlations need not be computed (the sequential use of Gap
-    /// Safe rules in Ndiaye, Fercoq, Gramfort & Salmon 2017, JMLR 18(128)).
-    /// `x` must be zero on the screened groups; their `group_correlation` is 0.
+    /// screening has removed (`unscreened`: what is left). Screening is
+    /// safe, so the reduced problem has the same solution and optimal value
+    /// as the full one: a dual point feasible for the reduced problem bounds
+    /// P(X) − P* just as well, and the screened atoms' correlations need not
+    /// be computed (the sequential use of Gap Safe rules in Ndiaye, Fercoq,
+    /// Gramfort & Salmon 2017, JMLR 18(128)). `x` must be zero on the
+    /// screened groups, and their `group_correlation` is left as it is (the
+    /// caller sets it to 0 when it screens a group).
     #[allow(clippy::too_many_arguments)]
     pub fn compute_unscreened<'g>(
         &mut self,
         dict: &DenseDictionary,
         n_groups: usize,
         group_atoms: impl Fn(usize) -> &'g [usize],
-        screened: Option<(&[bool], &[bool])>,
+        unscreened: Option<Unscreened<'_>>,
         y_cols: &[f64],
         y_half_sq: f64,
         k: usize,
         lambda: f64,
         x: &[f64],
     ) {
-        let _ = self.set_residual(dict, y_cols, k, x);
-        match screened {
-            Some((_, atom_kept)) => {
-                dict.adjoint_kept_into(&self.residual, k, atom_kept, &mut self.correlation)
+        let _ = self.set_residual(dict, y_cols, k, x, unscreened.map(|u| u.atoms));
+        match unscreened {
+            Some(u) => {
+                dict.adjoint_kept_into(&self.residual, k, u.atom_kept, &mut self.correlation)
             }
             None => dict.adjoint_into(&self.residual, k, &mut self.correlation),
         }
         self.reduce(
             n_groups,
             group_atoms,
-            screened.map(|(s, _)| s),
+            unscreened.map(|u| u.groups),
             y_cols,
             y_half_sq,
             k,
@@ -108,15 +118,17 @@ impl Certificate {
         );
     }
 
-    /// R = Y − DX into `residual`; returns the number of atoms read.
+    /// R = Y − DX into `residual`, with `x` nonzero on the atoms `rows` at
+    /// most (all when `None`); returns the number of atoms read.
     pub fn set_residual(
         &mut self,
         dict: &DenseDictionary,
         y_cols: &[f64],
         k: usize,
         x: &[f64],
+        rows: Option<&[usize]>,
     ) -> usize {
-        let touched = dict.apply_into(x, k, &mut self.residual);
+        let touched = dict.apply_rows_into(x, k, rows, &mut self.residual);
         for (r, &yv) in self.residual.iter_mut().zip(y_cols) {
             *r = yv - *r;
         }
@@ -125,13 +137,14 @@ impl Certificate {
 
     /// The rest of [`Self::compute_unscreened`] once `residual` and
     /// `correlation` (Dᵀ R on the unscreened atoms) are set: group
-    /// correlations, primal, dual and gap.
+    /// correlations of the groups `visit` (increasing; all when `None`; the
+    /// others must be zero in `x` and keep their entry), primal, dual and gap.
     #[allow(clippy::too_many_arguments)]
     pub fn reduce<'g>(
         &mut self,
         n_groups: usize,
         group_atoms: impl Fn(usize) -> &'g [usize],
-        screened: Option<&[bool]>,
+        visit: Option<&[usize]>,
         y_cols: &[f64],
         y_half_sq: f64,
         k: usize,
@@ -140,11 +153,7 @@ impl Certificate {
     ) {
         let mut penalty = 0.0;
         let mut max_corr = 0.0f64;
-        for g in 0..n_groups {
-            if screened.is_some_and(|s| s[g]) {
-                self.group_correlation[g] = 0.0;
-                continue;
-            }
+        let mut one = |g: usize| {
             let (mut c2, mut x2) = (0.0, 0.0);
             for &j in group_atoms(g) {
                 c2 += norm_sq(&self.correlation[j * k..(j + 1) * k]);
@@ -154,6 +163,10 @@ impl Certificate {
             self.group_correlation[g] = c;
             max_corr = max_corr.max(c);
             penalty += x2.sqrt();
+        };
+        match visit {
+            Some(groups) => groups.iter().for_each(|&g| one(g)),
+            None => (0..n_groups).for_each(&mut one),
         }
         self.finish(y_cols, y_half_sq, lambda, penalty, max_corr);
     }

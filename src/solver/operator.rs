@@ -30,12 +30,25 @@ pub trait LinearOperator: Sync {
 /// not depend on the number of threads.
 const ATOM_CHUNK: usize = 256;
 
-/// Atoms per parallel task in [`DenseDictionary::adjoint_stacked`] (fixed, so
+/// Atoms per parallel task in [`DenseDictionary::adjoint_stacked_into`] (fixed, so
 /// the result does not depend on the number of threads).
 pub(crate) const STACKED_CHUNK: usize = 1024;
 
+/// Atoms per block of the transposition in [`DenseDictionary::from_row_major`].
+const TRANSPOSE_BLOCK: usize = 64;
+
 /// Below this many matrix entries times `k`, the adjoint runs on one thread.
 const PARALLEL_MIN_WORK: usize = 1 << 17;
+
+/// One problem's share of [`DenseDictionary::adjoint_stacked_into`]: its
+/// row-major `n_atoms x k` block, its `k`, the offset of its columns among
+/// the stacked ones, and the atoms it keeps (all when `None`).
+pub(crate) struct StackedOut<'a> {
+    pub block: &'a mut [f64],
+    pub k: usize,
+    pub offset: usize,
+    pub keep: Option<&'a [bool]>,
+}
 
 /// A dense dictionary: `n_ch x n_atoms`, stored column-major so that atom `j`
 /// is the contiguous slice `atoms[j * n_ch..(j + 1) * n_ch]`.
@@ -67,10 +80,16 @@ impl DenseDictionary {
         )?;
         check_finite_row_major("dictionary atoms", values, n_atoms)?;
         let mut atoms = vec![0.0; n_channels * n_atoms];
-        // One transpose here lets every later pass read each atom contiguously.
-        for (c, row) in values.chunks_exact(n_atoms).enumerate() {
-            for (j, &v) in row.iter().enumerate() {
-                atoms[j * n_channels + c] = v;
+        // One transpose here lets every later pass read each atom
+        // contiguously. It runs over blocks of atoms whose columns stay in
+        // the cache while every channel's row segment is spread over them.
+        for (block, out) in atoms.chunks_mut(TRANSPOSE_BLOCK * n_channels).enumerate() {
+            let j0 = block * TRANSPOSE_BLOCK;
+            let width = out.len() / n_channels;
+            for (c, row) in values.chunks_exact(n_atoms).enumerate() {
+                for (jj, &v) in row[j0..j0 + width].iter().enumerate() {
+                    out[jj * n_channels + c] = v;
+                }
             }
         }
         Ok(Self::assemble(n_channels, n_atoms, atoms))
@@ -220,44 +239,105 @@ impl DenseDictionary {
     }
 
     /// `Dᵀ [R_1 … R_b]` for `total` stacked columns (`cols`, each `n_ch`
-    /// contiguous values), in chunks of [`STACKED_CHUNK`] atoms, each chunk
-    /// column-major (`rows x total`, the last chunk shorter): one read of the
-    /// dictionary for all columns, as a matrix product (faer) per fixed
-    /// chunk of atoms, sequential within a chunk, so the numbers do not
-    /// depend on the number of threads. The sums run in faer's order, not
-    /// [`super::kernels::dot`]'s, so they may differ from
+    /// contiguous values), written straight into each problem's own
+    /// row-major `n_atoms x k` block: `outs` holds, per problem, its block,
+    /// its `k`, the offset of its columns among the stacked ones, and the
+    /// atoms to keep (rows of the others are set to zero, as
+    /// [`Self::adjoint_kept_into`] does). One read of the dictionary for all
+    /// columns, as a matrix product (faer) per fixed chunk of
+    /// [`STACKED_CHUNK`] atoms, sequential within a chunk, so the numbers do
+    /// not depend on the number of threads; the `n_atoms x total` product is
+    /// never held whole (one chunk's at a time per thread). The sums run in
+    /// faer's order, not [`super::kernels::dot`]'s, so they may differ from
     /// [`Self::adjoint_into`] in the last bits.
-    pub(crate) fn adjoint_stacked(&self, cols: &[f64], total: usize) -> Vec<f64> {
+    pub(crate) fn adjoint_stacked_into(
+        &self,
+        cols: &[f64],
+        total: usize,
+        outs: Vec<StackedOut<'_>>,
+    ) {
         use faer::linalg::matmul::matmul;
         use faer::{Accum, MatMut, MatRef, Par};
         let n = self.n_channels;
-        let mut out = vec![0.0; self.n_atoms * total];
         if total == 0 {
-            return out;
+            return;
+        }
+        let n_chunks = self.n_atoms.div_ceil(STACKED_CHUNK);
+        // Per chunk of atoms, the pieces of every problem's block it fills.
+        let mut pieces: Vec<Vec<StackedOut<'_>>> = (0..n_chunks)
+            .map(|_| Vec::with_capacity(outs.len()))
+            .collect();
+        for out in outs {
+            for (chunk, piece) in out.block.chunks_mut(STACKED_CHUNK * out.k).enumerate() {
+                pieces[chunk].push(StackedOut {
+                    block: piece,
+                    k: out.k,
+                    offset: out.offset,
+                    keep: out.keep,
+                });
+            }
         }
         let rhs = MatRef::from_column_major_slice(cols, n, total);
-        out.par_chunks_mut(STACKED_CHUNK * total)
-            .enumerate()
-            .for_each(|(chunk, out_chunk)| {
-                let rows = out_chunk.len() / total;
+        pieces.into_par_iter().enumerate().for_each_init(
+            Vec::new,
+            |product: &mut Vec<f64>, (chunk, targets)| {
                 let j0 = chunk * STACKED_CHUNK;
+                let rows = STACKED_CHUNK.min(self.n_atoms - j0);
+                product.clear();
+                product.resize(rows * total, 0.0);
                 let atoms =
                     MatRef::from_column_major_slice(&self.atoms[j0 * n..(j0 + rows) * n], n, rows);
-                let dst = MatMut::from_column_major_slice_mut(out_chunk, rows, total);
+                let dst = MatMut::from_column_major_slice_mut(product, rows, total);
                 matmul(dst, Accum::Replace, atoms.transpose(), rhs, 1.0, Par::Seq);
-            });
-        out
+                for StackedOut {
+                    block: piece,
+                    k,
+                    offset,
+                    keep,
+                } in targets
+                {
+                    for c in 0..k {
+                        let column = &product[(offset + c) * rows..(offset + c + 1) * rows];
+                        for (i, &v) in column.iter().enumerate() {
+                            piece[i * k + c] = v;
+                        }
+                    }
+                    if let Some(m) = keep {
+                        for (i, row) in piece.chunks_exact_mut(k).enumerate() {
+                            if !m[j0 + i] {
+                                row.fill(0.0);
+                            }
+                        }
+                    }
+                }
+            },
+        );
     }
 
     /// `out = D x` without shape checks; skips zero rows of `x`. Returns the
     /// number of atoms read (the nonzero rows).
     pub(crate) fn apply_into(&self, x: &[f64], k: usize, out: &mut [f64]) -> usize {
+        self.apply_rows_into(x, k, None, out)
+    }
+
+    /// [`Self::apply_into`] looking only at the rows `rows` of `x`
+    /// (increasing; all when `None`): the other rows must be zero. The
+    /// nonzero rows are added in the same order either way, so the result is
+    /// the same bits; a caller that knows where `x` can be nonzero saves the
+    /// scan of the rest.
+    pub(crate) fn apply_rows_into(
+        &self,
+        x: &[f64],
+        k: usize,
+        rows: Option<&[usize]>,
+        out: &mut [f64],
+    ) -> usize {
         let n = self.n_channels;
         out.fill(0.0);
         let mut touched = 0;
-        for (j, row) in x.chunks_exact(k).enumerate() {
+        let mut add = |j: usize, row: &[f64]| {
             if row.iter().all(|&v| v == 0.0) {
-                continue;
+                return;
             }
             touched += 1;
             let atom = self.atom(j);
@@ -266,6 +346,13 @@ impl DenseDictionary {
                     axpy(v, atom, &mut out[c * n..(c + 1) * n]);
                 }
             }
+        };
+        match rows {
+            Some(rows) => rows.iter().for_each(|&j| add(j, &x[j * k..(j + 1) * k])),
+            None => x
+                .chunks_exact(k)
+                .enumerate()
+                .for_each(|(j, row)| add(j, row)),
         }
         touched
     }

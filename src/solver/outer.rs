@@ -9,7 +9,7 @@
 //! Gramfort & Salmon 2018, ICML "Celer", in its group form). The working set
 //! at least doubles each pass, so it reaches the whole problem if it must.
 
-use super::certificate::Certificate;
+use super::certificate::{Certificate, Unscreened};
 use super::error::SolverError;
 use super::fista::{solve_sub, SubProblem};
 use super::observer::Observer;
@@ -53,6 +53,11 @@ pub(crate) struct Outer {
     pub cert: Certificate,
     pub screened: Vec<bool>,
     pub atom_kept: Vec<bool>,
+    /// The groups and atoms not screened, increasing: after the first
+    /// passes most groups are screened, and every per-pass scan (residual,
+    /// group correlations, working set) runs over these only.
+    pub unscreened_groups: Vec<usize>,
+    pub kept_atoms: Vec<usize>,
     ws_size: usize,
     iterations: usize,
     outer: usize,
@@ -120,6 +125,8 @@ impl Outer {
             cert: Certificate::new(n_ch, n_atoms, n_groups, k),
             screened: vec![false; n_groups],
             atom_kept: vec![true; n_atoms],
+            unscreened_groups: (0..n_groups).collect(),
+            kept_atoms: (0..n_atoms).collect(),
             ws_size: params.initial_working_set.min(n_groups),
             iterations: 0,
             outer: 0,
@@ -135,7 +142,11 @@ impl Outer {
             prep.dict,
             prep.groups.n_groups(),
             |g| prep.groups.atoms(g),
-            Some((&self.screened, &self.atom_kept)),
+            Some(Unscreened {
+                groups: &self.unscreened_groups,
+                atoms: &self.kept_atoms,
+                atom_kept: &self.atom_kept,
+            }),
             &y.cols,
             y.half_sq,
             y.k,
@@ -145,13 +156,14 @@ impl Outer {
     }
 
     /// Atoms a certificate of `x` reads: the forward product's nonzero rows
-    /// and the adjoint's unscreened atoms.
+    /// and the adjoint's unscreened atoms (`x` is zero on screened atoms).
     pub fn certificate_reads(&self, x: &[f64], k: usize) -> usize {
-        let nonzero = x
-            .chunks_exact(k)
-            .filter(|r| r.iter().any(|&v| v != 0.0))
+        let nonzero = self
+            .kept_atoms
+            .iter()
+            .filter(|&&j| x[j * k..(j + 1) * k].iter().any(|&v| v != 0.0))
             .count();
-        nonzero + self.atom_kept.iter().filter(|&&b| b).count()
+        nonzero + self.kept_atoms.len()
     }
 
     /// The rest of a pass once the certificate is computed: stop (with the
@@ -168,7 +180,7 @@ impl Outer {
         let (n_groups, k, lambda) = (groups.n_groups(), y.k, self.lambda);
         let cert = &self.cert;
         self.outer += 1;
-        let n_screened = self.screened.iter().filter(|&&s| s).count();
+        let n_screened = n_groups - self.unscreened_groups.len();
         observer.observe_iter(&[
             ("outer", self.outer as f64),
             ("iterations", self.iterations as f64),
@@ -196,7 +208,8 @@ impl Outer {
             Some(StopReason::IterationBudget)
         };
         if let Some(stop_reason) = stop_reason {
-            let (n_active_groups, n_active_atoms) = count_active(prep, x, k);
+            let (n_active_groups, n_active_atoms) =
+                count_active(prep, &self.unscreened_groups, x, k);
             observer.observe_final(&[
                 ("iterations", self.iterations as f64),
                 ("gap", cert.relative_gap),
@@ -220,21 +233,32 @@ impl Outer {
         }
         if params.screening {
             let radius = cert.safe_radius(lambda);
-            for (g, s) in self.screened.iter_mut().enumerate() {
-                if !*s && cert.screens(g, radius, prep.group_norm[g]) {
-                    *s = true;
-                    // The optimum is zero on this group, whatever the iterate holds.
-                    for &j in groups.atoms(g) {
-                        x[j * k..(j + 1) * k].fill(0.0);
-                        self.atom_kept[j] = false;
-                    }
+            let newly: Vec<usize> = self
+                .unscreened_groups
+                .iter()
+                .copied()
+                .filter(|&g| cert.screens(g, radius, prep.group_norm[g]))
+                .collect();
+            for &g in &newly {
+                self.screened[g] = true;
+                self.cert.group_correlation[g] = 0.0;
+                // The optimum is zero on this group, whatever the iterate holds.
+                for &j in groups.atoms(g) {
+                    x[j * k..(j + 1) * k].fill(0.0);
+                    self.atom_kept[j] = false;
                 }
             }
+            if !newly.is_empty() {
+                let (screened, kept) = (&self.screened, &self.atom_kept);
+                self.unscreened_groups.retain(|&g| !screened[g]);
+                self.kept_atoms.retain(|&j| kept[j]);
+            }
         }
+        let cert = &self.cert;
         let (ws, n_active) = choose_working_set(
             prep,
             cert,
-            &self.screened,
+            &self.unscreened_groups,
             x,
             k,
             params.working_set,
@@ -275,13 +299,26 @@ impl Outer {
     }
 }
 
-/// Groups with a nonzero block, and atoms with a nonzero row.
-pub(crate) fn count_active(prep: &Prepared, x: &[f64], k: usize) -> (usize, usize) {
+/// Groups of `unscreened` with a nonzero block, and their atoms with a
+/// nonzero row (all of them: `x` is zero on screened groups).
+pub(crate) fn count_active(
+    prep: &Prepared,
+    unscreened: &[usize],
+    x: &[f64],
+    k: usize,
+) -> (usize, usize) {
     let row_active = |j: usize| x[j * k..(j + 1) * k].iter().any(|&v| v != 0.0);
-    let groups = (0..prep.groups.n_groups())
-        .filter(|&g| prep.groups.atoms(g).iter().any(|&j| row_active(j)))
-        .count();
-    let atoms = (0..prep.dict.n_atoms()).filter(|&j| row_active(j)).count();
+    let (mut groups, mut atoms) = (0, 0);
+    for &g in unscreened {
+        let active = prep
+            .groups
+            .atoms(g)
+            .iter()
+            .filter(|&&j| row_active(j))
+            .count();
+        groups += usize::from(active > 0);
+        atoms += active;
+    }
     (groups, atoms)
 }
 
@@ -292,13 +329,12 @@ pub(crate) fn count_active(prep: &Prepared, x: &[f64], k: usize) -> (usize, usiz
 fn choose_working_set(
     prep: &Prepared,
     cert: &Certificate,
-    screened: &[bool],
+    unscreened: &[usize],
     x: &[f64],
     k: usize,
     use_working_set: bool,
     size: usize,
 ) -> (Vec<usize>, usize) {
-    let n_groups = prep.groups.n_groups();
     let active = |g: usize| {
         prep.groups
             .atoms(g)
@@ -308,7 +344,7 @@ fn choose_working_set(
     let mut chosen: Vec<usize> = Vec::new();
     let mut others: Vec<(f64, usize)> = Vec::new();
     let mut n_active = 0;
-    for g in (0..n_groups).filter(|&g| !screened[g]) {
+    for &g in unscreened {
         let is_active = active(g);
         n_active += usize::from(is_active);
         if !use_working_set || is_active {
