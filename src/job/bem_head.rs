@@ -141,9 +141,11 @@ pub fn template_bem_head(observer: &dyn JobObserver) -> Result<BemHead, JobError
 }
 
 /// The content hash of checked surfaces (as turned outward) and their
-/// conductivities: the key of the factorised system in the cache.
+/// conductivities: the key of the factorised system in the cache. The
+/// tag names the formulation too (v2: Galerkin rows on the outer surfaces),
+/// so that systems and lead fields of an earlier one are not reused.
 fn geometry_hash(geometry: &BemGeometry) -> String {
-    let mut h = ContentHash::new("bem-geometry-v1");
+    let mut h = ContentHash::new("bem-geometry-v2");
     for mesh in geometry.surfaces() {
         let Mesh {
             vertices,
