@@ -189,8 +189,9 @@ pub fn bem_system(
         .unwrap_or_else(|| geometry_hash(&head.geometry));
     let build = || {
         let n = head.geometry.n_vertices();
-        // Measured 22-25 s for 7 686 vertices on 2 shared cores
-        // (docs/benchmarks.md); the factorisation grows like N³.
+        // Measured 22-25 s for 7 686 vertices on 2 shared cores with
+        // collocation, 31-38 s with the Galerkin rows under load 6-7 (27 s
+        // CPU; docs/benchmarks.md); the factorisation grows like N³.
         let largest = head
             .geometry
             .surfaces()
@@ -207,7 +208,7 @@ pub fn bem_system(
         };
         observer.note(&format!(
             "building the boundary-element system once for these surfaces ({n} vertices in all; expect about {:.0} s on 2 cores{advice})",
-            ((n as f64 / 7686.0).powi(3) * 25.0).max(1.0)
+            ((n as f64 / 7686.0).powi(3) * 30.0).max(1.0)
         ));
         staged(observer, "boundary-element system", n, |progress| {
             BemSystem::build(head.geometry.clone(), progress)

@@ -28,8 +28,8 @@
 //! [`super::integrals::linear_double_layer`]. Farther: 3 points per
 //! triangle on both sides (the interior rule of degree 2, common practice,
 //! no source) with the point kernel (r′−r)·n/|r′−r|³. The split was chosen
-//! by measurement (docs/head_model.md): it moves MAG by less than 0.1 %
-//! from the near rule everywhere, at the cost of collocation.
+//! by measurement (docs/head_model.md): it stays within 0.2 % in MAG of
+//! the near rule on every pair, at about the cost of collocation.
 //!
 //! The row-sum identity holds at every point of a face of a closed
 //! polyhedron (Σ over the own surface of Ω is 2π there), so it holds for
@@ -73,8 +73,8 @@ const INTERIOR_3: [([f64; 3], f64); 3] = [
 /// A source triangle is near when its centroid lies within this many
 /// times the larger of the support's radius and the triangle's size (the
 /// edge of an equilateral triangle of the same circumradius). Measured:
-/// 2 moves MAG by under 0.1 % from the near rule on every triangle, at
-/// 642 and 2 562 vertices (docs/head_model.md).
+/// with 2, MAG stays within 0.2 % of the near rule on every pair, at 642
+/// and 2 562 vertices (docs/head_model.md).
 const NEAR_SIZES: f64 = 2.0;
 
 /// What the rows need of each triangle of every surface, computed once.
