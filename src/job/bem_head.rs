@@ -248,11 +248,21 @@ pub fn bem_system(
             .iter()
             .map(Mesh::n_vertices)
             .collect();
-        let written = std::fs::create_dir_all(cache)
-            .map_err(|e| e.to_string())
-            .and_then(|()| {
-                write_bem_system(&path, system.to_parts(), &vertices).map_err(|e| e.to_string())
-            });
+        // The arrays go to the writer and come back, so that the system is
+        // not held twice while the file is encoded.
+        let (geometry, parts) = system.into_parts();
+        let (written, parts) = match std::fs::create_dir_all(cache) {
+            Ok(()) => {
+                let (written, parts) = write_bem_system(&path, parts, &vertices);
+                (written.map_err(|e| e.to_string()), parts)
+            }
+            Err(e) => (Err(e.to_string()), parts),
+        };
+        let system = BemSystem::from_parts(geometry, parts).ok_or_else(|| {
+            JobError::compute(
+                "the boundary-element system did not survive writing its cache entry (a bug)",
+            )
+        })?;
         match written {
             Ok(()) => observer.note(&format!(
                 "built and cached boundary-element system {}",

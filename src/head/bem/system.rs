@@ -474,18 +474,24 @@ fn inverse_permutation(perm: &[usize]) -> Option<Vec<usize>> {
 }
 
 impl BemSystem {
-    /// The arrays of the factorised system (see [`BemSystemParts`]).
-    pub fn to_parts(&self) -> BemSystemParts {
-        BemSystemParts {
-            inner_lu: self.inner.lu.clone(),
-            inner_perm: self.inner.perm.clone(),
-            full_lu: self.full.as_ref().map_or_else(Vec::new, |f| f.lu.clone()),
-            full_perm: self.full.as_ref().map_or_else(Vec::new, |f| f.perm.clone()),
-            omega_inner: self.omega_inner.clone(),
-        }
+    /// The geometry and the arrays of the factorised system (see
+    /// [`BemSystemParts`]), taken without a copy; [`BemSystem::from_parts`]
+    /// puts them back together.
+    pub fn into_parts(self) -> (BemGeometry, BemSystemParts) {
+        let (full_lu, full_perm) = self
+            .full
+            .map_or_else(|| (Vec::new(), Vec::new()), |f| (f.lu, f.perm));
+        let parts = BemSystemParts {
+            inner_lu: self.inner.lu,
+            inner_perm: self.inner.perm,
+            full_lu,
+            full_perm,
+            omega_inner: self.omega_inner,
+        };
+        (self.geometry, parts)
     }
 
-    /// The system of `geometry` from arrays made by [`BemSystem::to_parts`]
+    /// The system of `geometry` from arrays made by [`BemSystem::into_parts`]
     /// for the same geometry; `None` when their sizes or permutations do not
     /// fit it (a cache entry of another head, or damaged).
     pub fn from_parts(geometry: BemGeometry, parts: BemSystemParts) -> Option<Self> {
