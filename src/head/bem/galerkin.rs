@@ -134,6 +134,15 @@ impl SourceTriangles {
     }
 }
 
+impl SourceTriangles {
+    /// Whether vertex `local` of surface `l` lies on a triangle (a vertex
+    /// that none uses has no hat function to test with; its row stays a
+    /// collocation row).
+    pub(super) fn supports(&self, l: usize, local: usize) -> bool {
+        !self.around[l][local].is_empty()
+    }
+}
+
 /// The tested Ω row of vertex `local` of surface `l` over all surfaces
 /// (global order, `offsets` as in the system), divided by mᵢ, with its
 /// own-surface weight set so that the own surface sums to 2π; and the

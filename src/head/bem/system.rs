@@ -201,8 +201,8 @@ impl BemSystem {
             for (r, inner_row) in inner_chunk.chunks_mut(n_inner).enumerate() {
                 let i = start + r;
                 let (l, point) = positions[i];
-                let mass = if l > 0 {
-                    let local = i - offsets[l];
+                let local = i - offsets[l];
+                let mass = if l > 0 && sources.supports(l, local) {
                     Some(tested_row(
                         &geometry, &sources, &offsets, l, local, &mut omega,
                     ))
