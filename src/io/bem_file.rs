@@ -12,16 +12,18 @@
 use std::path::Path;
 
 use super::error::IoError;
-use super::store::{Attr, Dataset, Store};
+use super::store::{Array, Attr, Dataset, Store};
 use crate::head::bem::BemSystemParts;
 
-/// Write the factorised system atomically (taking the arrays, so the
-/// largest of them is not copied once more on its way to the file).
+/// Write the factorised system atomically, taking the arrays (so the
+/// largest of them is not copied once more on its way to the file) and
+/// giving them back afterwards, written or not: the caller keeps one copy
+/// of the system in memory instead of two while the file is encoded.
 pub fn write_bem_system(
     path: &Path,
     parts: BemSystemParts,
     vertices: &[usize],
-) -> Result<(), IoError> {
+) -> (Result<(), IoError>, BemSystemParts) {
     let n_inner = parts.inner_perm.len();
     let n_total = parts.full_perm.len();
     let ints = |v: &[usize]| v.iter().map(|&x| x as i64).collect::<Vec<i64>>();
@@ -52,7 +54,24 @@ pub fn write_bem_system(
     let counts: Vec<String> = vertices.iter().map(|v| v.to_string()).collect();
     store.set_group_attr("/bem", "vertices", Attr::Str(counts.join(",")));
     super::cache::seal(&mut store);
-    store.write_atomic(path)
+    let written = store.write_atomic(path);
+    let mut floats = |name: &str| match store.datasets.remove(name).map(|d| d.data) {
+        Some(Array::F64(v)) => v,
+        _ => Vec::new(),
+    };
+    let (inner_lu, full_lu, omega_inner) = (
+        floats("/bem/inner_lu"),
+        floats("/bem/full_lu"),
+        floats("/bem/omega_inner"),
+    );
+    let parts = BemSystemParts {
+        inner_lu,
+        inner_perm: parts.inner_perm,
+        full_lu,
+        full_perm: parts.full_perm,
+        omega_inner,
+    };
+    (written, parts)
 }
 
 /// Read a factorised system written by [`write_bem_system`], checking the

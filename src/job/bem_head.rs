@@ -141,9 +141,11 @@ pub fn template_bem_head(observer: &dyn JobObserver) -> Result<BemHead, JobError
 }
 
 /// The content hash of checked surfaces (as turned outward) and their
-/// conductivities: the key of the factorised system in the cache.
+/// conductivities: the key of the factorised system in the cache. The
+/// tag names the formulation too (v2: Galerkin rows on the outer surfaces),
+/// so that systems and lead fields of an earlier one are not reused.
 fn geometry_hash(geometry: &BemGeometry) -> String {
-    let mut h = ContentHash::new("bem-geometry-v1");
+    let mut h = ContentHash::new("bem-geometry-v2");
     for mesh in geometry.surfaces() {
         let Mesh {
             vertices,
@@ -187,8 +189,9 @@ pub fn bem_system(
         .unwrap_or_else(|| geometry_hash(&head.geometry));
     let build = || {
         let n = head.geometry.n_vertices();
-        // Measured 22-25 s for 7 686 vertices on 2 shared cores
-        // (docs/benchmarks.md); the factorisation grows like N³.
+        // Measured 22-25 s for 7 686 vertices on 2 shared cores with
+        // collocation, 31-38 s with the Galerkin rows under load 6-7 (27 s
+        // CPU; docs/benchmarks.md); the factorisation grows like N³.
         let largest = head
             .geometry
             .surfaces()
@@ -205,7 +208,7 @@ pub fn bem_system(
         };
         observer.note(&format!(
             "building the boundary-element system once for these surfaces ({n} vertices in all; expect about {:.0} s on 2 cores{advice})",
-            ((n as f64 / 7686.0).powi(3) * 25.0).max(1.0)
+            ((n as f64 / 7686.0).powi(3) * 30.0).max(1.0)
         ));
         staged(observer, "boundary-element system", n, |progress| {
             BemSystem::build(head.geometry.clone(), progress)
@@ -245,11 +248,21 @@ pub fn bem_system(
             .iter()
             .map(Mesh::n_vertices)
             .collect();
-        let written = std::fs::create_dir_all(cache)
-            .map_err(|e| e.to_string())
-            .and_then(|()| {
-                write_bem_system(&path, system.to_parts(), &vertices).map_err(|e| e.to_string())
-            });
+        // The arrays go to the writer and come back, so that the system is
+        // not held twice while the file is encoded.
+        let (geometry, parts) = system.into_parts();
+        let (written, parts) = match std::fs::create_dir_all(cache) {
+            Ok(()) => {
+                let (written, parts) = write_bem_system(&path, parts, &vertices);
+                (written.map_err(|e| e.to_string()), parts)
+            }
+            Err(e) => (Err(e.to_string()), parts),
+        };
+        let system = BemSystem::from_parts(geometry, parts).ok_or_else(|| {
+            JobError::compute(
+                "the boundary-element system did not survive writing its cache entry (a bug)",
+            )
+        })?;
         match written {
             Ok(()) => observer.note(&format!(
                 "built and cached boundary-element system {}",

@@ -1,10 +1,11 @@
 //! A boundary-element head: nested closed triangle surfaces (one to four,
 //! innermost first) with a constant conductivity inside each.
 //!
-//! Linear collocation at the vertices with the analytic double layer of
-//! flat triangles (de Munck 1992, IEEE Trans Biomed Eng 39:986; solid angles
-//! by van Oosterom & Strackee 1983, IEEE Trans Biomed Eng 30:125), the
-//! singular system deflated, and the isolated-problem approach of
+//! Linear elements with the analytic double layer of flat triangles (de
+//! Munck 1992, IEEE Trans Biomed Eng 39:986; solid angles by van Oosterom &
+//! Strackee 1983, IEEE Trans Biomed Eng 30:125): collocation at the
+//! vertices of the innermost surface, rows tested with the hat functions
+//! (Galerkin) on the others, the singular system deflated, and the isolated-problem approach of
 //! Hämäläinen & Sarvas (1989, IEEE Trans Biomed Eng 36:165) for the poorly
 //! conducting skull. [`BemGeometry`] checks the surfaces, [`BemSystem`]
 //! builds and factorises the system once per head, [`BemTransfer`] holds
@@ -12,6 +13,7 @@
 //! Metres and S/m inside.
 
 mod error;
+mod galerkin;
 mod integrals;
 mod mesh_checks;
 mod system;
