@@ -305,6 +305,10 @@ fn run(
             axis.times[0],
             axis.times[axis.times.len() - 1]
         ));
+        for warning in time_axis_warnings(&axis.times, width) {
+            observer.note(&warning);
+            notes.push(warning);
+        }
     }
     if options.lambda == LambdaRule::Noise {
         notes.push(format!(
@@ -417,4 +421,44 @@ fn run(
         filter_gain,
         filter_gain_missing,
     })
+}
+
+/// Notes on a time axis that looks wrong for the fit over time: a sampling
+/// step at least as long as the window (each time point is then fitted
+/// alone), or a span beyond a minute (times in milliseconds given as
+/// seconds look like this; an event-related decoder spans about a second).
+fn time_axis_warnings(times: &[f64], width: f64) -> Vec<String> {
+    let mut out = Vec::new();
+    let step = times
+        .windows(2)
+        .map(|w| w[1] - w[0])
+        .fold(f64::INFINITY, f64::min);
+    // The windows open at (t − t₀)/width to rounding (time_window_blocks).
+    if width > 0.0 && step >= width * (1.0 - 1e-9) {
+        out.push(format!(
+            "warning: the sampling step ({step} s) is at least the time window ({width} s): each window holds one time point, so every time point is fitted alone; --time-window sets the window in seconds"
+        ));
+    }
+    let span = times.last().copied().unwrap_or(0.0) - times.first().copied().unwrap_or(0.0);
+    if span > 60.0 {
+        out.push(format!(
+            "warning: the times span {span} s; `times` is read in seconds (were milliseconds given?)"
+        ));
+    }
+    out
+}
+
+#[cfg(test)]
+mod time_axis_tests {
+    use super::time_axis_warnings;
+
+    #[test]
+    fn milliseconds_and_coarse_steps_are_flagged() {
+        let seconds: Vec<f64> = (0..21).map(|i| i as f64 * 0.02).collect();
+        assert!(time_axis_warnings(&seconds, 0.05).is_empty());
+        let millis: Vec<f64> = seconds.iter().map(|t| t * 1000.0).collect();
+        assert_eq!(time_axis_warnings(&millis, 0.05).len(), 2);
+        assert_eq!(time_axis_warnings(&seconds, 0.02).len(), 1);
+        assert!(time_axis_warnings(&seconds, 0.0).is_empty());
+    }
 }
