@@ -19,6 +19,7 @@ import json
 import os
 import shutil
 import tempfile
+import warnings
 from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
@@ -505,7 +506,9 @@ def attribute(
     prints each stage's progress to ``sys.stderr``; Ctrl-C stops the job.
 
     Raises ``ValueError`` for bad input (the command line's message) and
-    ``RuntimeError`` for a failure while computing.
+    ``RuntimeError`` for a failure while computing. The job's warnings (for
+    example a time axis that looks like milliseconds) are issued as
+    ``UserWarning``.
     """
     if "lambda_" in options:
         options["lambda"] = options.pop("lambda_")
@@ -567,7 +570,13 @@ def attribute(
         component_names=_labels("component_names", component_names),
         **arrays,
     )
-    return Result(out, _keep=work)
+    result = Result(out, _keep=work)
+    # The job's warnings (kept in summary.json's notes) reach Python's warnings
+    # machinery, so a notebook shows them without progress=True.
+    for note in result.summary.get("notes", []):
+        if isinstance(note, str) and note.startswith("warning: "):
+            warnings.warn(note[len("warning: "):], UserWarning, stacklevel=2)
+    return result
 
 
 def _component_names_of(estimator: Any, k: int) -> Optional[List[str]]:

@@ -166,6 +166,18 @@ def test_fold_decoders_give_the_command_lines_result_h5(sliding, cache, tmp_path
                             cache=cache, **SMALL)
 
 
+def test_times_in_milliseconds_warn(sliding, cache):
+    """Times given in milliseconds (a span of 400 "seconds", a step of 20)
+    raise Python warnings naming the likely cause and the one-point windows."""
+    weights, covariances = sliding
+    with pytest.warns(UserWarning) as caught:
+        patchwise.attribute(weights=weights, covariance=covariances, channels=CHANNELS,
+                            times=TIMES * 1000.0, cache=cache, **SMALL)
+    messages = [str(w.message) for w in caught]
+    assert any("milliseconds" in m for m in messages), messages
+    assert any("fitted alone" in m for m in messages), messages
+
+
 def test_time_arrays_follow_the_documented_layout(result):
     n_t = len(TIMES)
     np.testing.assert_array_equal(result.times, TIMES)
