@@ -162,7 +162,7 @@ pub fn dictionary_for_channels(
 /// The cache entry at `path` (a `what`, e.g. "lead field"), read while
 /// held: `Some` when it reads (noted as used), `None` when there is none or
 /// it is damaged (noted: the caller rebuilds it).
-fn read_cached<T>(
+pub(super) fn read_cached<T>(
     path: &Path,
     what: &str,
     read: impl FnOnce(&Path) -> Result<T, crate::io::IoError>,

@@ -7,7 +7,7 @@
 //! the profiles again (`io::atoms_file`; docs/benchmarks.md, issue 25).
 
 use super::bem_head::HeadModel;
-use super::cache::{cached_leadfield, leadfield_hash, ForwardModel};
+use super::cache::{cached_leadfield, leadfield_hash, read_cached, ForwardModel};
 use super::error::{JobError, JobResult};
 use super::keyed_lock::with_entry_lock;
 use super::observer::JobObserver;
@@ -17,7 +17,6 @@ use crate::dictionary::{
 };
 use crate::io::atoms_file::{read_atoms, write_atoms};
 use crate::io::cache::{entry_path, ContentHash};
-use crate::io::cache_entries::read_held_entry;
 use crate::montage::Montage;
 use crate::numeric::rescale_all_to_unit_norm;
 use crate::patterns::Whitener;
@@ -80,12 +79,13 @@ pub fn perturbed_for_resamples(
             .f64s(&[DEFAULT_DROP_RELATIVE_NORM]);
         let path = entry_path(&f.cache, "atoms", &key.hex());
         let mut atoms = with_entry_lock(&path, || {
-            match read_held_entry(&path, |p| read_atoms(p, n, m)) {
-                Some(Ok(atoms)) => return Ok(atoms),
-                Some(Err(e)) => observer.note(&format!(
-                    "note: the cached perturbed atoms are damaged ({e}); rebuilding them"
-                )),
-                None => {}
+            if let Some(atoms) = read_cached(
+                &path,
+                "matrix of perturbed atoms",
+                |p| read_atoms(p, n, m),
+                observer,
+            ) {
+                return Ok(atoms);
             }
             let plf = cached_leadfield(
                 &f.cache,
